@@ -1,0 +1,192 @@
+"""The data model in one place: variable names, CF attributes, quality flags, provenance.
+
+Every Dataset seaprofile makes takes its variable attributes from :data:`VARIABLES` and its
+flag attributes from :func:`flag_attrs`, and records what was done to it with
+:func:`record_step`. See CONVENTIONS in DEVELOPERS.md for the Cast and Profile layouts.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+
+import numpy as np
+
+from ._version import __version__
+
+# --- quality flags: Argo reference table 2 -------------------------------------------
+NO_QC = 0
+GOOD = 1
+PROBABLY_GOOD = 2
+PROBABLY_BAD = 3
+BAD = 4
+CHANGED = 5
+ESTIMATED = 8
+MISSING = 9
+
+FLAG_VALUES = np.array([0, 1, 2, 3, 4, 5, 8, 9], dtype=np.int8)
+FLAG_MEANINGS = (
+    "no_qc_performed good_data probably_good_data bad_data_that_are_potentially_correctable "
+    "bad_data value_changed estimated_value missing_value"
+)
+
+
+def flag_attrs(variable):
+    """CF attributes of the ``<variable>_qc`` flag array."""
+    long = VARIABLES.get(variable, {}).get("long_name", variable)
+    return {
+        "long_name": f"quality flag of {long}",
+        "standard_name": "status_flag"
+        if variable not in _FLAGGABLE_STANDARD
+        else f"{_FLAGGABLE_STANDARD[variable]} status_flag",
+        "flag_values": FLAG_VALUES,
+        "flag_meanings": FLAG_MEANINGS,
+        "conventions": "Argo reference table 2",
+    }
+
+
+# --- variables -----------------------------------------------------------------------
+VARIABLES = {
+    "temperature": {
+        "standard_name": "sea_water_temperature",
+        "long_name": "in-situ sea water temperature (ITS-90)",
+        "units": "degree_Celsius",
+    },
+    "salinity": {
+        "standard_name": "sea_water_practical_salinity",
+        "long_name": "practical salinity (PSS-78)",
+        "units": "1",
+    },
+    "pressure": {
+        "standard_name": "sea_water_pressure",
+        "long_name": "sea pressure (zero at the sea surface)",
+        "units": "dbar",
+        "positive": "down",
+    },
+    "depth": {
+        "standard_name": "depth",
+        "long_name": "depth below the sea surface",
+        "units": "m",
+        "positive": "down",
+        "axis": "Z",
+    },
+    "conductivity": {
+        "standard_name": "sea_water_electrical_conductivity",
+        "long_name": "electrical conductivity of sea water",
+        "units": "mS cm-1",
+    },
+    "sound_speed": {
+        "standard_name": "speed_of_sound_in_sea_water",
+        "long_name": "speed of sound in sea water",
+        "units": "m s-1",
+    },
+    "measured_sound_speed": {
+        "standard_name": "speed_of_sound_in_sea_water",
+        "long_name": "speed of sound in sea water measured by a sound-speed probe",
+        "units": "m s-1",
+    },
+    "elapsed_time": {
+        "long_name": "time since the probe entered the water",
+        "units": "s",
+    },
+    "samples_per_bin": {
+        "long_name": "number of raw samples averaged into the bin",
+        "units": "1",
+    },
+    "latitude": {"standard_name": "latitude", "long_name": "latitude", "units": "degrees_north"},
+    "longitude": {"standard_name": "longitude", "long_name": "longitude", "units": "degrees_east"},
+    "time": {"standard_name": "time", "long_name": "time of the cast"},
+    "bottom_depth": {
+        "standard_name": "sea_floor_depth_below_sea_surface",
+        "long_name": "sea floor depth below the sea surface",
+        "units": "m",
+    },
+    "mixed_layer_depth": {
+        "standard_name": "ocean_mixed_layer_thickness",
+        "long_name": "mixed layer depth",
+        "units": "m",
+    },
+    "density": {
+        "standard_name": "sea_water_density",
+        "long_name": "in-situ density of sea water",
+        "units": "kg m-3",
+    },
+    "range": {"long_name": "horizontal range from the source", "units": "m"},
+    "travel_time": {"long_name": "one-way travel time", "units": "s"},
+    "transmission_loss": {"long_name": "transmission loss", "units": "dB"},
+}
+
+_FLAGGABLE_STANDARD = {
+    k: v["standard_name"] for k, v in VARIABLES.items() if "standard_name" in v
+}
+
+
+def attrs_for(name, **extra):
+    """A fresh copy of the CF attributes for ``name``, updated with ``extra``."""
+    out = dict(VARIABLES.get(name, {}))
+    out.update(extra)
+    return out
+
+
+# --- provenance ----------------------------------------------------------------------
+def _now():
+    return _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def base_attrs(**extra):
+    """Global attributes every seaprofile Dataset starts with."""
+    out = {
+        "Conventions": "CF-1.10",
+        "source": f"seaprofile {__version__}",
+        "seaprofile_version": __version__,
+        "processing_steps": "[]",
+        "history": "",
+        "caution": CAUTION,
+    }
+    out.update(extra)
+    return out
+
+
+def record_step(attrs, step, **parameters):
+    """Return a copy of ``attrs`` with one processing step appended.
+
+    The step goes to ``processing_steps`` (a JSON list of ``{"step": ..., parameters}``)
+    and, as one readable line, to the CF ``history`` attribute.
+    """
+    out = dict(attrs)
+    steps = json.loads(out.get("processing_steps", "[]") or "[]")
+    clean = {k: _jsonable(v) for k, v in parameters.items()}
+    steps.append({"step": step, **clean})
+    out["processing_steps"] = json.dumps(steps)
+    params = ", ".join(f"{k}={v}" for k, v in clean.items())
+    line = f"{_now()} seaprofile {__version__}: {step}({params})"
+    out["history"] = (out.get("history", "") + "\n" + line).strip()
+    out.setdefault("seaprofile_version", __version__)
+    return out
+
+
+def steps_of(attrs):
+    """The processing steps recorded in ``attrs`` as a list of dicts."""
+    return json.loads(attrs.get("processing_steps", "[]") or "[]")
+
+
+def _jsonable(v):
+    if isinstance(v, (np.integer,)):
+        return int(v)
+    if isinstance(v, (np.floating,)):
+        return float(v)
+    if isinstance(v, np.ndarray):
+        return v.tolist()
+    if isinstance(v, (str, int, float, bool)) or v is None:
+        return v
+    if isinstance(v, (list, tuple)):
+        return [_jsonable(x) for x in v]
+    if isinstance(v, dict):
+        return {str(k): _jsonable(x) for k, x in v.items()}
+    return str(v)
+
+
+CAUTION = (
+    "Not for navigation on its own. Verify against the governing hydrographic standard "
+    "(e.g. IHO S-44), local regulations and licensed practice before use."
+)

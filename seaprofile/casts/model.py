@@ -1,0 +1,126 @@
+"""Constructors for the Cast and Profile Datasets (layout in DEVELOPERS.md, "The data model").
+
+Readers, tests and the demo all build their Datasets here so that every Cast has the same
+variables, CF attributes, flags and provenance.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+from .. import _cf
+from .._validate import SeaprofileError
+
+MEASURED = (
+    "pressure",
+    "depth",
+    "temperature",
+    "salinity",
+    "conductivity",
+    "measured_sound_speed",
+    "elapsed_time",
+)
+INSTRUMENTS = ("ctd", "xbt", "svp")
+
+
+def make_cast(
+    *,
+    pressure=None,
+    depth=None,
+    temperature=None,
+    salinity=None,
+    conductivity=None,
+    measured_sound_speed=None,
+    elapsed_time=None,
+    latitude=np.nan,
+    longitude=np.nan,
+    time=None,
+    instrument="ctd",
+    cast_name="cast",
+    vessel="",
+    source_file="",
+    **attrs,
+):
+    """Build a Cast Dataset from 1-D arrays (all of one length, along dimension ``sample``).
+
+    Parameters
+    ----------
+    pressure : array_like, optional
+        Sea pressure, dbar.
+    depth : array_like, optional
+        Depth, m, positive down.
+    temperature : array_like, optional
+        In-situ temperature, degC (ITS-90).
+    salinity : array_like, optional
+        Practical salinity (PSS-78), dimensionless.
+    conductivity : array_like, optional
+        Electrical conductivity, mS/cm.
+    measured_sound_speed : array_like, optional
+        Sound speed measured by a probe, m/s.
+    elapsed_time : array_like, optional
+        Time since the probe entered the water, s.
+    latitude, longitude : float
+        Position of the cast, degrees north / east (NaN when unknown).
+    time : str or numpy.datetime64, optional
+        Time of the cast (UTC).
+    instrument : {"ctd", "xbt", "svp"}
+        Instrument kind.
+    cast_name, vessel, source_file : str
+        Metadata kept as attributes.
+    **attrs
+        Further global attributes (strings or numbers).
+
+    Returns
+    -------
+    xarray.Dataset
+        The Cast, with ``<var>_qc`` flags set to 0 (no QC performed).
+    """
+    given = {
+        "pressure": pressure,
+        "depth": depth,
+        "temperature": temperature,
+        "salinity": salinity,
+        "conductivity": conductivity,
+        "measured_sound_speed": measured_sound_speed,
+        "elapsed_time": elapsed_time,
+    }
+    given = {k: v for k, v in given.items() if v is not None}
+    if not given:
+        raise SeaprofileError("a cast needs at least one measured variable")
+    if instrument not in INSTRUMENTS:
+        raise SeaprofileError(f"instrument must be one of {INSTRUMENTS}, got {instrument!r}")
+    n = None
+    data_vars = {}
+    for name, values in given.items():
+        arr = np.array(values, dtype=np.float64, copy=True)
+        if arr.ndim != 1:
+            raise SeaprofileError(f"{name} must be 1-D, got shape {arr.shape}")
+        if n is None:
+            n = arr.size
+        elif arr.size != n:
+            raise SeaprofileError(f"{name} has {arr.size} samples, expected {n}")
+        data_vars[name] = ("sample", arr, _cf.attrs_for(name, ancillary_variables=f"{name}_qc"))
+        data_vars[f"{name}_qc"] = ("sample", np.zeros(n, np.int8), _cf.flag_attrs(name))
+    t = np.datetime64("NaT", "ns") if time is None else np.datetime64(time, "ns")
+    coords = {
+        "latitude": ((), float(latitude), _cf.attrs_for("latitude")),
+        "longitude": ((), float(longitude), _cf.attrs_for("longitude")),
+        "time": ((), t, _cf.attrs_for("time")),
+        "profile_id": ((), str(cast_name), {"cf_role": "profile_id", "long_name": "cast name"}),
+    }
+    global_attrs = _cf.base_attrs(
+        featureType="profile",
+        instrument=instrument,
+        cast_name=str(cast_name),
+        vessel=str(vessel),
+        source_file=str(source_file),
+        title=f"{instrument.upper()} cast {cast_name}",
+    )
+    global_attrs.update(attrs)
+    return xr.Dataset(data_vars, coords=coords, attrs=global_attrs)
+
+
+def measured_variables(cast):
+    """Names of the measured variables present in a Cast, in a fixed order."""
+    return [v for v in MEASURED if v in cast.data_vars]

@@ -1,0 +1,71 @@
+"""The ``seaprofile`` command: one program, one subcommand per module in this package.
+
+Each command module defines ``NAME``, ``HELP``, ``add_arguments(parser)`` and ``run(args)``
+(returning an exit status). The CLI only parses arguments, calls the public API and prints
+tables or JSON; errors are printed as one line on stderr with exit status 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+import warnings
+
+from .._cf import CAUTION
+from .._validate import SeaprofileError
+from .._version import __version__
+
+# Command modules, in the order --help lists them. Add a new command here.
+COMMANDS = ["speed"]
+
+EPILOG = f"Caution: {CAUTION}"
+
+
+def build_parser():
+    parser = argparse.ArgumentParser(
+        prog="seaprofile",
+        description="Sound-speed profiles from casts, and acoustic ray tracing through them.",
+        epilog=EPILOG,
+    )
+    parser.add_argument("--version", action="version", version=f"seaprofile {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for name in COMMANDS:
+        module = importlib.import_module(f"{__name__}.{name}")
+        p = sub.add_parser(
+            module.NAME,
+            help=module.HELP,
+            description=module.__doc__,
+            epilog=getattr(module, "EXAMPLE", "") + "\n\n" + EPILOG,
+            formatter_class=argparse.RawDescriptionHelpFormatter,
+        )
+        module.add_arguments(p)
+        p.set_defaults(_run=module.run)
+    return parser
+
+
+def main(argv=None):
+    """Entry point of the ``seaprofile`` console script."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "_run", None):
+        parser.print_help()
+        return 2
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("default")
+            warnings.showwarning = _show_warning
+            return int(args._run(args) or 0)
+    except (SeaprofileError, OSError) as exc:
+        print(f"seaprofile {args.command}: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        return 130
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    print(f"seaprofile: warning: {message}", file=sys.stderr)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
