@@ -36,9 +36,7 @@ def flag_attrs(variable):
     long = VARIABLES.get(variable, {}).get("long_name", variable)
     return {
         "long_name": f"quality flag of {long}",
-        "standard_name": "status_flag"
-        if variable not in _FLAGGABLE_STANDARD
-        else f"{_FLAGGABLE_STANDARD[variable]} status_flag",
+        "standard_name": "status_flag",
         "flag_values": FLAG_VALUES,
         "flag_meanings": FLAG_MEANINGS,
         "conventions": "Argo reference table 2",
@@ -115,11 +113,6 @@ VARIABLES = {
     "travel_time": {"long_name": "one-way travel time", "units": "s"},
     "transmission_loss": {"long_name": "transmission loss", "units": "dB"},
 }
-
-_FLAGGABLE_STANDARD = {
-    k: v["standard_name"] for k, v in VARIABLES.items() if "standard_name" in v
-}
-
 
 def attrs_for(name, **extra):
     """A fresh copy of the CF attributes for ``name``, updated with ``extra``."""

@@ -1,0 +1,312 @@
+"""Writers: round trips through the readers, CF attributes, atomic and safe writes."""
+
+import hashlib
+import json
+import os
+import shutil
+import tempfile
+from pathlib import Path
+
+import netCDF4
+import numpy as np
+import pytest
+import xarray as xr
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from seaprofile import SeaprofileError, _cf
+from seaprofile.casts.model import make_cast
+from seaprofile.casts.read import read_cast, read_casts, read_profile, read_profiles
+from seaprofile.casts.read import read_speed_table
+from seaprofile.casts.write import (write, write_csv, write_json, write_netcdf,
+                                    write_speed_table)
+
+# invented test data (synthetic)
+
+
+def sample_cast(name="Gullet-3", n=6, instrument="ctd", **extra):
+    p = np.linspace(0.5, 60.0, n)
+    t = 14.0 - 0.1 * p
+    t[2] = np.nan
+    cast = make_cast(pressure=p, temperature=t, salinity=np.full(n, 34.7),
+                     latitude=47.25, longitude=-8.5, time="2022-09-03T06:15:30",
+                     cast_name=name, vessel="RV Imaginary Petrel", instrument=instrument,
+                     **extra)
+    cast["temperature_qc"].values[:] = [1, 1, 9, 4, 2, 1][:n] + [1] * max(0, n - 6)
+    cast.attrs = _cf.record_step(cast.attrs, "invented_step", threshold=0.5)
+    return cast
+
+
+def xbt_cast():
+    t = np.arange(0.0, 5.0)
+    return make_cast(elapsed_time=t, temperature=20 - t, depth=6.691 * t - 2.25e-3 * t**2,
+                     latitude=np.nan, instrument="xbt", cast_name="drop-1")
+
+
+def sample_profile(name="Gullet-3"):
+    z = np.arange(0.0, 50.0, 10.0)
+    ds = xr.Dataset(
+        {
+            "sound_speed": ("depth", 1500 - 0.05 * z, _cf.attrs_for("sound_speed")),
+            "sound_speed_qc": ("depth", np.array([1, 1, 1, 8, 8], np.int8),
+                               _cf.flag_attrs("sound_speed")),
+            "temperature": ("depth", 14 - 0.1 * z, _cf.attrs_for("temperature")),
+            "temperature_qc": ("depth", np.ones(5, np.int8), _cf.flag_attrs("temperature")),
+            "samples_per_bin": ("depth", np.array([3, 4, 4, 0, 0], np.int32),
+                                _cf.attrs_for("samples_per_bin")),
+        },
+        coords={
+            "depth": ("depth", z, _cf.attrs_for("depth")),
+            "latitude": ((), 47.25, _cf.attrs_for("latitude")),
+            "longitude": ((), -8.5, _cf.attrs_for("longitude")),
+            "time": ((), np.datetime64("2022-09-03T06:15:30", "ns"), _cf.attrs_for("time")),
+            "profile_id": ((), name, {"cf_role": "profile_id", "long_name": "cast name"}),
+        },
+        attrs=_cf.base_attrs(featureType="profile", equation="chen_millero1977",
+                             depth_method="unesco1983", cast_max_depth=20.0),
+    )
+    ds.attrs = _cf.record_step(ds.attrs, "bin_average", bin_size=10.0)
+    return ds
+
+
+def sha(path):
+    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+
+
+SKIP_ATTRS = {"history", "processing_steps", "source_file", "ignored_columns"}
+
+
+def assert_same(original, back, *, check_attr_types=True):
+    """Values, flags, coordinates and attributes survive the round trip."""
+    assert set(original.data_vars) <= set(back.data_vars)
+    for v in original.data_vars:
+        a, b = original[v].values, back[v].values
+        if a.dtype.kind == "f":
+            np.testing.assert_array_equal(a, b)
+        else:
+            assert b.dtype == a.dtype and np.array_equal(a, b), v
+    for c in original.coords:
+        np.testing.assert_array_equal(original[c].values, back[c].values, err_msg=c)
+    for k, v in original.attrs.items():
+        if k in SKIP_ATTRS:
+            continue
+        got = back.attrs[k]
+        assert (got == v) if check_attr_types else (str(got) == str(v)), k
+    steps = _cf.steps_of(original.attrs)
+    assert _cf.steps_of(back.attrs)[: len(steps)] == steps
+    assert back.attrs["history"].startswith(original.attrs["history"])
+
+
+# --- round trips -------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("ext", ["csv", "nc", "json"])
+@pytest.mark.parametrize("make", [sample_cast, xbt_cast])
+def test_cast_round_trip(tmp_path, ext, make):
+    cast = make()
+    before = cast.copy(deep=True)
+    out = write(cast, tmp_path / f"cast.{ext}")
+    xr.testing.assert_identical(cast, before)  # input untouched
+    back = read_cast(out)
+    assert_same(cast, back)
+    if ext == "json":
+        xr.testing.assert_identical(cast, back)
+
+
+def test_netcdf_collection_round_trip(tmp_path):
+    casts = [sample_cast("A", 6), sample_cast("B", 9, instrument="svp",
+                                               measured_sound_speed=np.full(9, 1501.0)),
+             sample_cast("C", 7)]
+    casts[2].attrs["vessel"] = "RV Other"
+    path = write_netcdf(casts, tmp_path / "three.nc")
+    back = read_casts(path)
+    assert [b["profile_id"].item() for b in back] == ["A", "B", "C"]
+    for a, b in zip(casts, back):
+        assert_same(a, b)
+    assert "measured_sound_speed" not in back[0] and "measured_sound_speed" in back[1]
+    assert back[2].attrs["vessel"] == "RV Other"
+    json_back = read_casts(write_json(casts, tmp_path / "three.json"))
+    for a, b in zip(casts, json_back):
+        xr.testing.assert_identical(a, b)
+
+
+@pytest.mark.parametrize("ext", ["csv", "nc", "json"])
+def test_profile_round_trip(tmp_path, ext):
+    prof = sample_profile()
+    back = read_profile(write(prof, tmp_path / f"profile.{ext}"))
+    assert_same(prof, back, check_attr_types=(ext != "csv"))  # CSV attrs come back as text
+    np.testing.assert_array_equal(back["depth"].values, prof["depth"].values)
+    assert back["depth"].attrs["positive"] == "down"
+    with pytest.raises(SeaprofileError):
+        read_casts(tmp_path / f"profile.{ext}")
+
+
+def test_profile_collection_netcdf(tmp_path):
+    profs = [sample_profile("P1"), sample_profile("P2")]
+    back = read_profiles(write_netcdf(profs, tmp_path / "p.nc"))
+    assert [b["profile_id"].item() for b in back] == ["P1", "P2"]
+
+
+@settings(max_examples=30, deadline=None)
+@given(st.lists(st.one_of(st.floats(-5, 40, allow_nan=False), st.just(float("nan"))),
+                min_size=1, max_size=40))
+def test_csv_keeps_every_float_exactly(values):
+    t = np.array(values)
+    cast = make_cast(pressure=np.arange(t.size, dtype=float), temperature=t,
+                     salinity=np.full(t.size, 35.0))
+    cast["temperature_qc"].values[np.isnan(t)] = _cf.MISSING
+    with tempfile.TemporaryDirectory() as d:
+        back = read_cast(write_csv(cast, Path(d) / "c.csv"))
+    np.testing.assert_array_equal(back["temperature"].values, t)
+    np.testing.assert_array_equal(back["temperature_qc"].values, cast["temperature_qc"].values)
+
+
+# --- file contents ---------------------------------------------------------------------
+
+
+def test_csv_header_carries_units_provenance_and_caution(tmp_path):
+    text = write_csv(sample_profile(), tmp_path / "p.csv").read_text()
+    lines = text.splitlines()
+    assert "# dataset: profile" in lines
+    assert f"# caution: {_cf.CAUTION}" in lines
+    assert "# equation: chen_millero1977" in lines
+    assert any(line.startswith("# processing_steps: [") for line in lines)
+    header = next(line for line in lines if not line.startswith("#"))
+    assert header.startswith("depth [m],sound_speed [m/s],sound_speed_qc,temperature [degC]")
+
+
+def test_netcdf_cf_attributes(tmp_path):
+    path = write_netcdf([sample_cast("A"), sample_cast("B", 4)], tmp_path / "c.nc")
+    with netCDF4.Dataset(path) as nc:
+        assert nc.Conventions == "CF-1.10" and nc.featureType == "profile"
+        assert nc.caution == _cf.CAUTION
+        assert "write_netcdf" in nc.history
+        assert nc["profile_id"].cf_role == "profile_id"
+        assert nc["row_size"].sample_dimension == "obs"
+        assert list(nc["row_size"][:]) == [6, 4]
+        assert nc["time"].units.startswith("seconds since 1970-01-01")
+        t = nc["temperature"]
+        assert t.standard_name == "sea_water_temperature" and t.units == "degree_Celsius"
+        assert t.coordinates == "time latitude longitude pressure"
+        assert t.ancillary_variables == "temperature_qc"
+        q = nc["temperature_qc"]
+        assert q.dtype == np.int8 and q.flag_values.dtype == np.int8
+        assert q.flag_values.tolist() == [0, 1, 2, 3, 4, 5, 8, 9]
+        assert len(q.flag_meanings.split()) == 8
+        assert nc["pressure"].positive == "down"
+
+
+# The CF standard-name table (cfconventions.org) canonical units, # from memory; a minimal
+# offline table so the checker needs no network.
+_NAMES = {"sea_water_temperature": "K", "sea_water_practical_salinity": "1",
+          "sea_water_pressure": "dbar", "depth": "m", "sea_water_electrical_conductivity":
+          "S m-1", "speed_of_sound_in_sea_water": "m s-1", "latitude": "degree_north",
+          "longitude": "degree_east", "time": "s", "status_flag": ""}
+
+
+def test_cf_checker_accepts_the_collection(tmp_path):
+    try:
+        from cfchecker.cfchecks import CFChecker, CFVersion
+    except Exception as exc:  # not installed, or the UDUNITS-2 C library is missing
+        pytest.skip(f"cfchecker unavailable: {exc}")
+    snt = tmp_path / "names.xml"
+    snt.write_text('<?xml version="1.0"?>\n<standard_name_table><version_number>0'
+                   "</version_number><last_modified>test</last_modified>"
+                   + "".join(f'<entry id="{k}"><canonical_units>{u}</canonical_units></entry>'
+                             for k, u in _NAMES.items()) + "</standard_name_table>\n")
+    for name, root in (("area.xml", "area_type_table"), ("region.xml",
+                                                         "standardized_region_list")):
+        (tmp_path / name).write_text(f'<?xml version="1.0"?>\n<{root}><version_number>0'
+                                     f"</version_number><date>test</date></{root}>\n")
+    path = write_netcdf([sample_cast("A"), sample_cast("C", 8)], tmp_path / "casts.nc")
+    # cfchecker 4.1 knows CF up to 1.8; the DSG rules used here are unchanged since 1.8,
+    # so the copy it checks is relabelled
+    checked = tmp_path / "casts_cf18.nc"
+    shutil.copy(path, checked)
+    with netCDF4.Dataset(checked, "a") as nc:
+        nc.Conventions = "CF-1.8"
+    for f in (checked, write(sample_profile(), tmp_path / "profile.nc")):
+        if f.name == "profile.nc":
+            with netCDF4.Dataset(f, "a") as nc:
+                nc.Conventions = "CF-1.8"
+        checker = CFChecker(cfStandardNamesXML=str(snt), cfAreaTypesXML=str(tmp_path / "area.xml"),
+                            cfRegionNamesXML=str(tmp_path / "region.xml"),
+                            version=CFVersion((1, 8)), silent=True)
+        checker.checker(str(f))
+        totals = checker.get_total_counts()
+        assert totals["FATAL"] == 0 and totals["ERROR"] == 0, checker.all_messages
+
+
+def test_json_document(tmp_path):
+    doc = json.loads(write_json(sample_cast(), tmp_path / "c.json").read_text())
+    assert doc["format"] == "seaprofile" and doc["caution"] == _cf.CAUTION
+    t = doc["dataset"]["variables"]["temperature"]
+    assert t["values"][2] is None and t["attributes"]["units"] == "degree_Celsius"
+
+
+# --- speed table -----------------------------------------------------------------------
+
+
+def test_speed_table(tmp_path):
+    prof = sample_profile()
+    prof["sound_speed"].values[1] = np.nan
+    prof["sound_speed_qc"].values[2] = _cf.BAD
+    before = prof.copy(deep=True)
+    path = write_speed_table(prof, tmp_path / "speeds.table")
+    xr.testing.assert_identical(prof, before)
+    lines = path.read_text().splitlines()
+    assert lines == ["0.000 1500.000", "30.000 1498.500", "40.000 1498.000"]
+    z, c = read_speed_table(path)
+    np.testing.assert_allclose(z, [0, 30, 40])
+    np.testing.assert_allclose(c, [1500.0, 1498.5, 1498.0])
+    with pytest.raises(SeaprofileError, match="Profile"):
+        write_speed_table(sample_cast(), tmp_path / "x.table")
+
+
+# --- safety: existing files, atomic writes ---------------------------------------------
+
+
+@pytest.mark.parametrize("fmt", ["netcdf", "csv", "json", "table"])
+def test_existing_file_kept_unless_overwrite(tmp_path, fmt):
+    ds = sample_profile()
+    path = tmp_path / "out.dat"
+    path.write_text("precious\n")
+    digest = sha(path)
+    with pytest.raises(SeaprofileError, match=str(path)):
+        write(ds, path, format=fmt)
+    assert sha(path) == digest
+    write(ds, path, format=fmt, overwrite=True)
+    assert sha(path) != digest
+    assert os.listdir(tmp_path) == ["out.dat"]  # no temporary files left
+
+
+def test_failed_write_leaves_nothing(tmp_path):
+    bad = sample_cast()
+    bad["label"] = ("sample", np.array(["x"] * bad.sizes["sample"], dtype=object))
+    with pytest.raises(SeaprofileError, match="label"):
+        write_netcdf(bad, tmp_path / "bad.nc")
+    assert os.listdir(tmp_path) == []
+
+
+def test_dispatcher_errors(tmp_path):
+    with pytest.raises(SeaprofileError, match="format"):
+        write(sample_cast(), tmp_path / "c.xyz")
+    with pytest.raises(SeaprofileError, match="format"):
+        write(sample_cast(), tmp_path / "c.csv", format="excel")
+    with pytest.raises(SeaprofileError, match="mix"):
+        write_netcdf([sample_cast(), sample_profile()], tmp_path / "m.nc")
+    with pytest.raises(SeaprofileError, match="directory"):
+        write(sample_cast(), tmp_path / "missing_dir" / "c.csv")
+
+
+@pytest.mark.parametrize("ext", ["csv", "nc", "json"])
+def test_round_trip_of_a_built_profile(tmp_path, ext):
+    profile_module = pytest.importorskip("seaprofile.profile")
+    p = np.linspace(0.5, 120.0, 240)
+    cast = make_cast(pressure=p, temperature=15 - p / 50, salinity=35 + p / 1000 + 1e-3 * np.sin(p),
+                     latitude=40.0, longitude=3.0, time="2024-01-01T00:00")
+    prof = profile_module.build_profile(cast)
+    back = read_profile(write(prof, tmp_path / f"built.{ext}"))
+    assert_same(prof, back, check_attr_types=(ext != "csv"))
+    for v in prof.data_vars:
+        assert back[v].dtype == prof[v].dtype, v
