@@ -1,0 +1,179 @@
+"""Processing steps: selection of samples, despiking, depth, binning, gaps, sound speed."""
+
+import gsw
+import numpy as np
+import pytest
+import xarray as xr
+
+from seaprofile import _cf
+from seaprofile._validate import SeaprofileError
+from seaprofile.casts import process as pr
+from seaprofile.casts.model import make_cast
+
+
+def soak_cast(rate_hz=8.0):
+    """Invented cast: surface, soak at 10 dbar, back up to 1 dbar, descent to 200 dbar."""
+    p = np.concatenate([
+        np.linspace(0.0, 10.0, 40),       # 0..39 down to the soak depth
+        np.full(80, 10.0),                # 40..119 soak
+        np.linspace(10.0, 1.0, 40),       # 120..159 back up
+        np.linspace(1.0, 200.0, 800),     # 160..959 the descent
+        np.linspace(200.0, 0.0, 400),     # 960..1359 the ascent
+    ])
+    t = 20.0 - 0.05 * p
+    return make_cast(pressure=p, temperature=t, salinity=np.full(p.size, 35.0),
+                     elapsed_time=np.arange(p.size) / rate_hz, latitude=30.0, longitude=-40.0)
+
+
+def test_remove_soak_finds_the_start_of_the_descent():
+    cast = soak_cast()
+    before = cast.copy(deep=True)
+    out = pr.remove_soak(cast)
+    xr.testing.assert_identical(cast, before)
+    assert out.sizes["sample"] == cast.sizes["sample"] - 159
+    assert out["pressure"].values[0] == pytest.approx(1.0)
+    step = _cf.steps_of(out.attrs)[-1]
+    assert step["step"] == "remove_soak" and step["removed_samples"] == 159
+
+
+def test_remove_soak_without_soak_keeps_everything():
+    p = np.linspace(0.5, 100.0, 200)
+    cast = make_cast(pressure=p, temperature=np.full(200, 10.0))
+    assert pr.remove_soak(cast).sizes["sample"] == 200
+
+
+def test_select_direction():
+    cast = pr.remove_soak(soak_cast())
+    down = pr.select_direction(cast, "down")
+    up = pr.select_direction(cast, "up")
+    assert down.sizes["sample"] == 801 and down.attrs["cast_direction"] == "down"
+    assert up.sizes["sample"] == 401
+    assert _cf.steps_of(down.attrs)[-1]["removed_samples"] == 400
+    with pytest.raises(SeaprofileError, match="direction"):
+        pr.select_direction(cast, "sideways")
+
+
+def test_remove_reversals_heave_loops():
+    # a descent with two heave loops: 3 samples go back up, then 2 more until deeper again
+    p = np.array([1, 2, 3, 4, 3.5, 3, 3.2, 3.9, 4.0, 4.1, 5, 6, 5.5, 6.5, 7.0])
+    cast = make_cast(pressure=p, temperature=np.arange(15.0))
+    out = pr.remove_reversals(cast, min_descent_rate=None)
+    assert out["pressure"].values.tolist() == [1, 2, 3, 4, 4.1, 5, 6, 6.5, 7.0]
+    assert _cf.steps_of(out.attrs)[-1]["removed_samples"] == 6
+    assert (np.diff(out["pressure"].values) > 0).all()
+
+
+def test_remove_reversals_slow_descent():
+    # 1 dbar/s descent with a 10 s pause of the winch (0.05 dbar/s, below 0.25 dbar/s)
+    t = np.arange(0.0, 60.0, 0.5)
+    rate = np.where((t >= 20) & (t < 30), 0.05, 1.0)
+    p = np.concatenate(([0.0], np.cumsum(rate[:-1] * 0.5)))
+    cast = make_cast(pressure=p, temperature=np.full(t.size, 10.0), elapsed_time=t)
+    out = pr.remove_reversals(cast, min_descent_rate=0.25, rate_window=1.0)
+    kept_t = out["elapsed_time"].values
+    assert not ((kept_t > 20.5) & (kept_t < 29.5)).any()
+    assert _cf.steps_of(out.attrs)[-1]["slow_samples"] >= 18
+
+
+def test_despike_flags_spikes_only():
+    z = np.linspace(1, 300, 1500)
+    t = 8.0 + 10.0 * 0.5 * (1 - np.tanh((z - 80.0) / 5.0))  # sharp thermocline, no spikes
+    t_spiky = t.copy()
+    idx = [100, 500, 501, 900]
+    t_spiky[idx] += [0.5, -1.0, -1.0, 2.0]
+    cast = make_cast(pressure=z, temperature=t_spiky, salinity=np.full(z.size, 35.0))
+    out = pr.despike(cast)
+    assert np.flatnonzero(out["temperature_qc"].values == 4).tolist() == idx
+    np.testing.assert_array_equal(out["temperature"].values, t_spiky)  # nothing deleted
+    assert _cf.steps_of(out.attrs)[-1]["flagged"] == {"temperature": 4, "salinity": 0}
+    clean = pr.despike(make_cast(pressure=z, temperature=t))
+    assert (clean["temperature_qc"].values == 0).all()
+
+
+def test_running_median_matches_numpy():
+    rng = np.random.default_rng(3)
+    x = rng.normal(size=300)
+    x[rng.random(300) < 0.2] = np.nan
+    for half in (1, 3, 7):
+        ref = [np.nanmedian(x[max(0, i - half): i + half + 1])
+               if np.isfinite(x[max(0, i - half): i + half + 1]).any() else np.nan
+               for i in range(x.size)]
+        np.testing.assert_allclose(pr._running_median(x, half), ref, rtol=0, atol=0)
+
+
+def test_add_depth_check_value_and_missing_latitude():
+    cast = make_cast(pressure=[0.0, 10000.0], temperature=[0.0, 0.0])
+    out = pr.add_depth(cast, latitude=30.0)
+    # Fofonoff & Millard (1983), Unesco Tech. Pap. Mar. Sci. 44, p. 28: 9712.653 m at
+    # 10000 dbar, 30 deg latitude (printed to 1 mm)
+    assert out["depth"].values[1] == pytest.approx(9712.653, abs=5e-4)
+    assert out.attrs["depth_method"] == "unesco1983"
+    with pytest.raises(SeaprofileError, match="latitude"):
+        pr.add_depth(cast)
+
+
+def test_bin_cast_counts_and_means():
+    # 4 samples in bin 1 m (0.5..1.5), 2 in bin 2 m, none in 3 m, 3 in 4 m
+    z = np.array([0.6, 0.9, 1.1, 1.4, 1.6, 2.2, 3.7, 4.0, 4.3])
+    t = np.array([1.0, 2.0, 3.0, 4.0, 10.0, 20.0, 5.0, 6.0, 100.0])
+    cast = make_cast(depth=z, temperature=t, salinity=np.full(z.size, 35.0), latitude=45.0)
+    flags = np.zeros(z.size, np.int8)
+    flags[8] = 4  # a bad temperature: left out of the mean, sample still counted
+    cast["temperature_qc"] = cast["temperature_qc"].copy(data=flags)
+    cast = pr.add_depth(cast)
+    prof = pr.bin_cast(cast, 1.0)
+    assert prof["depth"].values.tolist() == [1.0, 2.0, 3.0, 4.0]
+    assert prof["samples_per_bin"].values.tolist() == [4, 2, 0, 3]
+    np.testing.assert_allclose(prof["temperature"].values, [2.5, 15.0, np.nan, 5.5],
+                               rtol=1e-15)
+    assert prof["temperature_qc"].values.tolist() == [0, 0, 9, 0]
+    assert prof.attrs["cast_max_depth"] == 4.0
+    assert "depth" in prof.dims and prof["pressure"].values[2] > prof["pressure"].values[1]
+
+
+def test_fill_gaps_flags_estimated():
+    z = np.arange(1.0, 21.0)
+    t = 20.0 - 0.5 * z
+    have = np.ones(20, bool)
+    have[[3, 4]] = False  # no samples at 4 and 5 m: a 2 m gap, filled
+    have[10:17] = False   # none at 11..17 m: a 7 m gap, too long for max_gap=5 m
+    cast = pr.add_depth(make_cast(depth=z[have], temperature=t[have],
+                                  salinity=np.full(have.sum(), 35.0), latitude=10.0))
+    prof = pr.bin_cast(cast, 1.0)
+    before = prof.copy(deep=True)
+    out = pr.fill_gaps(prof, max_gap=5.0)
+    xr.testing.assert_identical(prof, before)
+    np.testing.assert_allclose(out["temperature"].values[[3, 4]], t[[3, 4]], rtol=1e-14)
+    assert out["temperature_qc"].values[[3, 4]].tolist() == [8, 8]
+    assert np.isnan(out["temperature"].values[10:17]).all()
+    assert (out["temperature_qc"].values[10:17] == 9).all()
+    assert (out["samples_per_bin"].values[[3, 4]] == 0).all()
+    assert _cf.steps_of(out.attrs)[-1]["filled"]["temperature"] == 2
+
+
+def test_add_sound_speed_teos10_against_gsw():
+    z = np.arange(1.0, 101.0)
+    t, s = 15.0 - 0.05 * z, 34.5 + 0.005 * z
+    cast = pr.add_depth(make_cast(depth=z, temperature=t, salinity=s, latitude=20.0,
+                                  longitude=-30.0))
+    prof = pr.add_sound_speed(pr.bin_cast(cast, 1.0), "teos10")
+    p = prof["pressure"].values
+    sa = gsw.SA_from_SP(s, p, -30.0, 20.0)
+    # TEOS-10 (IOC, SCOR & IAPSO 2010) via gsw, computed independently: same library,
+    # so agreement to round-off
+    np.testing.assert_allclose(prof["sound_speed"].values,
+                               gsw.sound_speed(sa, gsw.CT_from_t(sa, t, p), p), atol=1e-9)
+    assert prof.attrs["equation"] == "teos10"
+
+
+def test_add_sound_speed_measured():
+    z = np.arange(1.0, 11.0)
+    cast = pr.add_depth(make_cast(depth=z, measured_sound_speed=1500 + z, latitude=0.0),
+                        latitude=0.0)
+    binned = pr.bin_cast(cast, 1.0)
+    before = binned.copy(deep=True)
+    prof = pr.add_sound_speed(binned)
+    xr.testing.assert_identical(binned, before)
+    assert prof.attrs["equation"] == "measured"
+    assert prof["sound_speed"].attrs["standard_name"] == "speed_of_sound_in_sea_water"
+    np.testing.assert_array_equal(prof["sound_speed"].values, 1500 + z)

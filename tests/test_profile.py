@@ -1,0 +1,131 @@
+"""build_profile, extend_to and compare_profiles."""
+
+import gsw
+import numpy as np
+import pytest
+import xarray as xr
+
+from seaprofile import _cf
+from seaprofile._validate import SeaprofileError
+from seaprofile.casts import process as pr
+from seaprofile.casts.model import make_cast
+from seaprofile.casts.qc import qc_summary
+from seaprofile.profile import build_profile, compare_profiles, extend_to
+
+LAT, LON = 30.0, -40.0
+
+
+def ctd_cast(n=3000, pmax=300.0, seed=0):
+    """Invented CTD cast with a soak, a descent at 24 Hz and an ascent."""
+    rng = np.random.default_rng(seed)
+    down = np.linspace(1.0, pmax, n)
+    p = np.concatenate([np.linspace(0, 8, 50), np.full(100, 8.0), np.linspace(8, 1, 50),
+                        down, np.linspace(pmax, 0.0, n // 2)])
+    t = 6.0 + 14.0 * np.exp(-p / 100.0) + rng.normal(0, 1e-4, p.size)
+    s = 35.2 - 0.6 * np.exp(-p / 100.0)
+    return make_cast(pressure=p, temperature=t, salinity=s, elapsed_time=np.arange(p.size) / 24,
+                     latitude=LAT, longitude=LON, cast_name="invented-1")
+
+
+def test_build_profile_steps_in_order_and_input_unchanged():
+    cast = ctd_cast()
+    before = cast.copy(deep=True)
+    prof = build_profile(cast)
+    xr.testing.assert_identical(cast, before)
+    steps = [s["step"] for s in _cf.steps_of(prof.attrs)]
+    assert steps == ["remove_soak", "select_direction", "remove_reversals", "add_depth",
+                     "despike", "quality_control", "bin_cast", "fill_gaps",
+                     "add_sound_speed", "quality_control"]
+    assert prof.attrs["equation"] == "chen_millero1977"
+    assert prof.attrs["featureType"] == "profile"
+    assert (np.diff(prof["depth"].values) > 0).all()
+    assert set(np.unique(prof["sound_speed_qc"].values)) == {1}
+    assert prof["samples_per_bin"].values.sum() > 0.9 * 3000
+
+
+def test_build_profile_with_faults_keeps_clean_bins():
+    cast = ctd_cast()
+    clean = build_profile(cast)
+    t = cast["temperature"].values.copy()
+    s = cast["salinity"].values.copy()
+    t[1000] += 9.0   # spike
+    s[2000] = 60.0   # out of range
+    faulty = cast.copy()
+    faulty["temperature"] = faulty["temperature"].copy(data=t)
+    faulty["salinity"] = faulty["salinity"].copy(data=s)
+    prof = build_profile(faulty)
+    # both faults flagged on the samples, so the bins match the clean build closely
+    np.testing.assert_allclose(prof["sound_speed"].values, clean["sound_speed"].values,
+                               atol=0.01)
+    assert (prof["sound_speed_qc"].values == 1).all()
+    despiked = [st for st in _cf.steps_of(prof.attrs) if st["step"] == "despike"][0]
+    assert despiked["flagged"] == {"temperature": 1, "salinity": 1}
+    # already flagged by despike, so the later tests do not count them again
+    assert qc_summary(prof)["global_range"]["salinity"] == 0
+
+
+def test_build_profile_xbt_and_svp():
+    z_t = np.arange(0.0, 120.0, 0.6)
+    xbt = make_cast(elapsed_time=z_t, temperature=18.0 - 0.05 * z_t, instrument="xbt",
+                    latitude=LAT, longitude=LON)
+    prof = build_profile(xbt)
+    assert prof.attrs["salinity_assumed"] == "yes"
+    assert np.isfinite(prof["sound_speed"].values).all()
+    p = np.linspace(0.5, 50.0, 500)
+    svp = make_cast(pressure=p, measured_sound_speed=1500.0 + 0.1 * p, instrument="svp",
+                    latitude=LAT, longitude=LON)
+    prof = build_profile(svp)
+    assert prof.attrs["equation"] == "measured"
+    with pytest.raises(SeaprofileError, match="latitude"):
+        build_profile(make_cast(pressure=p, temperature=np.full(500, 10.0),
+                                salinity=np.full(500, 35.0)))
+
+
+def test_extend_constant_ts_is_pressure_only():
+    prof = build_profile(ctd_cast(), equation="teos10")
+    out = extend_to(prof, 500.0)
+    z = out["depth"].values
+    cast_max = prof.attrs["cast_max_depth"]
+    assert out.attrs["cast_max_depth"] == cast_max and z[-1] == 500.0
+    below = z > cast_max
+    assert (out["sound_speed_qc"].values[below] == 8).all()
+    assert (out["temperature_qc"].values[below] == 8).all()
+    assert (out["sound_speed_qc"].values[~below] == 1).all()
+    assert (out["samples_per_bin"].values[below] == 0).all()
+    # constant T and S: sound speed grows with pressure only; TEOS-10 via gsw, computed
+    # independently from the last measured T and S (agreement to round-off)
+    t = prof["temperature"].values[-1]
+    s = prof["salinity"].values[-1]
+    p = out["pressure"].values[below]
+    sa = gsw.SA_from_SP(s, p, LON, LAT)
+    expected = gsw.sound_speed(sa, gsw.CT_from_t(sa, t, p), p)
+    np.testing.assert_allclose(out["sound_speed"].values[below], expected, atol=1e-9)
+    assert (np.diff(out["sound_speed"].values[below]) > 0).all()
+    xr.testing.assert_identical(out.isel(depth=~below).drop_attrs(), prof.drop_attrs())
+
+
+def test_extend_with_reference_joins_continuously():
+    prof = build_profile(ctd_cast(pmax=200.0))
+    zr = np.arange(0.0, 1001.0, 5.0)
+    ref = make_cast(depth=zr, temperature=3.0 + 15.0 * np.exp(-zr / 150.0),
+                    salinity=np.full(zr.size, 35.0), latitude=LAT, longitude=LON)
+    ref = pr.add_sound_speed(pr.bin_cast(pr.add_depth(ref), 5.0))
+    out = extend_to(prof, 800.0, reference=ref)
+    c = out["sound_speed"].values
+    last = np.flatnonzero(out["depth"].values <= prof.attrs["cast_max_depth"])[-1]
+    assert abs(c[last + 1] - c[last]) < 0.5  # joins: one bin's worth of change
+    # the shape below follows the reference's temperature, offset to join
+    t = out["temperature"].values
+    tr = np.interp(out["depth"].values, ref["depth"].values, ref["temperature"].values)
+    np.testing.assert_allclose(np.diff(t[last + 1:]), np.diff(tr[last + 1:]), atol=1e-12)
+    with pytest.raises(SeaprofileError, match="reference"):
+        extend_to(prof, 2000.0, reference=ref)
+
+
+def test_compare_profiles():
+    a = build_profile(ctd_cast(seed=1))
+    b = a.copy()
+    b["sound_speed"] = b["sound_speed"] + 0.5
+    d = compare_profiles(a, b)
+    np.testing.assert_allclose(d["sound_speed_difference"].values, -0.5, atol=1e-9)
+    assert d.attrs["max_abs_difference"] == pytest.approx(0.5)
