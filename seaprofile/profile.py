@@ -42,13 +42,16 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     5. :func:`~seaprofile.casts.process.add_salinity` when only conductivity was measured;
     6. :func:`~seaprofile.casts.process.add_depth` (depth from pressure, or pressure from
        depth) -- before QC so the tests and the density check have both;
-    7. :func:`~seaprofile.casts.process.despike`;
-    8. :func:`~seaprofile.casts.qc.run_qc` with :data:`CAST_TESTS` (if ``qc``);
+    7. :func:`~seaprofile.casts.qc.run_qc` with :data:`CAST_TESTS` (if ``qc``): the
+       published Argo tests first, so that what they catch is counted under their names;
+    8. :func:`~seaprofile.casts.process.despike` (a robust median test for what the Argo
+       thresholds let through; flags only);
     9. :func:`~seaprofile.casts.process.bin_cast`;
     10. :func:`~seaprofile.casts.process.fill_gaps`;
     11. :func:`~seaprofile.casts.process.add_sound_speed`;
     12. :func:`~seaprofile.casts.qc.run_qc` with :data:`PROFILE_TESTS` (if ``qc``);
-    13. :func:`extend_to` when ``extend_to`` is given.
+    13. :func:`extend_to` when ``extend_to`` is given (skipped, and recorded as skipped,
+        when no bin has a usable sound speed).
 
     Parameters
     ----------
@@ -92,19 +95,29 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     if "salinity" not in ds.data_vars and "conductivity" in ds.data_vars:
         ds = _p.add_salinity(ds)
     ds = _p.add_depth(ds, latitude=latitude, method=depth_method)
-    ds = _p.despike(ds)
-    if qc:
+    if qc:  # the published Argo tests first, so their counts are theirs
         ds = _qc.run_qc(ds, CAST_TESTS)
+    ds = _p.despike(ds)
     prof = _p.bin_cast(ds, bin_size, "depth")
     prof = _p.fill_gaps(prof, max_gap)
     prof = _p.add_sound_speed(prof, equation)
     if qc:
         prof = _qc.run_qc(prof, PROFILE_TESTS)
     if extend_to is not None:
-        prof = _extend(prof, extend_to, reference=reference)
+        if _usable(prof):
+            prof = _extend(prof, extend_to, reference=reference)
+        else:  # nothing to extend from: keep the flagged profile, say why
+            prof.attrs = _cf.record_step(prof.attrs, "extend_to", bottom_depth=extend_to,
+                                         skipped="no usable sound speed (see the flags)")
     prof.attrs["featureType"] = "profile"
     prof.attrs["title"] = f"sound-speed profile from {cast.attrs.get('title', 'a cast')}"
     return prof
+
+
+def _usable(profile):
+    c = profile["sound_speed"].values
+    f = profile["sound_speed_qc"].values
+    return bool((np.isfinite(c) & ~np.isin(f, (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING))).any())
 
 
 def _last_good(profile):

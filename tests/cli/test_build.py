@@ -1,0 +1,71 @@
+"""The `build`, `inspect` and `demo` commands."""
+
+import json
+from pathlib import Path
+
+import pytest
+
+from seaprofile.cli import main
+
+DEMO = Path(__file__).resolve().parents[2] / "demo_casts"
+
+
+def test_build_reports_bad_file_and_exits_1(tmp_path, capsys):
+    code = main(["build", str(DEMO / "shelf_summer_ctd.csv"), str(DEMO / "broken" / "bad_number.csv"),
+                 "--out", str(tmp_path), "--format", "csv"])
+    assert code == 1
+    captured = capsys.readouterr()
+    assert "VS31-S04" in captured.out and "FAILED" in captured.out
+    err = captured.err.strip().splitlines()
+    assert len(err) == 1 and "line 41" in err[0] and "Traceback" not in captured.err
+    assert (tmp_path / "VS31-S04.csv").exists()
+
+
+def test_build_json_summary(capsys):
+    assert main(["build", str(DEMO / "shelf_winter_ctd.csv"), "--json", "--extend-to", "bottom"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    (row,) = doc["casts"]
+    assert row["cast"] == "VS31-W02" and row["depth_range_m"].endswith("150")
+
+
+def test_build_missing_file_exit_1(capsys):
+    assert main(["build", "no/such/cast.csv"]) == 1
+    assert "no/such/cast.csv" in capsys.readouterr().err
+
+
+def test_inspect_raw_cast_json(capsys):
+    assert main(["inspect", str(DEMO / "deep_ocean_ctd.csv"), "--bottom-depth", "5012",
+                 "--source-depth", "60", "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert 500 < d["channel_axis_depth"] < 1200
+    assert d["depth_excess_surface"] is not None
+    assert d["caution"].startswith("Not for navigation")
+
+
+def test_inspect_text_lists_units(capsys):
+    assert main(["inspect", str(DEMO / "shelf_summer_ctd.csv")]) == 0
+    out = capsys.readouterr().out
+    assert "sonic layer depth" in out and "surface duct" in out and "caution" in out
+
+
+def test_inspect_bad_length_exit_2(capsys):
+    assert main(["inspect", str(DEMO / "shelf_summer_ctd.csv"), "--bottom-depth", "deep"]) == 2
+    assert "--bottom-depth" in capsys.readouterr().err
+
+
+def test_demo_end_to_end(tmp_path, capsys):
+    out = tmp_path / "demo"
+    assert main(["demo", "--out", str(out), "--casts", str(DEMO), "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    statuses = {row["file"]: row["status"] for row in doc["casts"]}
+    assert statuses["bad_number.csv"] == "FAILED"
+    assert statuses["deep_ocean_ctd.csv"] == "ok"
+    assert (out / "profiles" / "VS31-D01.nc").exists()
+    assert (out / "figures" / "deep_ocean_ctd_profile.png").exists()
+    # a second run rewrites its own output folder
+    assert main(["demo", "--out", str(out), "--casts", str(DEMO), "--no-figures"]) == 0
+
+
+def test_demo_without_casts_exit_2(tmp_path, capsys):
+    assert main(["demo", "--casts", str(tmp_path / "none")]) == 2
+    assert "--casts" in capsys.readouterr().err
