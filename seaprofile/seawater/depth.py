@@ -3,6 +3,8 @@
 Four published methods, each as a pair of public numpy functions (pressure -> depth and
 depth -> pressure) registered in :data:`METHODS`, and two entry points that accept numpy,
 dask and xarray inputs: :func:`depth_from_pressure` and :func:`pressure_from_depth`.
+The compiled kernels behind the numpy functions are in :mod:`._depth_kernels`; the
+numpy/dask/xarray dispatch and the latitude check in :mod:`._apply`.
 
 Units: sea pressure in dbar (zero at the sea surface), depth in m, positive down, latitude
 in degrees north. Small negative pressures or depths (a sensor just above the surface) are
@@ -15,12 +17,19 @@ import functools
 from typing import Callable, NamedTuple
 
 import gsw
-import numba
 import numpy as np
-import xarray as xr
 
 from .. import _cf
-from .._validate import SeaprofileError, as_float_array, is_lazy
+from .._validate import SeaprofileError
+from ._apply import apply_pointwise, check_latitude  # noqa: F401  (re-exported)
+from ._depth_kernels import (
+    _leroy_depth_kernel,
+    _leroy_pressure_kernel,
+    _saunders_depth_kernel,
+    _saunders_pressure_kernel,
+    _unesco_depth_kernel,
+    _unesco_pressure_kernel,
+)
 
 __all__ = [
     "METHODS",
@@ -36,88 +45,6 @@ __all__ = [
     "teos10_depth",
     "teos10_pressure",
 ]
-
-_DEG = np.pi / 180.0
-_NEWTON_STEPS = 4  # from a first guess good to ~1 m, 2 steps already reach < 1e-9 m
-
-# --- layer 1: numba kernels -----------------------------------------------------------
-
-
-@numba.njit(cache=True)
-def _saunders_c1(lat):
-    s = np.sin(lat * _DEG)
-    return (5.92 + 5.25 * s * s) * 1e-3
-
-
-@numba.vectorize(["float64(float64, float64)"], cache=True)
-def _saunders_depth_kernel(p, lat):
-    c1 = _saunders_c1(lat)
-    return (1.0 - c1) * p - 2.21e-6 * p * p
-
-
-@numba.vectorize(["float64(float64, float64)"], cache=True)
-def _saunders_pressure_kernel(z, lat):
-    # root of 2.21e-6 p^2 - (1 - c1) p + z = 0 near p = z, in the cancellation-free form
-    a = 1.0 - _saunders_c1(lat)
-    return 2.0 * z / (a + np.sqrt(a * a - 4.0 * 2.21e-6 * z))
-
-
-@numba.njit(cache=True)
-def _unesco_parts(p, lat):
-    """UNESCO 1983 depth and d(depth)/d(pressure) at pressure p (dbar)."""
-    s = np.sin(lat / 57.29578)
-    x = s * s
-    gr = 9.780318 * (1.0 + (5.2788e-3 + 2.36e-5 * x) * x) + 1.092e-6 * p
-    num = (((-1.82e-15 * p + 2.279e-10) * p - 2.2512e-5) * p + 9.72659) * p
-    dnum = ((-4.0 * 1.82e-15 * p + 3.0 * 2.279e-10) * p - 2.0 * 2.2512e-5) * p + 9.72659
-    return num / gr, (dnum * gr - num * 1.092e-6) / (gr * gr)
-
-
-@numba.vectorize(["float64(float64, float64)"], cache=True)
-def _unesco_depth_kernel(p, lat):
-    return _unesco_parts(p, lat)[0]
-
-
-@numba.vectorize(["float64(float64, float64)"], cache=True)
-def _unesco_pressure_kernel(z, lat):
-    p = _saunders_pressure_kernel(z, lat)  # first guess, within ~1 m
-    for _ in range(_NEWTON_STEPS):
-        f, df = _unesco_parts(p, lat)
-        p -= (f - z) / df
-    return p
-
-
-@numba.njit(cache=True)
-def _leroy_parts(z, lat, common_ocean):
-    """Leroy & Parthiot (1998) pressure (dbar) and d(pressure)/d(depth) at depth z (m)."""
-    s = np.sin(lat * _DEG)
-    g = 9.7803 * (1.0 + 5.3e-3 * s * s)
-    h = ((2.8e-19 * z - 1.25e-13) * z + 2.465e-8) * z * z + 1.00818e-2 * z  # MPa
-    dh = ((4.0 * 2.8e-19 * z - 3.0 * 1.25e-13) * z + 2.0 * 2.465e-8) * z + 1.00818e-2
-    den = 9.80612 - 2e-5 * z
-    k = (g - 2e-5 * z) / den
-    dk = 2e-5 * (g - 9.80612) / (den * den)
-    pr = h * k
-    dpr = dh * k + h * dk
-    if common_ocean:
-        pr -= 1e-2 * z / (z + 100.0) + 6.2e-6 * z
-        dpr -= 1.0 / ((z + 100.0) * (z + 100.0)) + 6.2e-6
-    return 100.0 * pr, 100.0 * dpr  # MPa -> dbar
-
-
-@numba.vectorize(["float64(float64, float64, boolean)"], cache=True)
-def _leroy_pressure_kernel(z, lat, common_ocean):
-    return _leroy_parts(z, lat, common_ocean)[0]
-
-
-@numba.vectorize(["float64(float64, float64, boolean)"], cache=True)
-def _leroy_depth_kernel(p, lat, common_ocean):
-    z = _saunders_depth_kernel(p, lat)  # first guess, within a few m
-    for _ in range(_NEWTON_STEPS):
-        f, df = _leroy_parts(z, lat, common_ocean)
-        z -= (f - p) / df
-    return z
-
 
 # --- layer 2: public numpy functions, one pair per method ------------------------------
 
@@ -495,31 +422,6 @@ def _pick(method, correction, which):
     return functools.partial(func, correction=correction)
 
 
-def check_latitude(latitude):
-    """Raise :class:`SeaprofileError` naming ``latitude`` if it is missing or invalid.
-
-    Lazy (dask-backed) latitudes are not computed to check them.
-    """
-    if latitude is None:
-        raise SeaprofileError(
-            "latitude is required (degrees north); give the cast position, "
-            "or 45 for a mid-latitude default"
-        )
-    if is_lazy(latitude):
-        return
-    lat = as_float_array("latitude", getattr(latitude, "values", latitude))
-    if lat.size and np.isnan(lat).all():
-        raise SeaprofileError(
-            "latitude is NaN (unknown position); give a latitude in degrees north"
-        )
-    with np.errstate(invalid="ignore"):
-        bad = np.abs(lat) > 90.0
-    if bad.any():
-        raise SeaprofileError(
-            f"latitude must lie within -90..90 degrees, got {lat[bad].ravel()[0]:g}"
-        )
-
-
 def _dispatch(func, in_name, values, latitude, out_name, method):
     """Apply the numpy function ``func(values, latitude)`` to numpy, dask or xarray."""
     check_latitude(latitude)
@@ -531,45 +433,3 @@ def _dispatch(func, in_name, values, latitude, out_name, method):
         _cf.attrs_for(out_name, comment=f"computed from {in_name} with method {method}"),
         out_name,
     )
-
-
-def apply_pointwise(func, named_args, attrs, out_name):
-    """Run a point-wise numpy function on numpy, dask or xarray arguments.
-
-    Parameters
-    ----------
-    func : callable
-        Takes float64 numpy arrays (broadcastable) and returns one float64 array.
-    named_args : list of (str, object)
-        Argument names (for error messages) and values, in call order.
-    attrs : dict
-        Attributes of an xarray result.
-    out_name : str
-        Name of an xarray result.
-    """
-    values = []
-    for name, v in named_args:
-        if isinstance(v, (xr.DataArray, xr.Variable)) or is_lazy(v):
-            values.append(v)
-        else:
-            values.append(as_float_array(name, v))
-    if any(isinstance(v, xr.DataArray) for v in values):
-        out = xr.apply_ufunc(
-            lambda *a: func(*[np.asarray(x, dtype=np.float64) for x in a]),
-            *values,
-            dask="parallelized",
-            output_dtypes=[np.float64],
-        )
-        out.attrs = dict(attrs)
-        out.name = out_name
-        return out
-    if any(is_lazy(v) for v in values):
-        import dask.array as da
-
-        arrs = da.broadcast_arrays(*[da.asarray(v) for v in values])
-        return da.map_blocks(
-            lambda *a: func(*[np.asarray(x, dtype=np.float64) for x in a]),
-            *arrs,
-            dtype=np.float64,
-        )
-    return func(*values)

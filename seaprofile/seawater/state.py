@@ -18,7 +18,7 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array, is_lazy
-from .depth import apply_pointwise
+from ._apply import apply_pointwise
 
 __all__ = [
     "salinity_from_conductivity",
