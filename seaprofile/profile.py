@@ -15,6 +15,8 @@ from . import _cf
 from ._validate import SeaprofileError
 from .casts import process as _p
 from .casts import qc as _qc
+from .casts._common import cast_latitude
+from .casts.binning import _equation_sound_speed as equation_sound_speed
 from .seawater.depth import pressure_from_depth
 
 __all__ = ["build_profile", "extend_to", "compare_profiles", "CAST_TESTS", "PROFILE_TESTS"]
@@ -186,7 +188,7 @@ def extend_to(profile, bottom_depth, reference=None, step=None):
     n_new = int(np.ceil((bottom - z_last) / step - 1e-9))
     z_new = z_last + step * np.arange(1, n_new + 1)
     z_new[-1] = bottom
-    lat = _p._latitude(profile, attrs.get("depth_latitude", None))
+    lat = cast_latitude(profile, attrs.get("depth_latitude", None))
     method = attrs.get("depth_method", "unesco1983")
     p_new = np.asarray(pressure_from_depth(z_new, lat, method), np.float64)
     values = {"pressure": p_new}
@@ -208,7 +210,7 @@ def extend_to(profile, bottom_depth, reference=None, step=None):
         if equation == "measured":
             p_last = float(profile["pressure"].values[last])
             tt, ss = np.full(n_new + 1, t_last), np.full(n_new + 1, s_last)
-            c = _p._equation_sound_speed(profile, "chen_millero1977", tt, ss,
+            c = equation_sound_speed(profile, "chen_millero1977", tt, ss,
                                          np.append(p_new, p_last), np.append(z_new, z_last))
             values["sound_speed"] = c_last + (c[:-1] - c[-1])
     else:
@@ -216,7 +218,7 @@ def extend_to(profile, bottom_depth, reference=None, step=None):
             "profile has no temperature and salinity to extend with; give reference="
         )
     if "sound_speed" not in values:
-        values["sound_speed"] = _p._equation_sound_speed(
+        values["sound_speed"] = equation_sound_speed(
             profile, equation, values["temperature"], values["salinity"], p_new, z_new)
     return _assemble(profile, attrs, last, z_new, values, bottom, how, reference)
 

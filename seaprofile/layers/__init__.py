@@ -1,0 +1,52 @@
+"""Profile diagnostics: mixed and sonic layers, surface duct, sound channels, critical depth.
+
+Each diagnostic is a plain function on arrays (depth in m, positive down and increasing;
+sound speed in m/s; temperature in degC; potential density anomaly in kg/m3). Missing
+values are NaN and are skipped. :func:`describe` runs them all on a Profile Dataset,
+ignoring bins flagged bad (Argo flags 3, 4 and 9), and returns a JSON-friendly dict;
+:func:`describe_dataset` returns the same numbers as an ``xarray.Dataset`` with CF
+attributes.
+
+The mixed-layer and sonic-layer scans are numba kernels that accept many profiles at once
+(depth along the last axis).
+
+Modules by topic:
+
+- :mod:`.mixed`: mixed layer depth (temperature, density), sonic layer depth, layer
+  gradients, surface-duct cut-off frequency;
+- :mod:`.channels`: sound channels, critical depth, depth excess, sound speed at a depth;
+- :mod:`.harmonic`: harmonic mean sound speed;
+- :mod:`.summary`: :func:`describe` and :func:`describe_dataset` on a Profile.
+"""
+
+from __future__ import annotations
+
+from .channels import critical_depth, depth_excess, sound_channels, speed_at
+from .harmonic import harmonic_mean_sound_speed
+from .mixed import (
+    TRAPPING_COEFFICIENT,
+    duct_cutoff_frequency,
+    layer_gradients,
+    mixed_layer_depth,
+    mixed_layer_depth_density,
+    sonic_layer_depth,
+)
+# BAD_FLAGS was a module-level name of the former single module; _estimated_top is used by
+# seaprofile.plots.profile. Both stay importable from seaprofile.layers.
+from .summary import BAD_FLAGS, _estimated_top, describe, describe_dataset  # noqa: F401
+
+__all__ = [
+    "mixed_layer_depth",
+    "mixed_layer_depth_density",
+    "sonic_layer_depth",
+    "layer_gradients",
+    "duct_cutoff_frequency",
+    "sound_channels",
+    "critical_depth",
+    "depth_excess",
+    "harmonic_mean_sound_speed",
+    "speed_at",
+    "describe",
+    "describe_dataset",
+    "TRAPPING_COEFFICIENT",
+]
