@@ -14,14 +14,15 @@ from pathlib import Path
 import numpy as np
 
 from . import _cf
-from ._validate import SeaprofileError
+from ._validate import InputFileError, SeaprofileError
 from .casts import qc as _qc
 from .casts.read import read_casts, read_profiles
 from .casts.write import FORMATS, write
 from .layers import describe
 from .profile import build_profile
 
-__all__ = ["BuildResult", "build_files", "flags_by_test", "load_profile", "summary_row"]
+__all__ = ["BuildResult", "build_files", "flags_by_test", "load_profile", "read_as_profiles",
+           "summary_row"]
 
 
 @dataclass
@@ -90,7 +91,7 @@ def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, 
 
 def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, columns=None,
                 units=None, instrument=None, latitude=None, longitude=None, salinity=None,
-                equation="chen_millero1977", bin_size=1.0, extend_to=None, reference=None,
+                fall_rate="hanawa1995_t7", equation="chen_millero1977", bin_size=1.0, extend_to=None, reference=None,
                 depth_method="unesco1983", scheduler=None):
     """Read, process, quality-control and write every cast in ``paths``.
 
@@ -104,8 +105,9 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
         Output format.
     overwrite : bool
         Replace existing output files (default: an existing file is an error for that cast).
-    columns, units, instrument, latitude, longitude, salinity
-        Passed to :func:`seaprofile.casts.read.read_casts` (latitude/longitude in degrees).
+    columns, units, instrument, latitude, longitude, salinity, fall_rate
+        Passed to :func:`seaprofile.casts.read.read_casts` (latitude/longitude in degrees,
+        salinity practical, fall rate a name or ``(a m/s, b m/s2)``).
     equation : str
         Sound-speed equation, a key of ``seaprofile.EQUATIONS``.
     bin_size : float
@@ -131,7 +133,8 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
     if out_dir is not None:
         Path(out_dir).mkdir(parents=True, exist_ok=True)
     read_options = dict(columns=columns, units=units, instrument=instrument,
-                        latitude=latitude, longitude=longitude, salinity=salinity)
+                        latitude=latitude, longitude=longitude, salinity=salinity,
+                        fall_rate=fall_rate)
     build_options = dict(equation=equation, bin_size=bin_size, latitude=latitude,
                          extend_to=extend_to, reference=reference, depth_method=depth_method)
     args = (read_options, build_options, out_dir, format, overwrite, extend_to)
@@ -167,24 +170,38 @@ def _bottom_of(cast):
     return value if np.isfinite(value) and value > 0 else None
 
 
+def read_as_profiles(path, **build_options):
+    """Profiles in one file: raw casts built on the fly, or profiles written by seaprofile.
+
+    The cast reader is asked first: it recognises a file of profiles written by
+    :mod:`seaprofile.casts.write` by its metadata and says so, while the profile reader
+    would take any text table with a depth column for a profile.
+
+    Returns
+    -------
+    profiles : list of xarray.Dataset
+    kind : {"cast", "profile"}
+        What the file held.
+    """
+    try:
+        casts = read_casts(path)
+    except InputFileError as as_cast:
+        if "use read_profile" not in str(as_cast):
+            raise
+        return read_profiles(path), "profile"
+    return [build_profile(c, **build_options) for c in casts], "cast"
+
+
 def load_profile(path, **build_options):
     """A Profile from ``path``: a built profile as written by seaprofile, or a raw cast.
 
     Raw casts are built on the fly with :func:`seaprofile.profile.build_profile`
     (``build_options`` passed through, defaults otherwise).
     """
-    try:
-        profiles = read_profiles(path)
-    except SeaprofileError:
-        profiles = None
-    if profiles:
-        if len(profiles) > 1:
-            raise SeaprofileError(f"{path}: holds {len(profiles)} profiles; give one")
-        return profiles[0]
-    casts = read_casts(path)
-    if len(casts) != 1:
-        raise SeaprofileError(f"{path}: holds {len(casts)} casts; give one")
-    return build_profile(casts[0], **build_options)
+    profiles, _ = read_as_profiles(path, **build_options)
+    if len(profiles) != 1:
+        raise SeaprofileError(f"{path}: holds {len(profiles)} profiles; give one")
+    return profiles[0]
 
 
 def summary_row(result):

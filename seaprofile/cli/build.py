@@ -9,7 +9,9 @@ from __future__ import annotations
 
 import sys
 
-from ..batch import build_files, summary_row
+from .._validate import SeaprofileError
+from ..batch import build_files, load_profile, summary_row
+from ..casts.xbt import FALL_RATES
 from ..casts.write import FORMATS
 from ..seawater.depth import METHODS
 from ..seawater.soundspeed import EQUATIONS
@@ -37,6 +39,11 @@ def add_cast_options(p):
     p.add_argument("--depth-method", default="unesco1983", choices=sorted(METHODS),
                    help="pressure-to-depth method (default unesco1983)")
     p.add_argument("--bin", type=float, default=1.0, help="bin size, m (default 1)")
+    p.add_argument("--salinity", type=float,
+                   help="salinity assumed for casts without one (expendable probes: default 35)")
+    p.add_argument("--fall-rate", default="hanawa1995_t7",
+                   help="expendable-probe fall rate: " + ", ".join(sorted(FALL_RATES))
+                   + " or A,B for depth = A t - B t^2 (m, s); default hanawa1995_t7")
 
 
 def add_arguments(p):
@@ -44,6 +51,7 @@ def add_arguments(p):
     add_cast_options(p)
     p.add_argument("--extend-to", help="sea-floor depth, m, to extend every profile to (flagged "
                    "estimated); 'bottom' uses each file's bottom_depth metadata")
+    p.add_argument("--reference", help="a deeper profile or cast file that shapes the extension")
     p.add_argument("--out", help="output directory (default: print the summary only)")
     p.add_argument("--format", default="netcdf", choices=sorted(FORMATS), help="output format (default netcdf)")
     p.add_argument("--overwrite", action="store_true", help="replace existing output files")
@@ -58,7 +66,9 @@ def run(args):
         latitude=args.latitude, longitude=args.longitude, equation=args.equation,
         bin_size=args.bin, depth_method=args.depth_method,
         extend_to=_extend(args.extend_to),
-        scheduler=args.scheduler,
+        scheduler=args.scheduler, salinity=args.salinity,
+        fall_rate=parse_fall_rate(args.fall_rate),
+        reference=load_profile(args.reference) if args.reference else None,
     )
     failed = [r for r in results if not r.ok]
     for r in failed:
@@ -79,3 +89,15 @@ def _extend(text):
     if text.strip().lower() == "bottom":
         return "bottom"
     return parse_length(text, "--extend-to")
+
+
+def parse_fall_rate(text):
+    """A fall-rate name, or ``A,B`` (m/s, m/s^2) for depth = A t - B t^2."""
+    if text in FALL_RATES:
+        return text
+    try:
+        a, b = (float(x) for x in text.split(","))
+    except ValueError:
+        raise SeaprofileError(f"--fall-rate: expected one of {', '.join(sorted(FALL_RATES))} "
+                              f"or A,B, got {text!r}") from None
+    return (a, b)

@@ -69,3 +69,18 @@ def test_demo_end_to_end(tmp_path, capsys):
 def test_demo_without_casts_exit_2(tmp_path, capsys):
     assert main(["demo", "--casts", str(tmp_path / "none")]) == 2
     assert "--casts" in capsys.readouterr().err
+
+
+def test_build_fall_rate_and_reference(tmp_path, capsys):
+    # the deep cast shapes the extension of the expendable-probe drop below its last sample
+    code = main(["build", str(DEMO / "xbt_drop.csv"), "--fall-rate", "6.691,0.00225",
+                 "--salinity", "35.2", "--extend-to", "3000",
+                 "--reference", str(DEMO / "deep_ocean_ctd.csv"), "--json"])
+    assert code == 0
+    (row,) = json.loads(capsys.readouterr().out)["casts"]
+    assert row["depth_range_m"].endswith("3000")
+
+
+def test_build_bad_fall_rate_exit_2(capsys):
+    assert main(["build", str(DEMO / "xbt_drop.csv"), "--fall-rate", "fast"]) == 2
+    assert "--fall-rate" in capsys.readouterr().err

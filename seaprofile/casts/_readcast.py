@@ -1,0 +1,140 @@
+"""Assembling a Cast from what a reader found: position, instrument, flags, provenance.
+
+Private to :mod:`seaprofile.casts.read`. Every container reader (text, netCDF) produces
+:class:`_Raw` records; :func:`_finish` turns one into a Cast Dataset and derives salinity
+from conductivity, expendable-probe depth, or an assumed salinity where needed.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import _cf
+from .._validate import InputFileError, SeaprofileError
+from .columns import KIND
+from .model import INSTRUMENTS, make_cast
+from .xbt import DEFAULT_SALINITY, add_variable, assumed_salinity, complete_xbt_cast
+
+_CAST_KWARGS = {"latitude", "longitude", "time", "instrument", "cast_name", "vessel",
+                "source_file", "profile_id", *KIND}
+
+
+@dataclass
+class _Raw:
+    """A cast as found in a file, before it becomes a Cast Dataset."""
+
+    data: dict
+    flags: dict = field(default_factory=dict)
+    meta: dict = field(default_factory=dict)
+    conversions: dict = field(default_factory=dict)
+    column_map: dict = field(default_factory=dict)
+    ignored: list = field(default_factory=list)
+    file_format: str = "text"
+
+
+def guess_instrument(variables):
+    """Guess the instrument from the variables present.
+
+    A measured sound speed means a sound-speed probe (``"svp"``); elapsed time and
+    temperature with neither pressure nor depth an expendable probe (``"xbt"``); anything
+    else a CTD (``"ctd"``).
+    """
+    v = set(variables)
+    if "measured_sound_speed" in v:
+        return "svp"
+    if {"elapsed_time", "temperature"} <= v and not v & {"pressure", "depth"}:
+        return "xbt"
+    return "ctd"
+
+
+def _flag_values(values, path, t=None, j=None):
+    v = np.where(np.isfinite(values), values, 0.0)
+    bad = ~np.isin(v, _cf.FLAG_VALUES)
+    if bad.any():
+        k = int(np.flatnonzero(bad)[0])
+        where = (int(t.lines[k]), t.label(j)) if t is not None else (None, j)
+        raise InputFileError(path, f"expected an Argo flag {_cf.FLAG_VALUES.tolist()}, got "
+                             f"{values[k]:g}", *where)
+    return v.astype(np.int8)
+
+
+def _finish(raw, path, *, instrument, latitude, longitude, salinity, fall_rate):
+    """Build the Cast: position, instrument, flags, provenance, derived variables."""
+    meta = dict(raw.meta)
+    lat = float(meta.pop("latitude", np.nan) if latitude is None else latitude)
+    lon = float(meta.pop("longitude", np.nan) if longitude is None else longitude)
+    inst = str(instrument or meta.get("instrument") or guess_instrument(raw.data)).lower()
+    if inst not in INSTRUMENTS:
+        raise SeaprofileError(f"instrument must be one of {INSTRUMENTS}, got {inst!r}")
+    _check_needs(path, inst, raw.data, salinity)
+    extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS}
+    try:
+        cast = make_cast(**raw.data, latitude=lat, longitude=lon, time=meta.get("time"),
+                         instrument=inst,
+                         cast_name=meta.get("cast_name") or meta.get("profile_id") or path.stem,
+                         vessel=meta.get("vessel", ""), source_file=str(path), **extra)
+    except SeaprofileError as exc:
+        raise InputFileError(path, str(exc)) from None
+    for var in raw.data:
+        qc = raw.flags.get(var, np.zeros(cast.sizes["sample"], np.int8))
+        missing = ~np.isfinite(cast[var].values)
+        cast[f"{var}_qc"].values[...] = np.where(missing, _cf.MISSING, qc)
+    cast.attrs["ignored_columns"] = ", ".join(raw.ignored)
+    cast.attrs = _cf.record_step(
+        cast.attrs, "read_cast", source_file=str(path), file_format=raw.file_format,
+        columns=raw.column_map, unit_conversions=raw.conversions, ignored_columns=raw.ignored,
+        missing_values={v: int(np.count_nonzero(~np.isfinite(a))) for v, a in raw.data.items()})
+    return _derive(cast, inst, salinity, fall_rate)
+
+
+def _check_needs(path, inst, data, salinity):
+    have = set(data)
+    vertical = have & {"pressure", "depth"}
+    found = f"; found {sorted(have)}"
+    if inst == "xbt":
+        if "temperature" not in have or not (vertical or "elapsed_time" in have):
+            raise InputFileError(path, "an expendable-probe cast needs temperature and "
+                                 "elapsed time (or depth)" + found)
+    elif inst == "svp":
+        if "measured_sound_speed" not in have or not vertical:
+            raise InputFileError(path, "a sound-speed probe cast needs sound speed and "
+                                 "pressure or depth" + found)
+    else:
+        if "temperature" not in have or not vertical:
+            raise InputFileError(path, "a CTD cast needs temperature and pressure or depth"
+                                 + found)
+        if not have & {"salinity", "conductivity"} and salinity is None:
+            raise InputFileError(path, "a CTD cast needs salinity or conductivity (or give "
+                                 "salinity= to assume one)" + found)
+        if "conductivity" in have and "salinity" not in have and "pressure" not in have:
+            raise InputFileError(path, "salinity from conductivity needs pressure" + found)
+
+
+def _derive(cast, inst, salinity, fall_rate):
+    if "conductivity" in cast and "salinity" not in cast and "pressure" in cast:
+        from ..seawater.state import salinity_from_conductivity
+
+        sal = np.asarray(salinity_from_conductivity(cast["conductivity"].values,
+                                                    cast["temperature"].values,
+                                                    cast["pressure"].values), dtype=np.float64)
+        qc = np.maximum.reduce([cast[f"{v}_qc"].values
+                                for v in ("conductivity", "temperature", "pressure")])
+        qc = np.where(np.isfinite(sal), qc, _cf.MISSING).astype(np.int8)
+        cast = add_variable(cast, "salinity", sal, qc, comment="computed from conductivity, "
+                            "temperature and pressure (PSS-78 via gsw.SP_from_C)")
+        cast.attrs["salinity_source"] = "computed from conductivity (PSS-78)"
+        cast.attrs = _cf.record_step(cast.attrs, "salinity_from_conductivity", method="PSS-78")
+    if inst == "xbt":
+        sal = DEFAULT_SALINITY if salinity is None else salinity
+        return complete_xbt_cast(cast, fall_rate=fall_rate, salinity=sal)
+    if salinity is not None and "salinity" not in cast and "conductivity" not in cast:
+        z, note = ((cast["depth"].values, "") if "depth" in cast else
+                   (cast["pressure"].values, " (pressure in dbar taken as depth in m)"))
+        values, desc = assumed_salinity(z, salinity)
+        cast = add_variable(cast, "salinity", values, comment=desc + note)
+        cast.attrs.update(salinity_assumed="yes", salinity_source=desc + note)
+        cast.attrs = _cf.record_step(cast.attrs, "assume_salinity", salinity_source=desc + note)
+    return cast
+

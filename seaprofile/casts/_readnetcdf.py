@@ -1,0 +1,223 @@
+"""netCDF casts: one profile, or a CF discrete-sampling-geometry ``profile`` collection.
+
+Private to :mod:`seaprofile.casts.read`. Contiguous ragged, indexed ragged and
+multidimensional layouts (CF 1.10 chapter 9); variables are found by ``standard_name``
+(:data:`STANDARD_NAMES`), else by name and units through the column recogniser.
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import xarray as xr
+
+from .. import _cf
+from .._validate import InputFileError, SeaprofileError
+from .columns import KIND, parse_unit, recognise_column
+from .model import INSTRUMENTS
+from ._readcast import _flag_values, _Raw
+
+#: CF standard names -> Cast variables (netCDF files)
+STANDARD_NAMES = {
+    "sea_water_temperature": "temperature",
+    "sea_water_practical_salinity": "salinity",
+    "sea_water_salinity": "salinity",
+    "sea_water_pressure": "pressure",
+    "sea_water_pressure_due_to_sea_water": "pressure",
+    "depth": "depth",
+    "sea_water_electrical_conductivity": "conductivity",
+    "speed_of_sound_in_sea_water": "measured_sound_speed",
+}
+
+
+def _open_netcdf(path):
+    try:
+        with xr.open_dataset(path, decode_timedelta=False) as f:
+            return f.load()
+    except Exception as exc:  # netCDF4/HDF5 raise many kinds
+        raise InputFileError(path, f"cannot read as netCDF: {exc}") from None
+
+
+def _netcdf_split(ds, path):
+    """Split a netCDF profile file into per-profile ``(samples, instance values)`` dicts."""
+    role = [v for v in ds.variables if ds[v].attrs.get("cf_role") == "profile_id"]
+    count = [v for v in ds.variables if "sample_dimension" in ds[v].attrs]
+    index = [v for v in ds.variables if "instance_dimension" in ds[v].attrs]
+    if count:
+        inst, obs = ds[count[0]].dims[0], ds[count[0]].attrs["sample_dimension"]
+        ends = np.cumsum(np.asarray(ds[count[0]].values, dtype=np.int64))
+        if obs not in ds.dims or ends[-1] != ds.sizes[obs]:
+            raise InputFileError(path, f"row sizes in {count[0]!r} add up to {ends[-1]}, but "
+                                 f"dimension {obs!r} has {ds.sizes.get(obs)} samples",
+                                 column=count[0])
+        select = [slice(int(e - n), int(e)) for e, n in zip(ends, ds[count[0]].values)]
+    elif index:
+        inst, obs = ds[index[0]].attrs["instance_dimension"], ds[index[0]].dims[0]
+        idx = np.asarray(ds[index[0]].values)
+        if inst not in ds.dims:
+            raise InputFileError(path, f"instance dimension {inst!r} not in the file",
+                                 column=index[0])
+        select = [np.flatnonzero(idx == i) for i in range(ds.sizes[inst])]
+    else:
+        inst = ds[role[0]].dims[0] if role and ds[role[0]].ndim == 1 else None
+        two_d = [v for v in ds.data_vars if inst is not None and ds[v].ndim == 2
+                 and inst in ds[v].dims]
+        if two_d:
+            obs = [d for d in ds[two_d[0]].dims if d != inst][0]
+            select = [i for i in range(ds.sizes[inst])]
+        else:
+            data = [v for v in ds.variables if ds[v].ndim == 1 and ds[v].dims[0] != inst
+                    and ds[v].attrs.get("standard_name") in STANDARD_NAMES]
+            if not data:
+                raise InputFileError(path, "no variable with a recognised standard_name ("
+                                     + ", ".join(STANDARD_NAMES) + ")")
+            obs = ds[data[0]].dims[0]
+            inst, select = None, [slice(None)]
+    samples, instances = [], []
+    for i, sel in enumerate(select):
+        s, inst_vals = {}, {}
+        for name, var in ds.variables.items():
+            dims = var.dims
+            if dims == (obs,):
+                s[name] = var.values[sel] if (count or index) else var.values
+            elif set(dims) == {inst, obs}:
+                s[name] = var.transpose(inst, obs).values[i]
+            elif inst is not None and dims == (inst,):
+                inst_vals[name] = var.values[i]
+            elif dims == ():
+                inst_vals[name] = var.values[()]
+        if not (count or index) and inst is not None:  # drop trailing padding
+            rows = [v for k, v in s.items() if set(ds[k].dims) == {inst, obs}
+                    and v.dtype.kind == "f"]
+            keep = np.any(np.isfinite(np.vstack(rows)), axis=0) if rows else None
+            if keep is not None and keep.any():
+                last = int(np.flatnonzero(keep)[-1]) + 1
+                s = {k: v[:last] for k, v in s.items()}
+        samples.append(s)
+        instances.append(inst_vals)
+    return samples, instances, role[0] if role else None
+
+
+def _instance_meta(ds, inst_vals, samples, role):
+    meta = {}
+    for name, value in list(inst_vals.items()) + list(samples.items()):
+        sn = ds[name].attrs.get("standard_name")
+        v = np.asarray(value).ravel()
+        if sn in ("latitude", "longitude", "time") and sn not in meta and v.size:
+            if sn == "time":
+                try:
+                    t = np.asarray(v[0]).astype("datetime64[ns]") if v[0] is not None else None
+                except (TypeError, ValueError):
+                    t = None
+                meta["time"] = None if t is None or np.isnat(t) else t
+            else:
+                meta[sn] = float(v[0])
+    if role is not None:
+        meta["cast_name"] = _text(inst_vals.get(role, ""))
+    return meta
+
+
+def _text(value):
+    v = np.asarray(value).item()
+    return v.decode("utf-8").rstrip("\x00") if isinstance(v, bytes) else str(v)
+
+
+def _own_attrs(inst_vals):
+    text = inst_vals.get("profile_attributes")
+    if text is None:
+        return None
+    return json.loads(_text(text))
+
+
+def _netcdf_raw_casts(path, columns, units):
+    ds = _open_netcdf(path)
+    samples, instances, role = _netcdf_split(ds, path)
+    chosen = {}
+    for name, var in ds.variables.items():
+        if name in columns.values() or "flag_values" in var.attrs or "flag_meanings" in var.attrs:
+            continue
+        sn = var.attrs.get("standard_name")
+        guess = STANDARD_NAMES.get(sn)
+        if guess is None and sn is None and name not in ds.dims:
+            try:
+                g = recognise_column(name, unit_override=var.attrs.get("units"))
+            except SeaprofileError:
+                g = None
+            guess = g.variable if g is not None and not g.is_flag and g.unit else None
+        if guess is None or guess in columns:
+            continue
+        if guess in chosen:
+            raise InputFileError(path, f"variables {chosen[guess]!r} and {name!r} are both "
+                                 f"{guess}; choose one with columns={{'{guess}': ...}}",
+                                 column=name)
+        chosen[guess] = name
+    for var, name in columns.items():
+        if name not in ds.variables:
+            raise InputFileError(path, f"columns: no variable {name!r} for {var}", column=name)
+        chosen[var] = name
+    raws = []
+    for s, inst_vals in zip(samples, instances):
+        own = _own_attrs(inst_vals)
+        if own is not None and own.get("dimension") != "sample":
+            raise InputFileError(path, "holds profiles, not casts; use read_profiles")
+        raw = _Raw({}, file_format="netcdf")
+        meta = {k: v for k, v in ds.attrs.items() if k not in ("featureType",)}
+        meta.update(own["attributes"] if own else {})
+        for var, name in chosen.items():
+            if name not in s or (own is not None and var not in own["variables"]):
+                continue
+            values = np.asarray(s[name], dtype=np.float64)
+            unit_text = units.get(var, ds[name].attrs.get("units"))
+            unit = parse_unit(unit_text) if unit_text is not None else None
+            if unit_text is not None and (unit is None or unit.kind != KIND[var]):
+                raise InputFileError(path, f"units {unit_text!r} of {name!r} are not a "
+                                     f"{KIND[var]} unit", column=name)
+            if unit is not None and not unit.identity:
+                values = values * unit.scale + unit.offset
+                raw.conversions[var] = unit.describe()
+            raw.data[var] = values
+            raw.column_map[var] = name
+            for anc in ds[name].attrs.get("ancillary_variables", "").split():
+                if anc in s and ("flag_values" in ds[anc].attrs or "status_flag"
+                                 in ds[anc].attrs.get("standard_name", "")):
+                    raw.flags[var] = _flag_values(np.asarray(s[anc], np.float64), path, None, anc)
+                    break
+        raw.meta = {k: v for k, v in meta.items() if k not in ("latitude", "longitude")}
+        raw.meta.update(_instance_meta(ds, inst_vals, s, role))
+        inst = str(raw.meta.get("instrument", "")).lower()
+        if "instrument" in raw.meta and inst not in INSTRUMENTS:
+            raw.meta["instrument_description"] = raw.meta.pop("instrument")
+        raws.append(raw)
+    return raws
+
+
+def _netcdf_own_datasets(path):
+    """Datasets written by ``write_netcdf``, rebuilt variable by variable."""
+    ds = _open_netcdf(path)
+    samples, instances, role = _netcdf_split(ds, path)
+    out = []
+    for s, inst_vals in zip(samples, instances):
+        own = _own_attrs(inst_vals)
+        if own is None:
+            raise InputFileError(path, "not written by seaprofile (no profile_attributes)")
+        dim = own["dimension"]
+        meta = _instance_meta(ds, inst_vals, s, role)
+        t = meta.get("time")
+        coords = {
+            "latitude": ((), meta.get("latitude", np.nan), _cf.attrs_for("latitude")),
+            "longitude": ((), meta.get("longitude", np.nan), _cf.attrs_for("longitude")),
+            "time": ((), np.datetime64("NaT", "ns") if t is None else t, _cf.attrs_for("time")),
+            "profile_id": ((), meta.get("cast_name", ""), dict(ds[role].attrs)),
+        }
+        data = {}
+        for name in own["variables"]:
+            attrs = {k: v for k, v in ds[name].attrs.items() if k != "coordinates"}
+            values = np.asarray(s[name]).astype(ds[name].dtype)
+            if name == dim:
+                coords[name] = (dim, values, attrs)
+            else:
+                data[name] = (dim, values, attrs)
+        out.append(xr.Dataset(data, coords=coords, attrs=own["attributes"]))
+    return out
+

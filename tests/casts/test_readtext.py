@@ -1,0 +1,106 @@
+"""The one-call numeric parse of text casts gives exactly what the careful path gives.
+
+Every table is parsed twice: as the reader does it (the one-call parse when the block is
+plain) and with the one-call parse switched off (cell by cell). Values, line numbers and
+errors (message, line, column) must agree.
+"""
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from seaprofile import InputFileError
+from seaprofile.casts import _readtext
+from seaprofile.casts.read import read_cast
+
+
+def _both(path, delimiter=None, header=True):
+    """(fast, careful) outcomes: per-column values and line numbers, or the error raised."""
+    out = []
+    for careful in (False, True):
+        original = _readtext._plain_numbers
+        if careful:
+            _readtext._plain_numbers = lambda *a: None
+        try:
+            t = _readtext._parse_text(path, delimiter, header)
+            result = ([t.numbers(j) for j in range(len(t.headers))], t.lines.tolist(),
+                      t.plain is not None)
+        except InputFileError as exc:
+            result = (str(exc), exc.line, exc.column)
+        finally:
+            _readtext._plain_numbers = original
+        out.append(result)
+    return out
+
+
+def _same(fast, careful):
+    if isinstance(fast[0], str) or isinstance(careful[0], str):
+        assert fast == careful
+        return
+    assert fast[1] == careful[1]
+    assert not careful[2]
+    for a, b in zip(fast[0], careful[0]):
+        np.testing.assert_array_equal(a, b)
+
+
+NUMBER = st.floats(-1e6, 1e6, allow_nan=False, allow_infinity=False)
+CELL = st.one_of(
+    NUMBER.map(repr),
+    NUMBER.map(lambda x: f"{x:.4f}"),
+    NUMBER.map(lambda x: f"{x:.3e}"),
+    st.integers(-99999, 99999).map(str),
+    st.sampled_from(["nan", "NaN", "-nan", "NA", "", "-", "inf", "1e", "abc", " 2.5 ",
+                     "+.5", "5.", "1_0"]),
+)
+
+
+@settings(max_examples=80, deadline=None)
+@given(rows=st.lists(st.lists(CELL, min_size=3, max_size=3), min_size=1, max_size=12),
+       plain=st.booleans(), sep=st.sampled_from([",", ";", "\t", " "]),
+       extra=st.sampled_from(["", "\n", "\n\n", "\n# comment\n"]))
+def test_fast_and_careful_paths_agree(tmp_path_factory, rows, plain, sep, extra):
+    if plain:  # mostly plain numbers, so the one-call parse is exercised
+        rows = [[c if c.strip() and c.strip()[0] in "+-.0123456789" and c.strip() not in
+                 ("-", "-nan", "1e", "1_0") else "1.5" for c in r] for r in rows]
+    if sep == " ":
+        rows = [[c.strip() or "0" for c in r] for r in rows]
+    body = "\n".join(sep.join(r) for r in rows)
+    k = len(rows) // 2
+    lines = body.split("\n")
+    if extra:  # a blank or comment line between rows
+        lines.insert(k, extra.strip("\n"))
+    text = "# cast_name: t\n" + sep.join(["pres", "temp", "sal"]) + "\n" + "\n".join(lines)
+    path = tmp_path_factory.mktemp("t") / "c.csv"
+    path.write_text(text + "\n", encoding="utf-8")
+    fast, careful = _both(path)
+    _same(fast, careful)
+
+
+def test_plain_block_takes_the_fast_path(tmp_path):
+    p = tmp_path / "c.csv"
+    p.write_text("# latitude: 10\npres,temp,sal\n1,10.5,35\n2,10.25,35.1\n\n\n")
+    t = _readtext._parse_text(p, None)
+    assert t.plain is not None and t.lines.tolist() == [3, 4]
+    np.testing.assert_array_equal(t.numbers(1), [10.5, 10.25])
+
+
+@pytest.mark.parametrize("text,line,column", [
+    ("pres,temp,sal\n1,2,3\n2,-nan,3\n", 3, "2 (temp)"),  # parses, but is not a missing word
+    ("pres,temp,sal\n1,2,3\n2,3\n", 3, 3),  # ragged
+    ("pres,temp,sal\n1,2,3\n\n# note\n2,x,3\n", 5, "2 (temp)"),
+])
+def test_errors_keep_line_and_column(tmp_path, text, line, column):
+    p = tmp_path / "c.csv"
+    p.write_text(text)
+    with pytest.raises(InputFileError) as info:
+        read_cast(p)
+    assert info.value.line == line and f"column {column}" in str(info.value)
+
+
+def test_missing_words_in_a_plain_block(tmp_path):
+    p = tmp_path / "c.csv"
+    p.write_text("pres,temp,sal\n1,nan,35\n2,NaN,35\n3,11,35\n")
+    cast = read_cast(p)
+    assert np.isnan(cast["temperature"].values[:2]).all()
+    assert cast["temperature_qc"].values.tolist() == [9, 9, 0]
