@@ -15,6 +15,7 @@ import xarray as xr
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
 from .._validate import is_lazy, warn_outside
+from ..seawater._apply import run_loop
 
 __all__ = [
     "FALL_RATES",
@@ -47,11 +48,22 @@ DEFAULT_FALL_RATE = "hanawa1995_t7"
 DEFAULT_SALINITY = 35.0
 
 
-@numba.vectorize(["float64(float64, float64, float64)"], cache=True)
+@numba.njit(cache=True, nogil=True, error_model="numpy")
 def _fall_depth_kernel(t, a, b):
     if t < 0.0:
         return np.nan
     return a * t - b * t * t
+
+
+@numba.njit(cache=True, nogil=True, error_model="numpy")
+def _fall_depth_loop(t, a, b, out):
+    for i in range(out.size):
+        out[i] = _fall_depth_kernel(t[i], a, b)
+
+
+def _fall_depth(t, a, b):
+    """Compiled on first use (not at import); ``t`` float64 numpy, ``a``, ``b`` floats."""
+    return run_loop(_fall_depth_loop, (t,), extra=(float(a), float(b)))
 
 
 def resolve_fall_rate(fall_rate=DEFAULT_FALL_RATE):
@@ -117,7 +129,7 @@ def depth_from_elapsed_time(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
                      context=f"the fall-rate equation {name} (negative times give NaN)")
     elif t.size and np.nanmin(t, initial=0.0) < 0:
         warn_outside("elapsed_time", t, 0.0, np.inf, unit="s", context=name)
-    return _fall_depth_kernel(t, a, b)
+    return _fall_depth(t, a, b)
 
 
 def fall_depth(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
@@ -128,7 +140,7 @@ def fall_depth(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
     if not is_lazy(elapsed_time):
         depth_from_elapsed_time(elapsed_time.values[:0], fall_rate)  # validation only
     out = xr.apply_ufunc(
-        _fall_depth_kernel, elapsed_time, a, b, dask="parallelized", output_dtypes=[np.float64]
+        _fall_depth, elapsed_time, a, b, dask="parallelized", output_dtypes=[np.float64]
     )
     return out.rename("depth").assign_attrs(
         _cf.attrs_for("depth", comment=f"from elapsed time with fall rate {name}: {ref}")

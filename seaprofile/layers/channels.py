@@ -8,7 +8,6 @@ speed in m/s; NaN values are skipped.
 from __future__ import annotations
 
 import numpy as np
-from scipy.signal import find_peaks
 
 from .._validate import as_float_array
 from ._common import _scalar, _valid_1d
@@ -70,6 +69,8 @@ def sound_channels(depth, sound_speed, *, below=None, min_contrast=1.0, min_thic
     if 0 < i < z.size - 1 and contrast >= min_contrast:
         axis = i
         out.update(axis_depth=float(z[i]), axis_speed=float(c[i]), axis_contrast=float(contrast))
+    from scipy.signal import find_peaks  # here, not at import: scipy.signal is slow to load
+
     peaks, props = find_peaks(-c, prominence=min_contrast, width=0, rel_height=1.0)
     if peaks.size:
         idx = np.arange(z.size, dtype=float)

@@ -3,6 +3,11 @@
 Plain float64 in, float64 out, no checks: the public functions and their citations are in
 :mod:`seaprofile.seawater.depth`. Sea pressure in dbar, depth in m positive down, latitude
 in degrees north.
+
+Each ``_<name>_kernel`` is a scalar ``@numba.njit(cache=True)`` function of one point and
+``_<name>_loop`` runs it over flat contiguous arrays (called through
+:func:`._apply.run_loop`). All compile lazily, on first use, and load from numba's on-disk
+cache afterwards; nothing is compiled when the package is imported.
 """
 
 from __future__ import annotations
@@ -10,30 +15,34 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+# error_model="numpy": division by zero gives inf/NaN as in numpy, never an exception;
+# nogil: the loops release the GIL, as numpy ufunc loops do (dask threads run in parallel)
+_JIT = {"cache": True, "nogil": True, "error_model": "numpy"}
+
 _DEG = np.pi / 180.0
 _NEWTON_STEPS = 4  # from a first guess good to ~1 m, 2 steps already reach < 1e-9 m
 
 
-@numba.njit(cache=True)
+@numba.njit(**_JIT)
 def _saunders_c1(lat):
     s = np.sin(lat * _DEG)
     return (5.92 + 5.25 * s * s) * 1e-3
 
 
-@numba.vectorize(["float64(float64, float64)"], cache=True)
+@numba.njit(**_JIT)
 def _saunders_depth_kernel(p, lat):
     c1 = _saunders_c1(lat)
     return (1.0 - c1) * p - 2.21e-6 * p * p
 
 
-@numba.vectorize(["float64(float64, float64)"], cache=True)
+@numba.njit(**_JIT)
 def _saunders_pressure_kernel(z, lat):
     # root of 2.21e-6 p^2 - (1 - c1) p + z = 0 near p = z, in the cancellation-free form
     a = 1.0 - _saunders_c1(lat)
     return 2.0 * z / (a + np.sqrt(a * a - 4.0 * 2.21e-6 * z))
 
 
-@numba.njit(cache=True)
+@numba.njit(**_JIT)
 def _unesco_parts(p, lat):
     """UNESCO 1983 depth and d(depth)/d(pressure) at pressure p (dbar)."""
     s = np.sin(lat / 57.29578)
@@ -44,12 +53,12 @@ def _unesco_parts(p, lat):
     return num / gr, (dnum * gr - num * 1.092e-6) / (gr * gr)
 
 
-@numba.vectorize(["float64(float64, float64)"], cache=True)
+@numba.njit(**_JIT)
 def _unesco_depth_kernel(p, lat):
     return _unesco_parts(p, lat)[0]
 
 
-@numba.vectorize(["float64(float64, float64)"], cache=True)
+@numba.njit(**_JIT)
 def _unesco_pressure_kernel(z, lat):
     p = _saunders_pressure_kernel(z, lat)  # first guess, within ~1 m
     for _ in range(_NEWTON_STEPS):
@@ -58,7 +67,7 @@ def _unesco_pressure_kernel(z, lat):
     return p
 
 
-@numba.njit(cache=True)
+@numba.njit(**_JIT)
 def _leroy_parts(z, lat, common_ocean):
     """Leroy & Parthiot (1998) pressure (dbar) and d(pressure)/d(depth) at depth z (m)."""
     s = np.sin(lat * _DEG)
@@ -76,15 +85,54 @@ def _leroy_parts(z, lat, common_ocean):
     return 100.0 * pr, 100.0 * dpr  # MPa -> dbar
 
 
-@numba.vectorize(["float64(float64, float64, boolean)"], cache=True)
+@numba.njit(**_JIT)
 def _leroy_pressure_kernel(z, lat, common_ocean):
     return _leroy_parts(z, lat, common_ocean)[0]
 
 
-@numba.vectorize(["float64(float64, float64, boolean)"], cache=True)
+@numba.njit(**_JIT)
 def _leroy_depth_kernel(p, lat, common_ocean):
     z = _saunders_depth_kernel(p, lat)  # first guess, within a few m
     for _ in range(_NEWTON_STEPS):
         f, df = _leroy_parts(z, lat, common_ocean)
         z -= (f - p) / df
     return z
+
+
+# --- loops over flat arrays: one per public kernel ------------------------------------
+
+
+@numba.njit(**_JIT)
+def _saunders_depth_loop(p, lat, out):
+    for i in range(out.size):
+        out[i] = _saunders_depth_kernel(p[i], lat[i])
+
+
+@numba.njit(**_JIT)
+def _saunders_pressure_loop(z, lat, out):
+    for i in range(out.size):
+        out[i] = _saunders_pressure_kernel(z[i], lat[i])
+
+
+@numba.njit(**_JIT)
+def _unesco_depth_loop(p, lat, out):
+    for i in range(out.size):
+        out[i] = _unesco_depth_kernel(p[i], lat[i])
+
+
+@numba.njit(**_JIT)
+def _unesco_pressure_loop(z, lat, out):
+    for i in range(out.size):
+        out[i] = _unesco_pressure_kernel(z[i], lat[i])
+
+
+@numba.njit(**_JIT)
+def _leroy_pressure_loop(z, lat, common_ocean, out):
+    for i in range(out.size):
+        out[i] = _leroy_pressure_kernel(z[i], lat[i], common_ocean)
+
+
+@numba.njit(**_JIT)
+def _leroy_depth_loop(p, lat, common_ocean, out):
+    for i in range(out.size):
+        out[i] = _leroy_depth_kernel(p[i], lat[i], common_ocean)

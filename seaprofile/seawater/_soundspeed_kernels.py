@@ -1,8 +1,11 @@
 """The sound-speed equations: compiled kernels and one documented function per equation.
 
-Each ``_<name>_kernel`` is a numpy ufunc made by ``numba.vectorize`` with an explicit
-float64 signature, so it broadcasts, propagates NaN and makes no temporaries. Inputs are in
-the project units (ITS-90 degC, practical salinity, sea pressure dbar or depth m, latitude
+Each ``_<name>_kernel`` is a scalar ``@numba.njit(cache=True)`` function of one point and
+``_<name>_loop`` runs it over flat contiguous arrays; the public function broadcasts its
+inputs and calls the loop through :func:`._apply.run_loop`, so NaN in gives NaN out and no
+temporaries are made. Both compile lazily, on first use, and load from numba's on-disk
+cache afterwards: nothing is compiled when the package is imported. Inputs are in the
+project units (ITS-90 degC, practical salinity, sea pressure dbar or depth m, latitude
 degrees); each kernel converts to the variables its source uses (IPTS-68, bar, kg/cm^2, km).
 
 Next to each kernel sits its public function (``mackenzie1981``, ``chen_millero1977``, ...):
@@ -20,8 +23,11 @@ import gsw
 import numba
 import numpy as np
 
-_SIG3 = ["float64(float64, float64, float64)"]
-_SIG4 = ["float64(float64, float64, float64, float64)"]
+from ._apply import run_loop
+
+# error_model="numpy": division by zero gives inf/NaN as in numpy, never an exception;
+# nogil: the loops release the GIL, as numpy ufunc loops do (dask threads run in parallel)
+_JIT = {"cache": True, "nogil": True, "error_model": "numpy"}
 
 # IPTS-68 from ITS-90 in the oceanographic range (Saunders 1990): T68 = 1.00024 T90.
 _T68_PER_T90 = 1.00024
@@ -30,7 +36,7 @@ _T68_PER_T90 = 1.00024
 _DBAR_PER_KGCM2 = 9.80665
 
 
-@numba.vectorize(_SIG3, cache=True)
+@numba.njit(**_JIT)
 def _mackenzie1981_kernel(t, s, d):
     """Mackenzie (1981), JASA 70(3), 807: T degC, S, depth m."""
     s35 = s - 35.0
@@ -43,6 +49,12 @@ def _mackenzie1981_kernel(t, s, d):
         - 7.139e-13 * t * d * d * d
     )
 
+
+
+@numba.njit(**_JIT)
+def _mackenzie1981_loop(a, b, c, out):
+    for i in range(out.size):
+        out[i] = _mackenzie1981_kernel(a[i], b[i], c[i])
 
 def mackenzie1981(temperature, salinity, depth):
     """Sound speed, Mackenzie (1981) nine-term equation.
@@ -76,10 +88,10 @@ def mackenzie1981(temperature, salinity, depth):
     0.1-0.4 m/s at low latitudes and up to 0.9 m/s in near-freezing water at 70 degrees
     (depths from UNESCO 1983); prefer a pressure-based equation or ``leroy2008`` there.
     """
-    return _mackenzie1981_kernel(temperature, salinity, depth)
+    return run_loop(_mackenzie1981_loop, (temperature, salinity, depth))
 
 
-@numba.vectorize(_SIG3, cache=True)
+@numba.njit(**_JIT)
 def _chen_millero1977_kernel(t90, s, p_dbar):
     """Chen & Millero (1977) as UNESCO 1983 (Fofonoff & Millard): T68 degC, S, p bar."""
     t = _T68_PER_T90 * t90
@@ -103,6 +115,12 @@ def _chen_millero1977_kernel(t90, s, p_dbar):
     dd = 1.727e-3 - 7.9836e-6 * p
     return c + (a + b * sr + dd * s) * s
 
+
+
+@numba.njit(**_JIT)
+def _chen_millero1977_loop(a, b, c, out):
+    for i in range(out.size):
+        out[i] = _chen_millero1977_kernel(a[i], b[i], c[i])
 
 def chen_millero1977(temperature, salinity, pressure):
     """Sound speed, Chen & Millero (1977) as the UNESCO 1983 algorithm.
@@ -137,10 +155,10 @@ def chen_millero1977(temperature, salinity, pressure):
     at S 40, T68 40 degC, 10000 dbar. The UNESCO code takes ``sqrt(|S|)``; here a negative
     salinity (not a salinity at all) gives NaN instead.
     """
-    return _chen_millero1977_kernel(temperature, salinity, pressure)
+    return run_loop(_chen_millero1977_loop, (temperature, salinity, pressure))
 
 
-@numba.vectorize(_SIG3, cache=True)
+@numba.njit(**_JIT)
 def _wong_zhu1995_kernel(t, s, p_dbar):
     """Wong & Zhu (1995), JASA 97(3), 1732: ITS-90 refit; T90 degC, S, p bar."""
     p = 0.1 * p_dbar
@@ -160,6 +178,12 @@ def _wong_zhu1995_kernel(t, s, p_dbar):
     dd = 1.727e-3 - 7.9836e-6 * p
     return c + (a + b * sr + dd * s) * s
 
+
+
+@numba.njit(**_JIT)
+def _wong_zhu1995_loop(a, b, c, out):
+    for i in range(out.size):
+        out[i] = _wong_zhu1995_kernel(a[i], b[i], c[i])
 
 def wong_zhu1995(temperature, salinity, pressure):
     """Sound speed, Wong & Zhu (1995) ITS-90 refit of Chen & Millero (1977).
@@ -187,10 +211,10 @@ def wong_zhu1995(temperature, salinity, pressure):
     2.006e-6); the two sets must not be mixed. Validity as Chen & Millero: T 0..40 degC,
     S 0..40, 0..1000 bar. Negative salinity gives NaN.
     """
-    return _wong_zhu1995_kernel(temperature, salinity, pressure)
+    return run_loop(_wong_zhu1995_loop, (temperature, salinity, pressure))
 
 
-@numba.vectorize(_SIG3, cache=True)
+@numba.njit(**_JIT)
 def _del_grosso1974_kernel(t90, s, p_dbar):
     """Del Grosso (1974), JASA 56(4), 1084, original IPTS-68 set; p in kg/cm^2 gauge."""
     t = _T68_PER_T90 * t90
@@ -207,6 +231,12 @@ def _del_grosso1974_kernel(t90, s, p_dbar):
     )
     return 1402.392 + d_t + d_s + d_p + d_stp
 
+
+
+@numba.njit(**_JIT)
+def _del_grosso1974_loop(a, b, c, out):
+    for i in range(out.size):
+        out[i] = _del_grosso1974_kernel(a[i], b[i], c[i])
 
 def del_grosso1974(temperature, salinity, pressure):
     """Sound speed, Del Grosso (1974), original coefficient set.
@@ -239,10 +269,10 @@ def del_grosso1974(temperature, salinity, pressure):
 
     Validity: T 0..30 degC, S 30..40, 0..1000 kg/cm^2 (0..9806.65 dbar).
     """
-    return _del_grosso1974_kernel(temperature, salinity, pressure)
+    return run_loop(_del_grosso1974_loop, (temperature, salinity, pressure))
 
 
-@numba.vectorize(_SIG3, cache=True)
+@numba.njit(**_JIT)
 def _coppens1981_kernel(temp, s, d_m):
     """Coppens (1981), JASA 69(3), 862: t = T/10, depth km."""
     t = 0.1 * temp
@@ -258,6 +288,12 @@ def _coppens1981_kernel(temp, s, d_m):
         + (0.016 + 0.0002 * s35) * s35 * t * d
     )
 
+
+
+@numba.njit(**_JIT)
+def _coppens1981_loop(a, b, c, out):
+    for i in range(out.size):
+        out[i] = _coppens1981_kernel(a[i], b[i], c[i])
 
 def coppens1981(temperature, salinity, depth):
     """Sound speed, Coppens (1981).
@@ -287,10 +323,10 @@ def coppens1981(temperature, salinity, depth):
 
     Validity: T 0..35 degC, S 0..45, D 0..4 km.
     """
-    return _coppens1981_kernel(temperature, salinity, depth)
+    return run_loop(_coppens1981_loop, (temperature, salinity, depth))
 
 
-@numba.vectorize(_SIG3, cache=True)
+@numba.njit(**_JIT)
 def _medwin1975_kernel(t, s, z):
     """Medwin (1975), JASA 58, 1318: T degC, S, depth m."""
     return (
@@ -300,6 +336,12 @@ def _medwin1975_kernel(t, s, z):
         + 0.016 * z
     )
 
+
+
+@numba.njit(**_JIT)
+def _medwin1975_loop(a, b, c, out):
+    for i in range(out.size):
+        out[i] = _medwin1975_kernel(a[i], b[i], c[i])
 
 def medwin1975(temperature, salinity, depth):
     """Sound speed, Medwin (1975) simple equation.
@@ -327,10 +369,10 @@ def medwin1975(temperature, salinity, depth):
 
     Validity: T 0..35 degC, S 0..45, z 0..1000 m.
     """
-    return _medwin1975_kernel(temperature, salinity, depth)
+    return run_loop(_medwin1975_loop, (temperature, salinity, depth))
 
 
-@numba.vectorize(_SIG4, cache=True)
+@numba.njit(**_JIT)
 def _leroy2008_kernel(t, s, z, lat):
     """Leroy, Robinson & Goldsmith (2008), JASA 124(5), 2774: T90, S, depth m, latitude."""
     z3 = z * z * z
@@ -346,6 +388,12 @@ def _leroy2008_kernel(t, s, z, lat):
         + 1.43e-5 * s * z
     )
 
+
+
+@numba.njit(**_JIT)
+def _leroy2008_loop(a, b, c, d, out):
+    for i in range(out.size):
+        out[i] = _leroy2008_kernel(a[i], b[i], c[i], d[i])
 
 def leroy2008(temperature, salinity, depth, latitude):
     """Sound speed, Leroy, Robinson & Goldsmith (2008).
@@ -381,7 +429,7 @@ def leroy2008(temperature, salinity, depth, latitude):
     S 0..42, 0..12000 m) is our choice to cover the waters the paper names, not a range
     quoted from it.
     """
-    return _leroy2008_kernel(temperature, salinity, depth, latitude)
+    return run_loop(_leroy2008_loop, (temperature, salinity, depth, latitude))
 
 
 def teos10(temperature, salinity, pressure, latitude=None, longitude=None):
@@ -460,10 +508,24 @@ def _value_range(flat):
     return min(min(lo0, lo1), min(lo2, lo3)), max(max(hi0, hi1), max(hi2, hi3))
 
 
-@numba.vectorize(["boolean(float64, float64, float64, float64, float64, float64, float64, "
-                  "float64, float64)"], cache=True)
+@numba.njit(**_JIT)
 def _in_box_kernel(t, s, v, t_lo, t_hi, s_lo, s_hi, v_lo, v_hi):
     """True where (t, s, v) lies inside the closed box; NaN gives False."""
     if t != t or s != s or v != v:  # NaN: quiet test first, no "invalid" FP warning
         return False
     return t_lo <= t <= t_hi and s_lo <= s <= s_hi and v_lo <= v <= v_hi
+
+
+@numba.njit(**_JIT)
+def _in_box_loop(t, s, v, t_lo, t_hi, s_lo, s_hi, v_lo, v_hi, out):
+    for i in range(out.size):
+        out[i] = _in_box_kernel(t[i], s[i], v[i], t_lo, t_hi, s_lo, s_hi, v_lo, v_hi)
+
+
+def in_box(temperature, salinity, vertical, box):
+    """True where the point lies in ``box = (t_lo, t_hi, s_lo, s_hi, v_lo, v_hi)``.
+
+    Broadcasts like a ufunc and accepts numpy, dask and xarray inputs; NaN gives False.
+    """
+    return run_loop(_in_box_loop, (temperature, salinity, vertical),
+                    extra=tuple(float(x) for x in box), dtype=np.bool_)

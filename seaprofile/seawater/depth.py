@@ -22,13 +22,14 @@ import numpy as np
 from .. import _cf
 from .._validate import SeaprofileError
 from ._apply import apply_pointwise, check_latitude  # noqa: F401  (re-exported)
+from ._apply import run_loop
 from ._depth_kernels import (
-    _leroy_depth_kernel,
-    _leroy_pressure_kernel,
-    _saunders_depth_kernel,
-    _saunders_pressure_kernel,
-    _unesco_depth_kernel,
-    _unesco_pressure_kernel,
+    _leroy_depth_loop,
+    _leroy_pressure_loop,
+    _saunders_depth_loop,
+    _saunders_pressure_loop,
+    _unesco_depth_loop,
+    _unesco_pressure_loop,
 )
 
 __all__ = [
@@ -80,7 +81,7 @@ def unesco1983_depth(pressure, latitude):
     the true depth differ from the standard-ocean depth by up to about 0.1 % (geopotential
     anomaly ignored). Valid 0..10000 dbar.
     """
-    return _unesco_depth_kernel(_arr(pressure), _arr(latitude))
+    return run_loop(_unesco_depth_loop, (_arr(pressure), _arr(latitude)))
 
 
 def unesco1983_pressure(depth, latitude):
@@ -103,7 +104,7 @@ def unesco1983_pressure(depth, latitude):
     Newton iteration (4 steps from the Saunders 1981 closed form, itself within ~1 m) on the
     Fofonoff & Millard (1983) polynomial; the round trip is exact to far below 1 mm.
     """
-    return _unesco_pressure_kernel(_arr(depth), _arr(latitude))
+    return run_loop(_unesco_pressure_loop, (_arr(depth), _arr(latitude)))
 
 
 def leroy_parthiot1998_depth(pressure, latitude, correction=None):
@@ -130,7 +131,7 @@ def leroy_parthiot1998_depth(pressure, latitude, correction=None):
     depth; the round trip is exact to far below 1 mm.
     """
     corr = _leroy_correction(correction)
-    return _leroy_depth_kernel(_arr(pressure), _arr(latitude), corr)
+    return run_loop(_leroy_depth_loop, (_arr(pressure), _arr(latitude)), extra=(corr,))
 
 
 def leroy_parthiot1998_pressure(depth, latitude, correction=None):
@@ -176,7 +177,7 @@ def leroy_parthiot1998_pressure(depth, latitude, correction=None):
     at ``Z = -100`` m; only small negative depths are meaningful.
     """
     corr = _leroy_correction(correction)
-    return _leroy_pressure_kernel(_arr(depth), _arr(latitude), corr)
+    return run_loop(_leroy_pressure_loop, (_arr(depth), _arr(latitude)), extra=(corr,))
 
 
 def saunders1981_depth(pressure, latitude):
@@ -204,7 +205,7 @@ def saunders1981_depth(pressure, latitude):
     Stated to agree with the full (standard-ocean) integration within about 1 m down to
     5000 dbar; it drifts further in the trenches.
     """
-    return _saunders_depth_kernel(_arr(pressure), _arr(latitude))
+    return run_loop(_saunders_depth_loop, (_arr(pressure), _arr(latitude)))
 
 
 def saunders1981_pressure(depth, latitude):
@@ -227,7 +228,7 @@ def saunders1981_pressure(depth, latitude):
     The small root of ``c2 p^2 - (1 - c1) p + z = 0`` written as
     ``p = 2 z / ((1 - c1) + sqrt((1 - c1)^2 - 4 c2 z))`` (no cancellation near the surface).
     """
-    return _saunders_pressure_kernel(_arr(depth), _arr(latitude))
+    return run_loop(_saunders_pressure_loop, (_arr(depth), _arr(latitude)))
 
 
 def teos10_depth(pressure, latitude):

@@ -254,8 +254,8 @@ def validity_mask(temperature, salinity, pressure=None, *, depth=None, latitude=
         named = {name: as_float_array(name, v) for name, v in named.items()}
         _broadcast_shape(named)
     v = _convert(named[kind], kind, eq.needs, named.get("latitude"))
-    return _k._in_box_kernel(named["temperature"], named["salinity"], v,
-                             *eq.temperature_range, *eq.salinity_range, *eq.vertical_range)
+    return _k.in_box(named["temperature"], named["salinity"], v,
+                     (*eq.temperature_range, *eq.salinity_range, *eq.vertical_range))
 
 
 # --- helpers -------------------------------------------------------------------------------
