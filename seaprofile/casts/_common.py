@@ -77,8 +77,8 @@ def exceeds_earlier(q):
 def with_variable(ds, dim, name, values, flags, **extra):
     """A copy of ``ds`` with variable ``name`` (CF attributes, ``extra`` added to them) and
     its flags ``<name>_qc`` along ``dim``."""
-    out = ds.copy()
-    out[name] = ((dim,), np.asarray(values, np.float64),
-                 _cf.attrs_for(name, ancillary_variables=f"{name}_qc", **extra))
-    out[f"{name}_qc"] = ((dim,), np.asarray(flags, np.int8), _cf.flag_attrs(name))
-    return out
+    return ds.assign({
+        name: ((dim,), np.asarray(values, np.float64),
+               _cf.attrs_for(name, ancillary_variables=f"{name}_qc", **extra)),
+        f"{name}_qc": ((dim,), np.asarray(flags, np.int8), _cf.flag_attrs(name)),
+    })
