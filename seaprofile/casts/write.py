@@ -42,7 +42,7 @@ from .. import _cf
 from .._validate import SeaprofileError
 from .columns import DISPLAY_UNIT, KIND
 
-__all__ = ["write", "write_netcdf", "write_csv", "write_json", "write_speed_table",
+__all__ = ["atomic_write", "write", "write_netcdf", "write_csv", "write_json", "write_speed_table",
            "dataset_to_dict", "dataset_from_dict", "FORMATS"]
 
 FORMATS = {"netcdf": (".nc", ".nc4", ".netcdf", ".cdf"), "csv": (".csv", ".txt", ".tsv"),
@@ -82,8 +82,12 @@ def write(ds, path, format=None, *, overwrite=False):
     return writers[format](ds, path, overwrite=overwrite)
 
 
-def _atomic(path, overwrite, fill):
-    """Write through ``fill(tmp_path)`` to a temporary name, then rename into place."""
+def atomic_write(path, overwrite, fill):
+    """Write through ``fill(tmp_path)`` to a temporary name, then rename into place.
+
+    The temporary file sits in the target directory (so the rename is atomic); an existing
+    ``path`` is kept unless ``overwrite``; on any failure nothing is left behind.
+    """
     path = Path(path)
     if path.exists() and not overwrite:
         raise SeaprofileError(f"{path}: exists; pass overwrite=True (--overwrite) to replace it")
@@ -189,7 +193,7 @@ def write_netcdf(ds, path, *, overwrite=False):
             for v, values in pending:
                 v[:] = values
 
-    return _atomic(path, overwrite, fill)
+    return atomic_write(path, overwrite, fill)
 
 
 def _char_variable(nc, name, texts, attrs):
@@ -317,7 +321,7 @@ def write_csv(ds, path, *, overwrite=False):
     def fill(tmp):
         Path(tmp).write_text(text, encoding="utf-8")
 
-    return _atomic(path, overwrite, fill)
+    return atomic_write(path, overwrite, fill)
 
 
 # --- JSON ------------------------------------------------------------------------------
@@ -392,7 +396,7 @@ def write_json(ds, path, *, overwrite=False):
     def fill(tmp):
         Path(tmp).write_text(text + "\n", encoding="utf-8")
 
-    return _atomic(path, overwrite, fill)
+    return atomic_write(path, overwrite, fill)
 
 
 # --- speed table -----------------------------------------------------------------------
@@ -433,4 +437,4 @@ def write_speed_table(profile, path, *, overwrite=False):
     def fill(tmp):
         Path(tmp).write_text(text, encoding="utf-8")
 
-    return _atomic(path, overwrite, fill)
+    return atomic_write(path, overwrite, fill)
