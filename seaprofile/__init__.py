@@ -7,6 +7,12 @@ local regulations and licensed practice.
 from ._version import __version__
 from ._validate import InputFileError, OutsideValidityWarning, SeaprofileError
 from .seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
+from .seawater.depth import depth_from_pressure, pressure_from_depth
+from .casts.read import read_cast, read_casts, read_profile, read_profiles
+from .casts.write import write
+from .profile import build_profile, compare_profiles, extend_to
+from .layers import describe
+from .propagation import Environment, Section, eigenrays, trace_fan
 
 __all__ = [
     "__version__",
@@ -16,4 +22,19 @@ __all__ = [
     "EQUATIONS",
     "sound_speed",
     "validity_mask",
+    "depth_from_pressure",
+    "pressure_from_depth",
+    "read_cast",
+    "read_casts",
+    "read_profile",
+    "read_profiles",
+    "write",
+    "build_profile",
+    "compare_profiles",
+    "extend_to",
+    "describe",
+    "Environment",
+    "Section",
+    "eigenrays",
+    "trace_fan",
 ]

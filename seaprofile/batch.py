@@ -148,7 +148,6 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
 
 def _with_dask(paths, args, scheduler):
     try:
-        import dask
         import dask.bag as db
     except ImportError as exc:  # pragma: no cover - depends on the installed extras
         raise SeaprofileError("scheduler: dask is not installed (pip install 'seaprofile[scale]')") from exc

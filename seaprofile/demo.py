@@ -15,14 +15,17 @@ import numpy as np
 
 from ._validate import SeaprofileError
 from .batch import build_files, summary_row
-from .casts.write import write
+from .casts.write import atomic_write, write
 
 __all__ = ["DemoReport", "find_demo_casts", "run_demo"]
 
-#: casts drawn as figures (file stem -> ray-fan settings: source depth m, angles deg, range m)
+#: casts drawn as figures (file stem -> ray-fan settings: source depth m, angles deg
+#: (first, last, count), range m, ray shading)
 FIGURE_CASTS = {
-    "deep_ocean_ctd": dict(source_depth=100.0, angles=(-12.0, 12.0, 49), max_range=100e3),
-    "shelf_summer_ctd": dict(source_depth=20.0, angles=(-6.0, 6.0, 49), max_range=8e3),
+    "deep_ocean_ctd": dict(source_depth=100.0, angles=(-12.0, 12.0, 49), max_range=100e3,
+                           shade="launch_angle"),
+    "shelf_summer_ctd": dict(source_depth=20.0, angles=(-3.0, 3.0, 25), max_range=6e3,
+                             shade="reflections"),
 }
 
 
@@ -116,7 +119,7 @@ def _figures(results, fig_dir):
     return written
 
 
-def _fan_figure(result, source_depth, angles, max_range):
+def _fan_figure(result, source_depth, angles, max_range, shade):
     try:
         from .plots.rays import plot_fan
         from .propagation import Environment, trace_fan
@@ -125,11 +128,9 @@ def _fan_figure(result, source_depth, angles, max_range):
     bottom = result.diagnostics.get("bottom_depth") or float(result.profile["depth"].max())
     env = Environment.from_profile(result.profile, bottom_depth=bottom, thin_tolerance=0.05)
     fan = trace_fan(env, source_depth, np.linspace(*angles), max_range)
-    return plot_fan(fan, env, profile=result.profile)
+    return plot_fan(fan, env, profile=result.profile, shade=shade)
 
 
 def _save(fig, path):
-    tmp = path.with_name(f".{path.name}.tmp.png")
-    fig.savefig(tmp, dpi=110)
-    tmp.replace(path)
+    atomic_write(path, True, lambda tmp: fig.savefig(tmp, format="png", dpi=110))
     return str(path)
