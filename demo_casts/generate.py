@@ -290,7 +290,7 @@ def messy_deep(out):
     """Defects below 500 dbar, where the spike thresholds are smaller."""
     rng = np.random.default_rng(3108)
     lat, lon = 41.95000, -15.01000
-    z = ctd_path(rng, 1500.0, soak_depth=10.0, soak_s=60, speed=0.9, heave=0.9, period=8.0)
+    z = ctd_path(rng, 1500.0, soak_depth=10.0, soak_s=60, speed=0.9, heave=1.6, period=8.0)
     p, t, s = ctd_record(rng, deep_basin, z, lat)
     down = np.arange(z.size) > 20 + 60 + 20
 
