@@ -20,7 +20,7 @@ elapsed rates move with the load; CPU-time rates and the ratio to the same-run b
 move much less.
 
 Run:  .venv/bin/python benchmarks/bench_casts.py [--count 1000] [--samples 5000]
-Writes benchmarks/results/casts.json. Target (issue): >= 50 casts/s.
+Writes benchmarks/results/casts.json. Target (DEVELOPERS.md, Benchmarks): >= 50 casts/s.
 """
 
 from __future__ import annotations
@@ -52,7 +52,7 @@ from seaprofile.layers import describe  # noqa: E402
 from seaprofile.profile import build_profile  # noqa: E402
 
 HERE = Path(__file__).resolve().parent
-TARGET = 50.0  # casts per second, from the issue
+TARGET = 50.0  # casts per second (DEVELOPERS.md, Benchmarks)
 STAGES = ("read", "build", "describe", "write_netcdf", "write_csv")
 
 

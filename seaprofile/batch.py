@@ -58,7 +58,8 @@ class BuildResult:
         return self.error is None
 
 
-def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth):
+def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth,
+                    used=None):
     results = []
     try:
         casts = read_casts(path, **read_options)
@@ -81,6 +82,12 @@ def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, 
             if out_dir is not None:
                 name = _safe_name(cast.attrs.get("cast_name") or Path(path).stem)
                 target = Path(out_dir) / f"{name}{FORMATS[fmt][0]}"
+                if used is not None:
+                    if str(target) in used:  # two casts of one name in this batch
+                        raise SeaprofileError(
+                            f"output {target.name} was already written for another cast of "
+                            f"this batch (cast name {name!r}); rename one of the casts")
+                    used.add(str(target))
                 write(res.profile, target, fmt, overwrite=overwrite)
                 res.written.append(str(target))
         except (SeaprofileError, OSError) as exc:
@@ -140,10 +147,19 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
     args = (read_options, build_options, out_dir, format, overwrite, extend_to)
     paths = [str(p) for p in paths]
     if scheduler is None:
-        groups = [_build_one_file(p, *args) for p in paths]
-    else:
+        used = set()
+        groups = [_build_one_file(p, *args, used) for p in paths]
+    else:  # parallel: collisions can only be found afterwards, and are reported
         groups = _with_dask(paths, args, scheduler)
-    return [r for group in groups for r in group]
+    results = [r for group in groups for r in group]
+    seen = {}
+    for r in results:
+        for target in r.written:
+            if target in seen:
+                r.error = (f"{r.path}: output {target} collides with the one written for "
+                           f"{seen[target]} (same cast name); rename one of the casts")
+            seen.setdefault(target, r.path)
+    return results
 
 
 def _with_dask(paths, args, scheduler):

@@ -29,6 +29,11 @@ FIGURE_CASTS = {
 }
 
 
+#: casts whose extension to the bottom is shaped by the deep CTD cast
+SHAPED_BY_DEEP_CAST = ("xbt_drop",)
+DEEP_REFERENCE = "deep_ocean_ctd"
+
+
 @dataclass
 class DemoReport:
     """What the demo did: summary rows, files written, failures (expected ones included)."""
@@ -72,8 +77,18 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
     """
     out = Path(out_dir)
     files = find_demo_casts(casts_dir)
-    results = build_files(files, out_dir=out / "profiles", format="netcdf", overwrite=True,
-                          equation=equation, extend_to="bottom")
+    options = dict(out_dir=out / "profiles", format="netcdf", overwrite=True,
+                   equation=equation, extend_to="bottom")
+    # The expendable probe stops at 760 m over 3350 m of water: holding its last temperature
+    # to the bottom would make the deep water about 12 m/s too fast, so its extension takes
+    # its shape from the deep CTD cast of the same survey instead (DEEP_REFERENCE).
+    shaped = [f for f in files if f.stem in SHAPED_BY_DEEP_CAST]
+    results = build_files([f for f in files if f not in shaped], **options)
+    deep = next((r for r in results if Path(r.path).stem == DEEP_REFERENCE and r.ok), None)
+    if shaped:
+        extra = build_files(shaped, reference=deep.profile if deep else None, **options)
+        order = {str(f): i for i, f in enumerate(files)}
+        results = sorted(results + extra, key=lambda r: order[r.path])
     report = DemoReport()
     for r in results:
         report.rows.append(summary_row(r))

@@ -83,3 +83,24 @@ def test_load_profile_from_raw_cast_and_built_file(tmp_path):
     write(raw, path)
     again = load_profile(path)
     np.testing.assert_allclose(again["sound_speed"].values, raw["sound_speed"].values)
+
+
+def test_two_casts_of_one_name_never_overwrite_each_other(tmp_path):
+    src = DEMO / "shelf_summer_ctd.csv"
+    copy = tmp_path / "again.csv"
+    copy.write_bytes(src.read_bytes())
+    out = tmp_path / "out"
+    results = build_files([src, copy], out_dir=out, overwrite=True)
+    assert results[0].ok and not results[1].ok
+    assert "already written" in results[1].error and "VS31-S04" in results[1].error
+
+
+def test_outputs_are_ordinary_files(tmp_path):
+    import os
+    import stat
+
+    (r,) = build_files([DEMO / "shelf_summer_ctd.csv"], out_dir=tmp_path)
+    mode = stat.S_IMODE(os.stat(r.written[0]).st_mode)
+    umask = os.umask(0)
+    os.umask(umask)
+    assert mode == 0o666 & ~umask

@@ -97,12 +97,33 @@ def atomic_write(path, overwrite, fill):
     os.close(fd)
     try:
         fill(tmp)
-        os.replace(tmp, path)
+        os.chmod(tmp, 0o666 & ~_UMASK)  # as an ordinary new file, not mkstemp's 0600
+        if overwrite:
+            os.replace(tmp, path)
+        else:  # link fails if the file appeared meanwhile: never replace it silently
+            try:
+                os.link(tmp, path)
+            except FileExistsError:
+                raise SeaprofileError(
+                    f"{path}: exists; pass overwrite=True (--overwrite) to replace it") from None
+            except OSError:  # file systems without hard links
+                os.replace(tmp, path)
+            else:
+                os.remove(tmp)
     except BaseException:
         if os.path.exists(tmp):
             os.remove(tmp)
         raise
     return path
+
+
+def _read_umask():
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
+_UMASK = _read_umask()  # read once at import: os.umask is process-wide, not thread-safe
 
 
 def _as_list(ds):

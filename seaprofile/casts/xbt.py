@@ -29,9 +29,9 @@ __all__ = [
 ]
 
 HANAWA1995 = (
-    "K. Hanawa, P. Rual, R. Bailey, A. Sy & M. Szabados (1995), A new depth-time equation "
-    "for Sippican or TSK T-7, T-6 and T-4 expendable bathythermographs (XBT), Deep-Sea "
-    "Res. I 42(8), 1423-1451; also IOC Technical Series 42"
+    "K. Hanawa, P. Rual, R. Bailey, A. Sy & M. Szabados (1995), a new depth-time equation "
+    "for T-7, T-6 and T-4 expendable bathythermographs, Deep-Sea Res. I 42(8), 1423-1451; "
+    "also IOC Technical Series 42"
 )
 
 #: name -> (a in m/s, b in m/s^2, reference); depth z = a t - b t^2

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import sys
 
+from .._cf import CAUTION
 from .._validate import SeaprofileError
 from ..batch import build_files, load_profile, summary_row
 from ..casts.xbt import FALL_RATES
@@ -76,10 +77,11 @@ def run(args):
     rows = [summary_row(r) for r in results]
     if args.json:
         print_json({"casts": rows, "written": [w for r in results for w in r.written],
-                    "failed": len(failed)})
+                    "failed": len(failed), "caution": CAUTION})
     else:
         print_table(rows, COLUMNS)
         print(f"{len(results) - len(failed)} built, {len(failed)} failed; speeds in m/s, depths in m")
+        print(f"Caution: {CAUTION}")
     return 1 if failed else 0
 
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import sys
 
+from .._cf import CAUTION
 from ..demo import run_demo
 from ..seawater.soundspeed import EQUATIONS
 from ._common import print_json, print_table
@@ -35,8 +36,8 @@ def run(args):
     report = run_demo(args.out, casts_dir=args.casts, equation=args.equation,
                       figures=not args.no_figures)
     if args.json:
-        print_json({"casts": report.rows, "written": report.written,
-                    "failures": report.failures})
+        print_json({"synthetic": True, "casts": report.rows, "written": report.written,
+                    "failures": report.failures, "caution": CAUTION})
         return 0
     print("seaprofile demo: synthetic casts of an invented survey (not real data)\n")
     print_table(report.rows, COLUMNS)
@@ -44,6 +45,5 @@ def run(args):
     for failure in report.failures:
         print(f"reported (expected in the demo): {failure}", file=sys.stderr)
     print(f"\n{len(report.written)} files written under {args.out}/")
-    print("Caution: not for navigation on its own; verify against the governing "
-          "hydrographic standard, local regulations and licensed practice.")
+    print(f"Caution: {CAUTION}")
     return 0

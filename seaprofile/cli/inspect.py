@@ -44,7 +44,11 @@ def run(args):
         value = d.get(key)
         if value is None:
             continue
-        text = f"{value:.2f}" if isinstance(value, float) else str(value)
+        if key == "duct_cutoff_frequency" and isinstance(value, float):
+            text = f"{float(f'{value:.2g}'):g}"  # a rule of thumb: two figures at most
+            unit += " (rule of thumb)"
+        else:
+            text = f"{value:.2f}" if isinstance(value, float) else str(value)
         print(f"  {d['long_names'][key]:<{width}}  {text:>10} {unit}")
     print(f"  {'surface duct':<{width}}  {'yes' if d['surface_duct'] else 'no':>10}")
     for note in d["notes"]:

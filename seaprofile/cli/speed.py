@@ -8,7 +8,8 @@ from __future__ import annotations
 
 import warnings
 
-from .._validate import SeaprofileError
+from .._cf import CAUTION
+from .._validate import OutsideValidityWarning, SeaprofileError
 from ..seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
 from ._common import parse_length, print_json, print_table
 
@@ -42,11 +43,12 @@ def run(args):
             pressure=args.pressure, depth=depth, latitude=args.latitude, equation=name
         )
         try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
+            with warnings.catch_warnings(record=True) as caught:
+                warnings.simplefilter("always")
                 c = float(sound_speed(args.temperature, args.salinity, longitude=args.longitude, **point))
                 inside = bool(validity_mask(args.temperature, args.salinity, **point))
-            note = "" if inside else "outside the fitted range"
+            said = [str(w.message) for w in caught if issubclass(w.category, OutsideValidityWarning)]
+            note = "" if inside else ("; ".join(said) or "outside the fitted range")
         except SeaprofileError as exc:
             if args.equation:
                 raise
@@ -73,9 +75,11 @@ def run(args):
                 },
                 "units": {"sound_speed": "m/s"},
                 "results": rows,
+                "caution": CAUTION,
             }
         )
     else:
         print_table(rows, ["equation", "sound_speed", "valid", "note"])
         print("sound speed in m/s; 'valid' = inside the range the equation was fitted to")
+        print(f"Caution: {CAUTION}")
     return 0

@@ -277,8 +277,10 @@ def describe_dataset(profile, **kwargs):
     data = {}
     for k, unit in _UNITS.items():
         attrs = {"long_name": _LONG_NAMES[k], "units": unit}
-        if k.startswith("mixed_layer_depth"):
-            attrs["standard_name"] = "ocean_mixed_layer_thickness"
+        if k == "mixed_layer_depth_temperature":
+            attrs["standard_name"] = "ocean_mixed_layer_thickness_defined_by_temperature"
+        elif k == "mixed_layer_depth_density":
+            attrs["standard_name"] = "ocean_mixed_layer_thickness_defined_by_sigma_theta"
         elif k == "bottom_depth":
             attrs["standard_name"] = "sea_floor_depth_below_sea_surface"
         elif k.endswith("sound_speed") and not k.startswith("harmonic"):

@@ -31,8 +31,7 @@ def check_latitude(latitude):
     """
     if latitude is None:
         raise SeaprofileError(
-            "latitude is required (degrees north); give the cast position, "
-            "or 45 for a mid-latitude default"
+            "latitude is required (degrees north); give the cast position"
         )
     if is_lazy(latitude):
         return
@@ -175,7 +174,7 @@ def _run_duck(func, arrays, dtype):
     """``func`` over xarray (``apply_ufunc``) or dask (``map_blocks``) inputs, lazily."""
     if any(isinstance(a, (xr.DataArray, xr.Dataset, xr.Variable)) for a in arrays):
         options = xr.get_options()
-        keep = options["keep_attrs"]
+        # the result is a new quantity: never the attributes of an input (callers set CF ones)
         return xr.apply_ufunc(
             func,
             *arrays,
@@ -184,7 +183,7 @@ def _run_duck(func, arrays, dtype):
             dataset_fill_value=np.nan,
             dask="parallelized",
             output_dtypes=[dtype],
-            keep_attrs=True if keep == "default" else keep,
+            keep_attrs=False,
         )
     import dask.array as da
 

@@ -70,8 +70,9 @@ def test_describe_estimated_bins():
 def test_describe_dataset_attributes():
     z, t = _summer_shelf()
     ds = layers.describe_dataset(make_profile(z, temperature=t), bottom_depth=119.5)
+    # CF standard name table: the criterion-specific mixed layer names
     assert ds["mixed_layer_depth_temperature"].attrs["standard_name"] == \
-        "ocean_mixed_layer_thickness"
+        "ocean_mixed_layer_thickness_defined_by_temperature"
     assert ds["duct_cutoff_frequency"].attrs["units"] == "Hz"
     assert ds["bottom_depth"].attrs["standard_name"] == "sea_floor_depth_below_sea_surface"
     assert "describe" in ds.attrs["processing_steps"]

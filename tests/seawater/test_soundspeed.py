@@ -96,7 +96,7 @@ def test_wong_zhu1995_reproduces_chen_millero1977():
 
 def _del_grosso_its90(t, s, p_dbar):
     """Del Grosso (1974) in the ITS-90 coefficient form of Wong & Zhu (1995), JASA 97(3),
-    1732, Table III (written out here as an independent reference; P in kg/cm^2)."""
+    1732 (table number not checked; written out here as an independent reference; P in kg/cm^2)."""
     p = p_dbar / 9.80665
     return (1402.392 + 0.5012285e1 * t - 0.551184e-1 * t**2 + 0.221649e-3 * t**3
             + 0.1329530e1 * s + 0.1288598e-3 * s**2
