@@ -170,8 +170,9 @@ def leroy_parthiot1998_pressure(depth, latitude, correction=None):
 
     Provenance of the coefficients: written from the paper's equations as recalled, not
     re-read. The standard-ocean form is checked by the tests to agree with UNESCO 1983
-    within 0.07 m to 11000 m at all latitudes, which pins every coefficient of ``h`` and
-    ``g`` (the smallest term is worth 0.28 dbar at 10 km). The common-ocean correction is
+    within 0.07 m to 11000 m at all latitudes, which pins the formula to about 1e-5 of
+    depth (a last-digit slip in the smallest term, worth ~0.01 m, would pass). The
+    common-ocean correction is
     only sanity-checked (it brings the formula closer to gsw with the dynamic height of a
     warm invented profile); verify it against the paper before relying on it. It diverges
     at ``Z = -100`` m; only small negative depths are meaningful.

@@ -55,8 +55,9 @@ def test_leroy_parthiot1998_standard_ocean_vs_unesco(latitude):
     # Leroy & Parthiot (1998), JASA 103(3), 1346-1352, fit the same standard ocean
     # (0 degC, S 35) as Fofonoff & Millard (1983). Measured: at most 0.07 m over
     # 0..11000 dbar at any latitude. The smallest term of h(Z,45), 2.8e-19 Z^4, is worth
-    # 0.28 dbar at 10 km, and the latitude term of g(phi) about 50 m, so a 0.1 m
-    # tolerance would catch a wrong digit in any coefficient.
+    # 0.28 dbar at 10 km, and the latitude term of g(phi) about 50 m: a 0.1 m tolerance
+    # pins the formula to about 1e-5 of depth and catches a wrong leading digit in any
+    # coefficient (not a slip in the last digit of the smallest term, worth ~0.01 m).
     assert np.abs(diff).max() < 0.1
 
 
