@@ -30,7 +30,7 @@ FIGURE_CASTS = {
 
 
 #: casts whose extension to the bottom is shaped by the deep CTD cast
-SHAPED_BY_DEEP_CAST = ("xbt_drop",)
+SHAPED_BY_DEEP_CAST = ("xbt_drop", "messy_deep_ctd")
 DEEP_REFERENCE = "deep_ocean_ctd"
 
 
@@ -79,9 +79,10 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
     files = find_demo_casts(casts_dir)
     options = dict(out_dir=out / "profiles", format="netcdf", overwrite=True,
                    equation=equation, extend_to="bottom")
-    # The expendable probe stops at 760 m over 3350 m of water: holding its last temperature
-    # to the bottom would make the deep water about 12 m/s too fast, so its extension takes
-    # its shape from the deep CTD cast of the same survey instead (DEEP_REFERENCE).
+    # The expendable probe stops at 760 m over 3350 m of water (the messy deep cast at 1500 m
+    # over 4980 m): holding the last temperature to the bottom would make the deep water
+    # about 12 m/s too fast, so their extensions take their shape from the deep CTD cast of
+    # the same survey instead (DEEP_REFERENCE).
     shaped = [f for f in files if f.stem in SHAPED_BY_DEEP_CAST]
     results = build_files([f for f in files if f not in shaped], **options)
     deep = next((r for r in results if Path(r.path).stem == DEEP_REFERENCE and r.ok), None)

@@ -8,6 +8,8 @@ tests of :mod:`seaprofile.casts.qc` in a fixed order, each recorded in the Profi
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import xarray as xr
 
@@ -122,6 +124,15 @@ def _usable(profile):
     return bool((np.isfinite(c) & ~np.isin(f, (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING))).any())
 
 
+#: a constant-T/S extension longer than both of these (m, fraction of the cast) warns
+LONG_EXTENSION_M = 200.0
+LONG_EXTENSION_FRACTION = 0.2
+
+
+class LongExtensionWarning(UserWarning):
+    """A profile was extended far below its data by holding temperature and salinity."""
+
+
 def _last_good(profile):
     c = profile["sound_speed"].values
     f = profile["sound_speed_qc"].values
@@ -205,6 +216,13 @@ def extend_to(profile, bottom_depth, reference=None, step=None):
         values.update(_from_reference(profile, reference, z_new, z_last, last, p_new, has_ts))
         how = "reference profile"
     elif has_ts:
+        span = bottom - z_last
+        if span > max(LONG_EXTENSION_M, LONG_EXTENSION_FRACTION * z_last):
+            warnings.warn(
+                f"extending {attrs.get('cast_name', 'the profile')} by {span:.0f} m below its "
+                f"last usable bin ({z_last:.0f} m) with constant temperature and salinity: "
+                "deep sound speeds may be several m/s off; give a deeper reference profile",
+                LongExtensionWarning, stacklevel=2)
         values["temperature"] = np.full(n_new, t_last)
         values["salinity"] = np.full(n_new, s_last)
         if equation == "measured":

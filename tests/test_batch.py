@@ -43,7 +43,10 @@ def test_inputs_untouched_and_existing_outputs_kept(tmp_path):
 
 
 def test_extend_to_each_casts_bottom():
-    (r,) = build_files([DEMO / "xbt_drop.csv"], extend_to="bottom")
+    from seaprofile.profile import LongExtensionWarning
+
+    with pytest.warns(LongExtensionWarning, match="VS31-X07"):
+        (r,) = build_files([DEMO / "xbt_drop.csv"], extend_to="bottom")
     depth = r.profile["depth"].values
     assert depth.max() == pytest.approx(3350.0)
     assert (r.profile["sound_speed_qc"].values[depth > r.profile.attrs["cast_max_depth"]] == 8).all()

@@ -85,8 +85,11 @@ def test_build_profile_xbt_and_svp():
 
 
 def test_extend_constant_ts_is_pressure_only():
+    from seaprofile.profile import LongExtensionWarning
+
     prof = build_profile(ctd_cast(), equation="teos10")
-    out = extend_to(prof, 500.0)
+    with pytest.warns(LongExtensionWarning):  # 202 m below a 298 m cast
+        out = extend_to(prof, 500.0)
     z = out["depth"].values
     cast_max = prof.attrs["cast_max_depth"]
     assert out.attrs["cast_max_depth"] == cast_max and z[-1] == 500.0
@@ -132,3 +135,19 @@ def test_compare_profiles():
     d = compare_profiles(a, b)
     np.testing.assert_allclose(d["sound_speed_difference"].values, -0.5, atol=1e-9)
     assert d.attrs["max_abs_difference"] == pytest.approx(0.5)
+
+
+def test_long_constant_extension_warns_and_reference_does_not():
+    # common practice, no source: holding the last temperature far below the data makes
+    # the deep water too warm; users are told and pointed to a deeper reference profile
+    from seaprofile.profile import LongExtensionWarning, extend_to
+
+    prof = build_profile(ctd_cast())
+    last = float(prof["depth"].max())
+    with pytest.warns(LongExtensionWarning, match="constant temperature and salinity"):
+        extend_to(prof, last + 2000.0)
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", LongExtensionWarning)
+        extend_to(prof, last + 50.0)
