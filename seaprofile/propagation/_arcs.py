@@ -1,0 +1,425 @@
+"""Compiled arc kernels of the exact layered ray solver (:mod:`.kernels`).
+
+One ray traced piece by piece along circular arcs (:func:`_trace_ray`), and a fan of
+them in parallel (:func:`_fan_kernel`). The closed forms (range, travel time, dynamic ray
+q and P per piece) and the grazing rules they implement are written out in the docstring
+of :mod:`seaprofile.propagation.kernels`, which also holds the numpy entry points.
+"""
+
+from __future__ import annotations
+
+import numba
+import numpy as np
+from numba import prange
+
+# point kinds (see rays.POINT_KINDS)
+_START, _CROSS, _TURN, _SURF, _BOT, _SAMPLE, _END = 0, 1, 2, 3, 4, 5, 6
+# end reasons (see rays.END_REASONS)
+_REACHED, _ABSORBED, _LEFT, _STEPLIMIT = 0, 1, 2, 3
+MAX_STEPS = 20_000_000
+# value-safe fast-math: fused multiply-add and reciprocal only (no NaN/inf assumptions)
+_FM = {"contract", "arcp"}
+# Sines below 0.01 at the end of a piece come from the Snell increment, larger ones from
+# 1 - (p c)^2 (whose rounding error, ~1e-16 / s, is then below 1e-14).
+_SMALL_SINE2 = 1e-4
+# A ray trapped at a sound-speed minimum node, or against the surface / bottom by a layer
+# that bends it straight back, so flat that it would never move more than this (m) away
+# from it, runs along it (the eigenray depth tolerance, 1 micrometre). Without this a
+# near-horizontal ray there is traced as ~1e6 tiny arcs or bounces per km.
+_RIDE_DEPTH = 1e-6
+# ... and only when its sine is below this: setting it to 0 changes cos(theta) / c by at
+# most 5e-11 relative (Snell's invariant stays exact to that).
+_RIDE_SINE = 1e-5
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _l1(x):
+    """log1p(x) / x; Taylor series (error < 2e-17) for |x| < 0.01, 1 at x = 0."""
+    if abs(x) < 0.01:
+        return 1.0 + x * (-0.5 + x * (1.0 / 3.0 + x * (-0.25 + x * (0.2 + x * (
+            -1.0 / 6.0 + x * (1.0 / 7.0 + x * (-0.125 + x * (1.0 / 9.0))))))))
+    return np.log1p(x) / x
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _sine_sum(dz, ca, cb, sa, sb, gm, p):
+    """s_a + s_b of a piece, never below its geometric lower bound.
+
+    Along a piece ``|s_b^2 - s_a^2| = p^2 |g| dz (c_a + c_b)`` (Snell), so
+    ``s_a + s_b >= p sqrt(|g| dz (c_a + c_b))``. The sines are computed from
+    ``cos = p c`` and lose their accuracy near grazing (absolute error ~ 1e-8), while dz is
+    exact: a piece a few ulp thick next to a boundary (a source within rounding of a node,
+    where c(z_s) rounds to the node's c) then has s_a + s_b ~ 0 for dz > 0, and
+    K = dz (c_a + c_b) / (s_a + s_b) explodes. The bound restores the consistent range,
+    sqrt(dz (c_a + c_b) / |g|), and is inactive (up to rounding) otherwise.
+    """
+    den = sa + sb
+    low2 = p * p * abs(gm) * dz * (ca + cb)
+    if den * den < low2:
+        return np.sqrt(low2)
+    return den
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _piece(dz, ca, cb, sa, sb, gm, p):
+    """Same-sign piece of arc (mirrored to go down): returns (K = int c ds, dt)."""
+    if dz <= 0.0:
+        return 0.0, 0.0
+    den = _sine_sum(dz, ca, cb, sa, sb, gm, p)
+    if den <= 0.0:
+        # horizontal at both ends in a layer without gradient: no range, no time
+        return 0.0, 0.0
+    k = dz * (ca + cb) / den
+    q1 = p * p * k / (1.0 + sb)
+    q2 = dz / ca
+    dt = q1 * _l1(gm * q1) + q2 * _l1(gm * q2)
+    return k, dt
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _piece_full(dz, ca, cb, sa, sb, gm, p, tl):
+    """As _piece for a whole layer crossing; ``tl`` = int dz / c across the layer."""
+    k = dz * (ca + cb) / _sine_sum(dz, ca, cb, sa, sb, gm, p)
+    q1 = p * p * k / (1.0 + sb)
+    return k, q1 * _l1(gm * q1) + tl
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _sin_from_cos(cosv):
+    x = (1.0 - cosv) * (1.0 + cosv)
+    if x <= 0.0:
+        return 0.0
+    return np.sqrt(x)
+
+
+@numba.njit(cache=True)
+def _start_direction(zn, gn, j, n):
+    """Direction of a horizontal ray at node j: +1 down, -1 up, 0 stays (local minimum)."""
+    if j < n and gn[j] < 0.0:
+        return 1
+    if j > 0 and gn[j - 1] > 0.0:
+        return -1
+    return 0
+
+
+@numba.njit(cache=True, fastmath=_FM)
+def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
+               s_z, s_t, s_a, s_q, s_cnt, p_r, p_z, p_t, p_a, p_k, max_steps):
+    """Trace one ray exactly; write samples at ``samp_r`` and (up to len(p_r)) path points.
+
+    Returns (npoints, surface, bottom, turning, caustics, end_reason, steps).
+    """
+    n = zn.size - 1  # layers
+    maxpts = p_r.size
+    nsamp = samp_r.size
+    want_cnt = s_cnt.shape[0] > 0
+    # source sound speed and layer
+    jr = np.searchsorted(zn, zs, side="right") - 1
+    if jr > n - 1:
+        jr = n - 1
+    if jr < 0:
+        jr = 0
+    cs = cn[jr] + gn[jr] * (zs - zn[jr])
+    cth = np.cos(theta)
+    sth = np.sin(theta)
+    if cth < 0.0:
+        cth = 0.0
+    p = cth / cs
+    sa = abs(sth)
+    d = 1 if sth > 0.0 else (-1 if sth < 0.0 else 0)
+    z = zs
+    c = cs
+    r = 0.0
+    t = 0.0
+    q = 0.0
+    pp = 1.0 / cs
+    qsign = 0
+    ns = 0
+    nb = 0
+    nt = 0
+    nc = 0
+    reason = _REACHED
+    # layer and direction
+    jl = np.searchsorted(zn, zs, side="left")  # first node >= zs
+    at_node = jl <= n and zn[jl] == zs
+    if d > 0:
+        i = jr
+    elif d < 0:
+        i = jl - 1
+        if i < 0:
+            i = 0
+    else:
+        if at_node:
+            d = _start_direction(zn, gn, jl, n)
+            i = jl if d > 0 else (jl - 1 if d < 0 else min(jl, n - 1))
+        else:
+            i = jr
+            if gn[i] > 0.0:
+                d = -1
+            elif gn[i] < 0.0:
+                d = 1
+            else:
+                d = 0
+    if i > n - 1:
+        i = n - 1
+    npts = 0
+    k = 0
+    # start point and samples at r = 0
+    if npts < maxpts:
+        p_r[npts] = 0.0
+        p_z[npts] = z
+        p_t[npts] = 0.0
+        p_a[npts] = np.degrees(theta)
+        p_k[npts] = _START
+    npts += 1
+    while k < nsamp and samp_r[k] <= 0.0:
+        s_z[k] = z
+        s_t[k] = 0.0
+        s_a[k] = np.degrees(theta)
+        s_q[k] = 0.0
+        if want_cnt:
+            s_cnt[k, 0] = 0
+            s_cnt[k, 1] = 0
+            s_cnt[k, 2] = 0
+            s_cnt[k, 3] = 0
+        k += 1
+    steps = 0
+    on_node = False
+    while True:
+        steps += 1
+        if steps > max_steps:
+            reason = _STEPLIMIT
+            break
+        if d == 0:
+            # horizontal straight travel along a node or in an isovelocity layer
+            while k < nsamp:
+                dr = samp_r[k] - r
+                s_z[k] = z
+                s_t[k] = t + dr / c
+                s_a[k] = 0.0
+                s_q[k] = q + pp * c * dr
+                if want_cnt:
+                    s_cnt[k, 0] = ns
+                    s_cnt[k, 1] = nb
+                    s_cnt[k, 2] = nt
+                    s_cnt[k, 3] = nc
+                k += 1
+            dr = rmax - r
+            t += dr / c
+            q += pp * c * dr
+            r = rmax
+            if npts < maxpts:
+                p_r[npts] = r
+                p_z[npts] = z
+                p_t[npts] = t
+                p_a[npts] = 0.0
+                p_k[npts] = _END
+            npts += 1
+            reason = _REACHED
+            break
+        g = gn[i]
+        gm = g * d
+        if d > 0:
+            zb = zn[i + 1]
+            cb = cn[i + 1]
+        else:
+            zb = zn[i]
+            cb = cn[i]
+        cosa = p * c
+        cosb = p * cb
+        dzb = abs(zb - z)
+        turning = False
+        dzt = 0.0
+        if gm > 0.0 and cosa > 0.0:
+            # depth to the turning point, from s_a^2 (accurate near grazing, where
+            # 1 - p c_b is not): the ray turns inside the layer when it is shorter than the
+            # way to the node, or when p c_b >= 1
+            dzt = c * sa * sa / (cosa * (1.0 + cosa) * gm)
+            turning = cosb >= 1.0 or dzt < dzb
+        if not turning:
+            # small sines from Snell's law as an increment, s_b^2 = s_a^2 - p^2 g dz
+            # (c_a + c_b): exact where 1 - (p c_b)^2 has lost its digits (it rounds a sine
+            # below ~1e-8 to 0 or to noise; a near-horizontal ray in an isovelocity layer
+            # then got twice its range)
+            sb2 = sa * sa - p * p * gm * dzb * (c + cb)
+            if sb2 < _SMALL_SINE2:
+                sb = np.sqrt(sb2) if sb2 > 0.0 else 0.0
+            else:
+                sb = _sin_from_cos(cosb)
+            dz = dzb
+            ce = cb
+        else:
+            dz = dzt
+            if dz > dzb:
+                dz = dzb
+            sb = 0.0
+            ce = c + gm * dz
+        if on_node and not turning and sa + sb > 0.0:
+            kk, dt = _piece_full(dz, c, ce, sa, sb, gm, p, tl[i])
+        else:
+            kk, dt = _piece(dz, c, ce, sa, sb, gm, p)
+        dr = p * kk
+        # samples inside this piece (and the end of the ray)
+        rend = r + dr
+        hit_end = rend >= rmax
+        while k < nsamp and samp_r[k] <= rend:
+            drk = samp_r[k] - r
+            sk = sa - p * gm * drk
+            if sk < 0.0:
+                sk = 0.0
+            elif sk > 1.0:
+                sk = 1.0
+            cok = _sin_from_cos(sk)
+            den = cosa + cok
+            dzk = drk * (sa + sk) / den if den > 0.0 else 0.0
+            if dzk > dz:
+                dzk = dz
+            ck = c + gm * dzk
+            kk2, dt2 = _piece(dzk, c, ck, sa, sk, gm, p)
+            s_z[k] = z + d * dzk
+            s_t[k] = t + dt2
+            s_a[k] = d * np.degrees(np.arctan2(sk, p * ck))
+            s_q[k] = q + pp * kk2
+            if want_cnt:
+                qk = q + pp * kk2
+                extra = 0
+                if (qk > 0.0 and qsign < 0) or (qk < 0.0 and qsign > 0):
+                    extra = 1
+                s_cnt[k, 0] = ns
+                s_cnt[k, 1] = nb
+                s_cnt[k, 2] = nt
+                s_cnt[k, 3] = nc + extra
+            k += 1
+        if hit_end:
+            drk = rmax - r
+            sk = sa - p * gm * drk
+            if sk < 0.0:
+                sk = 0.0
+            elif sk > 1.0:
+                sk = 1.0
+            cok = _sin_from_cos(sk)
+            den = cosa + cok
+            dzk = drk * (sa + sk) / den if den > 0.0 else 0.0
+            if dzk > dz:
+                dzk = dz
+            ck = c + gm * dzk
+            kk2, dt2 = _piece(dzk, c, ck, sa, sk, gm, p)
+            qn = q + pp * kk2
+            if (qn > 0.0 and qsign < 0) or (qn < 0.0 and qsign > 0):
+                nc += 1
+            r = rmax
+            z = z + d * dzk
+            t = t + dt2
+            c = ck
+            sa = sk
+            q = qn
+            if npts < maxpts:
+                p_r[npts] = r
+                p_z[npts] = z
+                p_t[npts] = t
+                p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
+                p_k[npts] = _END
+            npts += 1
+            reason = _REACHED
+            break
+        # advance to the end of the piece
+        qn = q + pp * kk
+        if qn > 0.0:
+            if qsign < 0:
+                nc += 1
+            qsign = 1
+        elif qn < 0.0:
+            if qsign > 0:
+                nc += 1
+            qsign = -1
+        q = qn
+        r = rend
+        t += dt
+        z = z + d * dz
+        c = ce
+        sa = sb
+        kind = _CROSS
+        stop = False
+        on_node = not turning
+        if turning:
+            nt += 1
+            d = -d
+            sa = 0.0
+            kind = _TURN
+        else:
+            z = zb
+            c = cb
+            p2 = p * p  # cos^2(theta) / c^2 at the node
+            if d > 0 and i == n - 1:
+                nb += 1
+                d = -1
+                kind = _BOT
+                if (gn[n - 1] < 0.0 and sa < _RIDE_SINE
+                        and c * sa * sa < -2.0 * gn[n - 1] * _RIDE_DEPTH):
+                    sa = 0.0
+                if sa > 0.0:
+                    pp += q * 2.0 * gn[n - 1] * p2 / sa
+                else:
+                    # grazing the bottom (horizontal within rounding): the ray goes on
+                    # as a horizontal ray started there (along the bottom when the layer
+                    # above would bend it straight back down)
+                    on_node = False
+                    d = _start_direction(zn, gn, n, n)
+            elif d < 0 and i == 0:
+                ns += 1
+                d = 1
+                kind = _SURF
+                if (gn[0] > 0.0 and sa < _RIDE_SINE
+                        and c * sa * sa < 2.0 * gn[0] * _RIDE_DEPTH):
+                    sa = 0.0
+                if sa > 0.0:
+                    pp -= q * 2.0 * gn[0] * p2 / sa
+                else:
+                    # grazing the surface: likewise
+                    on_node = False
+                    d = _start_direction(zn, gn, 0, n)
+            else:
+                j = i + 1 if d > 0 else i
+                if sa > 0.0 and gn[j - 1] < 0.0 < gn[j]:
+                    # a sound-speed minimum: the ray oscillates about the node, rising
+                    # and sinking c s^2 / (2 |g|) at most; below _RIDE_DEPTH it is a ray
+                    # along the node (else ~1e6 tiny arcs per km)
+                    gmin = min(-gn[j - 1], gn[j])
+                    if sa < _RIDE_SINE and c * sa * sa < 2.0 * gmin * _RIDE_DEPTH:
+                        sa = 0.0
+                if sa > 0.0:
+                    pp -= q * (gn[j] - gn[j - 1]) * p2 / sa
+                    i += d
+                else:
+                    on_node = False
+                    d = _start_direction(zn, gn, j, n)
+                    if d > 0:
+                        i = j
+                    elif d < 0:
+                        i = j - 1
+            if ns + nb > max_bounces:
+                stop = True
+        if npts < maxpts:
+            p_r[npts] = r
+            p_z[npts] = z
+            p_t[npts] = t
+            p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
+            p_k[npts] = kind
+        npts += 1
+        if stop:
+            reason = _ABSORBED
+            break
+    return npts, ns, nb, nt, nc, reason, steps
+
+
+@numba.njit(cache=True, parallel=True)
+def _fan_kernel(zn, cn, gn, tl, zs, thetas, rmax, max_bounces, samp_r,
+                S_z, S_t, S_a, S_q, S_cnt, P_r, P_z, P_t, P_a, P_k, out_int, max_steps):
+    nray = thetas.size
+    for j in prange(nray):
+        cnt = S_cnt[j]
+        res = _trace_ray(zn, cn, gn, tl, zs, thetas[j], rmax, max_bounces, samp_r,
+                         S_z[j], S_t[j], S_a[j], S_q[j], cnt,
+                         P_r[j], P_z[j], P_t[j], P_a[j], P_k[j], max_steps)
+        for m in range(7):
+            out_int[j, m] = res[m]
