@@ -5,6 +5,7 @@ local regulations and licensed practice.
 """
 
 from ._version import __version__
+from . import _jitcache  # noqa: F401  (before any kernel: the cache lives outside the package)
 from ._validate import InputFileError, OutsideValidityWarning, SeaprofileError
 from .seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
 from .seawater.depth import depth_from_pressure, pressure_from_depth
