@@ -111,6 +111,9 @@ def test_extend_constant_ts_is_pressure_only():
 
 
 def test_extend_with_reference_joins_continuously():
+    # Behaviour changed on purpose: the cast's offset from the reference at the join used to
+    # be carried all the way down (the reference shifted to meet the cast); it now fades to
+    # zero over join_blend (100 m), and the reference's water is used as measured below.
     prof = build_profile(ctd_cast(pmax=200.0))
     zr = np.arange(0.0, 1001.0, 5.0)
     ref = make_cast(depth=zr, temperature=3.0 + 15.0 * np.exp(-zr / 150.0),
@@ -118,12 +121,19 @@ def test_extend_with_reference_joins_continuously():
     ref = pr.add_sound_speed(pr.bin_cast(pr.add_depth(ref), 5.0))
     out = extend_to(prof, 800.0, reference=ref)
     c = out["sound_speed"].values
-    last = np.flatnonzero(out["depth"].values <= prof.attrs["cast_max_depth"])[-1]
+    z = out["depth"].values
+    last = np.flatnonzero(z <= prof.attrs["cast_max_depth"])[-1]
     assert abs(c[last + 1] - c[last]) < 0.5  # joins: one bin's worth of change
-    # the shape below follows the reference's temperature, offset to join
     t = out["temperature"].values
-    tr = np.interp(out["depth"].values, ref["depth"].values, ref["temperature"].values)
-    np.testing.assert_allclose(np.diff(t[last + 1:]), np.diff(tr[last + 1:]), atol=1e-12)
+    tr = np.interp(z, ref["depth"].values, ref["temperature"].values)
+    offset = t[last] - tr[last]
+    assert abs(offset) > 0.05  # the two casts differ at the join
+    # linear fade of the offset over 100 m, then the reference's temperature as measured
+    below = z > z[last]
+    fade = np.clip(1 - (z[below] - z[last]) / 100.0, 0, 1)
+    np.testing.assert_allclose(t[below], tr[below] + offset * fade, atol=1e-9)
+    assert "fading to zero over 100 m" in out.attrs["extension_join"]
+    assert out.attrs["extension_reference"] == ref.attrs["cast_name"]
     with pytest.raises(SeaprofileError, match="reference"):
         extend_to(prof, 2000.0, reference=ref)
 

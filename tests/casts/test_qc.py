@@ -183,8 +183,10 @@ def test_bad_temperature_flags_salinity_from_conductivity():
 
 
 def test_sound_speed_range_edges():
-    # plausibility window 1400..1650 m/s: common practice, no source; limits pass
-    cast = make_cast(pressure=[1, 2, 3, 4.0], measured_sound_speed=[1400.0, 1650.0, 1399.9, 1650.1])
+    # plausibility window 1400..1700 m/s: common practice, no source; limits pass. The upper
+    # end was 1650 m/s, below the deepest water: TEOS-10 (gsw) gives 1665.6 m/s at
+    # 12000 dbar, 2.5 degC, S 34.7 (checked in test_sound_speed_range_holds_deep_water)
+    cast = make_cast(pressure=[1, 2, 3, 4.0], measured_sound_speed=[1400.0, 1700.0, 1399.9, 1700.1])
     out = qc.sound_speed_range(cast)
     assert out["measured_sound_speed_qc"].values.tolist() == [0, 0, 4, 4]
 
