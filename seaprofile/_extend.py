@@ -232,30 +232,32 @@ def _from_reference(profile, reference, z_new, z_last, last, has_ts, blend):
         )
     name = str(reference.attrs.get("cast_name", "given"))
     fade = _taper(z_new, z_last, blend)
-    fading = f"fading to zero over {blend:g} m below the join" if blend > 0 else "not carried"
+    fading = (f"fading to zero over {blend:g} m below the join" if blend > 0
+              else "not carried below the join")
     assumed = (str(profile.attrs.get("salinity_assumed", "")).lower() == "yes"
                or "everywhere" in str(profile.attrs.get("salinity_replaced", "")))
-    out, offsets = {}, []
+    out, notes = {}, []
     ref_ts = all(v in reference.data_vars for v in ("temperature", "salinity"))
     if has_ts and ref_ts and profile.attrs.get("equation") != "measured":
-        for v, unit in (("temperature", "degC"), ("salinity", "")):
+        for v, unit in (("temperature", " degC"), ("salinity", "")):
             zv, r = _usable_reference(reference, v)
-            offset = 0.0 if (v == "salinity" and assumed) else (
-                float(profile[v].values[last]) - np.interp(z_last, zv, r))
+            if v == "salinity" and assumed:
+                out[v] = np.interp(z_new, zv, r)
+                notes.append("salinity the reference's as measured (the cast's was assumed)")
+                continue
+            offset = float(profile[v].values[last]) - np.interp(z_last, zv, r)
             out[v] = np.interp(z_new, zv, r) + offset * fade
-            offsets.append(f"{v} offset {offset:+.3g}{(' ' + unit) if unit else ''}")
+            notes.append(f"{v} offset {offset:+.3g}{unit} {fading}")
         how = f"reference {name}: its measured temperature and salinity"
-        if assumed:
-            offsets[-1] = "salinity: the reference's as measured (the cast's was assumed)"
     else:
         if "sound_speed" not in reference.data_vars:
             raise SeaprofileError("reference has neither temperature/salinity nor sound_speed")
         zv, r = _usable_reference(reference, "sound_speed")
         offset = float(profile["sound_speed"].values[last]) - np.interp(z_last, zv, r)
         out["sound_speed"] = np.interp(z_new, zv, r) + offset * fade
-        offsets.append(f"sound speed offset {offset:+.3g} m/s")
+        notes.append(f"sound speed offset {offset:+.3g} m/s {fading}")
         how = f"reference {name}: its measured sound speed"
-    join = f"at {z_last:g} m: " + ", ".join(offsets) + f", {fading}"
+    join = f"at {z_last:g} m: " + "; ".join(notes)
     return out, f"{how} ({join})", join
 
 
