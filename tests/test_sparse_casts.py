@@ -8,6 +8,8 @@ and interpolated levels flagged 8 (estimated).
 import gsw
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from seaprofile import _cf
 from seaprofile.casts.model import make_cast
@@ -156,3 +158,22 @@ def test_dense_constant_speed_probe_is_not_condemned():
     prof = build_profile(cast)
     assert (prof["sound_speed_qc"].values == _cf.GOOD).all()
     assert np.all(prof["sound_speed"].values == 1480.0)
+
+
+@settings(max_examples=30, deadline=None)
+@given(st.lists(st.floats(0.2, 60.0), min_size=1, max_size=40), st.floats(0.0, 5.0))
+def test_any_spacing_gives_a_profile_without_holes(gaps, first):
+    # invariant: whatever the spacing, no interior holes, depths increasing, isolated
+    # samples kept at their own depth with their own value, the rest flagged 1 or 8
+    z = first + np.concatenate(([0.0], np.cumsum(gaps)))
+    c = munk(z)
+    cast = make_cast(depth=z, measured_sound_speed=c, instrument="svp", latitude=LAT)
+    prof = build_profile(cast)
+    depth, speed = prof["depth"].values, prof["sound_speed"].values
+    assert np.isfinite(speed).all() and (np.diff(depth) > 0).all()
+    assert set(np.unique(prof["sound_speed_qc"].values)) <= {_cf.GOOD, _cf.ESTIMATED}
+    g = np.diff(z)
+    isolated = (np.concatenate(([np.inf], g)) > 2.0) & (np.concatenate((g, [np.inf])) > 2.0)
+    at = np.searchsorted(depth, z[isolated])
+    np.testing.assert_array_equal(depth[at], z[isolated])
+    np.testing.assert_array_equal(speed[at], c[isolated])

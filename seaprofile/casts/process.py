@@ -11,10 +11,14 @@ selected samples, and record how many samples they left out (and which, for the 
 direction). The original Cast, which the caller keeps, still holds every sample. Steps that
 *judge* values -- :func:`despike` and everything in :mod:`seaprofile.casts.qc` -- never
 remove anything: they raise ``<var>_qc`` flags, and :func:`bin_cast` leaves values flagged
-3 (probably bad), 4 (bad) or 9 (missing) out of the bin averages.
+3 (probably bad), 4 (bad) or 9 (missing) out of the bin averages. A sample whose pressure
+is impossible (flagged, or outside -5..12000 dbar) is not judged by the selection steps:
+it is kept for quality control to flag, with its reason.
 
-:func:`despike` lives in :mod:`seaprofile.casts.despike`. The steps on a Profile -- :func:`bin_cast`, :func:`fill_gaps` and :func:`add_sound_speed`
--- live in :mod:`seaprofile.casts.binning` and are importable from here too.
+:func:`replace_salinity` puts a given salinity (flag 8) where the salinity channel failed.
+:func:`despike` lives in :mod:`seaprofile.casts.despike`; the steps on a Profile --
+:func:`bin_cast`, :func:`fill_gaps` and :func:`add_sound_speed` -- in
+:mod:`seaprofile.casts.binning`. All are importable from here.
 """
 
 from __future__ import annotations
