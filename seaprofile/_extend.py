@@ -21,7 +21,8 @@ from .casts.binning import _equation_sound_speed as equation_sound_speed
 from .casts.binning import check_bin_count, check_step
 from .seawater.depth import pressure_from_depth
 
-__all__ = ["extend_to", "cast_bottom_depth", "JOIN_BLEND", "LongExtensionWarning"]
+__all__ = ["extend_to", "cast_bottom_depth", "check_bottom_depth", "JOIN_BLEND",
+           "LongExtensionWarning"]
 
 #: m: below the join with a reference, the cast's offset from it fades to zero over this
 #: depth (our choice: about the thickness of a seasonal thermocline)
@@ -32,8 +33,17 @@ def _is_bottom(value):
     return isinstance(value, str) and value.strip().lower() == "bottom"
 
 
-def _check_bottom(value, name):
-    """A sea-floor depth in m, or :class:`SeaprofileError` naming ``name``."""
+def check_bottom_depth(value, name="bottom_depth"):
+    """``value`` as a sea-floor depth in m, or :class:`SeaprofileError` naming ``name``.
+
+    Parameters
+    ----------
+    value : float or str
+        Depth, m: finite, > 0 and at most
+        :data:`seaprofile.casts.qc.MAX_OCEAN_DEPTH` (12000 m, deeper than any ocean).
+    name : str
+        The argument (or command-line option) the message names.
+    """
     try:
         bottom = float(value)
     except (TypeError, ValueError):
@@ -62,7 +72,7 @@ def cast_bottom_depth(ds):
         raise SeaprofileError(
             f"extend_to='bottom': {name} has no bottom_depth metadata; give the sea-floor "
             "depth in m instead")
-    return _check_bottom(value, f"extend_to='bottom' ({name}'s bottom_depth)")
+    return check_bottom_depth(value, f"extend_to='bottom' ({name}'s bottom_depth)")
 
 
 #: a constant-T/S extension longer than both of these (m, fraction of the cast) warns
@@ -137,7 +147,7 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
     if "sound_speed" not in profile.data_vars:
         raise SeaprofileError("profile has no sound_speed: run add_sound_speed first")
     bottom = (cast_bottom_depth(profile) if _is_bottom(bottom_depth)
-              else _check_bottom(bottom_depth, "bottom_depth"))
+              else check_bottom_depth(bottom_depth, "bottom_depth"))
     join_blend = float(join_blend)
     if not (np.isfinite(join_blend) and join_blend >= 0):
         raise SeaprofileError(f"join_blend must be a depth >= 0 m, got {join_blend}")

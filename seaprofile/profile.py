@@ -21,7 +21,7 @@ from ._extend import (  # noqa: F401  (re-exported: the extension lives in _exte
     LONG_EXTENSION_FRACTION,
     LONG_EXTENSION_M,
     LongExtensionWarning,
-    _check_bottom,
+    check_bottom_depth,
     _is_bottom,
     cast_bottom_depth,
     extend_to,
@@ -32,7 +32,8 @@ from .casts.binning import check_step
 _extend = extend_to  # build_profile's argument of the same name hides the function
 
 __all__ = ["build_profile", "extend_to", "compare_profiles", "describe_assumptions",
-           "cast_bottom_depth", "CAST_TESTS", "PROFILE_TESTS", "JOIN_BLEND"]
+           "cast_bottom_depth", "check_bottom_depth", "CAST_TESTS", "PROFILE_TESTS",
+           "JOIN_BLEND"]
 
 #: quality-control tests run on the Cast's samples, in order
 CAST_TESTS = ("global_range", "pressure_increasing", "spike", "stuck_value",
@@ -132,7 +133,7 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     bottom = None
     if extend_to is not None:
         bottom = (cast_bottom_depth(cast) if _is_bottom(extend_to)
-                  else _check_bottom(extend_to, "extend_to"))
+                  else check_bottom_depth(extend_to, "extend_to"))
     if replace_salinity not in ("bad", "all"):
         raise SeaprofileError(
             f"replace_salinity must be 'bad' or 'all', got {replace_salinity!r}")

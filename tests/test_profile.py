@@ -251,3 +251,15 @@ def test_wild_pressure_is_flagged_quietly():
     assert qc_summary(prof)["global_range"]["pressure"] == 1
     assert prof.attrs["cast_max_depth"] > 190.0  # the rest of the cast was kept
     assert np.isfinite(prof["sound_speed"].values).all()
+
+
+def test_validators_name_the_option_they_are_given():
+    # for the command line: the same checks, naming its options
+    from seaprofile.casts.binning import check_step
+    from seaprofile.profile import check_bottom_depth
+
+    with pytest.raises(SeaprofileError, match="--extend-to"):
+        check_bottom_depth("1e9", "--extend-to")
+    with pytest.raises(SeaprofileError, match="--bin"):
+        check_step("inf", "--bin")
+    assert check_bottom_depth("4800", "--extend-to") == 4800.0
