@@ -111,6 +111,9 @@ def test_extend_constant_ts_is_pressure_only():
 
 
 def test_extend_with_reference_joins_continuously():
+    # Behaviour changed on purpose: the cast's offset from the reference at the join used to
+    # be carried all the way down (the reference shifted to meet the cast); it now fades to
+    # zero over join_blend (100 m), and the reference's water is used as measured below.
     prof = build_profile(ctd_cast(pmax=200.0))
     zr = np.arange(0.0, 1001.0, 5.0)
     ref = make_cast(depth=zr, temperature=3.0 + 15.0 * np.exp(-zr / 150.0),
@@ -118,12 +121,19 @@ def test_extend_with_reference_joins_continuously():
     ref = pr.add_sound_speed(pr.bin_cast(pr.add_depth(ref), 5.0))
     out = extend_to(prof, 800.0, reference=ref)
     c = out["sound_speed"].values
-    last = np.flatnonzero(out["depth"].values <= prof.attrs["cast_max_depth"])[-1]
+    z = out["depth"].values
+    last = np.flatnonzero(z <= prof.attrs["cast_max_depth"])[-1]
     assert abs(c[last + 1] - c[last]) < 0.5  # joins: one bin's worth of change
-    # the shape below follows the reference's temperature, offset to join
     t = out["temperature"].values
-    tr = np.interp(out["depth"].values, ref["depth"].values, ref["temperature"].values)
-    np.testing.assert_allclose(np.diff(t[last + 1:]), np.diff(tr[last + 1:]), atol=1e-12)
+    tr = np.interp(z, ref["depth"].values, ref["temperature"].values)
+    offset = t[last] - tr[last]
+    assert abs(offset) > 0.05  # the two casts differ at the join
+    # linear fade of the offset over 100 m, then the reference's temperature as measured
+    below = z > z[last]
+    fade = np.clip(1 - (z[below] - z[last]) / 100.0, 0, 1)
+    np.testing.assert_allclose(t[below], tr[below] + offset * fade, atol=1e-9)
+    assert "fading to zero over 100 m" in out.attrs["extension_join"]
+    assert out.attrs["extension_reference"] == ref.attrs["cast_name"]
     with pytest.raises(SeaprofileError, match="reference"):
         extend_to(prof, 2000.0, reference=ref)
 
@@ -151,3 +161,105 @@ def test_long_constant_extension_warns_and_reference_does_not():
     with warnings.catch_warnings():
         warnings.simplefilter("error", LongExtensionWarning)
         extend_to(prof, last + 50.0)
+
+
+@pytest.mark.parametrize("bad", [-5.0, 0.0, 12000.5, 1e7, np.nan, np.inf, "deep"])
+def test_extension_depth_is_validated(bad):
+    prof = build_profile(ctd_cast())
+    with pytest.raises(SeaprofileError, match="bottom_depth"):
+        extend_to(prof, bad)
+    with pytest.raises(SeaprofileError, match="extend_to"):
+        build_profile(ctd_cast(n=300), extend_to=bad)
+
+
+@pytest.mark.parametrize("bad", [np.inf, np.nan, 0.0, -1.0])
+def test_bin_size_is_validated(bad):
+    with pytest.raises(SeaprofileError, match="bin_size"):
+        build_profile(ctd_cast(n=300), bin_size=bad)
+
+
+def test_tiny_bin_size_names_the_memory():
+    with pytest.raises(SeaprofileError, match=r"bin_size: .* needs .* GB"):
+        build_profile(ctd_cast(n=300), bin_size=1e-7)
+
+
+def test_out_of_range_extension_is_flagged_bad_not_estimated():
+    # warm salty water held down to 11000 m: TEOS-10 (gsw) gives far above the 1700 m/s
+    # window there, so those added levels must not pass as usable estimates
+    z = np.arange(1.0, 101.0)
+    cast = make_cast(depth=z, temperature=30.0 - 0.001 * z, salinity=40.0 + 0.001 * z,
+                     latitude=LAT, longitude=LON)
+    prof = build_profile(cast, equation="teos10")
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        out = extend_to(prof, 11000.0)
+    c, f = out["sound_speed"].values, out["sound_speed_qc"].values
+    added = out["depth"].values > 100.0
+    assert (f[added & (c > 1700.0)] == 4).any()
+    assert (f[added & (c > 1700.0)] == 4).all() and (f[added & (c <= 1700.0)] == 8).all()
+    assert _cf.steps_of(out.attrs)[-1]["out_of_range"]["sound_speed"] > 0
+
+
+def test_extend_to_bottom_needs_a_bottom_depth():
+    cast = ctd_cast(n=300)
+    with pytest.raises(SeaprofileError, match="bottom_depth"):
+        build_profile(cast, extend_to="bottom")
+    cast.attrs["bottom_depth"] = "320"
+    prof = build_profile(cast, extend_to="bottom")
+    assert prof["depth"].values[-1] == 320.0 and prof.attrs["bottom_depth"] == 320.0
+    assert "extended" in prof.attrs["assumptions"]
+
+
+def test_replacement_salinity_for_a_failed_channel():
+    cast = ctd_cast(n=600)
+    s = cast["salinity"].values.copy()
+    s[:] = 34.9  # the channel stuck at one value: the stuck-value test flags it all
+    failed = cast.copy()
+    failed["salinity"] = failed["salinity"].copy(data=s)
+    assert not np.isfinite(build_profile(failed)["sound_speed"].values).any()
+    prof = build_profile(failed, replacement_salinity=35.1, equation="teos10")
+    assert (prof["salinity"].values == 35.1).all()
+    assert (prof["salinity_qc"].values == 8).all() and (prof["sound_speed_qc"].values == 8).all()
+    # TEOS-10 via gsw, independently, at the replacement salinity (round-off agreement)
+    t, p = prof["temperature"].values, prof["pressure"].values
+    sa = gsw.SA_from_SP(35.1, p, LON, LAT)
+    np.testing.assert_allclose(prof["sound_speed"].values,
+                               gsw.sound_speed(sa, gsw.CT_from_t(sa, t, p), p), atol=1e-9)
+    assert "salinity replaced: assumed constant 35.1" in prof.attrs["assumptions"]
+    steps = [st["step"] for st in _cf.steps_of(prof.attrs)]
+    assert steps.index("despike") < steps.index("replace_salinity")
+    every = build_profile(cast, replacement_salinity=35.1, replace_salinity="all")
+    assert (every["salinity"].values == 35.1).all()
+    assert "everywhere" in every.attrs["salinity_replaced"]
+    with pytest.raises(SeaprofileError, match="replace_salinity"):
+        build_profile(cast, replacement_salinity=35.0, replace_salinity="most")
+
+
+def test_wild_pressure_is_flagged_quietly():
+    import warnings
+
+    p = np.arange(1.0, 200.0)
+    p[80] = 1e9
+    z = np.arange(1.0, 200.0)
+    cast = make_cast(pressure=p, temperature=6.0 + 14.0 * np.exp(-z / 100),
+                     salinity=35.0 + 0.001 * z, latitude=LAT, longitude=LON)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # no numpy overflow warning reaches the user
+        prof = build_profile(cast)
+    assert qc_summary(prof)["global_range"]["pressure"] == 1
+    assert prof.attrs["cast_max_depth"] > 190.0  # the rest of the cast was kept
+    assert np.isfinite(prof["sound_speed"].values).all()
+
+
+def test_validators_name_the_option_they_are_given():
+    # for the command line: the same checks, naming its options
+    from seaprofile.casts.binning import check_step
+    from seaprofile.profile import check_bottom_depth
+
+    with pytest.raises(SeaprofileError, match="--extend-to"):
+        check_bottom_depth("1e9", "--extend-to")
+    with pytest.raises(SeaprofileError, match="--bin"):
+        check_step("inf", "--bin")
+    assert check_bottom_depth("4800", "--extend-to") == 4800.0

@@ -19,26 +19,38 @@ from ..seawater.state import potential_density_anomaly
 from ._common import exceeds_earlier, position
 from ._qc_work import _assumed, _dim, _present, _single, _vertical
 
+#: deeper than any ocean, m (and dbar): the deepest sounding, in the Challenger Deep, is
+#: about 10,900 m (from memory); 12000 leaves a margin. Common practice, no source.
+MAX_OCEAN_DEPTH = 12000.0
+
 GLOBAL_RANGE = {
     # Argo QC manual (doi:10.13155/33951), test 6 "global range"
     "temperature": (-2.5, 40.0),
     "salinity": (2.0, 41.0),
-    # Argo QC manual, test 6: pressure not less than -5 dbar  (from memory)
-    "pressure": (-5.0, np.inf),
+    # lower limit: Argo QC manual, test 6, pressure not less than -5 dbar (from memory);
+    # upper limit: no ocean is deeper than MAX_OCEAN_DEPTH (common practice, no source)
+    "pressure": (-5.0, MAX_OCEAN_DEPTH),
+    "depth": (-5.0, MAX_OCEAN_DEPTH),
 }
 # Argo QC manual, test 9 "spike": (threshold for pressure < 500 dbar, for >= 500 dbar)
 SPIKE_THRESHOLDS = {"temperature": (6.0, 2.0), "salinity": (0.9, 0.3)}
 # Argo QC manual, test 11 "gradient" (obsolete since 2019)  (from memory)
 GRADIENT_THRESHOLDS = {"temperature": (9.0, 3.0), "salinity": (1.5, 0.5)}
 SPLIT_PRESSURE = 500.0  # dbar, Argo QC manual tests 9 and 11
-SOUND_SPEED_RANGE = (1400.0, 1650.0)  # m/s, plausibility window: common practice, no source
+# m/s, plausibility window (common practice, no source). The upper end leaves room for the
+# deepest water: TEOS-10 (gsw) gives 1665.6 m/s at 12000 dbar, 2.5 degC, S 34.7, and the
+# lower end for cold fresh water (1402 m/s at 0 degC, S 0, the surface).
+SOUND_SPEED_RANGE = (1400.0, 1700.0)
+#: fewest usable values for the whole-profile stuck-value test (common practice, no
+#: source): two or three identical values are a normal planning input, not a stuck sensor
+STUCK_MIN_VALUES = 10
 
 
 # --- helpers ---------------------------------------------------------------------------
 def _outside(w, var, low, high):
     """Where the usable values of ``var`` lie below ``low`` or above ``high``."""
     values, ok = w.usable(var)
-    with np.errstate(invalid="ignore"):
+    with np.errstate(invalid="ignore", over="ignore"):
         return ok & ((values < low) | (values > high))
 
 
@@ -80,7 +92,9 @@ def global_range(ds, limits=None):
     limits : dict, optional
         ``{variable: (low, high)}``; values below ``low`` or above ``high`` fail (the limits
         themselves pass). Default :data:`GLOBAL_RANGE`: temperature -2.5..40 degC, practical
-        salinity 2..41 (Argo QC manual test 6), pressure >= -5 dbar.
+        salinity 2..41 (Argo QC manual test 6), pressure -5..12000 dbar and depth
+        -5..12000 m (the lower limit from Argo test 6; the upper one is
+        :data:`MAX_OCEAN_DEPTH`, deeper than any ocean: common practice, no source).
 
     Returns
     -------
@@ -184,6 +198,12 @@ def spike(ds, variables=None, thresholds=None):
     -----
     Argo QC manual (doi:10.13155/33951), real-time test 9. The first and last usable
     values have only one neighbour and are not tested.
+
+    The test compares each value with its adjacent usable values, whatever their spacing,
+    and its test value is the distance by which V2 lies *outside* the range of V1 and V3:
+    zero on any monotone stretch, however steep. A real gradient therefore never fails,
+    on a 24 Hz CTD record or on bottles 50 m apart alike; only a value standing out
+    beyond both neighbours by more than the depth-dependent threshold does.
     """
     return _single(_spike)(ds, variables=variables, thresholds=thresholds)
 
@@ -219,7 +239,7 @@ def _gradient(w, variables=None, thresholds=None):
     w.apply(_neighbour_test(w, variables, thresholds, "gradient"), "gradient")
 
 
-def stuck_value(ds, variables=None, run_length=None):
+def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES):
     """Flag a sensor that reports one value throughout.
 
     Parameters
@@ -227,34 +247,43 @@ def stuck_value(ds, variables=None, run_length=None):
     ds : xarray.Dataset
         A Cast or a Profile.
     variables : sequence of str, optional
-        Default temperature, salinity, conductivity and measured sound speed (those present).
+        Default temperature, salinity and conductivity (those present), the variables of
+        Argo's test. Measured sound speed is left out by default: a constant sound speed
+        is a normal isovelocity planning input (e.g. 1500 m/s at 0 and 100 m); name it here
+        to test a sound-speed probe.
     run_length : int, optional
         Also flag as probably bad (3) every run of at least ``run_length`` consecutive
         usable samples with identical values. Off by default: well-mixed water recorded at
         a coarse resolution legitimately repeats values.
+    min_values : int
+        Fewest usable values for the whole-profile test (default
+        :data:`STUCK_MIN_VALUES`, 10; common practice, no source): a short profile --
+        two or three planning nodes, a few bottles in well-mixed water -- repeats a value
+        legitimately, and is not tested.
 
     Returns
     -------
     xarray.Dataset
-        When all usable values (at least two) of a variable are identical they are all
-        flagged bad (4), as in Argo.
+        When all usable values (at least ``min_values``) of a variable are identical they
+        are all flagged bad (4), as in Argo.
 
     Notes
     -----
     Argo QC manual (doi:10.13155/33951), real-time test 13 "stuck value".
     """
-    return _single(_stuck_value)(ds, variables=variables, run_length=run_length)
+    return _single(_stuck_value)(ds, variables=variables, run_length=run_length,
+                                 min_values=min_values)
 
 
-def _stuck_value(w, variables=None, run_length=None):
-    default = ("temperature", "salinity", "conductivity", "measured_sound_speed")
+def _stuck_value(w, variables=None, run_length=None, min_values=STUCK_MIN_VALUES):
+    default = ("temperature", "salinity", "conductivity")
     hits, runs = {}, {}
     for var in _present(w.ds, variables, default):
         values, ok = w.usable(var)
         idx = np.flatnonzero(ok)
         v = values[idx]
         whole = np.zeros(values.size, bool)
-        if idx.size >= 2 and np.all(v == v[0]):
+        if idx.size >= max(2, int(min_values)) and np.all(v == v[0]):
             whole[idx] = True
         hits[var] = whole
         if run_length is not None and idx.size >= 2:
@@ -349,12 +378,10 @@ def _density_inversion(w, threshold=0.03):
         order = idx[np.argsort(p[idx], kind="stable")]
         lat, lon = position(ds)
         known = np.isfinite(lat) and np.isfinite(lon)
-        sigma = np.asarray(
-            potential_density_anomaly(
-                t[order], s[order], p[order], lat if known else None, lon if known else None
-            ),
-            dtype=np.float64,
-        )
+        with np.errstate(over="ignore", invalid="ignore"):
+            sigma = np.asarray(potential_density_anomaly(
+                t[order], s[order], p[order], lat if known else None, lon if known else None),
+                dtype=np.float64)
         bad[order[_inversion_kernel(sigma, float(threshold))]] = True
     w.apply({"temperature": bad, "salinity": bad.copy()}, "density_inversion")
 
@@ -367,8 +394,8 @@ def sound_speed_range(ds, limits=SOUND_SPEED_RANGE):
     ds : xarray.Dataset
         A Cast or Profile with ``sound_speed`` and/or ``measured_sound_speed``.
     limits : (float, float)
-        m/s, default 1400..1650 (a window around the ocean's range; common practice, no
-        source). The limits themselves pass.
+        m/s, default 1400..1700 (a window around the ocean's range, wide enough for the
+        deepest trench water; common practice, no source). The limits themselves pass.
 
     Returns
     -------

@@ -33,12 +33,58 @@ __all__ = ["bin_cast", "fill_gaps", "add_sound_speed"]
 _BINNED = ("pressure", "depth", "temperature", "salinity", "measured_sound_speed")
 
 
-def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None):
-    """Average a Cast into regular bins: the Profile.
+#: most bins one Profile may have (an error beyond: a tiny bin would allocate gigabytes)
+MAX_BINS = 2_000_000
+#: a sample farther than this many bins from the nearest usable sample on each side keeps
+#: its own level instead of being binned (our choice: at least one empty bin on each side)
+SPARSE_SPACING = 2.0
+
+
+def check_bin_count(count, step, span, name="step"):
+    """Raise :class:`SeaprofileError` naming ``name`` when ``count`` bins exceed
+    :data:`MAX_BINS`; the message says the memory they would need (``step`` and ``span``
+    in m or dbar)."""
+    if count > MAX_BINS:
+        need = count * _BYTES_PER_BIN
+        raise SeaprofileError(
+            f"{name}: a bin size of {step:g} over {span:g} m needs {count:.3g} bins, about "
+            f"{need / 1e9:.3g} GB of memory; at most {MAX_BINS:,} bins are made: use a larger "
+            f"{name}")
+
+
+# float64 values and int8 flags of about six variables, counts, and working copies
+_BYTES_PER_BIN = 3 * (6 * 9 + 4 + 16)
+
+
+def check_step(step, name="step"):
+    """``step`` as a float, or :class:`SeaprofileError` naming ``name`` unless it is a
+    finite number > 0."""
+    try:
+        value = float(step)
+    except (TypeError, ValueError):
+        raise SeaprofileError(f"{name} must be a bin size in m, got {step!r}") from None
+    if not (np.isfinite(value) and value > 0):
+        raise SeaprofileError(f"{name} must be a finite bin size > 0 m, got {step!r}")
+    return value
+
+
+def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
+             sparse_spacing=SPARSE_SPACING, argument="step"):
+    """Average a Cast into regular bins where it is dense; keep its own levels where sparse.
 
     Bin ``k`` holds the samples with ``(k - 1/2) step <= x < (k + 1/2) step`` on the chosen
     axis and is centred at ``k step``. Samples whose axis value is missing or flagged
     3, 4 or 9 are not placed in any bin (nor those above ``-step/2``, i.e. out of the water).
+
+    Binning applies where the data are denser than the bins. A usable sample whose
+    nearest usable neighbours above *and* below are more than ``sparse_spacing`` bins away
+    (at least one empty bin on each side: bottle stations, floats, archived low-resolution
+    casts, planning nodes) is not moved to a bin centre: it keeps its own level -- its
+    measured depth, pressure and values -- in the Profile. Between such levels the
+    Profile still has the regular bin centres, empty here (NaN, flagged 9), for
+    :func:`fill_gaps` to interpolate; empty bin centres within a tenth of a bin of a kept
+    level are left out, and none lies above the shallowest or below the deepest level with
+    data.
 
     Parameters
     ----------
@@ -46,7 +92,8 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None):
         A Cast with ``depth`` (see :func:`~seaprofile.casts.process.add_depth`), not
         modified.
     step : float
-        Bin size, m for ``axis="depth"``, dbar for ``axis="pressure"``.
+        Bin size, m for ``axis="depth"``, dbar for ``axis="pressure"``: finite, > 0, and
+        no more than :data:`MAX_BINS` bins over the cast.
     axis : {"depth", "pressure"}
         The variable to bin on.
     latitude : float, optional
@@ -55,30 +102,40 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None):
         :func:`~seaprofile.casts.process.add_depth`) or position.
     depth_method : str, optional
         Default the Cast's ``depth_method`` attribute, else ``"unesco1983"``.
+    sparse_spacing : float
+        Bins (dimensionless): the gap to the nearest usable sample on both sides beyond
+        which a sample keeps its own level (default :data:`SPARSE_SPACING`, 2). ``inf``:
+        bin everything.
+    argument : str
+        The name error messages give the bin size (``build_profile`` passes
+        ``"bin_size"``).
 
     Returns
     -------
     xarray.Dataset
-        A Profile on dimension ``depth`` (bin centres, m; for ``axis="pressure"`` the depths
-        of the pressure-bin centres), from the shallowest to the deepest occupied bin:
+        A Profile on dimension ``depth`` (m, increasing; for ``axis="pressure"`` the depths
+        of the pressure-bin centres):
 
         - each measured variable: the mean of its usable samples in the bin (flags 0, 1, 2,
-          5 or 8 -- values flagged 3, 4 or 9 are left out);
+          5 or 8 -- values flagged 3, 4 or 9 are left out), or the sample's own value at
+          a kept level;
         - ``<var>_qc``: the highest flag among the samples averaged (with only usable flags
           present this is the least trustworthy of them); 9 and NaN where a bin has no
           usable sample;
         - the variable paired with the axis (pressure for depth bins, and the reverse) is
           converted from the bin centre, flagged like the axis samples in the bin and 8
-          (estimated) in empty bins;
-        - ``samples_per_bin``: the samples placed in the bin;
-        - attributes ``bin_size``, ``bin_axis``, ``depth_method``, ``cast_max_depth``.
+          (estimated) in empty bins; a kept level has the sample's own pair and flags;
+        - ``samples_per_bin``: the samples placed in the bin (1 at a kept level);
+        - attributes ``bin_size``, ``bin_axis``, ``depth_method``, ``cast_max_depth`` (the
+          deepest level with data). The step records the bins, the kept levels and
+          ``left_out``: per variable, the samples placed at a depth whose value was not
+          used (flagged 3, 4 or 9, or NaN) -- the flags and the quality-control summary
+          say why.
     """
     require_cast(cast)
     if axis not in ("depth", "pressure"):
         raise SeaprofileError(f"axis must be 'depth' or 'pressure', got {axis!r}")
-    step = float(step)
-    if not step > 0:
-        raise SeaprofileError(f"step must be a positive bin size, got {step}")
+    step = check_step(step, argument)
     other = "pressure" if axis == "depth" else "depth"
     for v in (axis, other):
         if v not in cast.data_vars:
@@ -89,45 +146,116 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None):
 
     x = cast[axis].values.astype(np.float64)
     xflag = cast[f"{axis}_qc"].values
-    placed, idx, centres = _bin_numbers(x, xflag, step, axis)
+    placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument)
+    levels = placed & _isolated(x, placed, float(sparse_spacing) * step)
+    binned = placed & ~levels
     nb = centres.size
-    counts = np.bincount(idx[placed], minlength=nb)
+    counts = np.bincount(idx[binned], minlength=nb)
+
+    variables = [v for v in _BINNED if v in cast.data_vars and v not in (axis, other)]
+    rows = {}  # name -> (values, flags) on the bins, then the kept levels
+    for var in variables:
+        mean, bflag = _bin_means(cast, var, binned, idx, nb)
+        val, fl = _level_values(cast, var, levels)
+        rows[var] = (np.concatenate([mean, val]), np.concatenate([bflag, fl]))
+    # the axis pair: converted from the bin centres, flagged like the axis samples
+    axis_flag = _highest_flag(idx, binned, xflag, nb)
+    axis_flag[counts == 0] = _cf.ESTIMATED
+    with np.errstate(over="ignore", invalid="ignore"):
+        if axis == "depth":
+            depth = centres
+            pressure = np.asarray(pressure_from_depth(centres, lat, method), np.float64)
+            comment = f"at the bin-centre depth, method {method}"
+        else:
+            depth = np.asarray(depth_from_pressure(centres, lat, method), np.float64)
+            pressure = centres
+            comment = "pressure-bin centre"
+    nl = int(levels.sum())
+    depth = np.concatenate([depth, cast["depth"].values[levels]])
+    pressure = np.concatenate([pressure, cast["pressure"].values[levels]])
+    pair_flag = np.concatenate([axis_flag, cast[f"{other}_qc"].values[levels]])
+    counts = np.concatenate([counts, np.ones(nl, np.int64)])
+    position = np.concatenate([centres, x[levels]])
+    order = _keep_rows(position, counts, nb, step)
 
     dim = ("depth",)
     data = {}
-    for var in [v for v in _BINNED if v in cast.data_vars and v not in (axis, other)]:
-        mean, bflag = _bin_means(cast, var, placed, idx, nb)
-        data[var] = (dim, mean, _cf.attrs_for(var, ancillary_variables=f"{var}_qc"))
-        data[f"{var}_qc"] = (dim, bflag, _cf.flag_attrs(var))
-    # the axis pair: converted from the bin centres, flagged like the axis samples
-    axis_flag = _highest_flag(idx, placed, xflag, nb)
-    axis_flag[counts == 0] = _cf.ESTIMATED
-    if axis == "depth":
-        depth = centres
-        pressure = np.asarray(pressure_from_depth(centres, lat, method), np.float64)
-        comment = f"at the bin-centre depth, method {method}"
-    else:
-        depth = np.asarray(depth_from_pressure(centres, lat, method), np.float64)
-        pressure = centres
-        comment = "pressure-bin centre"
-    data["pressure"] = (dim, pressure, _cf.attrs_for(
-        "pressure", ancillary_variables="pressure_qc", comment=comment))
-    data["pressure_qc"] = (dim, axis_flag, _cf.flag_attrs("pressure"))
-    data["samples_per_bin"] = (dim, counts.astype(np.int32), _cf.attrs_for("samples_per_bin"))
+    for var, (val, fl) in rows.items():
+        data[var] = (dim, val[order], _cf.attrs_for(var, ancillary_variables=f"{var}_qc"))
+        data[f"{var}_qc"] = (dim, fl[order].astype(np.int8), _cf.flag_attrs(var))
+    data["pressure"] = (dim, pressure[order], _cf.attrs_for(
+        "pressure", ancillary_variables="pressure_qc", comment=comment + (
+            "; the sample's own pressure at a kept level" if nl else "")))
+    data["pressure_qc"] = (dim, pair_flag[order].astype(np.int8), _cf.flag_attrs("pressure"))
+    data["samples_per_bin"] = (dim, counts[order].astype(np.int32),
+                               _cf.attrs_for("samples_per_bin"))
 
+    depth = depth[order]
     coords = {"depth": ("depth", depth, _cf.attrs_for("depth"))}
     for c in ("latitude", "longitude", "time", "profile_id"):
         if c in cast.coords:
             coords[c] = cast.coords[c].variable
     attrs = {k: v for k, v in cast.attrs.items() if k not in ("cast_direction",)}
+    with_data = counts[order] > 0
     attrs.update(bin_size=step, bin_axis=axis, depth_method=method,
-                 cast_max_depth=float(depth[-1]))
-    attrs = _cf.record_step(attrs, "bin_cast", bin_size=step, axis=axis, bins=nb,
-                            samples_binned=int(counts.sum()))
+                 cast_max_depth=float(depth[with_data][-1]))
+    left_out = {var: int(np.count_nonzero(placed & ~_usable(cast, var))) for var in variables}
+    attrs = _cf.record_step(attrs, "bin_cast", bin_size=step, axis=axis,
+                            bins=int(np.count_nonzero(order < nb)), levels_kept=nl,
+                            sparse_spacing=float(sparse_spacing),
+                            samples_binned=int(counts[:nb].sum()), left_out=left_out,
+                            not_placed=int(np.count_nonzero(~placed)))
     return xr.Dataset(data, coords=coords, attrs=attrs)
 
 
-def _bin_numbers(x, flags, step, axis):
+def _usable(cast, var):
+    vals = cast[var].values.astype(np.float64)
+    return np.isfinite(vals) & ~np.isin(cast[f"{var}_qc"].values, EXCLUDED)
+
+
+def _isolated(x, placed, distance):
+    """Placed samples whose nearest placed neighbours above and below are both farther
+    than ``distance`` along the axis (a missing neighbour counts as far)."""
+    out = np.zeros(x.size, bool)
+    where = np.flatnonzero(placed)
+    if not np.isfinite(distance):
+        return out
+    order = where[np.argsort(x[where], kind="stable")]
+    xs = x[order]
+    gap = np.diff(xs)
+    above = np.concatenate(([np.inf], gap))
+    below = np.concatenate((gap, [np.inf]))
+    out[order] = (above > distance) & (below > distance)
+    return out
+
+
+def _level_values(cast, var, levels):
+    """Own values and flags of the kept levels (NaN and 9 where not usable)."""
+    vals = cast[var].values.astype(np.float64)[levels]
+    fl = cast[f"{var}_qc"].values[levels].astype(np.int8)
+    ok = np.isfinite(vals) & ~np.isin(fl, EXCLUDED)
+    return np.where(ok, vals, np.nan), np.where(ok, fl, _cf.MISSING).astype(np.int8)
+
+
+def _keep_rows(position, counts, nb, step):
+    """Row order of the Profile: bins and kept levels sorted along the axis, without the
+    empty bins outside the levels with data or within a tenth of a bin of a kept level."""
+    has = counts > 0
+    lo, hi = position[has].min(), position[has].max()
+    keep = has.copy()
+    empty = ~has
+    keep[empty] = (position[empty] > lo) & (position[empty] < hi)
+    level_pos = np.sort(position[nb:])
+    if level_pos.size:
+        j = np.clip(np.searchsorted(level_pos, position[:nb]), 1, level_pos.size) - 1
+        near = np.minimum(np.abs(position[:nb] - level_pos[j]),
+                          np.abs(position[:nb] - level_pos[np.minimum(j + 1, level_pos.size - 1)]))
+        keep[:nb] &= has[:nb] | (near >= 0.1 * step)
+    rows = np.flatnonzero(keep)
+    return rows[np.argsort(position[rows], kind="stable")]
+
+
+def _bin_numbers(x, flags, step, axis, argument="step"):
     """Which samples go into a bin, the bin (from 0) of each, and the bin centres.
 
     A sample is placed when its axis value ``x`` is finite, not flagged 3, 4 or 9 and not
@@ -138,6 +266,10 @@ def _bin_numbers(x, flags, step, axis):
         placed = np.isfinite(x) & ~np.isin(flags, EXCLUDED) & (x >= -0.5 * step)
     if not placed.any():
         raise SeaprofileError(f"cast has no usable {axis} samples to bin")
+    lo, hi = float(x[placed].min()), float(x[placed].max())
+    with np.errstate(over="ignore", invalid="ignore"):
+        count = np.floor(hi / step + 0.5) - np.floor(lo / step + 0.5) + 1
+    check_bin_count(count if np.isfinite(count) else np.inf, step, hi - lo, argument)
     k = np.zeros(x.size, np.int64)
     k[placed] = np.floor(x[placed] / step + 0.5).astype(np.int64)
     kmin = int(k[placed].min())
@@ -172,27 +304,43 @@ def _profile_vars(profile):
 
 
 def fill_gaps(profile, max_gap=5.0):
-    """Interpolate linearly across short runs of empty bins, flagged 8 (estimated).
+    """Interpolate linearly in depth across empty levels inside a Profile, flagged 8.
+
+    Every variable -- temperature and salinity, or the measured sound speed of a probe --
+    is interpolated linearly in depth between the nearest levels with a usable value above
+    and below; sound speed is then computed from the interpolated temperature and
+    salinity by :func:`add_sound_speed` (so the pressure term is exact at every level),
+    and a probe's measured sound speed is interpolated itself. Levels with data are never
+    changed.
 
     Parameters
     ----------
     profile : xarray.Dataset
         A Profile (not modified).
-    max_gap : float
-        m: the largest gap filled, measured as the depth span of the missing bins
-        (distance between the bins on either side, less one bin). Gaps at the top or bottom
-        of the profile are not filled.
+    max_gap : float or None
+        m: the largest gap filled, measured as the depth span of the missing levels
+        (distance between the levels with data on either side, less one bin). None: fill
+        every interior gap, whatever its length, so the Profile has no interior holes
+        (what :func:`seaprofile.profile.build_profile` does). Gaps at the top or bottom
+        of the profile are never filled.
 
     Returns
     -------
     xarray.Dataset
-        A new Profile; filled values are flagged 8 and keep ``samples_per_bin`` 0.
+        A new Profile; filled values are flagged 8 and keep ``samples_per_bin`` 0. The
+        step records ``filled`` (per variable) and ``largest_gap`` (m, the widest depth
+        span between two levels with data that was filled across).
     """
     require_profile(profile)
+    if max_gap is not None:
+        max_gap = float(max_gap)
+        if not max_gap >= 0:
+            raise SeaprofileError(f"max_gap must be >= 0 m or None, got {max_gap}")
     z = profile["depth"].values.astype(np.float64)
-    step = float(np.median(np.diff(z))) if z.size > 1 else 0.0
+    step = profile.attrs.get("bin_size")
+    step = float(step) if step else (float(np.median(np.diff(z))) if z.size > 1 else 0.0)
     out = profile.copy()
-    filled = {}
+    filled, widest = {}, 0.0
     for var in _profile_vars(profile):
         v = profile[var].values.astype(np.float64)
         good = np.isfinite(v)
@@ -203,8 +351,11 @@ def fill_gaps(profile, max_gap=5.0):
         j = np.flatnonzero(~good)
         j = j[(j > iv[0]) & (j < iv[-1])]
         pos = np.searchsorted(iv, j)
-        span = z[iv[pos]] - z[iv[pos - 1]] - step
-        j = j[span <= max_gap + 1e-9 * max(1.0, abs(max_gap))]
+        width = z[iv[pos]] - z[iv[pos - 1]]
+        if max_gap is not None:
+            keep = width - step <= max_gap + 1e-9 * max(1.0, abs(max_gap))
+            j, width = j[keep], width[keep]
+        widest = max(widest, float(width.max()) if width.size else 0.0)
         new = v.copy()
         new[j] = np.interp(z[j], z[iv], v[iv])
         flags = profile[f"{var}_qc"].values.copy()
@@ -212,7 +363,8 @@ def fill_gaps(profile, max_gap=5.0):
         out.variables[var].data = new  # the copy's own Variables: the input is untouched
         out.variables[f"{var}_qc"].data = flags.astype(np.int8)
         filled[var] = int(j.size)
-    out.attrs = _cf.record_step(profile.attrs, "fill_gaps", max_gap=max_gap, filled=filled)
+    out.attrs = _cf.record_step(profile.attrs, "fill_gaps", max_gap=max_gap, filled=filled,
+                                largest_gap=widest, method="linear in depth")
     return out
 
 

@@ -11,15 +11,18 @@ selected samples, and record how many samples they left out (and which, for the 
 direction). The original Cast, which the caller keeps, still holds every sample. Steps that
 *judge* values -- :func:`despike` and everything in :mod:`seaprofile.casts.qc` -- never
 remove anything: they raise ``<var>_qc`` flags, and :func:`bin_cast` leaves values flagged
-3 (probably bad), 4 (bad) or 9 (missing) out of the bin averages.
+3 (probably bad), 4 (bad) or 9 (missing) out of the bin averages. A sample whose pressure
+is impossible (flagged, or outside -5..12000 dbar) is not judged by the selection steps:
+it is kept for quality control to flag, with its reason.
 
-The steps on a Profile -- :func:`bin_cast`, :func:`fill_gaps` and :func:`add_sound_speed`
--- live in :mod:`seaprofile.casts.binning` and are importable from here too.
+:func:`replace_salinity` puts a given salinity (flag 8) where the salinity channel failed.
+:func:`despike` lives in :mod:`seaprofile.casts.despike`; the steps on a Profile --
+:func:`bin_cast`, :func:`fill_gaps` and :func:`add_sound_speed` -- in
+:mod:`seaprofile.casts.binning`. All are importable from here.
 """
 
 from __future__ import annotations
 
-import numba
 import numpy as np
 
 from .. import _cf
@@ -35,9 +38,16 @@ from ._common import (
     vertical,
     with_variable,
 )
+from ._qc_tests import GLOBAL_RANGE
 from .binning import _equation_sound_speed  # noqa: F401  (used by seaprofile.profile)
 from .binning import add_sound_speed, bin_cast, fill_gaps  # noqa: F401  (re-exported)
-from .flags import raise_flags, worst_flag
+from .despike import (  # noqa: F401  (re-exported)
+    DESPIKE_FLOOR,
+    DESPIKE_MAX_SPAN,
+    _running_median,
+    despike,
+)
+from .flags import worst_flag
 
 __all__ = [
     "remove_soak",
@@ -45,21 +55,14 @@ __all__ = [
     "remove_reversals",
     "add_salinity",
     "despike",
+    "replace_salinity",
     "add_depth",
     "bin_cast",
     "fill_gaps",
     "add_sound_speed",
     "DESPIKE_FLOOR",
+    "DESPIKE_MAX_SPAN",
 ]
-
-#: smallest deviation from the running median that :func:`despike` calls a spike, in the
-#: variable's units (chosen here to stay above sensor resolution and turbulent noise)
-DESPIKE_FLOOR = {
-    "temperature": 0.05,
-    "salinity": 0.02,
-    "conductivity": 0.05,
-    "measured_sound_speed": 0.2,
-}
 
 _latitude = cast_latitude  # a private name seaprofile.profile uses
 
@@ -74,8 +77,21 @@ def _select(cast, keep, step, **params):
 def _turn(values):
     """Index of the deepest finite sample (the end of the descent)."""
     if not np.isfinite(values).any():
-        raise SeaprofileError("cast has no finite pressure or depth")
+        raise SeaprofileError("cast has no usable pressure or depth (all missing, flagged "
+                              "bad or outside -5..12000)")
     return int(np.nanargmax(values))
+
+
+def _selection_vertical(cast):
+    """The vertical coordinate the selection steps use: pressure (dbar), else depth (m),
+    NaN where it is flagged 3, 4 or 9 or lies outside the range of any ocean
+    (:data:`seaprofile.casts.qc.GLOBAL_RANGE`), so that one wild value (a pressure of
+    1e9 dbar) neither becomes the deepest point nor swallows the rest of the descent."""
+    name, v = vertical(cast)
+    low, high = GLOBAL_RANGE[name]
+    with np.errstate(invalid="ignore"):
+        bad = (v < low) | (v > high) | np.isin(cast[f"{name}_qc"].values, EXCLUDED)
+    return np.where(bad, np.nan, v), bad
 
 
 # --- selection -------------------------------------------------------------------------
@@ -107,7 +123,7 @@ def remove_soak(cast, *, max_soak_pressure=20.0, min_rise=2.0):
         ``first_kept_sample`` (0-based index in the input).
     """
     require_cast(cast)
-    _, v = vertical(cast)
+    v, _ = _selection_vertical(cast)
     turn = _turn(v)
     head = v[: turn + 1]
     # shallowest pressure of the rest of the descent, seen from each sample
@@ -149,7 +165,7 @@ def select_direction(cast, direction="down"):
     require_cast(cast)
     if direction not in ("down", "up", "both"):
         raise SeaprofileError(f"direction must be 'down', 'up' or 'both', got {direction!r}")
-    _, v = vertical(cast)
+    v, _ = _selection_vertical(cast)
     turn = _turn(v)
     n = v.size
     keep = {"down": slice(0, turn + 1), "up": slice(turn, n), "both": slice(0, n)}[direction]
@@ -183,6 +199,11 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
     ``rate_window`` seconds) is below ``min_descent_rate`` are left out too: water dragged
     along by a slowed probe spoils them.
 
+    Samples whose pressure is flagged 3, 4 or 9 or lies outside -5..12000 dbar take no
+    part in the rule (they set no running maximum) and are kept, so that quality control
+    flags them with its reason and binning leaves them out; the step records their
+    number as ``kept_unusable_vertical``. (The soak and direction steps ignore them too.)
+
     Parameters
     ----------
     cast : xarray.Dataset
@@ -201,7 +222,7 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
         The kept samples; the step records ``removed_samples`` and ``slow_samples``.
     """
     require_cast(cast)
-    _, v = vertical(cast)
+    v, unusable = _selection_vertical(cast)
     direction = cast.attrs.get("cast_direction", "down")
     n = v.size
     sign = np.full(n, -1.0 if direction == "up" else 1.0)
@@ -219,9 +240,10 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
         with np.errstate(invalid="ignore"):
             slow = keep & (rate < min_descent_rate)
         keep &= ~slow
+    keep |= unusable  # not judged here: quality control flags them with the reason
     return _select(cast, np.flatnonzero(keep), "remove_reversals",
                    min_descent_rate=min_descent_rate, removed_samples=int(n - keep.sum()),
-                   slow_samples=int(slow.sum()))
+                   slow_samples=int(slow.sum()), kept_unusable_vertical=int(unusable.sum()))
 
 
 # --- derived variables -----------------------------------------------------------------
@@ -287,12 +309,14 @@ def add_depth(cast, latitude=None, method="unesco1983"):
             f"method {method!r} is unknown; choose one of {', '.join(DEPTH_METHODS)}")
     lat = cast_latitude(cast, latitude)
     if "pressure" in cast.data_vars:
-        z = depth_from_pressure(cast["pressure"].values, lat, method)
+        with np.errstate(over="ignore", invalid="ignore"):  # wild values: flagged by QC
+            z = depth_from_pressure(cast["pressure"].values, lat, method)
         out = with_variable(cast, "sample", "depth", z, cast["pressure_qc"].values,
                             comment=f"from pressure, method {method}")
         src = "pressure"
     elif "depth" in cast.data_vars:
-        p = pressure_from_depth(cast["depth"].values, lat, method)
+        with np.errstate(over="ignore", invalid="ignore"):
+            p = pressure_from_depth(cast["depth"].values, lat, method)
         out = with_variable(cast, "sample", "pressure", p, cast["depth_qc"].values,
                             comment=f"from depth, method {method}")
         src = "depth"
@@ -304,98 +328,59 @@ def add_depth(cast, latitude=None, method="unesco1983"):
     return out
 
 
-# --- despiking -------------------------------------------------------------------------
-@numba.njit(cache=True)
-def _running_median(x, half):
-    """Median of the finite values of x[i-half : i+half+1] for every i (NaN if none).
-
-    The window is kept sorted as it slides: one value leaves, one enters.
-    """
-    n = x.size
-    out = np.full(n, np.nan)
-    buf = np.empty(2 * half + 1)
-    m = 0
-    for j in range(-half, n):
-        enter = j + half  # the sample entering the window of sample j
-        if enter < n and np.isfinite(x[enter]):
-            v = x[enter]
-            k = m
-            while k > 0 and buf[k - 1] > v:
-                buf[k] = buf[k - 1]
-                k -= 1
-            buf[k] = v
-            m += 1
-        if j < 0:
-            continue
-        if m > 0:
-            out[j] = buf[m // 2] if m % 2 == 1 else 0.5 * (buf[m // 2 - 1] + buf[m // 2])
-        leave = j - half  # the sample leaving before the window of sample j + 1
-        if leave >= 0 and np.isfinite(x[leave]):
-            v = x[leave]
-            k = 0
-            while buf[k] != v:
-                k += 1
-            for q in range(k, m - 1):
-                buf[q] = buf[q + 1]
-            m -= 1
-    return out
-
-
-def despike(cast, variables=None, window=15, threshold=5.0, floor=None):
-    """Flag spikes as bad (4) with a running median and median absolute deviation.
-
-    Residual ``r = x - median(x)`` over a centred window of ``window`` samples; the
-    scale is the running median of ``|r|`` times 1.4826 (the MAD of a normal
-    distribution). A value is a spike when ``|r| > max(threshold * scale, floor)``.
+def replace_salinity(cast, salinity, *, where="bad"):
+    """Replace a failed salinity channel by a given salinity, flagged 8 (estimated).
 
     Parameters
     ----------
     cast : xarray.Dataset
-        A Cast (not modified); values already flagged 3, 4 or 9 are ignored.
-    variables : sequence of str, optional
-        Default: temperature, salinity, conductivity and measured sound speed (those present).
-    window : int
-        Samples in the running window (odd; at least 3).
-    threshold : float
-        Robust standard deviations (dimensionless).
-    floor : dict, optional
-        ``{variable: smallest spike}`` in the variable's units; default
-        :data:`DESPIKE_FLOOR`.
+        A Cast with ``depth`` (m; see :func:`add_depth`), not modified. It may lack
+        salinity altogether.
+    salinity : float or (array_like, array_like)
+        The replacement: a constant practical salinity, or a profile ``(depths_m,
+        salinities)`` interpolated linearly in depth and held constant beyond its ends
+        (:func:`seaprofile.casts.xbt.assumed_salinity`).
+    where : {"bad", "all"}
+        ``"bad"``: only where salinity is missing (NaN, or no salinity at all) or flagged
+        3, 4 or 9 -- run quality control first; ``"all"``: the whole cast (a channel that
+        drifted without failing a test).
 
     Returns
     -------
     xarray.Dataset
-        A new Cast with raised flags (nothing deleted); the step records the counts.
-
-    Notes
-    -----
-    The running median follows steps and gradients (it is edge-preserving), so the
-    residual and its scale stay small in a thermocline; the MAD is the robust scale
-    estimate of Hampel (1974), J. Am. Stat. Assoc. 69, 383-393.
+        A new Cast. Replaced values are flagged 8, "estimated value" of Argo reference
+        table 2: the value is not the sensor's, corrected (which flag 5, "value changed",
+        would say), but one taken from outside the cast. Quality-control tests do not
+        test flag-8 values, and sound speed computed from them is flagged 8 too. The
+        attribute ``salinity_replaced`` says what was used where; the step records the
+        source, ``where`` and the number replaced.
     """
+    from .xbt import assumed_salinity
+
     require_cast(cast)
-    window = int(window)
-    if window < 3:
-        raise SeaprofileError(f"window must be at least 3 samples, got {window}")
-    half = window // 2
-    floor = DESPIKE_FLOOR if floor is None else {**DESPIKE_FLOOR, **floor}
-    if variables is None:
-        variables = [v for v in DESPIKE_FLOOR if v in cast.data_vars]
-    out = cast.copy()
-    counts = {}
-    for var in variables:
-        if var not in cast.data_vars:
-            raise SeaprofileError(f"variables: {var!r} is not in the cast")
-        x = cast[var].values.astype(np.float64)
-        flags = cast[f"{var}_qc"].values
-        xv = np.where(np.isin(flags, EXCLUDED), np.nan, x)
-        r = xv - _running_median(xv, half)
-        scale = 1.4826 * _running_median(np.abs(r), half)
-        limit = np.maximum(threshold * scale, floor.get(var, 0.0))
-        with np.errstate(invalid="ignore"):
-            hit = np.abs(r) > limit
-        counts[var] = int(hit.sum())
-        out.variables[f"{var}_qc"].data = raise_flags(flags, np.where(hit, _cf.BAD, 0))
-    out.attrs = _cf.record_step(cast.attrs, "despike", window=window, threshold=threshold,
-                                flagged=counts)
+    if where not in ("bad", "all"):
+        raise SeaprofileError(f"where must be 'bad' or 'all', got {where!r}")
+    if "depth" not in cast.data_vars:
+        raise SeaprofileError("cast has no depth: run add_depth(cast, latitude=...) first")
+    values, desc = assumed_salinity(cast["depth"].values, salinity)
+    n = cast.sizes["sample"]
+    if "salinity" in cast.data_vars:
+        old = cast["salinity"].values.astype(np.float64)
+        old_flags = cast["salinity_qc"].values
+    else:
+        old, old_flags = np.full(n, np.nan), np.full(n, _cf.MISSING, np.int8)
+    if where == "all":
+        mask = np.ones(n, bool)
+    else:
+        mask = ~np.isfinite(old) | np.isin(old_flags, EXCLUDED)
+    mask &= np.isfinite(values)
+    new = np.where(mask, values, old)
+    flags = np.where(mask, _cf.ESTIMATED, old_flags).astype(np.int8)
+    out = with_variable(cast, "sample", "salinity", new, flags,
+                        comment=f"replaced where {where}: {desc} (flag 8)")
+    scope = "everywhere" if where == "all" else "where flagged bad or missing"
+    out.attrs = _cf.record_step(cast.attrs, "replace_salinity", salinity_source=desc,
+                                where=where, replaced=int(mask.sum()), samples=n)
+    out.attrs["salinity_replaced"] = (f"{desc}, {scope}: {int(mask.sum())} of {n} samples "
+                                      "(flag 8)")
     return out

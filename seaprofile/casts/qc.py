@@ -48,9 +48,11 @@ from .._validate import SeaprofileError
 from ._qc_tests import (  # noqa: F401  (the default thresholds, re-exported)
     GLOBAL_RANGE,
     GRADIENT_THRESHOLDS,
+    MAX_OCEAN_DEPTH,
     SOUND_SPEED_RANGE,
     SPIKE_THRESHOLDS,
     SPLIT_PRESSURE,
+    STUCK_MIN_VALUES,
 )
 from ._qc_tests import (
     BODIES,

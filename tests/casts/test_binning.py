@@ -75,3 +75,49 @@ def test_add_sound_speed_measured():
     assert prof.attrs["equation"] == "measured"
     assert prof["sound_speed"].attrs["standard_name"] == "speed_of_sound_in_sea_water"
     np.testing.assert_array_equal(prof["sound_speed"].values, 1500 + z)
+
+
+def test_sparse_samples_keep_their_own_levels():
+    import pytest
+
+    # dense 1 m samples to 20 m, then bottles every 10 m off the bin centres
+    z = np.concatenate([np.arange(1.0, 21.0), [32.4, 41.7, 55.5]])
+    t = 20.0 - 0.1 * z
+    cast = add_depth(make_cast(depth=z, temperature=t, salinity=np.full(z.size, 35.0),
+                               latitude=10.0))
+    prof = bin_cast(cast, 1.0)
+    depth = prof["depth"].values
+    assert (np.diff(depth) > 0).all()
+    for level, value, p in zip(z[-3:], t[-3:], cast["pressure"].values[-3:]):
+        i = int(np.flatnonzero(np.isclose(depth, level, rtol=0, atol=1e-12))[0])
+        assert prof["temperature"].values[i] == value
+        assert prof["pressure"].values[i] == p  # the sample's own pressure
+        assert prof["samples_per_bin"].values[i] == 1
+    # empty bin centres between the levels, none beyond the deepest level
+    assert depth[-1] == 55.5 and 55.0 in depth and 33.0 in depth
+    assert prof.attrs["cast_max_depth"] == 55.5
+    step = _cf.steps_of(prof.attrs)[-1]
+    assert step["levels_kept"] == 3 and step["samples_binned"] == 20
+    filled = fill_gaps(prof, max_gap=None)
+    assert np.isfinite(filled["temperature"].values).all()
+    np.testing.assert_allclose(filled["temperature"].values, 20.0 - 0.1 * depth, atol=1e-12)
+    assert _cf.steps_of(filled.attrs)[-1]["largest_gap"] == pytest.approx(55.5 - 41.7)
+    # everything binned when asked
+    assert _cf.steps_of(bin_cast(cast, 1.0, sparse_spacing=np.inf).attrs)[-1][
+        "levels_kept"] == 0
+
+
+def test_bin_size_is_validated_and_capped():
+    import pytest
+
+    from seaprofile._validate import SeaprofileError
+
+    z = np.linspace(0.0, 5000.0, 50)
+    cast = add_depth(make_cast(depth=z, temperature=np.full(50, 4.0),
+                               salinity=np.full(50, 35.0), latitude=10.0))
+    for bad in (np.inf, np.nan, 0.0, -1.0, "one"):
+        with pytest.raises(SeaprofileError, match="step"):
+            bin_cast(cast, bad)
+    # 1e-6 m bins over 5000 m would be 5e9 bins: refused, saying the memory needed
+    with pytest.raises(SeaprofileError, match=r"bin_size: .*GB of memory"):
+        bin_cast(cast, 1e-6, argument="bin_size")

@@ -118,3 +118,72 @@ def test_profile_steps_still_importable_from_process():
     for name in ("bin_cast", "fill_gaps", "add_sound_speed"):
         assert getattr(pr, name) is getattr(binning, name)
         assert name in pr.__all__
+
+
+def test_despike_spares_coarse_casts_and_window_ends():
+    # a smooth tanh thermocline sampled every 10 m: a 15-sample window spans 140 m, too
+    # coarse for a running median; before the fix thermocline samples were flagged 4
+    z = np.arange(3.7, 1000.0, 10.0)
+    t = 4.0 + 7.0 * (1.0 - np.tanh((z - 150.0) / 40.0))
+    cast = make_cast(pressure=z, temperature=t, salinity=np.full(z.size, 35.0))
+    out = pr.despike(cast)
+    assert (out["temperature_qc"].values == 0).all()
+    step = _cf.steps_of(out.attrs)[-1]
+    assert step["not_tested"] == {"temperature": z.size, "salinity": z.size}
+    assert "Argo spike test" in step["not_tested_reason"]
+    # a dense record: only the 7 values at each end lack a full window
+    zd = np.linspace(1, 300, 1500)
+    dense = pr.despike(make_cast(pressure=zd, temperature=8.0 + 0.01 * zd))
+    assert _cf.steps_of(dense.attrs)[-1]["not_tested"]["temperature"] == 14
+    with pytest.raises(SeaprofileError, match="max_span"):
+        pr.despike(cast, max_span=0.0)
+
+
+def test_despike_reports_where_it_flagged():
+    z = np.linspace(1, 300, 1500)
+    t = 8.0 + 0.01 * z
+    t[700] += 1.0
+    out = pr.despike(make_cast(pressure=z, temperature=t))
+    step = _cf.steps_of(out.attrs)[-1]
+    assert step["flagged"] == {"temperature": 1}
+    assert step["flagged_at"]["temperature"] == [pytest.approx(z[700])]
+
+
+def test_replace_salinity_where_bad_and_everywhere():
+    z = np.arange(1.0, 11.0)
+    s = np.full(10, 35.0)
+    s[[2, 5]] = [60.0, np.nan]
+    cast = pr.add_depth(make_cast(depth=z, temperature=np.full(10, 10.0), salinity=s,
+                                  latitude=30.0))
+    flags = cast["salinity_qc"].values.copy()
+    flags[2] = 4
+    cast["salinity_qc"] = cast["salinity_qc"].copy(data=flags)
+    before = cast.copy(deep=True)
+    out = pr.replace_salinity(cast, 34.2)
+    xr.testing.assert_identical(cast, before)
+    assert out["salinity"].values[[2, 5]].tolist() == [34.2, 34.2]
+    assert out["salinity_qc"].values[[2, 5]].tolist() == [8, 8]
+    assert np.delete(out["salinity"].values, [2, 5]).tolist() == [35.0] * 8
+    assert "2 of 10 samples" in out.attrs["salinity_replaced"]
+    step = _cf.steps_of(out.attrs)[-1]
+    assert step["step"] == "replace_salinity" and step["replaced"] == 2
+    every = pr.replace_salinity(cast, ([0.0, 10.0], [34.0, 35.0]), where="all")
+    np.testing.assert_allclose(every["salinity"].values, 34.0 + 0.1 * z)
+    assert (every["salinity_qc"].values == 8).all()
+    no_s = pr.add_depth(make_cast(depth=z, temperature=np.full(10, 10.0), latitude=30.0))
+    assert (pr.replace_salinity(no_s, 35.0)["salinity"].values == 35.0).all()
+    with pytest.raises(SeaprofileError, match="where"):
+        pr.replace_salinity(cast, 35.0, where="some")
+    with pytest.raises(SeaprofileError, match="salinity"):
+        pr.replace_salinity(cast, 99.0)
+
+
+def test_a_wild_pressure_does_not_swallow_the_rest_of_the_cast():
+    # before the fix a pressure of 1e9 dbar became the deepest point: everything after it
+    # was taken for the ascent and dropped
+    p = np.arange(1.0, 101.0)
+    p[50] = 1e9
+    cast = make_cast(pressure=p, temperature=np.linspace(20, 10, 100))
+    out = pr.remove_reversals(pr.select_direction(pr.remove_soak(cast)))
+    assert out.sizes["sample"] == 100
+    assert _cf.steps_of(out.attrs)[-1]["kept_unusable_vertical"] == 1

@@ -183,8 +183,10 @@ def test_bad_temperature_flags_salinity_from_conductivity():
 
 
 def test_sound_speed_range_edges():
-    # plausibility window 1400..1650 m/s: common practice, no source; limits pass
-    cast = make_cast(pressure=[1, 2, 3, 4.0], measured_sound_speed=[1400.0, 1650.0, 1399.9, 1650.1])
+    # plausibility window 1400..1700 m/s: common practice, no source; limits pass. The upper
+    # end was 1650 m/s, below the deepest water: TEOS-10 (gsw) gives 1665.6 m/s at
+    # 12000 dbar, 2.5 degC, S 34.7 (checked in test_sound_speed_range_holds_deep_water)
+    cast = make_cast(pressure=[1, 2, 3, 4.0], measured_sound_speed=[1400.0, 1700.0, 1399.9, 1700.1])
     out = qc.sound_speed_range(cast)
     assert out["measured_sound_speed_qc"].values.tolist() == [0, 0, 4, 4]
 
@@ -239,3 +241,38 @@ def test_flag_functions_and_thresholds_still_importable_from_qc():
     for name in ("GLOBAL_RANGE", "SPIKE_THRESHOLDS", "GRADIENT_THRESHOLDS",
                  "SPLIT_PRESSURE", "SOUND_SPEED_RANGE", *qc.TESTS):
         assert getattr(qc, name) is getattr(_qc_tests, name)
+
+
+def test_stuck_value_spares_short_and_speed_only_profiles():
+    # two or three identical planning nodes are not a stuck sensor (common practice, no
+    # source: at least qc.STUCK_MIN_VALUES = 10 values are needed to call one stuck)
+    for n in (2, 3, 9):
+        cast = make_cast(pressure=np.linspace(0, 100, n), temperature=np.full(n, 10.0),
+                         salinity=np.full(n, 35.0))
+        out = qc.stuck_value(cast)
+        assert (out["temperature_qc"].values == 0).all()
+    cast = make_cast(pressure=np.linspace(0, 100, 10), temperature=np.full(10, 10.0))
+    assert (qc.stuck_value(cast)["temperature_qc"].values == 4).all()
+    # a constant measured sound speed is an isovelocity input: tested only when named
+    svp = make_cast(pressure=np.linspace(0, 100, 50), measured_sound_speed=np.full(50, 1500.0))
+    assert (qc.run_qc(svp)["measured_sound_speed_qc"].values == 1).all()
+    named = qc.stuck_value(svp, variables=["measured_sound_speed"])
+    assert (named["measured_sound_speed_qc"].values == 4).all()
+
+
+def test_pressure_and_depth_range():
+    # lower limit: Argo QC manual test 6 (-5 dbar); upper limit 12000 dbar / m, deeper than
+    # any ocean: common practice, no source
+    p = [-5.0, 12000.0, -5.1, 12000.1, 1e9]
+    out = qc.global_range(make_cast(pressure=p, depth=p, temperature=np.full(5, 4.0)))
+    assert out["pressure_qc"].values.tolist() == [0, 0, 4, 4, 4]
+    assert out["depth_qc"].values.tolist() == [0, 0, 4, 4, 4]
+
+
+def test_sound_speed_range_holds_deep_water():
+    # TEOS-10 via gsw (IOC, SCOR & IAPSO 2010): the deepest water (12000 dbar, 2.5 degC,
+    # S 34.7) and cold fresh surface water must pass the plausibility window
+    sa = gsw.SA_from_SP([34.7, 0.0], [12000.0, 0.0], 0.0, 0.0)
+    c = gsw.sound_speed(sa, gsw.CT_from_t(sa, [2.5, 0.0], [12000.0, 0.0]), [12000.0, 0.0])
+    low, high = qc.SOUND_SPEED_RANGE
+    assert low <= c.min() and c.max() <= high

@@ -121,3 +121,56 @@ def test_complete_xbt_cast_without_latitude_has_no_pressure():
     cast = complete_xbt_cast(make_cast(elapsed_time=[0, 1.0], temperature=[20, 20.0],
                                        instrument="xbt"))
     assert "pressure" not in cast and "depth" in cast
+
+
+def test_joined_to_a_reference_the_probe_follows_its_measured_water():
+    # Before the fix the reference was shifted to meet the probe's assumed salinity (35
+    # here, against 34.4 measured by the reference), carrying about -0.7 m/s to the bottom.
+    from seaprofile.casts.process import add_depth, add_sound_speed, bin_cast
+    from seaprofile.profile import build_profile
+
+    lat, lon = 30.0, -40.0
+
+    def t_of(z):  # invented smooth water column, degC
+        return 3.0 + 15.0 * np.exp(-z / 300.0)
+
+    def s_of(z):  # invented measured salinity
+        return 34.4 + 0.2 * np.exp(-z / 500.0)
+
+    zr = np.arange(0.0, 3001.0, 1.0)
+    ref = make_cast(depth=zr, temperature=t_of(zr), salinity=s_of(zr), latitude=lat,
+                    longitude=lon, cast_name="deep-reference")
+    ref = add_sound_speed(bin_cast(add_depth(ref), 1.0), "teos10")
+    t = np.arange(0.0, 120.0, 0.1)
+    z = hanawa(t)
+    xbt = make_cast(elapsed_time=t, temperature=t_of(z) + 0.05, instrument="xbt",
+                    latitude=lat, longitude=lon)
+    prof = build_profile(xbt, equation="teos10", extend_to=3000.0, reference=ref)
+    depth = prof["depth"].values
+    z_join = prof.attrs["cast_max_depth"]
+    deep = depth > z_join + 100.0  # below the 100 m over which the offset at the join fades
+    assert deep.sum() > 2000
+    # the reference's water as measured: its temperature and salinity, unshifted
+    np.testing.assert_allclose(prof["temperature"].values[deep], t_of(depth[deep]), atol=1e-9)
+    np.testing.assert_allclose(prof["salinity"].values[deep], s_of(depth[deep]), atol=1e-9)
+    # TEOS-10 via gsw, independently, of the reference's water (pressure: gsw.p_from_z,
+    # within 0.01 dbar of UNESCO 1983 above 3000 m, under 2e-4 m/s)
+    p = gsw.p_from_z(-depth[deep], lat)
+    sa = gsw.SA_from_SP(s_of(depth[deep]), p, lon, lat)
+    expected = gsw.sound_speed(sa, gsw.CT_from_t(sa, t_of(depth[deep]), p), p)
+    np.testing.assert_allclose(prof["sound_speed"].values[deep], expected, atol=0.01)
+    # the probe's temperature offset (+0.05 degC) fades linearly over the 100 m below it
+    below = (depth > z_join) & ~deep
+    fade = 1.0 - (depth[below] - z_join) / 100.0
+    np.testing.assert_allclose(prof["temperature"].values[below] - t_of(depth[below]),
+                               0.05 * fade, atol=2e-3)
+    # every assumption is on the record, in attributes and in one line
+    a = prof.attrs
+    assert a["salinity_source"] == "assumed constant 35"
+    assert a["fall_rate_coefficients"] == "a=6.691 m/s, b=0.00225 m/s^2"
+    assert a["extension_reference"] == "deep-reference"
+    assert "salinity the reference's as measured" in a["extension_join"]
+    line = a["assumptions"]
+    for text in ("salinity assumed constant 35", "fall rate hanawa1995_t7 (a=6.691 m/s",
+                 "reference deep-reference", "fading to zero over 100 m"):
+        assert text in line

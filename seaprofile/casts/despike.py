@@ -1,0 +1,174 @@
+"""Despiking a Cast: a running-median test that scales with the sample spacing.
+
+:func:`despike` flags (never deletes) values that stand out from a running median of their
+neighbours, where the neighbours are close enough for the median to mean something; it is
+importable from :mod:`seaprofile.casts.process` too. It runs after the Argo tests of
+:mod:`seaprofile.casts.qc`, to catch what their thresholds let through on dense records.
+"""
+
+from __future__ import annotations
+
+import numba
+import numpy as np
+
+from .. import _cf
+from .._validate import SeaprofileError
+from ._common import EXCLUDED, require_cast, vertical
+from .flags import raise_flags
+
+__all__ = ["despike", "DESPIKE_FLOOR", "DESPIKE_MAX_SPAN"]
+
+#: smallest deviation from the running median that :func:`despike` calls a spike, in the
+#: variable's units (chosen here to stay above sensor resolution and turbulent noise)
+DESPIKE_FLOOR = {
+    "temperature": 0.05,
+    "salinity": 0.02,
+    "conductivity": 0.05,
+    "measured_sound_speed": 0.2,
+}
+
+#: dbar (or m): the longest vertical span of a :func:`despike` window. About twice the
+#: span of 15 samples of a CTD lowered at 1 m/s and sampled at 1 Hz (our choice): a window
+#: spanning more than this is too coarse for a running median to tell a spike from the
+#: water's own structure, and is left to the Argo spike test.
+DESPIKE_MAX_SPAN = 30.0
+
+
+# --- despiking -------------------------------------------------------------------------
+@numba.njit(cache=True)
+def _running_median(x, half):
+    """Median of the finite values of x[i-half : i+half+1] for every i (NaN if none).
+
+    The window is kept sorted as it slides: one value leaves, one enters.
+    """
+    n = x.size
+    out = np.full(n, np.nan)
+    buf = np.empty(2 * half + 1)
+    m = 0
+    for j in range(-half, n):
+        enter = j + half  # the sample entering the window of sample j
+        if enter < n and np.isfinite(x[enter]):
+            v = x[enter]
+            k = m
+            while k > 0 and buf[k - 1] > v:
+                buf[k] = buf[k - 1]
+                k -= 1
+            buf[k] = v
+            m += 1
+        if j < 0:
+            continue
+        if m > 0:
+            out[j] = buf[m // 2] if m % 2 == 1 else 0.5 * (buf[m // 2 - 1] + buf[m // 2])
+        leave = j - half  # the sample leaving before the window of sample j + 1
+        if leave >= 0 and np.isfinite(x[leave]):
+            v = x[leave]
+            k = 0
+            while buf[k] != v:
+                k += 1
+            for q in range(k, m - 1):
+                buf[q] = buf[q + 1]
+            m -= 1
+    return out
+
+
+def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
+            max_span=DESPIKE_MAX_SPAN):
+    """Flag spikes as bad (4) with a running median and median absolute deviation.
+
+    Residual ``r = x - median(x)`` over a centred window of ``window`` usable samples; the
+    scale is the running median of ``|r|`` times 1.4826 (the MAD of a normal
+    distribution). A value is a spike when ``|r| > max(threshold * scale, floor)``.
+
+    The test scales with the sample spacing: a value is tested only when its window is
+    full -- ``window // 2`` usable samples on each side -- and spans at most ``max_span``
+    vertically. Elsewhere (the ends of the record, a cast sampled every few metres, bottle
+    stations, floats) the running median cannot tell a spike from the water's own
+    structure: a truncated window at the surface or a window spanning a whole
+    thermocline has a median far from the value even on a smooth profile. Those values
+    are left to the Argo spike test (:func:`seaprofile.casts.qc.spike`), a three-point
+    test on adjacent values that is valid at any spacing, and counted as not tested.
+
+    Parameters
+    ----------
+    cast : xarray.Dataset
+        A Cast (not modified); values already flagged 3, 4 or 9 are ignored.
+    variables : sequence of str, optional
+        Default: temperature, salinity, conductivity and measured sound speed (those present).
+    window : int
+        Samples in the running window (odd; at least 3).
+    threshold : float
+        Robust standard deviations (dimensionless).
+    floor : dict, optional
+        ``{variable: smallest spike}`` in the variable's units; default
+        :data:`DESPIKE_FLOOR`.
+    max_span : float
+        dbar (m for a Cast with depth only): the longest vertical span of a window that is
+        tested; default :data:`DESPIKE_MAX_SPAN` (30).
+
+    Returns
+    -------
+    xarray.Dataset
+        A new Cast with raised flags (nothing deleted). The step records ``flagged``
+        (count per variable), ``flagged_at`` (pressures, or depths, of the first 20
+        flagged values per variable), ``not_tested`` (count per variable) and the reason.
+
+    Notes
+    -----
+    The running median follows steps and gradients (it is edge-preserving): on a
+    monotone stretch the median of a full centred window is the centre value itself, so
+    the residual and its scale stay small in a thermocline; the MAD is the robust scale
+    estimate of Hampel (1974), J. Am. Stat. Assoc. 69, 383-393. The Argo spike test is in
+    Wong et al., Argo Quality Control Manual for CTD and Trajectory Data,
+    doi:10.13155/33951, real-time test 9.
+    """
+    require_cast(cast)
+    window = int(window)
+    if window < 3:
+        raise SeaprofileError(f"window must be at least 3 samples, got {window}")
+    max_span = float(max_span)
+    if not max_span > 0:
+        raise SeaprofileError(f"max_span must be a positive span (dbar or m), got {max_span}")
+    half = window // 2
+    floor = DESPIKE_FLOOR if floor is None else {**DESPIKE_FLOOR, **floor}
+    if variables is None:
+        variables = [v for v in DESPIKE_FLOOR if v in cast.data_vars]
+    _, vert = vertical(cast)
+    out = cast.copy()
+    counts, where, untested = {}, {}, {}
+    for var in variables:
+        if var not in cast.data_vars:
+            raise SeaprofileError(f"variables: {var!r} is not in the cast")
+        flags = cast[f"{var}_qc"].values
+        idx, hit, tested = _despike_one(cast[var].values.astype(np.float64), flags, vert,
+                                        half, threshold, floor.get(var, 0.0), max_span)
+        counts[var] = int(hit.sum())
+        where[var] = [float(v) for v in vert[idx[hit]][:20]]
+        untested[var] = int(idx.size - tested)
+        new = np.zeros(flags.size, np.int8)
+        new[idx[hit]] = _cf.BAD
+        out.variables[f"{var}_qc"].data = raise_flags(flags, new)
+    out.attrs = _cf.record_step(
+        cast.attrs, "despike", window=window, threshold=threshold, max_span=max_span,
+        flagged=counts, flagged_at=where, not_tested=untested,
+        not_tested_reason=f"fewer than {half} usable samples on a side, or the window spans "
+                          f"more than {max_span:g}: left to the Argo spike test")
+    return out
+
+
+def _despike_one(x, flags, vert, half, threshold, floor, max_span):
+    """Indices of the usable values, which of them are spikes, and how many were tested."""
+    idx = np.flatnonzero(np.isfinite(x) & ~np.isin(flags, EXCLUDED) & np.isfinite(vert))
+    m = idx.size
+    full = np.zeros(m, bool)
+    if m >= 2 * half + 1:
+        windows = np.lib.stride_tricks.sliding_window_view(vert[idx], 2 * half + 1)
+        full[half:m - half] = (windows.max(axis=1) - windows.min(axis=1)) <= max_span
+    xs = x[idx]
+    r = xs - _running_median(xs, half)
+    r = np.where(full, r, np.nan)  # biased residuals must not set the scale either
+    scale = 1.4826 * _running_median(np.abs(r), half)
+    with np.errstate(invalid="ignore"):
+        hit = full & (np.abs(r) > np.maximum(threshold * scale, floor))
+    return idx, hit, int(full.sum())
+
+
