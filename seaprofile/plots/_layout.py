@@ -10,10 +10,50 @@ from __future__ import annotations
 
 from matplotlib.ticker import MaxNLocator
 
-__all__ = ["boxes_overlap", "visible_tick_labels", "thin_crowded_ticks", "keep_texts_inside",
+__all__ = ["spread", "boxes_overlap", "visible_tick_labels", "thin_crowded_ticks", "keep_texts_inside",
            "figure_texts"]
 
 PAD_PX = 4.0  # pixels (at 100 dpi) kept free between neighbouring labels
+
+
+def spread(wanted, width, lo, hi):
+    """Positions as close as possible to ``wanted`` (sorted), at least ``width`` apart.
+
+    A one-dimensional label placer: neighbours closer than ``width`` join a cluster,
+    centred on the mean of the positions its members wanted and ``width`` apart inside;
+    the result is then pushed inside ``[lo, hi]``. Plain floats in, list out. When the
+    labels cannot fit between ``lo`` and ``hi`` they are packed from ``lo``.
+    """
+    want = [float(v) for v in wanted]
+    if not want:
+        return []
+    # clusters of labels that touch, each centred on what its members wanted
+    groups = [[0]]
+    for i in range(1, len(want)):
+        groups.append([i])
+        while len(groups) > 1:
+            a, b = groups[-2], groups[-1]
+            centre_a = sum(want[k] for k in a) / len(a)
+            centre_b = sum(want[k] for k in b) / len(b)
+            end_a = centre_a + (len(a) - 1) * width / 2
+            start_b = centre_b - (len(b) - 1) * width / 2
+            if start_b - end_a >= width:
+                break
+            groups[-2:] = [a + b]
+    out = []
+    for g in groups:
+        centre = sum(want[k] for k in g) / len(g)
+        out.extend(centre + (j - (len(g) - 1) / 2) * width for j in range(len(g)))
+    # keep inside the bounds, then restore the spacing the shift may have broken
+    if (len(out) - 1) * width > hi - lo:  # cannot fit: pack from lo
+        return [lo + i * width for i in range(len(out))]
+    out = [min(max(v, lo), hi) for v in out]
+    for i in range(1, len(out)):
+        out[i] = max(out[i], out[i - 1] + width)
+    out[-1] = min(out[-1], hi)
+    for i in range(len(out) - 2, -1, -1):
+        out[i] = min(out[i], out[i + 1] - width)
+    return out
 
 
 def boxes_overlap(a, b, pad=0.0):
