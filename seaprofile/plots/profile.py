@@ -447,19 +447,36 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
     rows = max(per, math.ceil(len(handles) / ncol_legend), 3)
     bottom_in = 0.35 + rows * 0.165 + 0.45
     height_in = _TOP_IN + _PANELS_HEIGHT_IN + bottom_in
-    fig.set_size_inches(width_in, height_in)
-    for ax, left in zip(axes, lefts):
-        ax.set_position([left / width_in, bottom_in / height_in, _PANEL_IN / width_in,
-                         _PANELS_HEIGHT_IN / height_in])
     top_text = (bottom_in - 0.35) / height_in
+
+    def place(width_in):
+        fig.set_size_inches(width_in, height_in)
+        for ax, left in zip(axes, lefts):
+            ax.set_position([left / width_in, bottom_in / height_in, _PANEL_IN / width_in,
+                             _PANELS_HEIGHT_IN / height_in])
+
+    place(width_in)
+    legend = fig.legend([hd for hd, _ in handles], [lab for _, lab in handles],
+                        loc="upper left", ncol=ncol_legend, fontsize=7.5, frameon=False,
+                        borderaxespad=0.0, bbox_to_anchor=(0.3 / width_in, top_text))
     chunks = [summary[i:i + per] for i in range(0, len(summary), per)] if per else []
-    x0 = 0.5
-    for k, chunk in enumerate(chunks):
-        fig.text(x0 + k * (0.99 - x0) / len(chunks), top_text, "\n".join(chunk), ha="left",
-                 va="top", fontsize=8, color="0.15", linespacing=1.45)
-    fig.legend([hd for hd, _ in handles], [lab for _, lab in handles], loc="upper left",
-               ncol=ncol_legend, fontsize=7.5, frameon=False, borderaxespad=0.0,
-               bbox_to_anchor=(0.3 / width_in, top_text + 0.04 / height_in))
+    notes = [fig.text(0.5, top_text, "\n".join(chunk), ha="left", va="top", fontsize=8,
+                      color="0.15", linespacing=1.45) for chunk in chunks]
+    # the summary starts right of the legend; the figure widens when both do not fit
+    fig.draw_without_rendering()
+    renderer = fig._get_renderer()
+    legend_in = legend.get_window_extent(renderer).width / fig.dpi if handles else 0.0
+    widths = [t.get_window_extent(renderer).width / fig.dpi for t in notes]
+    x_in = max(0.5 * width_in, 0.3 + legend_in + 0.35)
+    need = x_in + sum(widths) + 0.3 * max(len(widths) - 1, 0) + 0.15
+    if need > width_in:
+        width_in = need
+        place(width_in)
+        legend.set_bbox_to_anchor((0.3 / width_in, top_text), transform=fig.transFigure)
+    gap = min(max((width_in - 0.15 - x_in - sum(widths)) / max(len(widths) - 1, 1), 0.3), 1.2)
+    for t, w in zip(notes, widths):
+        t.set_x(x_in / width_in)
+        x_in += w + gap
     title, where = _title(profile)
     fig.suptitle(title, fontsize=12, y=1.0 - 0.12 / height_in, va="top")
     if where:

@@ -10,8 +10,8 @@ import pytest
 import xarray as xr
 from matplotlib.figure import Figure
 
-from figure_checks import (MIN_CONTRAST, colliding_tick_labels, contrast_on_white,
-                           line_colours, texts_outside, texts_with_nan)
+from figure_checks import (MIN_CONTRAST, colliding_tick_labels, contrast_on_white, drawn,
+                           line_colours, overlapping, texts_outside, texts_with_nan)
 from seaprofile import _cf
 from seaprofile.casts.read import read_casts
 from seaprofile.plots.profile import FLAG_MARKERS, FLAG_WORDS, plot_profile
@@ -37,6 +37,12 @@ def _check_layout(fig):
     assert texts_with_nan(fig) == []
     assert texts_outside(fig) == []
     assert colliding_tick_labels(fig) == []
+    # the legend, the summary columns, the title lines and the caution never overlap
+    renderer = drawn(fig)
+    boxes = [(t.get_text()[:30], t.get_window_extent(renderer)) for t in fig.texts]
+    boxes += [("legend", lg.get_window_extent(renderer)) for lg in fig.legends]
+    boxes += [(ax.get_xlabel(), ax.get_tightbbox(renderer)) for ax in fig.axes]
+    assert overlapping(boxes) == []
 
 
 def test_speed_only_profile_no_nan_texts_inside_one_panel():
