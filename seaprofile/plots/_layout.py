@@ -8,7 +8,7 @@ the ticks of any axis whose labels touch. They never change the matplotlib backe
 
 from __future__ import annotations
 
-from matplotlib.ticker import MaxNLocator
+from matplotlib.ticker import FixedLocator, MaxNLocator
 
 __all__ = ["spread", "boxes_overlap", "visible_tick_labels", "thin_crowded_ticks", "keep_texts_inside",
            "figure_texts"]
@@ -88,6 +88,8 @@ def thin_crowded_ticks(fig, rounds=4):
         changed = False
         for ax in fig.axes:
             for axis in (ax.xaxis, ax.yaxis):
+                if isinstance(axis.get_major_locator(), FixedLocator):
+                    continue  # ticks placed on purpose (e.g. colour-bar steps)
                 boxes = visible_tick_labels(axis, renderer)
                 if len(boxes) > 2 and _crowded(boxes, PAD_PX * fig.dpi / 100.0):
                     axis.set_major_locator(MaxNLocator(nbins=max(len(boxes) - 2, 2),
