@@ -17,7 +17,7 @@ from .._validate import SeaprofileError
 from .._version import __version__
 
 # Command modules, in the order --help lists them. Add a new command here.
-COMMANDS = ["demo", "build", "inspect", "speed", "fan", "paths"]
+COMMANDS = ["demo", "build", "inspect", "plot", "speed", "fan", "paths"]
 
 EPILOG = f"Caution: {CAUTION}"
 

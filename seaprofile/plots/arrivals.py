@@ -7,6 +7,13 @@ only, surface-reflected, bottom-reflected, or reflected at both, with colours ta
 perceptually uniform map and a different marker shape for each, so the chart also reads in
 grey.
 
+All panels share one time axis, so the receivers can be compared: by default the time
+after the first arrival at each receiver (the spread of the arrivals, which is what differs
+between receivers; the first arrival time is in each panel's title), or, with
+``time="travel"``, the one-way travel time itself. Launch-angle labels sit in a band at the
+top of each panel, spread sideways so that no two touch, each tied to its marker by a thin
+leader line.
+
 Not for navigation on its own: verify against the governing hydrographic standard, local
 regulations and licensed practice.
 """
@@ -17,8 +24,10 @@ import numpy as np
 import matplotlib as mpl
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
+from matplotlib.transforms import blended_transform_factory
 
 from .._validate import SeaprofileError
+from ._layout import spread, thin_crowded_ticks
 from .rays import INK, caution_line
 
 __all__ = ["plot_arrivals", "PATH_KINDS", "path_kind"]
@@ -30,11 +39,13 @@ PATH_KINDS = (
     ("bottom-reflected", "v"),
     ("surface and bottom", "D"),
 )
-# Four steps of viridis, stopping short of its palest yellow (too faint on white paper).
-KIND_COLOURS = tuple(tuple(c) for c in mpl.colormaps["viridis"]([0.0, 0.34, 0.58, 0.79]))
+# Four steps of viridis, each at least 3:1 in contrast on white (WCAG 2.1, SC 1.4.11).
+KIND_COLOURS = tuple(tuple(c) for c in mpl.colormaps["viridis"]([0.0, 0.22, 0.4, 0.58]))
 MAX_PANELS = 6
 LABEL_LIMIT = 14  # launch angles are written next to the markers up to this many arrivals
 DYNAMIC_RANGE = 60.0  # dB below the strongest arrival shown to scale
+DATA_TOP = 0.62  # axes fraction of the highest marker; the angle labels sit above it
+LABEL_BAND = 0.70  # axes fraction of the bottom of the angle labels
 
 
 def path_kind(surface_reflections, bottom_reflections):
@@ -88,8 +99,9 @@ def _range_text(r_m):
     return f"{r_m / 1000:g} km" if r_m >= 1000 else f"{r_m:g} m"
 
 
-def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caution=True):
-    """Draw the arrivals at one receiver (or one panel per receiver).
+def plot_arrivals(arrivals, *, receiver=None, quantity="level", time="delay", title=None,
+                  caution=True):
+    """Draw the arrivals at one receiver (or one panel per receiver, on one time axis).
 
     Parameters
     ----------
@@ -106,6 +118,9 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
     quantity : {"level", "loss"}
         ``"level"``: minus the spreading loss, dB re 1 m, stems rising to the strongest
         arrival; ``"loss"``: the spreading loss, dB re 1 m, on an axis growing downward.
+    time : {"delay", "travel"}
+        Time axis shared by every panel: ``"delay"``, time after the first arrival at the
+        panel's receiver (s); ``"travel"``, the one-way travel time (s).
     title : str, optional
         Figure title.
     caution : bool
@@ -118,6 +133,8 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
     _check(arrivals)
     if quantity not in ("level", "loss"):
         raise SeaprofileError(f"quantity must be 'level' or 'loss', got {quantity!r}")
+    if time not in ("delay", "travel"):
+        raise SeaprofileError(f"time must be 'delay' or 'travel', got {time!r}")
     recs = _select(arrivals, receiver)
     shown = recs[:MAX_PANELS]
     n = len(shown)
@@ -140,18 +157,23 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
               if "launch_angle" in arrivals else np.full(nray, np.nan))
     kinds_seen = set()
     clipped_total = 0
-    axes = []
+    axes, labelled = [], []
+    spans = []  # (first, last) time on the shared axis, per panel with arrivals
     for p, (r, z, i, j) in enumerate(shown):
         y0 = 1.0 - top_in / height - (p + 1) * panel - p * gap
-        ax = fig.add_axes([0.1, y0, 0.86, panel])
+        ax = fig.add_axes([0.1, y0, 0.86, panel], sharex=axes[0] if axes else None)
         axes.append(ax)
         sel = (ri == i) & (di == j) & np.isfinite(ti)
         t, L, k, a = ti[sel], loss[sel], kind[sel], launch[sel]
-        y = -L if quantity == "level" else L
         where = f"receiver at {_range_text(r)} range, {z:g} m depth"
-        ax.set_title(where + f": {sel.sum()} arrival{'s' if sel.sum() != 1 else ''}",
-                     fontsize=9.5, color=INK, loc="left")
-        ax.set_xlabel("travel time (s)")
+        count = f"{sel.sum()} arrival{'s' if sel.sum() != 1 else ''}"
+        if sel.any() and time == "delay":
+            t0 = float(t.min())
+            t = t - t0
+            count += f", first at {t0:.3f} s"
+        ax.set_title(where + ": " + count, fontsize=9.5, color=INK, loc="left")
+        ax.set_xlabel("time after the first arrival (s)" if time == "delay"
+                      else "travel time (s)")
         ax.set_ylabel("level, spreading only\n(dB re 1 m)" if quantity == "level"
                       else "spreading loss\n(dB re 1 m)")
         ax.grid(True, color="#999999", lw=0.4, alpha=0.5)
@@ -161,9 +183,10 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
                     va="center", color=INK)
             ax.set_yticks([])
             continue
+        spans.append((float(t.min()), float(t.max())))
         # Arrivals weaker than the strongest by more than DYNAMIC_RANGE dB sit on the axis
         # floor with open markers, so one near-caustic outlier cannot squash the others.
-        finite = np.isfinite(y)
+        finite = np.isfinite(L)
         level = -L
         floor = float(np.max(level[finite])) - DYNAMIC_RANGE if finite.any() else -np.inf
         clipped = finite & (level < floor)
@@ -172,15 +195,14 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
         clipped_total += int(clipped.sum())
         ylo, yhi = (float(np.min(y[finite])), float(np.max(y[finite]))) if finite.any() else (0, 1)
         span = max(yhi - ylo, 6.0)
-        head = 0.7 if sel.sum() <= LABEL_LIMIT else 0.15  # room for the angle labels
+        # the highest marker sits at DATA_TOP of the panel; the label band is above it
+        head = (1.0 - DATA_TOP) / DATA_TOP * 1.25 * span if sel.sum() <= LABEL_LIMIT else 0.15 * span
         if quantity == "level":
             base = ylo - 0.25 * span
-            ax.set_ylim(base, yhi + head * span)
+            ax.set_ylim(base, yhi + head)
         else:
             base = yhi + 0.25 * span
-            ax.set_ylim(base, ylo - head * span)
-        tspan = max(float(t.max() - t.min()), 0.02 * max(float(t.max()), 1e-3), 1e-3)
-        ax.set_xlim(float(t.min()) - 0.08 * tspan, float(t.max()) + 0.08 * tspan)
+            ax.set_ylim(base, ylo - head)
         for kk, (label, marker) in enumerate(PATH_KINDS):
             m = (k == kk) & finite
             if not m.any():
@@ -192,7 +214,11 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
                     ax.plot(t[part], y[part], ls="none", marker=marker, ms=7,
                             color=KIND_COLOURS[kk], mfc=face, mec=INK, mew=0.5, zorder=4)
         if sel.sum() <= LABEL_LIMIT:
-            _label_angles(ax, t[finite], y[finite], a[finite], span, quantity)
+            labelled.append((ax, t[finite], y[finite], a[finite]))
+    if spans:  # one time axis for every panel
+        lo, hi = min(v[0] for v in spans), max(v[1] for v in spans)
+        tspan = max(hi - lo, 0.02 * max(hi, 1e-3), 1e-3)
+        axes[0].set_xlim(lo - 0.08 * tspan, hi + 0.08 * tspan)
     handles = [Line2D([], [], color=KIND_COLOURS[kk], marker=PATH_KINDS[kk][1],
                                 mec=INK, mew=0.5, lw=1.6, ms=7, label=PATH_KINDS[kk][0])
                for kk in range(len(PATH_KINDS)) if kk in kinds_seen]
@@ -204,6 +230,9 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
         zs = arrivals.attrs.get("source_depth")
         title = "Arrivals" + (f" from a source at {float(zs):g} m" if zs is not None else "")
     fig.suptitle(title, x=0.1, ha="left", y=1.0 - 0.1 / height, va="top", fontsize=12, color=INK)
+    thin_crowded_ticks(fig)
+    for ax, t, y, a in labelled:
+        _label_angles(ax, t, y, a)
     notes = []
     if any(len(ax.texts) for ax in axes):
         notes.append("labels: launch angle, + toward the bottom")
@@ -220,30 +249,33 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", title=None, caut
     return fig
 
 
-def _label_angles(ax, t, y, angle, span, quantity):
-    """Write each arrival's launch angle above its marker.
+def _label_angles(ax, t, y, angle):
+    """Write each arrival's launch angle in a band at the top of the panel.
 
-    Arrivals closer in time than about 2 % of the axis form a cluster; inside a cluster
-    the labels alternate left and right of their stems and step upward in pairs, so
-    mirror-image paths arriving together stay legible.
+    The labels (rotated upright) start at their stems' times and are spread sideways just
+    enough that none touches its neighbour (measured on the drawn figure); a thin leader
+    line joins each label to its marker. The figure must be laid out (axis limits set).
     """
-    x0, x1 = ax.get_xlim()
-    close = 0.02 * (x1 - x0)
-    sign = 1.0 if quantity == "level" else -1.0
     ok = np.isfinite(angle) & np.isfinite(t) & np.isfinite(y)
+    if not ok.any():
+        return []
     order = np.flatnonzero(ok)[np.argsort(t[ok], kind="stable")]
-    clusters, current = [], []
-    for idx in order:
-        if current and t[idx] - t[current[-1]] >= close:
-            clusters.append(current)
-            current = []
-        current.append(idx)
-    if current:
-        clusters.append(current)
-    for group in clusters:
-        for j, idx in enumerate(group):
-            ha = "center" if len(group) == 1 else ("right" if j % 2 == 0 else "left")
-            off = sign * span * (0.03 + 0.3 * (j // 2))
-            ax.text(t[idx], y[idx] + off, f"{angle[idx]:+.1f}\N{DEGREE SIGN}", fontsize=7,
-                    rotation=90, ha=ha, va="bottom" if sign > 0 else "top", color=INK,
-                    zorder=5)
+    band = blended_transform_factory(ax.transData, ax.transAxes)
+    texts = [ax.text(t[i], LABEL_BAND, f"{angle[i]:+.1f}\N{DEGREE SIGN}", transform=band,
+                     fontsize=7, rotation=90, ha="center", va="bottom", color=INK, zorder=5)
+             for i in order]
+    fig = ax.figure
+    fig.draw_without_rendering()
+    renderer = fig._get_renderer()
+    width = max(tx.get_window_extent(renderer).width for tx in texts)
+    x_px = ax.transData.transform(np.column_stack([t[order], y[order]]))[:, 0]
+    box = ax.get_window_extent(renderer)
+    placed = spread(x_px, width + 3.0 * fig.dpi / 100.0, box.x0 + width / 2, box.x1 - width / 2)
+    x_new = ax.transData.inverted().transform(np.column_stack([placed, np.zeros(len(placed))]))[:, 0]
+    y0, y1 = ax.get_ylim()
+    foot = y0 + (LABEL_BAND - 0.015) * (y1 - y0)  # just below the label band, in data units
+    for tx, xn, i in zip(texts, x_new, order):
+        tx.set_x(xn)
+        ax.plot([t[i], xn], [y[i], foot], color="#777777", lw=0.5, zorder=2,
+                solid_capstyle="butt", label="_leader")
+    return texts

@@ -3,9 +3,12 @@
 The figure is meant to be read by someone planning sonar work: depth grows downward, range
 is in kilometres, the sea floor is filled, the source is marked, and every ray is drawn from
 one :class:`~matplotlib.collections.LineCollection` (ten thousand rays draw in a few
-seconds). Rays are shaded either by launch angle (a perceptually uniform colour map with a
-colour bar) or by how many times they were reflected at the surface and the bottom (a few
-distinguishable colours taken from a perceptually uniform map, with a legend).
+seconds). Rays are coloured either by launch angle or by the number of boundary
+reflections (surface plus bottom) along the whole ray, each on its own perceptually uniform
+sequential colour map with a labelled colour bar. Rays are opaque: a transparent line
+changes its colour with what lies behind it and no longer matches the colour bar. Both
+maps stop before their palest colours, so that every ray keeps at least 3:1 contrast
+against white paper (W3C 2018, WCAG 2.1, success criterion 1.4.11, non-text contrast).
 
 Not for navigation on its own: verify against the governing hydrographic standard, local
 regulations and licensed practice.
@@ -13,9 +16,11 @@ regulations and licensed practice.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from matplotlib.collections import LineCollection
-from matplotlib.colors import ListedColormap
+from matplotlib.colors import BoundaryNorm, ListedColormap
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 import matplotlib as mpl
@@ -23,22 +28,12 @@ from matplotlib.ticker import MaxNLocator
 
 from .._cf import CAUTION
 from .._validate import SeaprofileError
+from ._layout import keep_texts_inside, thin_crowded_ticks
 
-__all__ = ["plot_fan", "SHADES", "REFLECTION_CLASSES"]
+__all__ = ["plot_fan", "SHADES", "boundary_reflections", "reflection_bins"]
 
 #: Ways of shading the rays.
 SHADES = ("launch_angle", "reflections")
-
-#: Reflection classes of ``shade="reflections"``: rays that never touch a boundary, rays
-#: kept up by the surface alone (a surface duct, or surface-reflected paths), and rays
-#: with one, two, or three and more bottom bounces (the bottom is where a ray loses most).
-REFLECTION_CLASSES = (
-    "none (refracted only)",
-    "surface only",
-    "1 bottom",
-    "2 bottom",
-    "3 or more bottom",
-)
 
 # Our own look: a neutral, earthy sea floor; a dark ink for text and the profile line.
 SEAFLOOR_FILL = "#b8a58a"
@@ -47,14 +42,12 @@ INK = "#222222"
 SOURCE_COLOUR = "#c2185b"
 CAUTION_COLOUR = "#555555"
 
-# Launch-angle colours: viridis without its palest yellow, which vanishes on white paper.
-ANGLE_CMAP = ListedColormap(mpl.colormaps["viridis"](np.linspace(0.0, 0.88, 256)),
+# Launch angle: viridis up to 0.58, reflections: plasma up to 0.62; beyond those the colours
+# fall under 3:1 contrast on white (tests/plots check it with the WCAG 2.1 formula).
+ANGLE_CMAP = ListedColormap(mpl.colormaps["viridis"](np.linspace(0.0, 0.58, 256)),
                             name="seaprofile_launch_angle")
-# Reflection classes: five well separated steps of the same perceptually uniform map,
-# darkest for the refracted-only rays (drawn on top), lightest for the many-bounce rays.
-REFLECTION_COLOURS = tuple(tuple(c) for c in mpl.colormaps["viridis"]([0.0, 0.3, 0.52, 0.7, 0.86]))
-# Opacity per class: refracted and surface-held paths solid, bottom bouncers fainter.
-REFLECTION_ALPHA = (1.0, 0.9, 0.6, 0.45, 0.3)
+REFLECTION_MAP = ("plasma", 0.0, 0.62)
+MAX_REFLECTION_BINS = 9  # colour steps of the reflection colour bar, at most
 
 
 def caution_line(fig, text=None):
@@ -97,13 +90,38 @@ def ray_segments(fan):
     return np.stack([r[:, :n], z[:, :n]], axis=-1)
 
 
-def reflection_class(surface_reflections, bottom_reflections):
-    """Index into :data:`REFLECTION_CLASSES` for each ray's surface and bottom counts."""
-    s = np.asarray(surface_reflections, dtype=float)
-    b = np.asarray(bottom_reflections, dtype=float)
-    s, b = np.broadcast_arrays(s, b)
-    out = np.select([b >= 3, b == 2, b == 1, s > 0], [4, 3, 2, 1], default=0)
-    return out.astype(int)
+def boundary_reflections(fan):
+    """Surface plus bottom reflections of every ray of a RayFan (int array on ``ray``)."""
+    return (_counts(fan, "surface_reflections") + _counts(fan, "bottom_reflections")).astype(int)
+
+
+def reflection_bins(counts):
+    """Colour steps for reflection counts: edges (between integers) and a label per step.
+
+    Rays that never touch a boundary keep a step of their own; above that, steps of 1, 2,
+    5, 10, 20 ... reflections so that at most :data:`MAX_REFLECTION_BINS` steps cover the
+    largest count.
+
+    Returns
+    -------
+    edges : ndarray
+        Step edges, half-way between integers (``-0.5, 0.5, ...``).
+    labels : list of str
+        ``"0"``, ``"1"`` ... or ``"1-5"``, ``"6-10"`` ...
+    """
+    counts = np.asarray(counts)
+    top = int(counts.max()) if counts.size else 0
+    top = max(top, 1)
+    width = 1
+    for w in (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000):
+        width = w
+        if math.ceil(top / w) <= MAX_REFLECTION_BINS - 1:
+            break
+    n = math.ceil(top / width)
+    edges = np.concatenate([[-0.5, 0.5], 0.5 + width * np.arange(1, n + 1)])
+    labels = ["0"] + [str(1 + width * k) if width == 1 else f"{1 + width * k}-{width * (k + 1)}"
+                      for k in range(n)]
+    return edges, labels
 
 
 def _counts(fan, name):
@@ -112,17 +130,15 @@ def _counts(fan, name):
     return np.zeros(fan.sizes["ray"])
 
 
-def _line_style(nray, crossings):
-    """Line width (pt) and opacity that keep a dense fan readable.
+def _line_width(crossings):
+    """Line width (pt) that keeps a dense fan readable.
 
-    The width follows the number of rays; the opacity follows ``crossings``, the ink: the
-    number of times rays cross the water column (one per ray plus one per reflection or
-    turning point), so a shallow-water fan of many bounces is drawn lighter than a
-    deep-water fan of the same number of rays.
+    The width follows ``crossings``, the ink: the number of times rays cross the water
+    column (one per ray plus one per reflection or turning point), so a shallow-water fan
+    of many bounces is drawn finer than a deep-water fan of the same number of rays.
+    Lines stay opaque, so their colour always matches the colour bar.
     """
-    lw = float(np.clip(1.6 / np.sqrt(max(nray, 1) / 20.0), 0.25, 1.3))
-    alpha = float(np.clip(0.95 * np.sqrt(300.0 / max(float(crossings), 1.0)), 0.14, 0.95))
-    return lw, alpha
+    return float(np.clip(1.3 * np.sqrt(600.0 / max(float(crossings), 1.0)), 0.3, 1.3))
 
 
 def _profile_nodes(profile, environment):
@@ -174,9 +190,10 @@ def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=No
         section, the cast ranges (m) marked along the top.
     shade : {"launch_angle", "reflections"}
         Colour rays by launch angle (degrees; continuous map with a colour bar, positive
-        angles at its bottom) or by their reflections (:data:`REFLECTION_CLASSES`: refracted
-        only, surface only, 1, 2, 3+ bottom reflections; with a legend of ray counts).
-        ``"launch-angle"`` is accepted too.
+        angles at its bottom) or by the number of boundary reflections along the whole ray,
+        surface plus bottom (steps of :func:`reflection_bins` on a sequential map, a colour
+        bar naming the steps and how many rays fall in each; rays with fewer reflections
+        are drawn on top). ``"launch-angle"`` is accepted too.
     profile : xr.Dataset, optional
         Profile (``depth`` m, ``sound_speed`` m/s) drawn in the side panel instead of the
         environment's nodes.
@@ -216,8 +233,8 @@ def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=No
 
     if ax is None:
         fig = Figure(figsize=(11.0, 5.8), dpi=110)
-        left, bot, top = 0.07, 0.13, 0.90
-        right = 0.875 if shade == "launch_angle" else 0.775
+        left, bot, top = 0.07, 0.10, 0.84
+        right = 0.875 if shade == "launch_angle" else 0.835
         if nodes is not None:
             ax_prof = fig.add_axes([left, bot, 0.13, top - bot])
             ax = fig.add_axes([left + 0.145, bot, right - left - 0.145, top - bot],
@@ -237,11 +254,11 @@ def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=No
     crossings = nray + float(np.sum(_counts(fan, "surface_reflections"))
                              + np.sum(_counts(fan, "bottom_reflections"))
                              + np.sum(_counts(fan, "turning_points")))
-    lw, alpha = _line_style(nray, crossings)
+    lw = _line_width(crossings)
     if shade == "launch_angle":
-        _rays_by_angle(fig, ax, fan, segs, lw, alpha, cbar_box)
+        _rays_by_angle(fig, ax, fan, segs, lw, cbar_box)
     else:
-        _rays_by_reflections(ax, fan, segs, lw, alpha, outside=cbar_box is not None)
+        _rays_by_reflections(fig, ax, fan, segs, lw, cbar_box)
 
     # --- sea floor, source, section casts -------------------------------------------
     if bottom is not None:
@@ -282,12 +299,23 @@ def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=No
         fig.suptitle(title, x=0.07, ha="left", fontsize=12, color=INK, y=0.975)
         if caution:
             caution_line(fig)
+        thin_crowded_ticks(fig)
+        keep_texts_inside(fig)
     else:
         ax.set_title(title, fontsize=10, color=INK)
     return fig
 
 
-def _rays_by_angle(fig, ax, fan, segs, lw, alpha, cbar_box):
+def _colour_bar(fig, ax, mappable, cbar_box, label):
+    if cbar_box is not None:
+        cb = fig.colorbar(mappable, cax=fig.add_axes(cbar_box))
+    else:
+        cb = fig.colorbar(mappable, ax=ax, pad=0.01, fraction=0.04)
+    cb.set_label(label)
+    return cb
+
+
+def _rays_by_angle(fig, ax, fan, segs, lw, cbar_box):
     """One LineCollection coloured by launch angle, and its colour bar (down at the bottom)."""
     nray = segs.shape[0]
     if "launch_angle" in fan.variables:
@@ -297,16 +325,11 @@ def _rays_by_angle(fig, ax, fan, segs, lw, alpha, cbar_box):
     lo, hi = (float(np.nanmin(angle)), float(np.nanmax(angle))) if nray else (-1.0, 1.0)
     if not hi > lo:
         lo, hi = lo - 1.0, hi + 1.0
-    lc = LineCollection(segs, cmap=ANGLE_CMAP, linewidths=lw, alpha=alpha, zorder=2)
+    lc = LineCollection(segs, cmap=ANGLE_CMAP, linewidths=lw, zorder=2)
     lc.set_array(angle)
     lc.set_clim(lo, hi)
     ax.add_collection(lc, autolim=False)
-    if cbar_box is not None:
-        cb = fig.colorbar(lc, cax=fig.add_axes(cbar_box))
-    else:
-        cb = fig.colorbar(lc, ax=ax, pad=0.01, fraction=0.04)
-    cb.solids.set_alpha(1.0)
-    cb.set_label("launch angle (deg)")
+    cb = _colour_bar(fig, ax, lc, cbar_box, "launch angle (deg)")
     # Positive angles point down, so put them at the bottom of the bar, like the rays.
     cb.ax.invert_yaxis()
     cb.ax.text(0.5, 1.01, "up", transform=cb.ax.transAxes, ha="center", va="bottom",
@@ -316,32 +339,25 @@ def _rays_by_angle(fig, ax, fan, segs, lw, alpha, cbar_box):
     return lc
 
 
-def _rays_by_reflections(ax, fan, segs, lw, alpha, outside):
-    """One LineCollection coloured by reflection class, and a legend with ray counts."""
-    klass = reflection_class(_counts(fan, "surface_reflections"),
-                             _counts(fan, "bottom_reflections"))
-    order = np.argsort(-klass, kind="stable")  # refracted-only rays drawn last (on top)
-    colours = np.array(REFLECTION_COLOURS)[klass[order]]
-    # Paths that stay in the water (refracted, or held up by the surface) are drawn solid
-    # and at least 0.9 pt wide; the bottom-bouncing classes fade with the ink.
-    stays = klass[order] <= 1
-    colours[:, 3] = np.where(stays, 1.0, np.minimum(
-        np.array(REFLECTION_ALPHA)[klass[order]], max(alpha, 0.2) * 1.3))
-    widths = np.where(stays, max(lw, 0.9), lw)
-    lc = LineCollection(segs[order], colors=colours, linewidths=widths, zorder=2)
+def _rays_by_reflections(fig, ax, fan, segs, lw, cbar_box):
+    """One LineCollection coloured by boundary reflections, and a stepped colour bar."""
+    counts = boundary_reflections(fan)
+    edges, labels = reflection_bins(counts)
+    name, lo, hi = REFLECTION_MAP
+    cmap = ListedColormap(mpl.colormaps[name](np.linspace(lo, hi, len(labels))),
+                          name="seaprofile_reflections")
+    norm = BoundaryNorm(edges, cmap.N)
+    order = np.argsort(-counts, kind="stable")  # fewest reflections drawn last, on top
+    lc = LineCollection(segs[order], cmap=cmap, norm=norm, linewidths=lw, zorder=2)
+    lc.set_array(counts[order].astype(float))
     ax.add_collection(lc, autolim=False)
-    handles = []
-    for k, label in enumerate(REFLECTION_CLASSES):
-        n = int(np.sum(klass == k))
-        if n:
-            handles.append(Line2D([], [], color=REFLECTION_COLOURS[k], lw=2.2,
-                                  label=f"{label}: {n} ray{'s' if n != 1 else ''}"))
-    leg_kw = dict(fontsize=8, framealpha=0.92, title="reflections", title_fontsize=8)
-    if outside:
-        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.005, 1.0),
-                  borderaxespad=0.0, **leg_kw)
-    else:
-        ax.legend(handles=handles, loc="lower right", **leg_kw)
+    cb = _colour_bar(fig, ax, lc, cbar_box, "boundary reflections per ray\n(surface + bottom)")
+    step = np.digitize(counts, edges[1:-1])
+    rays = np.bincount(step, minlength=len(labels))
+    cb.set_ticks(0.5 * (edges[:-1] + edges[1:]))
+    cb.set_ticklabels([f"{lab}: {n} ray{'s' if n != 1 else ''}" for lab, n in zip(labels, rays)])
+    cb.ax.tick_params(labelsize=8, length=0)
+    cb.minorticks_off()
     return lc
 
 
@@ -350,7 +366,7 @@ def _profile_panel(ax_prof, nodes, section, bottom, zs, zmax):
     z, c = nodes
     if section is not None:
         n = section.ranges.size
-        cols = mpl.colormaps["cividis"](np.linspace(0.0, 0.85, n))
+        cols = mpl.colormaps["cividis"](np.linspace(0.0, 0.55, n))  # >= 3:1 on white
         show = set(range(n)) if n <= 6 else {0, n - 1}
         for k in range(n):
             label = f"{section.ranges[k] / 1000:.1f} km" if k in show else None
@@ -372,9 +388,11 @@ def _profile_panel(ax_prof, nodes, section, bottom, zs, zmax):
                      color=SOURCE_COLOUR, fontsize=7.5, ha="right", va="bottom", zorder=5,
                      bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.8))
     ax_prof.set_ylim(zmax, 0.0)
+    # range (km) labels the fan panel's bottom edge, so the sound speed is labelled on top
     ax_prof.set_xlabel("sound speed (m/s)")
+    ax_prof.xaxis.set_label_position("top")
+    ax_prof.xaxis.tick_top()
     ax_prof.set_ylabel("depth (m)")
     ax_prof.grid(True, color="#999999", lw=0.4, alpha=0.5)
     ax_prof.tick_params(axis="x", labelsize=8)
-    ax_prof.xaxis.set_major_locator(MaxNLocator(3, prune="upper"))
-    ax_prof.set_title("sound speed", fontsize=9, color=INK)
+    ax_prof.xaxis.set_major_locator(MaxNLocator(3, steps=[1, 2, 5, 10]))

@@ -12,7 +12,8 @@ from matplotlib.collections import LineCollection, PolyCollection
 from seaprofile import SeaprofileError
 from seaprofile._cf import CAUTION
 from seaprofile.plots.arrivals import PATH_KINDS, path_kind, plot_arrivals
-from seaprofile.plots.rays import REFLECTION_CLASSES, plot_fan, ray_segments, reflection_class
+from seaprofile.plots.rays import (MAX_REFLECTION_BINS, boundary_reflections, plot_fan,
+                                   ray_segments, reflection_bins)
 from seaprofile.propagation import Environment, trace_fan
 from seaprofile.propagation.section import Section, environment_from_section
 
@@ -122,23 +123,22 @@ def test_fan_bathymetry_follows_the_slope():
     np.testing.assert_allclose(y, 150 + 15 * x, rtol=1e-9)  # 150 m at 0 km, 300 m at 10 km
 
 
-def test_fan_reflection_shading_has_legend_not_colourbar():
+def test_fan_reflection_shading_has_stepped_colour_bar_with_counts():
     fan = fake_fan(nray=12)
     fig = plot_fan(fan, shade="reflections")
     ax = _fan_axes(fig)
-    legend = ax.get_legend()
-    assert legend is not None
-    labels = [t.get_text() for t in legend.get_texts()]
+    (cbar,) = [a for a in fig.axes if a.get_ylabel().startswith("boundary reflections")]
+    assert "surface + bottom" in cbar.get_ylabel()
+    labels = [t.get_text() for t in cbar.get_yticklabels()]
     counts = [int(t.split(": ")[1].split()[0]) for t in labels]
-    assert sum(counts) == 12
-    assert all(any(lbl.startswith(c) for c in REFLECTION_CLASSES) for lbl in labels)
+    assert sum(counts) == 12  # every ray counted in exactly one step
     assert not any(a.get_ylabel() == "launch angle (deg)" for a in fig.axes)
     (lc,) = _collections(ax)
     assert len(lc.get_segments()) == 12
-    # the colours are distinct between classes
-    colours = {tuple(np.round(c[:3], 3)) for c in lc.get_colors()}
-    klass = reflection_class(fan["surface_reflections"], fan["bottom_reflections"])
-    assert len(colours) == len(np.unique(klass))
+    total = boundary_reflections(fan)
+    np.testing.assert_array_equal(np.sort(lc.get_array()), np.sort(total))
+    # fewest reflections drawn last (on top)
+    assert lc.get_array()[-1] == total.min()
 
 
 def test_fan_accepts_hyphenated_shade_and_rejects_unknown():
@@ -196,21 +196,23 @@ def test_section_casts_marked_and_profiles_drawn():
     assert sum(t.get_text() == "cast" for t in ax.texts) == 3
 
 
-@given(st.integers(0, 50), st.integers(0, 50))
-def test_reflection_class_rules(s, b):
-    k = int(reflection_class(s, b))
-    assert 0 <= k < len(REFLECTION_CLASSES)
-    if b == 0:
-        assert k == (1 if s > 0 else 0)
-    else:
-        assert k == min(b, 3) + 1
-    assert int(reflection_class(s, b + 1)) >= k  # more bottom bounces never a lower class
+@given(st.lists(st.integers(0, 5000), min_size=1, max_size=60))
+def test_reflection_bins_cover_every_count_once(counts):
+    edges, labels = reflection_bins(counts)
+    assert len(labels) == len(edges) - 1 <= MAX_REFLECTION_BINS
+    assert labels[0] == "0" and edges[0] == -0.5 and edges[1] == 0.5  # no contact: own step
+    assert np.all(np.diff(edges) > 0)
+    step = np.digitize(counts, edges) - 1
+    assert np.all((step >= 0) & (step < len(labels)))  # every count inside one step
+    for c, k in zip(counts, step):  # the label names the step the count falls in
+        lo, _, hi = labels[k].partition("-")
+        assert int(lo) <= c <= int(hi or lo)
 
 
 # --- arrivals figure --------------------------------------------------------------------------
 def test_arrivals_one_panel_per_receiver_with_units():
     fig = plot_arrivals(fake_arrivals())
-    panels = [a for a in fig.axes if a.get_xlabel() == "travel time (s)"]
+    panels = [a for a in fig.axes if a.get_xlabel() == "time after the first arrival (s)"]
     assert len(panels) == 2
     for ax in panels:
         assert "dB" in ax.get_ylabel()
@@ -222,11 +224,13 @@ def test_arrivals_one_panel_per_receiver_with_units():
 
 
 def test_arrivals_stems_at_travel_times_and_levels():
-    fig = plot_arrivals(fake_arrivals(), receiver=(10_000, 100))
+    fig = plot_arrivals(fake_arrivals(), receiver=(10_000, 100), time="travel")
     (ax,) = fig.axes
-    x = np.sort(np.concatenate([ln.get_xdata() for ln in ax.lines]))
+    assert ax.get_xlabel() == "travel time (s)"
+    markers = [ln for ln in ax.lines if ln.get_label() != "_leader"]
+    x = np.sort(np.concatenate([ln.get_xdata() for ln in markers]))
     np.testing.assert_allclose(x, [6.67, 6.70, 6.75, 6.80])
-    y = np.concatenate([ln.get_ydata() for ln in ax.lines])
+    y = np.concatenate([ln.get_ydata() for ln in markers])
     np.testing.assert_allclose(np.sort(y), np.sort(-np.array([80.0, 80.2, 80.5, 81.0])))
     stems = [c for c in ax.collections if isinstance(c, LineCollection)]
     assert sum(len(c.get_segments()) for c in stems) == 4
@@ -267,7 +271,7 @@ def test_arrivals_far_below_the_strongest_sit_on_the_floor():
     ds["spreading_loss"] = ("arrival", loss)
     fig = plot_arrivals(ds, receiver=0)
     (ax,) = fig.axes
-    y = np.concatenate([ln.get_ydata() for ln in ax.lines])
+    y = np.concatenate([ln.get_ydata() for ln in ax.lines if ln.get_label() != "_leader"])
     assert y.min() == pytest.approx(-80.0 - 60.0)  # strongest level minus 60 dB
     assert ax.get_ylim()[0] < -140.0
     assert any("open markers" in t.get_text() for t in fig.texts)
