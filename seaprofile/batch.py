@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from . import _cf
-from ._validate import SeaprofileError
+from ._validate import InputFileError, SeaprofileError
 from .casts import qc as _qc
 from .casts.read import read_casts
 from .casts.write import FORMATS, write
@@ -75,8 +75,8 @@ class BuildResult:
         """Record ``exc`` as this result's error (one line naming the file)."""
         if isinstance(exc, ArgumentError):
             self.error_argument, self.error_reason = exc.argument, exc.reason
-        text = str(exc)
-        self.error = text if str(self.path) in text else f"{self.path}: {text}"
+        names_file = isinstance(exc, InputFileError) and is_same_file(exc.path, self.path)
+        self.error = str(exc) if names_file else f"{self.path}: {exc}"
         return self
 
 

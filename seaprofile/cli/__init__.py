@@ -71,7 +71,9 @@ def main(argv=None):
               file=sys.stderr)
         return 2
     except (SeaprofileError, OSError) as exc:
-        print(f"seaprofile {args.command}: error: {exc}", file=sys.stderr)
+        from ._options import in_option_terms
+
+        print(f"seaprofile {args.command}: error: {in_option_terms(exc)}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         return 130

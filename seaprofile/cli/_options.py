@@ -34,6 +34,21 @@ def option_name(argument):
     return OPTION_NAMES.get(argument, argument)
 
 
+# "columns=", "columns={'temperature': ...}", "give reference=": a Python keyword in a
+# library message, as the caller of a function would write it
+_KEYWORD_USE = re.compile(r"\b(%s)=(\{[^}]*\})?(?![\w'\"\-.])" % "|".join(
+    k for k in OPTION_NAMES if not k.startswith("paths")))
+
+
+def in_option_terms(message):
+    """``message`` with Python keywords written as arguments (``columns=``) shown as options.
+
+    Display only: nothing is decided from the text. Library messages that name an
+    argument by attribute (:class:`~seaprofile.io.ArgumentError`) need none of this.
+    """
+    return _KEYWORD_USE.sub(lambda m: OPTION_NAMES[m.group(1)], str(message))
+
+
 def allow_negative_values(parser):
     """Let option values start with a minus sign and a digit (``--receiver -1km,20``).
 

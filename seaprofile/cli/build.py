@@ -17,7 +17,7 @@ from ..casts.write import FORMATS
 from ..io import load_profile
 from ..io.options import check_build_options, check_scheduler
 from ._common import parse_length, print_json, print_table
-from ._options import add_building_options, option_name, reading_options
+from ._options import add_building_options, in_option_terms, option_name, reading_options
 
 NAME = "build"
 HELP = "build sound-speed profiles from cast files"
@@ -76,7 +76,7 @@ def error_line(result):
     """A failed result's error, naming the command-line option when it was about one."""
     if result.error_argument is not None:
         return f"{result.path}: {option_name(result.error_argument)}: {result.error_reason}"
-    return result.error
+    return in_option_terms(result.error)
 
 
 def _extend(text):

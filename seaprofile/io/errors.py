@@ -29,6 +29,9 @@ class ArgumentError(SeaprofileError):
         self.reason = str(reason)
         super().__init__(f"{self.argument}: {self.reason}")
 
+    def __reduce__(self):  # picklable (results travel between dask processes)
+        return type(self), (self.argument, self.reason)
+
     def named(self, name):
         """The message with the argument called ``name`` (e.g. its command-line option)."""
         return f"{name}: {self.reason}"
@@ -49,3 +52,6 @@ class MemoryLimitError(ArgumentError):
         self.requested = int(requested)
         self.limit = int(limit)
         super().__init__(argument, reason)
+
+    def __reduce__(self):
+        return type(self), (self.argument, self.reason, self.requested, self.limit)

@@ -230,3 +230,68 @@ def test_help_has_example_and_caution(main, capsys):
     out = capsys.readouterr().out
     assert "example:" in out and "seaprofile fan" in out
     assert "Caution" in out and "--source-depth" in out
+
+
+def test_old_colon_angle_syntax_is_gone(main, uniform_nc, capsys):
+    # argparse itself refuses one value for LOW HIGH: still one line, exit status 2
+    with pytest.raises(SystemExit) as stop:
+        main(["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-15:15:61",
+              "--range", "1km"])
+    assert stop.value.code == 2
+    assert "--angles" in _one_line_error(capsys)
+
+
+def test_bare_bathymetry_columns_refused(main, uniform_nc, tmp_path, capsys):
+    bathy = tmp_path / "bottom.txt"
+    bathy.write_text("0 200\n2 120\n")  # km or m? a file must say
+    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "2km",
+                 "--bathymetry", str(bathy)]) == 2
+    err = _one_line_error(capsys)
+    assert "bottom.txt, line 1" in err and "range_km,depth_m" in err
+
+
+def test_reading_options_on_raw_casts(main, tmp_path, capsys):
+    from _cli_helpers import DEMO, RENAMED_OPTIONS, rewrite_cast
+
+    renamed = rewrite_cast(DEMO / "shelf_summer_ctd.csv", tmp_path / "renamed.csv",
+                           header="col_a,col_b,col_c", pressure_scale=10.0)
+    argv = ["fan", str(renamed), "--source-depth", "20", "--angles", "-3", "3", "--rays", "5",
+            "--range", "2km", "--json"]
+    assert main(argv) == 2
+    assert "--columns" in _one_line_error(capsys)
+    assert main(argv + RENAMED_OPTIONS) == 0
+    assert json.loads(capsys.readouterr().out)["rays"] == 5
+    unplaced = rewrite_cast(DEMO / "shelf_summer_ctd.csv", tmp_path / "unplaced.csv",
+                            drop=("latitude", "longitude"))
+    argv[1] = str(unplaced)
+    assert main(argv) == 2
+    assert "latitude" in _one_line_error(capsys)
+    assert main(argv + ["--latitude", "54"]) == 0
+
+
+def test_unknown_figure_suffix_refused_before_any_work(main, uniform_nc, tmp_path, capsys):
+    out_nc = tmp_path / "rays.nc"
+    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "1km",
+                 "--out", str(out_nc), "--plot", str(tmp_path / "fan.xyz")]) == 2
+    err = _one_line_error(capsys)
+    assert "--plot" in err and ".png" in err
+    assert not out_nc.exists()
+
+
+def test_tiny_range_step_refused_with_the_memory(main, uniform_nc, capsys):
+    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "40km",
+                 "--range-step", "0.001"]) == 2
+    err = _one_line_error(capsys)
+    assert "--range-step" in err and "GB" in err and "memory" in err
+
+
+def test_outputs_never_over_inputs(main, uniform_nc, tmp_path, capsys):
+    before = uniform_nc.read_bytes()
+    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "1km",
+                 "--out", str(uniform_nc), "--overwrite"]) == 2
+    assert "input" in _one_line_error(capsys)
+    assert main(["fan", str(tmp_path), "--source-depth", "50", "--range", "1km",
+                 "--plot", str(uniform_nc.with_suffix(".png")), "--out",
+                 str(tmp_path / "uniform.nc"), "--overwrite"]) == 2
+    assert "--out" in _one_line_error(capsys)
+    assert uniform_nc.read_bytes() == before
