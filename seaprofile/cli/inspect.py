@@ -16,7 +16,7 @@ NAME = "inspect"
 HELP = "diagnostics of one profile (mixed/sonic layer, duct, channel, critical depth)"
 EXAMPLE = """example:
   seaprofile inspect demo_casts/deep_ocean_ctd.csv --bottom-depth 4800 --source-depth 60
-  seaprofile build demo_casts/deep_ocean_ctd.csv --out profiles --extend-to bottom
+  seaprofile build demo_casts/deep_ocean_ctd.csv --out profiles --extend-to bottom --overwrite
   seaprofile inspect profiles/VS31-D01.nc --json"""
 
 

@@ -24,7 +24,7 @@ HELP = "eigenrays and arrivals from a source to receivers"
 EXAMPLE = """example:
   seaprofile paths demo_casts/deep_ocean_ctd.csv --source-depth 50 --receiver 12km,200 \\
       --receiver 20km,50 --bottom-depth 4000 --max-reflections 3 --plot arrivals.png
-  seaprofile build demo_casts/deep_ocean_ctd.csv --out profiles --extend-to bottom
+  seaprofile build demo_casts/deep_ocean_ctd.csv --out profiles --extend-to bottom --overwrite
   seaprofile paths profiles/VS31-D01.nc --source-depth 1000 --receiver 50km,800 --json"""
 
 PATH_WORDS = ("refracted", "surface", "bottom", "surface+bottom")
