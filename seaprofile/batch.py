@@ -81,7 +81,13 @@ class BuildResult:
 
 
 def usable_bins(profile):
-    """Number of bins with a finite sound speed not flagged 3, 4 or 9 (in it, T or S)."""
+    """Number of bins with a finite sound speed not flagged 3, 4 or 9 (in it, T or S).
+
+    Parameters
+    ----------
+    profile : xarray.Dataset
+        A Profile (``sound_speed`` m/s and its ``<var>_qc`` flags).
+    """
     ok = np.isfinite(np.asarray(profile["sound_speed"].values, dtype=np.float64))
     for name in ("sound_speed_qc", "temperature_qc", "salinity_qc"):
         if name in profile:
@@ -92,9 +98,25 @@ def usable_bins(profile):
 def diagnose(profile, **options):
     """:func:`seaprofile.layers.describe` of a Profile whose position may be half known.
 
+    Parameters
+    ----------
+    profile : xarray.Dataset
+        A Profile (not modified).
+    **options
+        Passed to :func:`seaprofile.layers.describe` (``bottom_depth`` m, ``source_depth``
+        m, ``transducer_depth`` m, ...).
+
+    Returns
+    -------
+    dict
+        As :func:`seaprofile.layers.describe`.
+
+    Notes
+    -----
     A profile with a latitude but no longitude (or the reverse) is described as one with
-    no position: densities then use the reference salinity instead of TEOS-10 absolute
-    salinity, which needs both coordinates. ``options`` go to ``describe``.
+    no position: densities then use the reference salinity (TEOS-10, IOC et al. 2010,
+    ``gsw.SR_from_SP``) instead of absolute salinity, which needs both coordinates.
+    Without this, ``describe`` refuses such a profile.
     """
     lat = float(profile["latitude"]) if "latitude" in profile.coords else np.nan
     lon = float(profile["longitude"]) if "longitude" in profile.coords else np.nan

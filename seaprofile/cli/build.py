@@ -23,8 +23,10 @@ NAME = "build"
 HELP = "build sound-speed profiles from cast files"
 EXAMPLE = """example:
   seaprofile build demo_casts/*.csv --out profiles --format netcdf
-  seaprofile build demo_casts/shelf_summer_ctd.csv --columns "temperature=temperature [degC],pressure=pressure [dbar]" --latitude 54.2 --extend-to 130
-  seaprofile build demo_casts/xbt_drop.csv --extend-to bottom --reference demo_casts/deep_ocean_ctd.csv --out extended"""
+  seaprofile build demo_casts/shelf_summer_ctd.csv --latitude 54.2 --extend-to 130 \\
+      --columns "temperature=temperature [degC],pressure=pressure [dbar]"
+  seaprofile build demo_casts/xbt_drop.csv --extend-to bottom \\
+      --reference demo_casts/deep_ocean_ctd.csv --out extended"""
 
 COLUMNS = ["file", "cast", "instrument", "depth_range_m", "samples", "flags",
            "surface_speed", "mixed_layer_m", "sonic_layer_m", "status", "assumptions"]

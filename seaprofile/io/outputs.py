@@ -34,7 +34,13 @@ BYTES_PER_RAY_SAMPLE = 80
 
 
 def format_bytes(n):
-    """``n`` bytes as a short text (``"12.3 GB"``)."""
+    """A byte count as a short text in decimal units (``"12.3 GB"``).
+
+    Parameters
+    ----------
+    n : int or float
+        Bytes.
+    """
     n = float(n)
     for unit in ("B", "kB", "MB", "GB", "TB"):
         if n < 1000 or unit == "TB":
@@ -92,7 +98,13 @@ def check_memory(argument, requested, what, limit=MEMORY_LIMIT):
 
 
 def is_same_file(a, b):
-    """True when paths ``a`` and ``b`` name the same file (links and ``..`` resolved)."""
+    """True when paths ``a`` and ``b`` name the same file (links and ``..`` resolved).
+
+    Parameters
+    ----------
+    a, b : str or pathlib.Path
+        Paths; either may not exist yet (then their resolved names are compared).
+    """
     try:
         return os.path.samefile(a, b)
     except OSError:  # one does not exist (yet): compare the resolved names

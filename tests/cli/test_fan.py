@@ -90,7 +90,8 @@ def test_sound_speed_probe_cast_with_depth_column_is_built(main, tmp_path, capsy
     lines += [f"{a:.2f},{b:.3f}" for a, b in zip(z, c)]
     path = tmp_path / "probe.csv"
     path.write_text("\n".join(lines) + "\n")
-    assert main(["fan", str(path), "--source-depth", "10", "--angles", "-2", "2", "--rays", "3", "--range", "1km",
+    assert main(["fan", str(path), "--source-depth", "10", "--angles", "-2", "2", "--rays", "3",
+                 "--range", "1km",
                  "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["input"].startswith("raw cast, built with the default settings")
@@ -98,7 +99,8 @@ def test_sound_speed_probe_cast_with_depth_column_is_built(main, tmp_path, capsy
 
 def test_uniform_water_surface_reflection_geometry(main, uniform_nc, tmp_path, capsys):
     out_nc = tmp_path / "rays.nc"
-    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-10", "10", "--rays", "2",
+    assert main(["fan", str(uniform_nc), "--source-depth", "50",
+                 "--angles", "-10", "10", "--rays", "2",
                  "--range", "2km", "--out", str(out_nc), "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["rays"] == 2 and doc["ended"] == {"range_reached": 2}
@@ -116,7 +118,8 @@ def test_uniform_water_surface_reflection_geometry(main, uniform_nc, tmp_path, c
 
 
 def test_negative_angle_range_without_equals(main, uniform_nc, capsys):
-    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-5", "5", "--rays", "3",
+    assert main(["fan", str(uniform_nc), "--source-depth", "50",
+                 "--angles", "-5", "5", "--rays", "3",
                  "--range", "1km", "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["launch_angles_deg"] == [-5.0, 5.0] and doc["rays"] == 3
@@ -156,7 +159,8 @@ def test_one_file_of_several_profiles_is_a_section(main, tmp_path, capsys):
     path = tmp_path / "line.nc"
     write([make_profile([0, 40, 200], [1510.0 + k, 1500.0, 1498.0], lat=44.0, lon=-9.6 + 0.05 * k,
                         pid=f"c{k}") for k in range(2)], path)
-    assert main(["fan", str(path), "--source-depth", "30", "--angles", "-4", "4", "--rays", "3", "--range", "3km",
+    assert main(["fan", str(path), "--source-depth", "30", "--angles", "-4", "4", "--rays", "3",
+                 "--range", "3km",
                  "--bottom-depth", "180", "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["environment"]["casts"] == 2
@@ -176,7 +180,8 @@ def test_section_without_positions_is_refused(main, tmp_path, capsys):
 def test_bathymetry_file_in_km(main, uniform_nc, tmp_path, capsys):
     bathy = tmp_path / "bottom.txt"
     bathy.write_text("# invented track\nrange_km, depth_m\n0, 200\n2, 120\n")
-    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-2", "2", "--rays", "3",
+    assert main(["fan", str(uniform_nc), "--source-depth", "50",
+                 "--angles", "-2", "2", "--rays", "3",
                  "--range", "2km", "--bathymetry", str(bathy), "--json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["environment"]["bottom"] == "bathymetry"
@@ -186,7 +191,8 @@ def test_bathymetry_file_in_km(main, uniform_nc, tmp_path, capsys):
 def test_existing_output_kept_unless_overwrite(main, uniform_nc, tmp_path, capsys):
     target = tmp_path / "rays.nc"
     target.write_text("keep me")
-    args = ["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-2", "2", "--rays", "3", "--range", "1km",
+    args = ["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-2", "2", "--rays", "3",
+            "--range", "1km",
             "--out", str(target)]
     assert main(args) == 2
     assert "--overwrite" in _one_line_error(capsys)

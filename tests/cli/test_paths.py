@@ -95,7 +95,8 @@ def test_no_reflections_leaves_only_the_direct_path(main, uniform_nc, capsys):
 
 def test_search_angles_option(main, uniform_nc, capsys):
     assert main(["paths", str(uniform_nc), "--source-depth", "50", "--receiver", "1km,80",
-                 "--max-reflections", "0", "--search-angles", "-10", "10", "--search-rays", "2001", "--json"]) == 0
+                 "--max-reflections", "0", "--search-angles", "-10", "10", "--search-rays", "2001",
+"--json"]) == 0
     (rec,) = json.loads(capsys.readouterr().out)["receivers"]
     assert len(rec["arrivals"]) == 1
     assert main(["paths", str(uniform_nc), "--source-depth", "50", "--receiver", "1km,80",
