@@ -380,7 +380,7 @@ def assumptions(profile):
     Read defensively from the Profile's attributes and processing steps (any of them may
     be absent): ``assumed_salinity`` or ``salinity_assumed`` with ``salinity_source``;
     ``fall_rate`` with ``fall_rate_coefficients``; ``extension`` or the ``extend_to``
-    step (method, bottom depth, reference).
+    step (method, bottom depth, reference; left out when it added no level).
 
     Returns
     -------
@@ -404,9 +404,11 @@ def assumptions(profile):
             st = steps[-1]
             if st.get("skipped"):
                 out.append(f"not extended: {_text(st['skipped'])}")
-            else:
+            elif st.get("added_levels", 1) or st.get("replaced_bins", 1):  # else: nothing added
                 ref = f" {_text(st['reference'])}" if st.get("reference") else ""
-                out.append(f"extended to {_text(st.get('bottom_depth', '?'))} m by "
+                start = a.get("cast_max_depth")
+                start = f" from {_text(start)} m" if start is not None else ""
+                out.append(f"extended{start} to {_text(st.get('bottom_depth', '?'))} m by "
                            f"{_text(st.get('method', 'an unrecorded method'))}{ref}")
     return out
 

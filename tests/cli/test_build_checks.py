@@ -91,7 +91,7 @@ def test_summary_shows_every_assumption(capsys):
     said = row["assumptions"]
     assert "salinity" in said and "35.2" in said
     assert "fall rate" in said and "6.691" in said
-    assert "extended to 3000 m" in said and "VS31-D01" in said
+    assert "extended from 759 m to 3000 m" in said and "VS31-D01" in said
     assert main(["build", str(DEMO / "xbt_drop.csv")]) == 0
     text = capsys.readouterr().out
     assert "assumptions" in text and "salinity assumed constant 35" in text
