@@ -378,26 +378,36 @@ def assumptions(profile):
     """What was assumed rather than measured for a Profile, as short sentences.
 
     Read defensively from the Profile's attributes and processing steps (any of them may
-    be absent): ``assumed_salinity`` or ``salinity_assumed`` with ``salinity_source``;
-    ``fall_rate`` with ``fall_rate_coefficients``; ``extension`` or the ``extend_to``
-    step (method, bottom depth, reference; left out when it added no level).
+    be absent): the Profile's own one-line ``assumptions`` attribute when it has one (its
+    parts separated by ``"; "``, ``"none"`` for nothing); otherwise ``assumed_salinity``
+    or ``salinity_assumed`` with ``salinity_source``; ``salinity_replaced``; ``fall_rate``
+    with ``fall_rate_coefficients``; ``extension``, ``extension_method`` or the
+    ``extend_to`` step (method, bottom depth, reference; left out when it added no level).
 
     Returns
     -------
     list of str
     """
     a = profile.attrs
+    own = a.get("assumptions")
+    if isinstance(own, str) and own.strip():
+        return [] if own.strip() == "none" else [p.strip() for p in own.split("; ") if p.strip()]
     out = []
     if a.get("assumed_salinity") not in (None, "", "no"):
         out.append(f"salinity assumed {_text(a['assumed_salinity'])}")
     elif str(a.get("salinity_assumed", "")).lower() in ("yes", "true", "1"):
         out.append(f"salinity {_text(a.get('salinity_source') or 'assumed')}")
+    if a.get("salinity_replaced") not in (None, ""):
+        out.append(f"salinity replaced: {_text(a['salinity_replaced'])}")
     if a.get("fall_rate") not in (None, ""):
         coefficients = a.get("fall_rate_coefficients")
         out.append(f"fall rate {_text(a['fall_rate'])}"
                    + (f" ({_text(coefficients)})" if coefficients not in (None, "") else ""))
     if a.get("extension") not in (None, ""):
         out.append(f"extended: {_text(a['extension'])}")
+    elif a.get("extension_method") not in (None, ""):
+        out.append(f"extended from {_text(a.get('cast_max_depth', '?'))} m to "
+                   f"{_text(a.get('bottom_depth', '?'))} m with {_text(a['extension_method'])}")
     else:
         steps = [st for st in _cf.steps_of(a) if st.get("step") == "extend_to"]
         if steps:

@@ -184,6 +184,15 @@ def test_assumptions_read_from_attributes():
     assert assumptions(p) == ["salinity assumed 35", "fall rate hanawa1995_t7",
                               "extended: constant temperature and salinity to 3000 m"]
     assert assumptions(xr.Dataset()) == []
+    # a Profile that carries its own one-line summary is taken at its word
+    own = xr.Dataset(attrs={"assumptions": "salinity assumed constant 35; fall rate x",
+                            "fall_rate": "ignored"})
+    assert assumptions(own) == ["salinity assumed constant 35", "fall rate x"]
+    assert assumptions(xr.Dataset(attrs={"assumptions": "none", "fall_rate": "y"})) == []
+    shaped = xr.Dataset(attrs={"extension_method": "the reference's water", "cast_max_depth": 759.0,
+                               "bottom_depth": 3000.0, "salinity_replaced": "from the reference"})
+    assert assumptions(shaped) == ["salinity replaced: from the reference",
+                                   "extended from 759 m to 3000 m with the reference's water"]
 
 
 def test_half_known_position_still_diagnosed():
