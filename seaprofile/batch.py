@@ -16,13 +16,17 @@ import numpy as np
 from . import _cf
 from ._validate import InputFileError, SeaprofileError
 from .casts import qc as _qc
-from .casts.read import read_casts, read_profiles
+from .casts.read import read_casts
 from .casts.write import FORMATS, write
+from .io import NETCDF_LOCK, ArgumentError, check_memory, is_same_file, profile_bytes
+from .io.loading import _is_netcdf, load_profile, read_as_profiles
+from .io.options import SCHEDULERS, check_build_options, check_read_options, check_scheduler
 from .layers import describe
+from .layers.summary import BAD_FLAGS
 from .profile import build_profile
 
-__all__ = ["BuildResult", "build_files", "flags_by_test", "load_profile", "read_as_profiles",
-           "summary_row"]
+__all__ = ["BuildResult", "assumptions", "build_files", "diagnose", "flags_by_test",
+           "load_profile", "read_as_profiles", "summary_row", "usable_bins"]
 
 
 @dataclass
@@ -43,6 +47,13 @@ class BuildResult:
         Files written for this cast.
     error : str or None
         One line naming the file (and line and column) when the file failed.
+    error_argument, error_reason : str or None
+        When the error was about one argument (:class:`~seaprofile.io.ArgumentError`): its
+        name (e.g. ``"reference"``) and what is wrong, so a caller can name it its own way.
+    unusable : str or None
+        Why the Profile has no usable sound speed (fewer than two good bins), else None.
+    diagnostics_error : str or None
+        The error of :func:`diagnose` when the Profile is usable but a diagnostic failed.
     """
 
     path: str
@@ -51,20 +62,121 @@ class BuildResult:
     diagnostics: dict = field(default_factory=dict)
     written: list = field(default_factory=list)
     error: str | None = None
+    error_argument: str | None = None
+    error_reason: str | None = None
     unusable: str | None = None
+    diagnostics_error: str | None = None
 
     @property
     def ok(self):
         return self.error is None
 
+    def fail(self, exc):
+        """Record ``exc`` as this result's error (one line naming the file)."""
+        if isinstance(exc, ArgumentError):
+            self.error_argument, self.error_reason = exc.argument, exc.reason
+        names_file = isinstance(exc, InputFileError) and is_same_file(exc.path, self.path)
+        self.error = str(exc) if names_file else f"{self.path}: {exc}"
+        return self
+
+
+def usable_bins(profile):
+    """Number of bins with a finite sound speed not flagged 3, 4 or 9 (in it, T or S).
+
+    Parameters
+    ----------
+    profile : xarray.Dataset
+        A Profile (``sound_speed`` m/s and its ``<var>_qc`` flags).
+    """
+    ok = np.isfinite(np.asarray(profile["sound_speed"].values, dtype=np.float64))
+    for name in ("sound_speed_qc", "temperature_qc", "salinity_qc"):
+        if name in profile:
+            ok &= ~np.isin(np.asarray(profile[name].values), BAD_FLAGS)
+    return int(ok.sum())
+
+
+def diagnose(profile, **options):
+    """:func:`seaprofile.layers.describe` of a Profile whose position may be half known.
+
+    Parameters
+    ----------
+    profile : xarray.Dataset
+        A Profile (not modified).
+    **options
+        Passed to :func:`seaprofile.layers.describe` (``bottom_depth`` m, ``source_depth``
+        m, ``transducer_depth`` m, ...).
+
+    Returns
+    -------
+    dict
+        As :func:`seaprofile.layers.describe`.
+
+    Notes
+    -----
+    A profile with a latitude but no longitude (or the reverse) is described as one with
+    no position: densities then use the reference salinity (TEOS-10, IOC et al. 2010,
+    ``gsw.SR_from_SP``) instead of absolute salinity, which needs both coordinates.
+    Without this, ``describe`` refuses such a profile.
+    """
+    lat = float(profile["latitude"]) if "latitude" in profile.coords else np.nan
+    lon = float(profile["longitude"]) if "longitude" in profile.coords else np.nan
+    if np.isfinite(lat) != np.isfinite(lon):
+        profile = profile.assign_coords(latitude=np.nan, longitude=np.nan)
+    return describe(profile, **options)
+
+
+def _cast_span(cast, extend_to):
+    """Deepest depth, m, a cast's profile can reach (for the memory estimate)."""
+    spans = [0.0]
+    for name, scale in (("depth", 1.0), ("pressure", 1.0), ("elapsed_time", 10.0)):
+        if name in cast:  # 1 dbar is about 1 m; expendable probes fall < 10 m/s
+            v = np.asarray(cast[name].values, dtype=np.float64)
+            v = v[np.isfinite(v)]
+            if v.size:
+                spans.append(float(v.max()) * scale)
+    if extend_to is not None:
+        spans.append(float(extend_to))
+    return max(spans)
+
+
+def _build_profile(cast, options):
+    """build_profile, with an extension that needs a reference named as ``reference``."""
+    check_memory("bin_size", profile_bytes(_cast_span(cast, options.get("extend_to")),
+                                           options["bin_size"]),
+                 f"bins of {options['bin_size']:g} m for cast {cast.attrs.get('cast_name', '')}")
+    try:
+        return build_profile(cast, **options)
+    except SeaprofileError:
+        if options.get("extend_to") is None or options.get("reference") is not None:
+            raise
+        plain = build_profile(cast, **dict(options, extend_to=None))
+        if "temperature" in plain and "salinity" in plain:
+            raise
+        raise ArgumentError("reference", "the cast has no temperature and salinity to extend "
+                            "it below its last sample; give a deeper reference profile") from None
+
 
 def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth,
-                    used=None):
+                    keep=(), used=None):
+    """Every cast of one file; never raises (each failure is a result's error)."""
+    try:
+        return _build_file(path, read_options, build_options, out_dir, fmt, overwrite,
+                           bottom_depth, keep, used)
+    except Exception as exc:  # noqa: BLE001 - one bad file never stops a batch
+        return [BuildResult(str(path)).fail(exc)]
+
+
+def _build_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth,
+                keep, used):
     results = []
     try:
-        casts = read_casts(path, **read_options)
+        if _is_netcdf(path):
+            with NETCDF_LOCK:
+                casts = read_casts(path, **read_options)
+        else:
+            casts = read_casts(path, **read_options)
     except (SeaprofileError, OSError) as exc:
-        return [BuildResult(str(path), error=str(exc))]
+        return [BuildResult(str(path)).fail(exc)]
     for cast in casts:
         res = BuildResult(str(path), cast=cast)
         options = dict(build_options)
@@ -73,33 +185,53 @@ def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, 
             bottom = _bottom_of(cast)
             options["extend_to"] = bottom
         try:
-            res.profile = build_profile(cast, **options)
-            try:
-                res.diagnostics = describe(res.profile, bottom_depth=bottom)
-            except SeaprofileError as exc:  # e.g. no usable sound speed: flags say why
-                res.diagnostics = {"notes": [str(exc)]}
-                res.unusable = str(exc)
+            res.profile = _build_profile(cast, options)
+            res.diagnostics = _diagnostics(res, bottom)
             if out_dir is not None:
-                name = _safe_name(cast.attrs.get("cast_name") or Path(path).stem)
-                target = Path(out_dir) / f"{name}{FORMATS[fmt][0]}"
-                if used is not None:
-                    if str(target) in used:  # two casts of one name in this batch
-                        raise SeaprofileError(
-                            f"output {target.name} was already written for another cast of "
-                            f"this batch (cast name {name!r}); rename one of the casts")
-                    used.add(str(target))
-                write(res.profile, target, fmt, overwrite=overwrite)
-                res.written.append(str(target))
+                res.written.append(_write_one(res, path, out_dir, fmt, overwrite, keep, used))
         except (SeaprofileError, OSError) as exc:
-            res.error = f"{path}: {exc}" if str(path) not in str(exc) else str(exc)
+            res.fail(exc)
         results.append(res)
     return results
 
 
+def _diagnostics(res, bottom):
+    if usable_bins(res.profile) < 2:
+        res.unusable = "fewer than two bins with a usable sound speed (see the flags)"
+        return {"notes": [res.unusable]}
+    try:
+        return diagnose(res.profile, bottom_depth=bottom)
+    except SeaprofileError as exc:
+        res.diagnostics_error = str(exc)
+        return {"notes": [f"diagnostics failed: {exc}"]}
+
+
+def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
+    name = _safe_name(res.cast.attrs.get("cast_name") or Path(path).stem)
+    target = Path(out_dir) / f"{name}{FORMATS[fmt][0]}"
+    for source in keep:
+        if is_same_file(target, source):
+            raise SeaprofileError(f"output {target} is an input of this batch; an input is "
+                                  "never written over (give another output directory)")
+    if used is not None:
+        if str(target) in used:  # two casts of one name in this batch
+            raise SeaprofileError(
+                f"output {target.name} was already written for another cast of "
+                f"this batch (cast name {name!r}); rename one of the casts")
+        used.add(str(target))
+    if fmt == "netcdf":
+        with NETCDF_LOCK:  # HDF5 is never entered from two threads at once
+            write(res.profile, target, fmt, overwrite=overwrite)
+    else:
+        write(res.profile, target, fmt, overwrite=overwrite)
+    return str(target)
+
+
 def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, columns=None,
                 units=None, instrument=None, latitude=None, longitude=None, salinity=None,
-                fall_rate="hanawa1995_t7", equation="chen_millero1977", bin_size=1.0, extend_to=None, reference=None,
-                depth_method="unesco1983", scheduler=None):
+                fall_rate="hanawa1995_t7", equation="chen_millero1977", bin_size=1.0,
+                extend_to=None, reference=None,
+                depth_method="unesco1983", scheduler=None, protect=()):
     """Read, process, quality-control and write every cast in ``paths``.
 
     Parameters
@@ -129,23 +261,40 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
     scheduler : str, optional
         None: one file after another. ``"threads"``/``"processes"``: local dask; any other
         string: the address of a ``dask.distributed`` scheduler (needs the ``scale`` extra).
+        With threads, netCDF files are read and written one at a time
+        (:data:`seaprofile.io.NETCDF_LOCK`): HDF5 must not be entered from two threads.
+    protect : iterable of str or pathlib.Path
+        Files read besides ``paths`` (e.g. the reference's file): like every input, never
+        written over.
 
     Returns
     -------
     list of BuildResult
         In the order of ``paths``; failed files carry ``error`` and never stop the others.
+
+    Raises
+    ------
+    ArgumentError
+        A bad option (checked once, before any file is read): ``argument`` names it.
     """
     if format not in FORMATS:
-        raise SeaprofileError(f"format must be one of {', '.join(FORMATS)}, got {format!r}")
-    if out_dir is not None:
-        Path(out_dir).mkdir(parents=True, exist_ok=True)
-    read_options = dict(columns=columns, units=units, instrument=instrument,
-                        latitude=latitude, longitude=longitude, salinity=salinity,
-                        fall_rate=fall_rate)
-    build_options = dict(equation=equation, bin_size=bin_size, latitude=latitude,
-                         extend_to=extend_to, reference=reference, depth_method=depth_method)
-    args = (read_options, build_options, out_dir, format, overwrite, extend_to)
+        raise ArgumentError("format", f"expected one of {', '.join(FORMATS)}, got {format!r}")
+    read_options = check_read_options(columns=columns, units=units, instrument=instrument,
+                                      latitude=latitude, longitude=longitude,
+                                      salinity=salinity, fall_rate=fall_rate)
+    check_build_options(bin_size=bin_size, extend_to=extend_to, equation=equation,
+                        depth_method=depth_method)
+    check_scheduler(scheduler)
     paths = [str(p) for p in paths]
+    keep = [*paths, *(str(p) for p in protect)]
+    if out_dir is not None:
+        for p in paths:
+            if is_same_file(out_dir, p):
+                raise ArgumentError("out_dir", f"{out_dir} is an input file of this batch")
+        Path(out_dir).mkdir(parents=True, exist_ok=True)
+    build_options = dict(equation=equation, bin_size=float(bin_size), latitude=latitude,
+                         extend_to=extend_to, reference=reference, depth_method=depth_method)
+    args = (read_options, build_options, out_dir, format, overwrite, extend_to, keep)
     if scheduler is None:
         used = set()
         groups = [_build_one_file(p, *args, used) for p in paths]
@@ -163,13 +312,11 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
 
 
 def _with_dask(paths, args, scheduler):
-    try:
-        import dask.bag as db
-    except ImportError as exc:  # pragma: no cover - depends on the installed extras
-        raise SeaprofileError("scheduler: dask is not installed (pip install 'seaprofile[scale]')") from exc
+    import dask.bag as db  # check_scheduler made sure it is there
+
     bag = db.from_sequence(paths, npartitions=max(1, min(len(paths), 64)))
     work = bag.map(_build_one_file, *args)
-    if scheduler in ("threads", "processes", "synchronous"):
+    if scheduler in SCHEDULERS:
         return work.compute(scheduler=scheduler)
     from dask.distributed import Client
 
@@ -183,40 +330,6 @@ def _bottom_of(cast):
     except (TypeError, ValueError):
         return None
     return value if np.isfinite(value) and value > 0 else None
-
-
-def read_as_profiles(path, **build_options):
-    """Profiles in one file: raw casts built on the fly, or profiles written by seaprofile.
-
-    The cast reader is asked first: it recognises a file of profiles written by
-    :mod:`seaprofile.casts.write` by its metadata and says so, while the profile reader
-    would take any text table with a depth column for a profile.
-
-    Returns
-    -------
-    profiles : list of xarray.Dataset
-    kind : {"cast", "profile"}
-        What the file held.
-    """
-    try:
-        casts = read_casts(path)
-    except InputFileError as as_cast:
-        if "use read_profile" not in str(as_cast):
-            raise
-        return read_profiles(path), "profile"
-    return [build_profile(c, **build_options) for c in casts], "cast"
-
-
-def load_profile(path, **build_options):
-    """A Profile from ``path``: a built profile as written by seaprofile, or a raw cast.
-
-    Raw casts are built on the fly with :func:`seaprofile.profile.build_profile`
-    (``build_options`` passed through, defaults otherwise).
-    """
-    profiles, _ = read_as_profiles(path, **build_options)
-    if len(profiles) != 1:
-        raise SeaprofileError(f"{path}: holds {len(profiles)} profiles; give one")
-    return profiles[0]
 
 
 def summary_row(result):
@@ -238,8 +351,76 @@ def summary_row(result):
         "surface_speed": d.get("surface_sound_speed"),
         "mixed_layer_m": d.get("mixed_layer_depth_temperature"),
         "sonic_layer_m": d.get("sonic_layer_depth"),
-        "status": "ok" if result.unusable is None else "no usable sound speed",
+        "status": _status(result),
+        "assumptions": "; ".join(assumptions(p)) or "none",
     }
+
+
+def _status(result):
+    if result.unusable is not None:
+        return "no usable sound speed"
+    if result.diagnostics_error is not None:
+        return f"diagnostics failed: {result.diagnostics_error}"
+    return "ok"
+
+
+def _text(value):
+    if isinstance(value, (list, tuple)):
+        return ", ".join(_text(v) for v in value)
+    if isinstance(value, dict):
+        return ", ".join(f"{k} {_text(v)}" for k, v in value.items())
+    if isinstance(value, (float, np.floating)):
+        return f"{float(value):g}"
+    return str(value).strip()
+
+
+def assumptions(profile):
+    """What was assumed rather than measured for a Profile, as short sentences.
+
+    Read defensively from the Profile's attributes and processing steps (any of them may
+    be absent): the Profile's own one-line ``assumptions`` attribute when it has one (its
+    parts separated by ``"; "``, ``"none"`` for nothing); otherwise ``assumed_salinity``
+    or ``salinity_assumed`` with ``salinity_source``; ``salinity_replaced``; ``fall_rate``
+    with ``fall_rate_coefficients``; ``extension``, ``extension_method`` or the
+    ``extend_to`` step (method, bottom depth, reference; left out when it added no level).
+
+    Returns
+    -------
+    list of str
+    """
+    a = profile.attrs
+    own = a.get("assumptions")
+    if isinstance(own, str) and own.strip():
+        return [] if own.strip() == "none" else [p.strip() for p in own.split("; ") if p.strip()]
+    out = []
+    if a.get("assumed_salinity") not in (None, "", "no"):
+        out.append(f"salinity assumed {_text(a['assumed_salinity'])}")
+    elif str(a.get("salinity_assumed", "")).lower() in ("yes", "true", "1"):
+        out.append(f"salinity {_text(a.get('salinity_source') or 'assumed')}")
+    if a.get("salinity_replaced") not in (None, ""):
+        out.append(f"salinity replaced: {_text(a['salinity_replaced'])}")
+    if a.get("fall_rate") not in (None, ""):
+        coefficients = a.get("fall_rate_coefficients")
+        out.append(f"fall rate {_text(a['fall_rate'])}"
+                   + (f" ({_text(coefficients)})" if coefficients not in (None, "") else ""))
+    if a.get("extension") not in (None, ""):
+        out.append(f"extended: {_text(a['extension'])}")
+    elif a.get("extension_method") not in (None, ""):
+        out.append(f"extended from {_text(a.get('cast_max_depth', '?'))} m to "
+                   f"{_text(a.get('bottom_depth', '?'))} m with {_text(a['extension_method'])}")
+    else:
+        steps = [st for st in _cf.steps_of(a) if st.get("step") == "extend_to"]
+        if steps:
+            st = steps[-1]
+            if st.get("skipped"):
+                out.append(f"not extended: {_text(st['skipped'])}")
+            elif st.get("added_levels", 1) or st.get("replaced_bins", 1):  # else: nothing added
+                ref = f" {_text(st['reference'])}" if st.get("reference") else ""
+                start = a.get("cast_max_depth")
+                start = f" from {_text(start)} m" if start is not None else ""
+                out.append(f"extended{start} to {_text(st.get('bottom_depth', '?'))} m by "
+                           f"{_text(st.get('method', 'an unrecorded method'))}{ref}")
+    return out
 
 
 def flags_by_test(profile):

@@ -19,12 +19,13 @@ from .casts.write import atomic_write, write
 
 __all__ = ["DemoReport", "find_demo_casts", "run_demo"]
 
-#: casts drawn as figures (file stem -> ray-fan settings: source depth m, angles deg
-#: (first, last, count), range m, ray shading)
+#: casts drawn as figures (file stem -> ray-fan settings: source depth m, launch angles
+#: (lowest, highest) deg and number of rays, as ``seaprofile fan --angles LOW HIGH --rays
+#: COUNT``, range m, ray shading)
 FIGURE_CASTS = {
-    "deep_ocean_ctd": dict(source_depth=100.0, angles=(-12.0, 12.0, 49), max_range=100e3,
+    "deep_ocean_ctd": dict(source_depth=100.0, angles=(-12.0, 12.0), rays=49, max_range=100e3,
                            shade="launch_angle"),
-    "shelf_summer_ctd": dict(source_depth=20.0, angles=(-3.0, 3.0, 25), max_range=6e3,
+    "shelf_summer_ctd": dict(source_depth=20.0, angles=(-3.0, 3.0), rays=25, max_range=6e3,
                              shade="reflections"),
 }
 
@@ -135,7 +136,7 @@ def _figures(results, fig_dir):
     return written
 
 
-def _fan_figure(result, source_depth, angles, max_range, shade):
+def _fan_figure(result, source_depth, angles, rays, max_range, shade):
     try:
         from .plots.rays import plot_fan
         from .propagation import Environment, trace_fan
@@ -143,7 +144,7 @@ def _fan_figure(result, source_depth, angles, max_range, shade):
         return None
     bottom = result.diagnostics.get("bottom_depth") or float(result.profile["depth"].max())
     env = Environment.from_profile(result.profile, bottom_depth=bottom, thin_tolerance=0.05)
-    fan = trace_fan(env, source_depth, np.linspace(*angles), max_range)
+    fan = trace_fan(env, source_depth, np.linspace(angles[0], angles[1], rays), max_range)
     return plot_fan(fan, env, profile=result.profile, shade=shade)
 
 

@@ -107,3 +107,99 @@ def test_outputs_are_ordinary_files(tmp_path):
     umask = os.umask(0)
     os.umask(umask)
     assert mode == 0o666 & ~umask
+
+
+def test_bad_options_raise_once_before_any_file(tmp_path):
+    from seaprofile.io import ArgumentError
+
+    for kwargs, name in (({"bin_size": -1.0}, "bin_size"), ({"columns": "x"}, "columns"),
+                         ({"extend_to": -5.0}, "extend_to"), ({"scheduler": "bogus"}, "scheduler"),
+                         ({"latitude": 100.0}, "latitude"), ({"format": "docx"}, "format")):
+        with pytest.raises(ArgumentError) as err:
+            build_files(_good_and_bad(), out_dir=tmp_path / "out", **kwargs)
+        assert err.value.argument == name
+    assert not (tmp_path / "out").exists()
+
+
+def test_output_never_replaces_an_input(tmp_path):
+    src = tmp_path / "VS31-S04.csv"  # named like its cast, so the CSV output would be itself
+    src.write_bytes((DEMO / "shelf_summer_ctd.csv").read_bytes())
+    before = src.read_bytes()
+    (r,) = build_files([src], out_dir=tmp_path, format="csv", overwrite=True)
+    assert not r.ok and "is an input" in r.error
+    assert src.read_bytes() == before
+    other = tmp_path / "other.nc"
+    other.write_text("a reference file")
+    (r,) = build_files([DEMO / "shelf_summer_ctd.csv"], out_dir=tmp_path, overwrite=True,
+                       protect=[tmp_path / "VS31-S04.nc"])
+    assert not r.ok and "is an input" in r.error
+
+
+def test_unexpected_failure_of_one_file_never_stops_the_rest(monkeypatch):
+    import seaprofile.batch as batch
+
+    real = batch.build_profile
+
+    def flaky(cast, **options):
+        if cast.attrs.get("cast_name") == "VS31-S04":
+            raise RuntimeError("an invented crash inside the library")
+        return real(cast, **options)
+
+    monkeypatch.setattr(batch, "build_profile", flaky)
+    pytest.importorskip("dask")
+    for scheduler in (None, "threads"):
+        results = build_files(_good_and_bad(), scheduler=scheduler)
+        assert [r.ok for r in results] == [False, False, True]
+        assert "shelf_summer_ctd.csv" in results[0].error
+        assert "invented crash" in results[0].error
+
+
+def test_threads_with_netcdf_inputs_and_outputs(tmp_path):
+    pytest.importorskip("dask")
+    casts = sorted((DEMO / "section").glob("*.csv"))
+    first = build_files(casts, out_dir=tmp_path / "a", format="netcdf")
+    assert all(r.ok for r in first)
+    # netCDF in and out from several threads: HDF5 is entered by one thread at a time
+    written = [r.written[0] for r in first]
+    from seaprofile.casts.read import read_cast
+
+    raw = tmp_path / "raw"
+    raw.mkdir()
+    for k, path in enumerate(casts):
+        write(read_cast(path), raw / f"cast_{k}.nc")
+    again = build_files(sorted(raw.iterdir()), out_dir=tmp_path / "b", scheduler="threads")
+    assert all(r.ok for r in again), [r.error for r in again if not r.ok]
+    for a, b in zip(written, (r.written[0] for r in again)):
+        np.testing.assert_array_equal(load_profile(a)["sound_speed"].values,
+                                      load_profile(b)["sound_speed"].values)
+
+
+def test_assumptions_read_from_attributes():
+    import xarray as xr
+
+    from seaprofile.batch import assumptions
+
+    p = xr.Dataset(attrs={"assumed_salinity": 35.0, "fall_rate": "hanawa1995_t7",
+                          "extension": "constant temperature and salinity to 3000 m"})
+    assert assumptions(p) == ["salinity assumed 35", "fall rate hanawa1995_t7",
+                              "extended: constant temperature and salinity to 3000 m"]
+    assert assumptions(xr.Dataset()) == []
+    # a Profile that carries its own one-line summary is taken at its word
+    own = xr.Dataset(attrs={"assumptions": "salinity assumed constant 35; fall rate x",
+                            "fall_rate": "ignored"})
+    assert assumptions(own) == ["salinity assumed constant 35", "fall rate x"]
+    assert assumptions(xr.Dataset(attrs={"assumptions": "none", "fall_rate": "y"})) == []
+    shaped = xr.Dataset(attrs={"extension_method": "the reference's water", "cast_max_depth": 759.0,
+                               "bottom_depth": 3000.0, "salinity_replaced": "from the reference"})
+    assert assumptions(shaped) == ["salinity replaced: from the reference",
+                                   "extended from 759 m to 3000 m with the reference's water"]
+
+
+def test_half_known_position_still_diagnosed():
+    from seaprofile.batch import diagnose
+
+    p = load_profile(DEMO / "shelf_summer_ctd.csv")
+    half = p.assign_coords(longitude=np.nan)
+    d = diagnose(half)
+    assert d["mixed_layer_depth_density"] is not None
+    assert float(half["latitude"]) == float(p["latitude"])  # the input is not modified

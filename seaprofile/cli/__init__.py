@@ -15,6 +15,7 @@ import warnings
 from .._cf import CAUTION
 from .._validate import SeaprofileError
 from .._version import __version__
+from ..io.errors import ArgumentError
 
 # Command modules, in the order --help lists them. Add a new command here.
 COMMANDS = ["demo", "build", "inspect", "plot", "speed", "fan", "paths"]
@@ -22,14 +23,21 @@ COMMANDS = ["demo", "build", "inspect", "plot", "speed", "fan", "paths"]
 EPILOG = f"Caution: {CAUTION}"
 
 
+class _Parser(argparse.ArgumentParser):
+    """argparse, with usage errors printed as one line (exit status 2)."""
+
+    def error(self, message):
+        self.exit(2, f"{self.prog}: error: {message} (see {self.prog} --help)\n")
+
+
 def build_parser():
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="seaprofile",
         description="Sound-speed profiles from casts, and acoustic ray tracing through them.",
         epilog=EPILOG,
     )
     parser.add_argument("--version", action="version", version=f"seaprofile {__version__}")
-    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name in COMMANDS:
         module = importlib.import_module(f"{__name__}.{name}")
         p = sub.add_parser(
@@ -47,7 +55,7 @@ def build_parser():
 def main(argv=None):
     """Entry point of the ``seaprofile`` console script."""
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args = parser.parse_args(argv)  # a usage error: one line, SystemExit(2)
     if not getattr(args, "_run", None):
         parser.print_help()
         return 2
@@ -56,8 +64,16 @@ def main(argv=None):
             warnings.simplefilter("default")
             warnings.showwarning = _show_warning
             return int(args._run(args) or 0)
+    except ArgumentError as exc:  # named by its Python keyword: show the option
+        from ._options import option_name
+
+        print(f"seaprofile {args.command}: error: {exc.named(option_name(exc.argument))}",
+              file=sys.stderr)
+        return 2
     except (SeaprofileError, OSError) as exc:
-        print(f"seaprofile {args.command}: error: {exc}", file=sys.stderr)
+        from ._options import in_option_terms
+
+        print(f"seaprofile {args.command}: error: {in_option_terms(exc)}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         return 130

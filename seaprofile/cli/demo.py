@@ -20,7 +20,7 @@ NAME = "demo"
 HELP = "run the main job on the bundled synthetic demo casts"
 EXAMPLE = """example:
   seaprofile demo
-  seaprofile demo --out /tmp/demo --equation teos10 --no-figures"""
+  seaprofile demo --out demo_teos10 --equation teos10 --no-figures"""
 
 
 def add_arguments(p):

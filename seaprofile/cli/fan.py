@@ -15,18 +15,21 @@ import numpy as np
 
 from .._cf import CAUTION
 from .._validate import SeaprofileError
+from ..io import (check_figure_path, check_memory, check_output, expand_paths, fan_bytes,
+                  load_environment, save_figure, write_netcdf)
 from ._common import parse_length, print_json, print_table
-from ._inputs import (DEFAULT_THIN_TOLERANCE, parse_source_depth, allow_negative_values, check_output, load_environment, parse_angles,
-                      save_figure, write_netcdf)
+from ._options import (add_angle_options, add_ray_input_options, optional_length, parse_angles,
+                       parse_source_depth, reading_options)
 
 NAME = "fan"
 HELP = "trace a fan of rays from one source; summary, rays file and figure"
 EXAMPLE = """example:
-  seaprofile fan cast_017.csv --source-depth 50 --angles -15:15:61 --range 40km \\
-      --bottom-depth 4000 --plot fan.png --out rays.nc
-  seaprofile fan casts/ --source-depth 30 --range 25km --shade reflections --plot section.png"""
+  seaprofile fan demo_casts/deep_ocean_ctd.csv --source-depth 50 --angles -15 15 --rays 61 \\
+      --range 40km --bottom-depth 4000 --plot fan.png --out rays.nc
+  seaprofile fan demo_casts/section --source-depth 30 --range 25km --shade reflections --plot section.png"""
 
-DEFAULT_ANGLES = "-15:15:61"
+DEFAULT_ANGLES = ("-15", "15")
+DEFAULT_RAYS = 61
 DEFAULT_RANGE = "40km"
 DEFAULT_MAX_REFLECTIONS = 100
 
@@ -39,24 +42,18 @@ _END_WORDS = {
 
 
 def add_arguments(p):
-    p.add_argument("--thin-tolerance", type=float, default=DEFAULT_THIN_TOLERANCE,
-                   help="drop profile nodes that a straight segment matches to within this "
-                   "sound speed, m/s (default %(default)s; 0 keeps every bin)")
-    allow_negative_values(p)
-    p.add_argument("profile", nargs="+", metavar="PROFILE_OR_SECTION",
-                   help="profile or cast file(s), or a directory of casts forming a section")
-    p.add_argument("--source-depth", required=True, help="source depth, m (a 'km' suffix is accepted)")
-    p.add_argument("--angles", default=DEFAULT_ANGLES,
-                   help="launch angles FIRST:LAST:COUNT or a comma list, degrees from horizontal, "
-                        f"positive down, strictly inside -90..90 (default {DEFAULT_ANGLES})")
+    add_ray_input_options(p, "PROFILE_OR_SECTION",
+                          "profile or cast file(s), or a directory of casts forming a section")
+    add_angle_options(p, default=DEFAULT_ANGLES, rays=DEFAULT_RAYS)
     p.add_argument("--range", default=DEFAULT_RANGE, dest="max_range",
                    help=f"range to trace to, m or km (default {DEFAULT_RANGE})")
     bottom = p.add_mutually_exclusive_group()
     bottom.add_argument("--bottom-depth", help="flat bottom depth, m (default: the profile's "
                                                 "bottom depth if it carries one, else its deepest level)")
     bottom.add_argument("--bathymetry", metavar="FILE",
-                        help="bottom along the track: text file of range (m; km if the header "
-                             "says range_km) and depth (m), one point per line")
+                        help="bottom along the track: a text file whose first line names the "
+                             "columns with units (range_km,depth_m or 'range (m), depth (m)'), "
+                             "then one range, depth point per line")
     p.add_argument("--range-step", help="sample each ray every STEP (m or km) instead of keeping "
                                         "every layer crossing and reflection (smaller files for big fans)")
     p.add_argument("--max-reflections", type=int, default=DEFAULT_MAX_REFLECTIONS,
@@ -72,21 +69,29 @@ def add_arguments(p):
 
 def run(args):
     source_depth = parse_source_depth(args.source_depth)
-    angles = parse_angles(args.angles, "--angles")
+    angles = parse_angles(args.angles, args.rays)
     max_range = parse_length(args.max_range, "--range")
     if max_range <= 0:
         raise SeaprofileError(f"--range must be positive, got {args.max_range!r}")
-    bottom_depth = parse_length(args.bottom_depth, "--bottom-depth") if args.bottom_depth else None
-    range_step = parse_length(args.range_step, "--range-step") if args.range_step else None
-    if range_step is not None and range_step <= 0:
-        raise SeaprofileError(f"--range-step must be positive, got {args.range_step!r}")
+    bottom_depth = optional_length(args.bottom_depth, "--bottom-depth")
+    range_step = optional_length(args.range_step, "--range-step")
+    if range_step is not None:
+        if range_step <= 0:
+            raise SeaprofileError(f"--range-step must be positive, got {args.range_step!r}")
+        check_memory("--range-step", fan_bytes(angles.size, max_range, range_step),
+                     f"{angles.size} rays sampled every {range_step:g} m to {max_range:g} m")
     if args.max_reflections < 0:
         raise SeaprofileError(f"--max-reflections must be >= 0, got {args.max_reflections}")
-    plot_path = check_output(args.plot, args.overwrite, "--plot")
-    out_path = check_output(args.out, args.overwrite, "--out")
+    read = reading_options(args)
+    inputs = [*expand_paths(args.profile), *([args.bathymetry] if args.bathymetry else [])]
+    plot_path = check_figure_path(args.plot, overwrite=args.overwrite, inputs=inputs,
+                                  argument="--plot")
+    out_path = check_output(args.out, overwrite=args.overwrite,
+                            inputs=inputs + ([args.plot] if args.plot else []), argument="--out")
 
-    env, loaded = load_environment(args.profile, bottom_depth=bottom_depth, thin_tolerance=args.thin_tolerance,
-                                   bathymetry=args.bathymetry)
+    env, loaded = load_environment(args.profile, bottom_depth=bottom_depth,
+                                   thin_tolerance=args.thin_tolerance,
+                                   bathymetry=args.bathymetry, **read)
     bottom_here = float(env.bottom_at(0.0))
     if source_depth > bottom_here:
         raise SeaprofileError(f"--source-depth {source_depth:g} m lies below the bottom "

@@ -1,20 +1,23 @@
 """Diagnostics of one sound-speed profile: layers, ducts, channel, critical depth.
 
 PROFILE may be a profile written by seaprofile or a raw cast file (built on the fly with
-default settings).
+default settings; --columns, --units, --latitude and --longitude say how to read it).
 """
 
 from __future__ import annotations
 
-from ..batch import load_profile
-from ..layers import describe
+from ..batch import diagnose
+from ..io import load_profile, profile_bottom
+from .._validate import SeaprofileError
 from ._common import parse_length, print_json
+from ._options import add_reading_options, optional_length, reading_options
 
 NAME = "inspect"
 HELP = "diagnostics of one profile (mixed/sonic layer, duct, channel, critical depth)"
 EXAMPLE = """example:
   seaprofile inspect demo_casts/deep_ocean_ctd.csv --bottom-depth 4800 --source-depth 60
-  seaprofile inspect profiles/deep.nc --json"""
+  seaprofile build demo_casts/deep_ocean_ctd.csv --out profiles --extend-to bottom --overwrite
+  seaprofile inspect profiles/VS31-D01.nc --json"""
 
 
 def add_arguments(p):
@@ -22,19 +25,27 @@ def add_arguments(p):
     p.add_argument("--bottom-depth", help="sea-floor depth, m (depth excess, harmonic mean)")
     p.add_argument("--source-depth", help="source depth, m (its conjugate depth)")
     p.add_argument("--transducer-depth", default="0", help="upper depth of the harmonic mean, m")
-    p.add_argument("--latitude", type=float, help="latitude, degrees north, for a raw cast without one")
+    add_reading_options(p)
     p.add_argument("--json", action="store_true", help="print the diagnostics as JSON")
 
 
 def run(args):
-    options = {} if args.latitude is None else {"latitude": args.latitude}
-    profile = load_profile(args.profile, **options)
-    d = describe(
-        profile,
-        bottom_depth=parse_length(args.bottom_depth, "--bottom-depth") if args.bottom_depth else None,
-        source_depth=parse_length(args.source_depth, "--source-depth") if args.source_depth else None,
-        transducer_depth=parse_length(args.transducer_depth, "--transducer-depth"),
-    )
+    bottom = optional_length(args.bottom_depth, "--bottom-depth")
+    source = optional_length(args.source_depth, "--source-depth")
+    transducer = parse_length(args.transducer_depth, "--transducer-depth")
+    if bottom is not None and bottom <= 0:
+        raise SeaprofileError(f"--bottom-depth must be below the surface (> 0 m), got "
+                              f"{args.bottom_depth!r}")
+    for value, text, option in ((source, args.source_depth, "--source-depth"),
+                                (transducer, args.transducer_depth, "--transducer-depth")):
+        if value is not None and value < 0:
+            raise SeaprofileError(f"{option} must be at or below the surface (>= 0 m), got "
+                                  f"{text!r}")
+    profile = load_profile(args.profile, **reading_options(args))
+    floor = bottom if bottom is not None else profile_bottom(profile)
+    if source is not None and floor is not None and source > floor:
+        raise SeaprofileError(f"--source-depth {source:g} m lies below the bottom ({floor:g} m)")
+    d = diagnose(profile, bottom_depth=bottom, source_depth=source, transducer_depth=transducer)
     if args.json:
         print_json(d)
         return 0

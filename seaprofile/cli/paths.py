@@ -14,52 +14,67 @@ import numpy as np
 
 from .._cf import CAUTION
 from .._validate import SeaprofileError
-from ._common import parse_length, print_json, print_table
-from ._inputs import (DEFAULT_THIN_TOLERANCE, parse_source_depth, allow_negative_values, check_output, load_environment, parse_angles,
-                      parse_receiver, save_figure)
+from ..io import check_figure_path, expand_paths, load_environment, save_figure
+from ._common import print_json, print_table
+from ._options import (add_angle_options, add_ray_input_options, optional_length, parse_angles,
+                       parse_receiver, parse_source_depth, reading_options)
 
 NAME = "paths"
 HELP = "eigenrays and arrivals from a source to receivers"
 EXAMPLE = """example:
-  seaprofile paths cast_017.csv --source-depth 50 --receiver 12km,200 --receiver 20km,50 \\
-      --bottom-depth 4000 --max-reflections 3 --plot arrivals.png
-  seaprofile paths profile.nc --source-depth 1000 --receiver 50km,800 --json"""
+  seaprofile paths demo_casts/deep_ocean_ctd.csv --source-depth 50 --receiver 12km,200 \\
+      --receiver 20km,50 --bottom-depth 4000 --max-reflections 3 --plot arrivals.png
+  seaprofile build demo_casts/deep_ocean_ctd.csv --out profiles --extend-to bottom --overwrite
+  seaprofile paths profiles/VS31-D01.nc --source-depth 1000 --receiver 50km,800 --json"""
 
 PATH_WORDS = ("refracted", "surface", "bottom", "surface+bottom")
 
+#: angular spacing of the search fan when only --search-angles is given, degrees
+SEARCH_SPACING = 0.05
+
 
 def add_arguments(p):
-    p.add_argument("--thin-tolerance", type=float, default=DEFAULT_THIN_TOLERANCE,
-                   help="drop profile nodes that a straight segment matches to within this "
-                   "sound speed, m/s (default %(default)s; 0 keeps every bin)")
-    allow_negative_values(p)
-    p.add_argument("profile", nargs="+", metavar="PROFILE",
-                   help="built profile or raw cast file")
-    p.add_argument("--source-depth", required=True, help="source depth, m (a 'km' suffix is accepted)")
+    add_ray_input_options(p, "PROFILE", "built profile or raw cast file")
     p.add_argument("--receiver", action="append", required=True, metavar="RANGE,DEPTH",
                    help="receiver range and depth, m or km (e.g. 12km,200); repeat for more")
     p.add_argument("--bottom-depth", help="flat bottom depth, m (default: the profile's bottom "
                                           "depth if it carries one, else its deepest level)")
     p.add_argument("--max-reflections", type=int, default=3,
                    help="largest number of surface + bottom reflections of a path (default 3)")
-    p.add_argument("--search-angles", metavar="FIRST:LAST:COUNT",
-                   help="launch angles of the search fan, degrees, positive down (default: "
-                        "-89 to 89 every 0.05 deg); a denser fan finds paths of narrow ducts")
+    add_angle_options(p, prefix="search-", what="launch angles of the search fan (default: -89 "
+                      f"to 89 every {SEARCH_SPACING:g} deg; a denser fan finds paths of narrow "
+                      "ducts)")
     p.add_argument("--plot", metavar="FIGURE", help="write the arrivals chart (PNG, PDF or SVG by suffix)")
     p.add_argument("--overwrite", action="store_true", help="replace an existing figure")
     p.add_argument("--json", action="store_true", help="print the arrivals as JSON")
 
 
+def _search_angles(args):
+    if args.search_angles is None:
+        if args.search_rays is not None:
+            raise SeaprofileError("--search-rays: give --search-angles LOW HIGH with it")
+        return None
+    count = args.search_rays
+    if count is None:  # the default spacing over the span given
+        low, high = (float(v) for v in parse_angles(args.search_angles, 2, "--search-angles",
+                                                    "--search-rays")[[0, -1]])
+        count = int(round((high - low) / SEARCH_SPACING)) + 1
+    return parse_angles(args.search_angles, count, "--search-angles", "--search-rays")
+
+
 def run(args):
     source_depth = parse_source_depth(args.source_depth)
     receivers = [parse_receiver(r, "--receiver") for r in args.receiver]
-    bottom_depth = parse_length(args.bottom_depth, "--bottom-depth") if args.bottom_depth else None
+    bottom_depth = optional_length(args.bottom_depth, "--bottom-depth")
     if args.max_reflections < 0:
         raise SeaprofileError(f"--max-reflections must be >= 0, got {args.max_reflections}")
-    search = parse_angles(args.search_angles, "--search-angles") if args.search_angles else None
-    plot_path = check_output(args.plot, args.overwrite, "--plot")
+    search = _search_angles(args)
+    read = reading_options(args)
+    plot_path = check_figure_path(args.plot, overwrite=args.overwrite,
+                                  inputs=expand_paths(args.profile), argument="--plot")
 
-    env, loaded = load_environment(args.profile, bottom_depth=bottom_depth, thin_tolerance=args.thin_tolerance)
+    env, loaded = load_environment(args.profile, bottom_depth=bottom_depth,
+                                   thin_tolerance=args.thin_tolerance, **read)
     bottom = float(env.bottom_at(0.0))
     if source_depth > bottom:
         raise SeaprofileError(f"--source-depth {source_depth:g} m lies below the bottom ({bottom:g} m)")

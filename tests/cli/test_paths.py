@@ -95,11 +95,12 @@ def test_no_reflections_leaves_only_the_direct_path(main, uniform_nc, capsys):
 
 def test_search_angles_option(main, uniform_nc, capsys):
     assert main(["paths", str(uniform_nc), "--source-depth", "50", "--receiver", "1km,80",
-                 "--max-reflections", "0", "--search-angles", "-10:10:2001", "--json"]) == 0
+                 "--max-reflections", "0", "--search-angles", "-10", "10", "--search-rays", "2001",
+"--json"]) == 0
     (rec,) = json.loads(capsys.readouterr().out)["receivers"]
     assert len(rec["arrivals"]) == 1
     assert main(["paths", str(uniform_nc), "--source-depth", "50", "--receiver", "1km,80",
-                 "--search-angles", "-95:95:11"]) == 2
+                 "--search-angles", "-95", "95", "--search-rays", "11"]) == 2
     assert "--search-angles" in _one_line_error(capsys)
 
 
@@ -141,3 +142,30 @@ def test_help_has_example_and_caution(main, capsys):
         main(["paths", "--help"])
     out = capsys.readouterr().out
     assert "example:" in out and "--receiver" in out and "Caution" in out
+
+
+def test_search_rays_default_spacing_and_errors(main, uniform_nc, capsys):
+    base = ["paths", str(uniform_nc), "--source-depth", "50", "--receiver", "1km,80",
+            "--max-reflections", "0", "--json"]
+    assert main(base + ["--search-angles", "-10", "10"]) == 0  # every 0.05 deg
+    (rec,) = json.loads(capsys.readouterr().out)["receivers"]
+    assert len(rec["arrivals"]) == 1
+    assert main(base + ["--search-rays", "100"]) == 2
+    assert "--search-angles" in _one_line_error(capsys)
+    assert main(base + ["--search-angles", "-10", "10", "--search-rays", "1"]) == 2
+    assert "--search-rays" in _one_line_error(capsys)
+
+
+def test_reading_options_and_figure_suffix(main, uniform_nc, tmp_path, capsys):
+    from _cli_helpers import DEMO, RENAMED_OPTIONS, rewrite_cast
+
+    renamed = rewrite_cast(DEMO / "shelf_summer_ctd.csv", tmp_path / "renamed.csv",
+                           header="col_a,col_b,col_c", pressure_scale=10.0)
+    argv = ["paths", str(renamed), "--source-depth", "20", "--receiver", "1km,30", "--json"]
+    assert main(argv) == 2
+    assert "--columns" in _one_line_error(capsys)
+    assert main(argv + RENAMED_OPTIONS) == 0
+    assert json.loads(capsys.readouterr().out)["receivers"][0]["arrivals"]
+    assert main(["paths", str(uniform_nc), "--source-depth", "50", "--receiver", "1km,80",
+                 "--plot", str(tmp_path / "arrivals.jpeg")]) == 2
+    assert "--plot" in _one_line_error(capsys)

@@ -1,0 +1,131 @@
+"""`build`: options checked once, inputs never written over, memory, assumptions, threads."""
+
+import json
+import shutil
+
+import numpy as np
+import pytest
+import xarray as xr
+
+import seaprofile.batch
+from seaprofile.cli import main
+
+from _cli_helpers import DEMO, RENAMED_OPTIONS, one_line_error
+
+TWO = [str(DEMO / "shelf_summer_ctd.csv"), str(DEMO / "shelf_winter_ctd.csv")]
+
+
+@pytest.mark.parametrize("option, value", [
+    ("--bin", "-1"), ("--bin", "0"), ("--fall-rate", "fast"), ("--fall-rate", "1,-1"),
+    ("--columns", "temperature"), ("--columns", "colour=red"), ("--units", "pressure=furlong"),
+    ("--latitude", "95"), ("--longitude", "-200"), ("--salinity", "50"),
+    ("--extend-to", "-5"), ("--extend-to", "deep"), ("--scheduler", "bogus"),
+])
+def test_bad_option_once_exit_2_before_any_file(tmp_path, capsys, option, value):
+    out = tmp_path / "out"
+    assert main(["build", *TWO, "--out", str(out), option, value]) == 2
+    err = one_line_error(capsys)  # one line, not one per file
+    assert err.startswith(f"seaprofile build: error: {option}")
+    assert not out.exists()  # nothing was processed
+
+
+def test_tiny_bin_refused_with_the_memory_it_would_need(capsys):
+    assert main(["build", *TWO, "--bin", "0.000001"]) == 2
+    err = one_line_error(capsys)
+    assert "--bin" in err and "memory" in err and "TB" in err
+
+
+def test_input_is_never_an_output(tmp_path, capsys, monkeypatch):
+    # a cast file named like its cast: `build X.csv --format csv --out . --overwrite`
+    # would write X.csv over itself
+    src = tmp_path / "VS31-S04.csv"
+    shutil.copy(DEMO / "shelf_summer_ctd.csv", src)
+    before = src.read_bytes()
+    monkeypatch.chdir(tmp_path)
+    assert main(["build", "VS31-S04.csv", "--format", "csv", "--out", ".", "--overwrite"]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "is an input" in err[0] and "VS31-S04.csv" in err[0]
+    assert src.read_bytes() == before
+
+
+def test_reference_file_is_never_an_output(tmp_path, capsys):
+    ref = tmp_path / "VS31-X07.nc"  # the name build would give the probe's profile
+    assert main(["build", str(DEMO / "deep_ocean_ctd.csv"), "--out", str(tmp_path)]) == 0
+    (tmp_path / "VS31-D01.nc").rename(ref)
+    before = ref.read_bytes()
+    capsys.readouterr()
+    assert main(["build", str(DEMO / "xbt_drop.csv"), "--extend-to", "3000", "--reference",
+                 str(ref), "--out", str(tmp_path), "--overwrite"]) == 1
+    assert "is an input" in capsys.readouterr().err
+    assert ref.read_bytes() == before
+
+
+def test_missing_reference_named_as_the_option(tmp_path, capsys):
+    # a sound-speed probe cast of depth and sound speed only (synthetic): nothing to
+    # extend with but a deeper reference profile
+    path = tmp_path / "probe.csv"
+    rows = "\n".join(f"{z:.1f},{1510.0 - 0.02 * z:.3f}" for z in np.arange(1.0, 200.0))
+    path.write_text("# note: SYNTHETIC test cast\n# instrument: svp\n# latitude: 44.0\n"
+                    f"# longitude: -9.6\ndepth [m],sound speed [m/s]\n{rows}\n")
+    assert main(["build", str(path), "--extend-to", "400"]) == 1
+    err = capsys.readouterr().err
+    assert "--reference" in err and "reference=" not in err
+    ref = DEMO / "svp_cast.csv"
+    assert main(["build", str(path), "--extend-to", "400", "--reference", str(ref), "--json"]) == 0
+    (row,) = json.loads(capsys.readouterr().out)["casts"]
+    assert row["depth_range_m"].endswith("400")
+    assert "extended" in row["assumptions"] and "400" in row["assumptions"]
+
+
+def test_reader_keyword_hints_name_the_option(renamed_cast, capsys):
+    assert main(["build", str(renamed_cast)]) == 1
+    err = capsys.readouterr().err
+    assert "--columns" in err and "columns=" not in err
+    assert main(["build", str(renamed_cast), *RENAMED_OPTIONS, "--json"]) == 0
+
+
+def test_summary_shows_every_assumption(capsys):
+    assert main(["build", str(DEMO / "xbt_drop.csv"), "--salinity", "35.2", "--fall-rate",
+                 "6.691,0.00225", "--extend-to", "3000", "--reference",
+                 str(DEMO / "deep_ocean_ctd.csv"), "--json"]) == 0
+    (row,) = json.loads(capsys.readouterr().out)["casts"]
+    said = row["assumptions"]
+    assert "salinity" in said and "35.2" in said
+    assert "fall rate" in said and "6.691" in said
+    # the extension: where it starts (the probe's last bin, 759 m), where it ends, and
+    # that the deep cast shaped it (by name or as "reference"; its wording may change)
+    assert "extended" in said and "759" in said and "3000" in said
+    assert "VS31-D01" in said or "reference" in said
+    assert main(["build", str(DEMO / "xbt_drop.csv")]) == 0
+    text = capsys.readouterr().out
+    assert "assumptions" in text and "salinity assumed constant 35" in text
+    assert "hanawa1995_t7" in text
+
+
+def test_diagnostics_error_is_reported_as_itself(monkeypatch, capsys):
+    def broken(profile, **options):
+        raise seaprofile.batch.SeaprofileError("an invented diagnostics failure")
+
+    monkeypatch.setattr(seaprofile.batch, "diagnose", broken)
+    assert main(["build", str(DEMO / "shelf_summer_ctd.csv"), "--json"]) == 0
+    (row,) = json.loads(capsys.readouterr().out)["casts"]
+    assert row["status"] == "diagnostics failed: an invented diagnostics failure"
+
+
+def test_stuck_salinity_still_says_no_usable_sound_speed(capsys):
+    assert main(["build", str(DEMO / "messy" / "stuck_salinity_ctd.csv"), "--json"]) == 0
+    (row,) = json.loads(capsys.readouterr().out)["casts"]
+    assert row["status"] == "no usable sound speed"
+
+
+def test_threads_write_netcdf_safely(tmp_path, capsys):
+    pytest.importorskip("dask")
+    casts = sorted(str(p) for p in (DEMO / "section").glob("*.csv"))
+    assert main(["build", *casts, "--out", str(tmp_path / "t"), "--scheduler", "threads"]) == 0
+    assert main(["build", *casts, "--out", str(tmp_path / "s")]) == 0
+    names = sorted(p.name for p in (tmp_path / "s").iterdir())
+    assert names == sorted(p.name for p in (tmp_path / "t").iterdir()) and len(names) == 10
+    for name in names:
+        a = xr.load_dataset(tmp_path / "s" / name)
+        b = xr.load_dataset(tmp_path / "t" / name)
+        np.testing.assert_array_equal(a["sound_speed"].values, b["sound_speed"].values)
