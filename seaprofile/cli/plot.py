@@ -11,22 +11,17 @@ metres unless a 'km' suffix is given.
 
 from __future__ import annotations
 
-from pathlib import Path
-
 from .._cf import CAUTION
 from .._validate import SeaprofileError
 from ._common import parse_length, print_json
-from ._inputs import _profile_bottom, check_output, save_figure
+from ..io import check_figure_path, profile_bottom, read_as_profiles, save_figure
+from ._options import add_reading_options, reading_options
 
 NAME = "plot"
 HELP = "draw the profile figure of a profile or cast file (PNG, PDF or SVG)"
 EXAMPLE = """example:
   seaprofile plot demo_casts/deep_ocean_ctd.csv --out deep_profile.png
   seaprofile plot demo_casts/messy/messy_shelf_ctd.csv --upper-panel none --out messy_profile.svg"""
-
-#: figure suffixes accepted by --out
-FIGURE_SUFFIXES = (".png", ".pdf", ".svg")
-
 
 def add_arguments(p):
     p.add_argument("profile", metavar="PROFILE", help="profile or raw cast file")
@@ -39,20 +34,11 @@ def add_arguments(p):
     p.add_argument("--upper-panel", default="auto", metavar="DEPTH",
                    help="depth, m, of the extra panel of the upper ocean, or 'none' (default "
                         "auto: 300 m for profiles deeper than 1500 m)")
-    p.add_argument("--latitude", type=float,
-                   help="latitude, degrees north, for a raw cast without one")
+    add_reading_options(p)
     p.add_argument("--dpi", type=float, default=150.0, help="resolution of a PNG, dots per "
                                                             "inch (default %(default)s)")
     p.add_argument("--overwrite", action="store_true", help="replace an existing figure")
     p.add_argument("--json", action="store_true", help="print what was drawn as JSON")
-
-
-def _figure_path(text, overwrite):
-    suffix = Path(text).suffix.lower()
-    if suffix not in FIGURE_SUFFIXES:
-        raise SeaprofileError(f"--out: unknown figure type {suffix or '(no suffix)'!r} in "
-                              f"{text!r}; use {', '.join(FIGURE_SUFFIXES)}")
-    return check_output(text, overwrite, "--out")
 
 
 def _upper_panel(text):
@@ -89,7 +75,9 @@ def _pick(profiles, name, path):
 
 
 def run(args):
-    out = _figure_path(args.out, args.overwrite)  # refused before any reading
+    # refused before any reading: a bad suffix, an existing file, the input itself
+    out = check_figure_path(args.out, overwrite=args.overwrite, inputs=[args.profile],
+                            argument="--out")
     zoom = _upper_panel(args.upper_panel)
     bottom = parse_length(args.bottom_depth, "--bottom-depth") if args.bottom_depth else None
     if bottom is not None and bottom <= 0:
@@ -97,23 +85,22 @@ def run(args):
                               f"{args.bottom_depth!r}")
     if args.dpi <= 0 or args.dpi > 1200:
         raise SeaprofileError(f"--dpi must lie in 1..1200, got {args.dpi:g}")
-    if args.latitude is not None and not -90 <= args.latitude <= 90:
-        raise SeaprofileError(f"--latitude must lie in -90..90, got {args.latitude}")
+    options = reading_options(args)
 
-    from ..batch import read_as_profiles
     from ..plots.profile import plot_profile
 
-    options = {} if args.latitude is None else {"latitude": args.latitude}
     profiles, kind = read_as_profiles(args.profile, **options)
     profile = _pick(profiles, args.name, args.profile)
     cast = None
     if kind == "cast":  # the raw samples, drawn behind the bins
         from ..casts.read import read_casts
+        from ..io.loading import READ_OPTIONS
 
-        casts = read_casts(args.profile)
+        casts = read_casts(args.profile, **{k: v for k, v in options.items()
+                                            if k in READ_OPTIONS})
         cast = casts[profiles.index(profile)] if len(casts) == len(profiles) else None
     if bottom is None:
-        bottom = _profile_bottom(profile)
+        bottom = profile_bottom(profile)
     fig = plot_profile(profile, cast=cast, zoom=zoom, bottom_depth=bottom)
     save_figure(fig, out, overwrite=args.overwrite, dpi=args.dpi)
     what = "built profile" if kind == "profile" else "raw cast, built with the default settings"
