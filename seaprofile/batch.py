@@ -20,12 +20,13 @@ from .casts.read import read_casts
 from .casts.write import FORMATS, write
 from .io import NETCDF_LOCK, ArgumentError, check_memory, is_same_file, profile_bytes
 from .io.loading import _is_netcdf, load_profile, read_as_profiles
-from .io.options import SCHEDULERS, check_build_options, check_read_options, check_scheduler
+from .io.options import (SCHEDULERS, check_build_options, check_read_options,
+                         check_replacement_salinity, check_scheduler)
 from .layers import describe
 from .layers.summary import BAD_FLAGS
 from .profile import build_profile
 
-__all__ = ["BuildResult", "assumptions", "build_files", "diagnose", "flags_by_test",
+__all__ = ["BuildResult", "assumptions", "build_files", "diagnose", "flags_by_test", "short_assumptions",
            "load_profile", "read_as_profiles", "summary_row", "usable_bins"]
 
 
@@ -181,10 +182,14 @@ def _build_file(path, read_options, build_options, out_dir, fmt, overwrite, bott
         res = BuildResult(str(path), cast=cast)
         options = dict(build_options)
         bottom = bottom_depth
-        if isinstance(bottom, str):  # "bottom": each cast's own bottom_depth metadata
-            bottom = _bottom_of(cast)
-            options["extend_to"] = bottom
         try:
+            if isinstance(bottom, str):  # "bottom": each cast's own bottom_depth metadata
+                bottom = _bottom_of(cast)
+                if bottom is None:
+                    raise ArgumentError("extend_to", "'bottom' needs the cast's "
+                                        "sea-floor depth, and the file gives none (add a "
+                                        "bottom_depth line to its header, or give a depth)")
+                options["extend_to"] = bottom
             res.profile = _build_profile(cast, options)
             res.diagnostics = _diagnostics(res, bottom)
             if out_dir is not None:
@@ -230,8 +235,9 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
 def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, columns=None,
                 units=None, instrument=None, latitude=None, longitude=None, salinity=None,
                 fall_rate="hanawa1995_t7", equation="chen_millero1977", bin_size=1.0,
-                extend_to=None, reference=None,
-                depth_method="unesco1983", scheduler=None, protect=()):
+                extend_to=None, reference=None, replacement_salinity=None,
+                replace_salinity="bad", depth_method="unesco1983", scheduler=None,
+                protect=()):
     """Read, process, quality-control and write every cast in ``paths``.
 
     Parameters
@@ -253,9 +259,17 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
         Bin size, m.
     extend_to : float or "bottom", optional
         Sea-floor depth, m, to extend every profile to (flagged estimated); ``"bottom"``
-        takes each cast's own ``bottom_depth`` metadata (casts without one stay as they are).
+        takes each cast's own ``bottom_depth`` metadata (a cast without one is an error of
+        that cast, reported with the others; the rest carry on).
     reference : xarray.Dataset, optional
         Deeper Profile that shapes the extension.
+    replacement_salinity : float, optional
+        Practical salinity put in place of a failed salinity channel (flag 8, recorded in
+        each profile's ``salinity_replaced`` and ``assumptions`` attributes); see
+        :func:`seaprofile.profile.build_profile`.
+    replace_salinity : {"bad", "all"}
+        Where ``replacement_salinity`` goes: only where salinity is flagged bad or missing,
+        or everywhere.
     depth_method : str
         Pressure-to-depth method.
     scheduler : str, optional
@@ -285,6 +299,7 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
     check_build_options(bin_size=bin_size, extend_to=extend_to, equation=equation,
                         depth_method=depth_method)
     check_scheduler(scheduler)
+    check_replacement_salinity(replacement_salinity, replace_salinity)
     paths = [str(p) for p in paths]
     keep = [*paths, *(str(p) for p in protect)]
     if out_dir is not None:
@@ -294,6 +309,9 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
         Path(out_dir).mkdir(parents=True, exist_ok=True)
     build_options = dict(equation=equation, bin_size=float(bin_size), latitude=latitude,
                          extend_to=extend_to, reference=reference, depth_method=depth_method)
+    if replacement_salinity is not None:
+        build_options.update(replacement_salinity=float(replacement_salinity),
+                             replace_salinity=replace_salinity)
     args = (read_options, build_options, out_dir, format, overwrite, extend_to, keep)
     if scheduler is None:
         used = set()
@@ -352,8 +370,41 @@ def summary_row(result):
         "mixed_layer_m": d.get("mixed_layer_depth_temperature"),
         "sonic_layer_m": d.get("sonic_layer_depth"),
         "status": _status(result),
+        "assumed": short_assumptions(p),
         "assumptions": "; ".join(assumptions(p)) or "none",
     }
+
+
+def short_assumptions(profile):
+    """The assumptions of a Profile in a few words, for one column of a summary table.
+
+    The full sentences are :func:`assumptions` (and the Profile's ``assumptions``
+    attribute, written with every output file); this is their index: what was assumed,
+    not the values. ``"none"`` when the profile rests on its data alone.
+    """
+    a = profile.attrs
+    words = []
+    if str(a.get("salinity_assumed", "")).lower() in ("yes", "true", "1"):
+        source = str(a.get("salinity_source", "")).split("(")[0].strip()
+        words.append(f"salinity {source}" if source.startswith("assumed") else
+                     "salinity assumed")
+    if a.get("salinity_replaced") not in (None, ""):
+        words.append(f"salinity replaced ({str(a['salinity_replaced']).split(':')[0]})")
+    if a.get("fall_rate") not in (None, ""):
+        words.append(f"fall rate {a['fall_rate']}")
+    if "samples_per_bin" in profile and "sound_speed_qc" in profile:
+        inside = profile["depth"].values <= float(a.get("cast_max_depth", np.inf))
+        filled = inside & (profile["samples_per_bin"].values == 0) & (
+            profile["sound_speed_qc"].values == _cf.ESTIMATED)
+        if filled.any():
+            words.append(f"{int(filled.sum())} levels interpolated")
+    if a.get("extension_method") not in (None, ""):
+        ref = a.get("extension_reference")
+        below = a.get("cast_max_depth")
+        words.append("extended" + (f" below {float(below):.0f} m" if below is not None else "")
+                     + (f" from {ref}" if ref not in (None, "", "none") else " at constant T/S"
+                        if "constant" in str(a["extension_method"]) else ""))
+    return ", ".join(words) or "none"
 
 
 def _status(result):

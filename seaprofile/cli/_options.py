@@ -26,6 +26,7 @@ OPTION_NAMES = {
     "scheduler": "--scheduler", "format": "--format", "out_dir": "--out",
     "bottom_depth": "--bottom-depth", "thin_tolerance": "--thin-tolerance",
     "bathymetry": "--bathymetry", "range_step": "--range-step", "paths": "PROFILE",
+    "replacement_salinity": "--replace-salinity", "replace_salinity": "--replace-salinity-where",
 }
 
 
@@ -91,6 +92,12 @@ def add_building_options(p):
     b.add_argument("--depth-method", default="unesco1983", choices=sorted(METHODS),
                    help="pressure-to-depth method (default unesco1983)")
     b.add_argument("--bin", type=float, default=1.0, help="bin size, m (default 1)")
+    b.add_argument("--replace-salinity", type=float, metavar="SALINITY",
+                   help="practical salinity to use in place of a failed salinity channel "
+                   "(flagged 8 'estimated' and stated in each profile's assumptions)")
+    b.add_argument("--replace-salinity-where", choices=["bad", "all"], default="bad",
+                   help="where --replace-salinity goes: samples whose salinity is flagged bad "
+                   "or missing (default), or all samples")
     return b
 
 

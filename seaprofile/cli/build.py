@@ -15,7 +15,7 @@ from .._cf import CAUTION
 from ..batch import build_files, summary_row
 from ..casts.write import FORMATS
 from ..io import load_profile
-from ..io.options import check_build_options, check_scheduler
+from ..io.options import check_build_options, check_replacement_salinity, check_scheduler
 from ._common import parse_length, print_json, print_table
 from ._options import add_building_options, in_option_terms, option_name, reading_options
 
@@ -29,7 +29,7 @@ EXAMPLE = """example:
       --reference demo_casts/deep_ocean_ctd.csv --out extended"""
 
 COLUMNS = ["file", "cast", "instrument", "depth_range_m", "samples", "flags",
-           "surface_speed", "mixed_layer_m", "sonic_layer_m", "status", "assumptions"]
+           "surface_speed", "mixed_layer_m", "sonic_layer_m", "status", "assumed"]
 
 
 def add_arguments(p):
@@ -54,11 +54,13 @@ def run(args):
     check_build_options(bin_size=args.bin, extend_to=extend, equation=args.equation,
                         depth_method=args.depth_method)
     check_scheduler(args.scheduler)
+    check_replacement_salinity(args.replace_salinity, args.replace_salinity_where)
     reference = load_profile(args.reference) if args.reference else None
     results = build_files(
         args.casts, out_dir=args.out, format=args.format, overwrite=args.overwrite,
         equation=args.equation, bin_size=args.bin, depth_method=args.depth_method,
         extend_to=extend, scheduler=args.scheduler, reference=reference,
+        replacement_salinity=args.replace_salinity, replace_salinity=args.replace_salinity_where,
         protect=[args.reference] if args.reference else (), **read)
     failed = [r for r in results if not r.ok]
     for r in failed:
@@ -69,7 +71,9 @@ def run(args):
                     "failed": len(failed), "caution": CAUTION})
     else:
         print_table(rows, COLUMNS)
-        print(f"{len(results) - len(failed)} built, {len(failed)} failed; speeds in m/s, depths in m")
+        print(f"{len(results) - len(failed)} built, {len(failed)} failed; speeds in m/s, depths in m"
+              "; what each profile assumes is written in full in its file (attribute "
+              "'assumptions') and in --json")
         print(f"Caution: {CAUTION}")
     return 1 if failed else 0
 

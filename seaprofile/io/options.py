@@ -9,15 +9,16 @@ from __future__ import annotations
 import math
 import re
 
+from ..casts._qc_tests import MAX_OCEAN_DEPTH
 from .errors import ArgumentError
 from .outputs import check_memory, profile_bytes
 
 __all__ = ["FULL_OCEAN_DEPTH", "SCHEDULERS", "check_build_options", "check_read_options",
-           "check_scheduler", "parse_pairs"]
+           "check_replacement_salinity", "check_scheduler", "parse_pairs"]
 
 #: deepest water a cast can see, m: the bound used to size a profile before its cast is
-#: read (the deepest trench is about 10,900 m; rounded up; common practice, no source)
-FULL_OCEAN_DEPTH = 11000.0
+#: read, the same bound that QC and the extension use (common practice, no source)
+FULL_OCEAN_DEPTH = MAX_OCEAN_DEPTH
 
 #: local dask schedulers by name; any other accepted value is a distributed address
 SCHEDULERS = ("threads", "processes", "synchronous")
@@ -139,6 +140,14 @@ def check_read_options(*, columns=None, units=None, latitude=None, longitude=Non
     return out
 
 
+def check_replacement_salinity(salinity, where="bad"):
+    """Check a replacement salinity (practical, 0..42) and where it goes ("bad" or "all")."""
+    if salinity is not None:
+        _number("replacement_salinity", salinity, 0.0, 42.0)
+    if where not in ("bad", "all"):
+        raise ArgumentError("replace_salinity", f"expected 'bad' or 'all', got {where!r}")
+
+
 def check_build_options(*, bin_size=1.0, extend_to=None, equation=None, depth_method=None):
     """Check the building options before any cast is read.
 
@@ -163,6 +172,9 @@ def check_build_options(*, bin_size=1.0, extend_to=None, equation=None, depth_me
         if depth <= 0:
             raise ArgumentError("extend_to", f"the sea floor must lie below the surface "
                                 f"(> 0 m), got {extend_to!r}")
+        if depth > MAX_OCEAN_DEPTH:
+            raise ArgumentError("extend_to", f"{depth:g} m is deeper than any ocean (at most "
+                                f"{MAX_OCEAN_DEPTH:g} m)")
         deepest = max(deepest, depth)
     check_memory("bin_size", profile_bytes(deepest, size),
                  f"bins of {size:g} m ({deepest / size:,.0f} bins down to {deepest:g} m)")

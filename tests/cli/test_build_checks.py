@@ -19,7 +19,8 @@ TWO = [str(DEMO / "shelf_summer_ctd.csv"), str(DEMO / "shelf_winter_ctd.csv")]
     ("--bin", "-1"), ("--bin", "0"), ("--fall-rate", "fast"), ("--fall-rate", "1,-1"),
     ("--columns", "temperature"), ("--columns", "colour=red"), ("--units", "pressure=furlong"),
     ("--latitude", "95"), ("--longitude", "-200"), ("--salinity", "50"),
-    ("--extend-to", "-5"), ("--extend-to", "deep"), ("--scheduler", "bogus"),
+    ("--extend-to", "-5"), ("--extend-to", "deep"), ("--extend-to", "20000"),
+    ("--scheduler", "bogus"), ("--replace-salinity", "60"), ("--replace-salinity", "nan"),
 ])
 def test_bad_option_once_exit_2_before_any_file(tmp_path, capsys, option, value):
     out = tmp_path / "out"
@@ -129,3 +130,42 @@ def test_threads_write_netcdf_safely(tmp_path, capsys):
         a = xr.load_dataset(tmp_path / "s" / name)
         b = xr.load_dataset(tmp_path / "t" / name)
         np.testing.assert_array_equal(a["sound_speed"].values, b["sound_speed"].values)
+
+
+def test_failed_salinity_channel_replaced_from_the_command_line(tmp_path, capsys):
+    stuck = str(DEMO / "messy" / "stuck_salinity_ctd.csv")
+    assert main(["build", stuck, "--json"]) == 0
+    plain = json.loads(capsys.readouterr().out)["casts"][0]
+    assert plain["status"] == "no usable sound speed"
+    assert main(["build", stuck, "--replace-salinity", "35.2", "--out", str(tmp_path),
+                 "--json"]) == 0
+    row = json.loads(capsys.readouterr().out)["casts"][0]
+    assert row["status"] == "ok"
+    assert "salinity replaced" in row["assumed"] and "35.2" in row["assumptions"]
+    profile = xr.open_dataset(next(tmp_path.glob("*.nc")))
+    assert "35.2" in profile.attrs["salinity_replaced"]
+
+
+def test_extend_to_bottom_without_a_bottom_depth_is_an_error_of_that_cast(tmp_path, capsys):
+    # a cast file with no sea-floor depth in its header (invented, synthetic)
+    bare = tmp_path / "no_floor.csv"
+    bare.write_text("# synthetic test cast\npressure [dbar],temperature [degC],salinity\n"
+                    + "".join(f"{p},{12 - 0.02 * p:.3f},35.0\n" for p in range(1, 80)))
+    with_floor = DEMO / "shelf_summer_ctd.csv"
+    assert main(["build", str(bare), str(with_floor), "--extend-to", "bottom",
+                 "--out", str(tmp_path / "out")]) == 1
+    captured = capsys.readouterr()
+    err = [line for line in captured.err.splitlines() if line.strip()]
+    assert len(err) == 1 and "no_floor.csv" in err[0] and "--extend-to" in err[0]
+    assert "Traceback" not in captured.err
+    assert (tmp_path / "out" / "VS31-S04.nc").exists()  # the other cast carried on
+
+
+def test_summary_table_keeps_assumptions_short(capsys):
+    assert main(["build", str(DEMO / "xbt_drop.csv"), "--extend-to", "bottom",
+                 "--reference", str(DEMO / "deep_ocean_ctd.csv")]) == 0
+    out = capsys.readouterr().out
+    row = next(line for line in out.splitlines() if line.startswith("xbt_drop.csv"))
+    assert "salinity assumed" in row and "fall rate hanawa1995_t7" in row
+    assert "extended below" in row and "VS31-D01" in row
+    assert len(row) < 220  # the full sentences live in the file and in --json
