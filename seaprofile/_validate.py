@@ -6,8 +6,10 @@ validity range name the variable, the range seen and the range the source suppor
 
 from __future__ import annotations
 
+import math
 import warnings
 
+import numba
 import numpy as np
 
 __all__ = [
@@ -15,6 +17,7 @@ __all__ = [
     "InputFileError",
     "OutsideValidityWarning",
     "as_float_array",
+    "check_position",
     "is_lazy",
     "require",
     "warn_outside",
@@ -116,3 +119,79 @@ def warn_outside(name, values, low, high, *, unit="", context="", stacklevel=3):
         )
         return True
     return False
+
+
+# --- positions ------------------------------------------------------------------------
+
+#: Accepted ranges of the position arguments, degrees (east longitudes up to 360 allowed).
+POSITION_RANGES = {"latitude": (-90.0, 90.0), "longitude": (-180.0, 360.0)}
+
+
+@numba.njit(cache=True, nogil=True)
+def _position_summary(flat):
+    """(min, max, count of NaN) of a 1-D float64 array in one pass; inf counts in min/max."""
+    lo = math.inf
+    hi = -math.inf
+    nan = 0
+    for i in range(flat.size):
+        x = flat[i]
+        if x != x:
+            nan += 1
+        else:
+            lo = min(lo, x)
+            hi = max(hi, x)
+    return lo, hi, nan
+
+
+def check_position(kind, value, *, name=None):
+    """Raise :class:`SeaprofileError` unless a latitude or longitude is usable everywhere.
+
+    The one position rule of seaprofile: a given latitude (degrees north) must be finite
+    and within -90..90, a given longitude (degrees east) finite and within -180..360, at
+    every point. NaN is an unknown position and is refused like any other bad value (it
+    never turns into NaN results or a silent fallback); ``None`` means "not given" and is
+    left to the caller (some functions need a position, others have a documented use
+    without one).
+
+    Parameters
+    ----------
+    kind : {"latitude", "longitude"}
+        Which coordinate ``value`` is.
+    value : float or array_like
+        The coordinate, degrees. Must not be lazy (check blocks of dask arrays when they
+        are computed).
+    name : str, optional
+        How the message names the argument (default ``kind``; the CLI passes its option,
+        e.g. ``"--longitude"``).
+
+    Returns
+    -------
+    numpy.ndarray
+        ``value`` as float64.
+    """
+    name = name or kind
+    low, high = POSITION_RANGES[kind]
+    arr = as_float_array(name, value)
+    if arr.size == 0:
+        return arr
+    flat = arr.reshape(-1) if arr.flags.c_contiguous else np.ravel(arr)
+    if flat.size <= 8:
+        nan = int(np.isnan(flat).sum())
+        finite = flat[~np.isnan(flat)]
+        lo, hi = (finite.min(), finite.max()) if finite.size else (math.inf, -math.inf)
+    else:
+        lo, hi, nan = _position_summary(flat)
+    unit = "degrees north" if kind == "latitude" else "degrees east"
+    if nan:
+        where = "" if arr.size == 1 else f" at {nan} of {arr.size} points"
+        raise SeaprofileError(
+            f"{name} is NaN{where} (unknown position); give a {kind} in {unit}"
+        )
+    if not (math.isfinite(lo) and math.isfinite(hi)):
+        raise SeaprofileError(f"{name} must be finite, got {lo if math.isinf(lo) else hi:g}")
+    if lo < low or hi > high:
+        bad = lo if lo < low else hi
+        raise SeaprofileError(
+            f"{name} must lie within {low:g}..{high:g} {unit}, got {bad:g}"
+        )
+    return arr
