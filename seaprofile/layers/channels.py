@@ -21,7 +21,7 @@ from ._common import _columns, _per_profile, _scalar, _valid_1d
 __all__ = ["sound_channels", "critical_depth", "depth_excess", "speed_at"]
 
 
-def sound_channels(sound_speed, depth, *, below=None, min_contrast=1.0, min_thickness=10.0,
+def sound_channels(sound_speed, depth=None, *, below=None, min_contrast=1.0, min_thickness=10.0,
                    dim="depth"):
     """Deep sound channel axis and a secondary channel, if present.
 

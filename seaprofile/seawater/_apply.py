@@ -157,11 +157,11 @@ def _block_checked(func, names):
     return run
 
 
-def _label_plain(named, values, core_ndim=()):
+def _label_plain(named, values, core_ndim=(), core_dim="core"):
     """Plain (dask or numpy) arrays as xr.Variables with positional dims, numpy-style.
 
-    ``core_ndim[i]`` trailing axes of argument ``i`` are core axes named ``core_dims[i]``
-    (handled by the caller); the leading (loop) axes are broadcast with numpy's rules.
+    The last axis of an argument with ``core_ndim[i] == 1`` is the core axis, named
+    ``core_dim``; the leading (loop) axes are broadcast with numpy's rules.
     """
     core_ndim = list(core_ndim) or [0] * len(values)
     loops = [(n, np.shape(v)[: np.ndim(v) - k]) for (n, _), v, k in zip(named, values, core_ndim)]
@@ -173,7 +173,7 @@ def _label_plain(named, values, core_ndim=()):
         full = shape[len(shape) - lead:] if lead else ()
         if lead and np.shape(v)[:lead] != full:
             v = _broadcast_lead(v, full, k)
-        core = tuple(f"core_{j}" for j in range(k))
+        core = (core_dim,) * k
         out.append(xr.Variable(dims[len(shape) - lead:] + core, v))
     return out, dims
 
@@ -366,18 +366,17 @@ def columnwise(func, columns, *, dim="depth", params=(), outputs, dtypes=None,
     values, kind = _prepare(named)
     if kind == "numpy":
         return func(*values)
-    core_ndim = [1] * len(columns) + [0] * len(params)
+    # a scalar among the columns (e.g. one salinity for the whole column) is broadcast
+    core_ndim = [min(np.ndim(v), 1) for v in values[:len(columns)]] + [0] * len(params)
+    if not core_ndim[0]:
+        raise SeaprofileError(f"{names[0]} needs a vertical axis")
     if kind == "dask":
-        for n, v in columns:
-            if np.ndim(v) < 1:
-                raise SeaprofileError(f"{n} needs at least one axis (the vertical)")
-        values, _ = _label_plain(named, values, core_ndim)
-        values = [v.rename({"core_0": dim}) if "core_0" in v.dims else v for v in values]
+        values, _ = _label_plain(named, values, core_ndim, dim)
     for n, v, k in zip(names, values, core_ndim):
         if k and dim not in v.dims:
             raise SeaprofileError(f"{n} has no dimension {dim!r} (dims {list(v.dims)}); "
                                   "pass dim= the vertical dimension")
-        _check_core_chunks(n, v, dim)
+        _check_core_chunks(n, v, dim, kind == "dask")
     block = _block_checked(functools.partial(_columns_numpy, func, len(outputs)), names)
     extra = {}
     out_core = [[]] * len(outputs)
@@ -400,7 +399,7 @@ def columnwise(func, columns, *, dim="depth", params=(), outputs, dtypes=None,
 
 def _along(name, v, dim):
     """A column argument next to DataArrays: a plain 1-D array lies along ``dim``."""
-    if isinstance(v, _XR):
+    if isinstance(v, _XR) or np.ndim(v) == 0:
         return v
     if np.ndim(v) != 1:
         raise SeaprofileError(
@@ -408,13 +407,14 @@ def _along(name, v, dim):
     return xr.Variable((dim,), as_float_array(name, v))
 
 
-def _check_core_chunks(name, v, dim):
+def _check_core_chunks(name, v, dim, plain):
     chunks = getattr(v, "chunksizes", None) if isinstance(v, _XR) else None
     if chunks and dim in chunks and len(chunks[dim]) > 1:
+        where, fix = ((f"its last (vertical) axis", ".rechunk({-1: -1})") if plain else
+                      (f"the vertical dimension {dim!r}", f".chunk({{{dim!r}: -1}})"))
         raise SeaprofileError(
-            f"{name} is split into {len(chunks[dim])} chunks along the vertical dimension "
-            f"{dim!r}; a column diagnostic needs each profile in one chunk: rechunk with "
-            f".chunk({{{dim!r}: -1}})"
+            f"{name} is split into {len(chunks[dim])} chunks along {where}; a column "
+            f"diagnostic needs each profile in one chunk: rechunk with {fix}"
         )
 
 

@@ -247,8 +247,8 @@ def validity_mask(temperature, salinity, pressure=None, *, depth=None, latitude=
     if latitude is not None:
         named.append(("latitude", latitude))
     func = functools.partial(_mask_block, eq, kind, tuple(n for n, _ in named))
-    attrs = {"long_name": f"inside the validity box of equation {eq.name}",
-             "equation": eq.name}
+    attrs = output_attrs({"long_name": f"inside the validity box of equation {eq.name}",
+                          "units": "1"}, eq.name, eq.reference)
     return pointwise(func, named, name="valid", attrs=attrs, dtype=np.bool_)
 
 

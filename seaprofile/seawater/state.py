@@ -325,9 +325,7 @@ def _last(name, v, axis):
     """A plain input with its vertical ``axis`` moved last (validated when not lazy)."""
     if not is_lazy(v):
         v = as_float_array(name, v)
-    if np.ndim(v) == 0:
-        raise SeaprofileError(f"{name} needs at least two samples along axis {axis}")
-    return _moveaxis(v, axis, -1)
+    return _moveaxis(v, axis, -1) if np.ndim(v) else v
 
 
 def _is_xarray(x):
