@@ -128,19 +128,41 @@ POSITION_RANGES = {"latitude": (-90.0, 90.0), "longitude": (-180.0, 360.0)}
 
 
 @numba.njit(cache=True, nogil=True)
-def _position_summary(flat):
-    """(min, max, count of NaN) of a 1-D float64 array in one pass; inf counts in min/max."""
-    lo = math.inf
-    hi = -math.inf
-    nan = 0
-    for i in range(flat.size):
-        x = flat[i]
-        if x != x:
-            nan += 1
-        else:
-            lo = min(lo, x)
-            hi = max(hi, x)
-    return lo, hi, nan
+def _position_range(flat):
+    """(min, max, bad) of a 1-D float64 array in one vectorisable pass.
+
+    ``bad`` is NaN when any value is NaN or infinite (``x * 0`` is NaN exactly for those)
+    and 0 otherwise; four independent accumulators let the compiler vectorise the loop.
+    """
+    n = flat.size
+    lo0 = lo1 = lo2 = lo3 = math.inf
+    hi0 = hi1 = hi2 = hi3 = -math.inf
+    bad0 = bad1 = bad2 = bad3 = 0.0
+    m = n - n % 4
+    for i in range(0, m, 4):
+        a = flat[i]
+        b = flat[i + 1]
+        c = flat[i + 2]
+        d = flat[i + 3]
+        lo0 = a if a < lo0 else lo0
+        hi0 = a if a > hi0 else hi0
+        lo1 = b if b < lo1 else lo1
+        hi1 = b if b > hi1 else hi1
+        lo2 = c if c < lo2 else lo2
+        hi2 = c if c > hi2 else hi2
+        lo3 = d if d < lo3 else lo3
+        hi3 = d if d > hi3 else hi3
+        bad0 += a * 0.0
+        bad1 += b * 0.0
+        bad2 += c * 0.0
+        bad3 += d * 0.0
+    for i in range(m, n):
+        a = flat[i]
+        lo0 = a if a < lo0 else lo0
+        hi0 = a if a > hi0 else hi0
+        bad0 += a * 0.0
+    return (min(min(lo0, lo1), min(lo2, lo3)), max(max(hi0, hi1), max(hi2, hi3)),
+            bad0 + bad1 + bad2 + bad3)
 
 
 def check_position(kind, value, *, name=None):
@@ -176,11 +198,12 @@ def check_position(kind, value, *, name=None):
         return arr
     flat = arr.reshape(-1) if arr.flags.c_contiguous else np.ravel(arr)
     if flat.size <= 8:
-        nan = int(np.isnan(flat).sum())
-        finite = flat[~np.isnan(flat)]
-        lo, hi = (finite.min(), finite.max()) if finite.size else (math.inf, -math.inf)
+        numbers = flat[~np.isnan(flat)]
+        lo, hi = (numbers.min(), numbers.max()) if numbers.size else (math.inf, -math.inf)
+        bad = flat.sum() * 0.0
     else:
-        lo, hi, nan = _position_summary(flat)
+        lo, hi, bad = _position_range(flat)
+    nan = int(np.isnan(flat).sum()) if bad != 0.0 else 0  # slow count only on bad input
     unit = "degrees north" if kind == "latitude" else "degrees east"
     if nan:
         where = "" if arr.size == 1 else f" at {nan} of {arr.size} points"

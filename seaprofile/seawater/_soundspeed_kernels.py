@@ -490,6 +490,14 @@ def _teos10_numpy(temperature, salinity, pressure, latitude=None, longitude=None
 # --- helpers of the public entry points -------------------------------------------------
 
 
+def _loops():
+    """Each compiled equation function -> its loop, for callers whose inputs are checked."""
+    return {mackenzie1981: _mackenzie1981_loop, chen_millero1977: _chen_millero1977_loop,
+            wong_zhu1995: _wong_zhu1995_loop, del_grosso1974: _del_grosso1974_loop,
+            coppens1981: _coppens1981_loop, medwin1975: _medwin1975_loop,
+            leroy2008: _leroy2008_loop}
+
+
 #: Citation of each equation (shown in ``EQUATIONS`` and in the ``references`` attribute).
 REFERENCES = {
     "mackenzie1981": "K.V. Mackenzie, J. Acoust. Soc. Am. 70(3), 807-812 (1981)",

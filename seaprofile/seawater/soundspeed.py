@@ -22,7 +22,7 @@ import numpy as np
 
 from .._validate import SeaprofileError, is_lazy, warn_outside
 from . import _soundspeed_kernels as _k
-from ._apply import output_attrs, pointwise
+from ._apply import output_attrs, pointwise, run_loop
 from ._soundspeed_kernels import (
     chen_millero1977,
     coppens1981,
@@ -340,7 +340,13 @@ def _evaluate(eq, kind, arrays, *, check, stacklevel=5):
     elif eq.uses_position and lat is not None and arrays.get("longitude") is not None:
         extra = {"latitude": lat,
                  "longitude": np.asarray(arrays["longitude"], dtype=np.float64)}
+    loop = _LOOPS.get(eq.function)
+    if loop is not None:  # the dispatcher has checked the inputs: straight to the loop
+        return np.asarray(run_loop(loop, (t, s, v, *extra.values())), dtype=np.float64)
     return np.asarray(eq.function(t, s, v, **extra), dtype=np.float64)
+
+
+_LOOPS = _k._loops()
 
 
 def _block(eq, kind, names, check, *blocks):
