@@ -200,7 +200,8 @@ def check_position(kind, value, *, name=None):
     if flat.size <= 8:
         numbers = flat[~np.isnan(flat)]
         lo, hi = (numbers.min(), numbers.max()) if numbers.size else (math.inf, -math.inf)
-        bad = flat.sum() * 0.0
+        with np.errstate(invalid="ignore"):
+            bad = flat.sum() * 0.0
     else:
         lo, hi, bad = _position_range(flat)
     nan = int(np.isnan(flat).sum()) if bad != 0.0 else 0  # slow count only on bad input
