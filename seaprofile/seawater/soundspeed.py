@@ -20,7 +20,8 @@ from typing import Callable
 
 import numpy as np
 
-from .._validate import SeaprofileError, is_lazy, warn_outside
+from .._validate import SeaprofileError, is_lazy, value_range, warn_outside
+from . import _box
 from . import _soundspeed_kernels as _k
 from ._apply import output_attrs, pointwise, run_loop
 from ._soundspeed_kernels import (
@@ -308,7 +309,7 @@ def _value_range(a):
     if a.size == 1:
         x = float(a.reshape(-1)[0])
         return (np.inf, -np.inf) if np.isnan(x) else (x, x)
-    return _k._value_range(np.ravel(a, order="K"))
+    return value_range(np.ravel(a, order="K"), False)[:2]
 
 
 def _check_box(eq, kind, t, s, v, stacklevel):
@@ -360,7 +361,7 @@ def _block(eq, kind, names, check, *blocks):
 def _mask_block(eq, kind, names, *blocks):
     arrays = dict(zip(names, blocks))
     v = _convert(arrays[kind], kind, eq.needs, arrays.get("latitude"))
-    mask = _k.in_box(arrays["temperature"], arrays["salinity"], v,
+    mask = _box.in_box(arrays["temperature"], arrays["salinity"], v,
                      (*eq.temperature_range, *eq.salinity_range, *eq.vertical_range))
     shape = np.broadcast_shapes(*(np.shape(b) for b in blocks))
     return mask if np.shape(mask) == shape else np.broadcast_to(mask, shape).copy()
