@@ -6,10 +6,11 @@ column that says whether the point lies inside the equation's validity range.
 
 from __future__ import annotations
 
+import math
 import warnings
 
 from .._cf import CAUTION
-from .._validate import OutsideValidityWarning, SeaprofileError
+from .._validate import OutsideValidityWarning, SeaprofileError, check_position
 from ..seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
 from ._common import parse_length, print_json, print_table
 
@@ -34,8 +35,7 @@ def add_arguments(p):
 
 def run(args):
     depth = parse_length(args.depth, "--depth") if args.depth is not None else None
-    if args.latitude is not None and not -90 <= args.latitude <= 90:
-        raise SeaprofileError(f"--latitude must lie in -90..90, got {args.latitude}")
+    _check_options(args)
     names = [args.equation] if args.equation else list(EQUATIONS)
     rows = []
     for name in names:
@@ -83,3 +83,17 @@ def run(args):
         print("sound speed in m/s; 'valid' = inside the range the equation was fitted to")
         print(f"Caution: {CAUTION}")
     return 0
+
+
+def _check_options(args):
+    """Every number finite, the position in range: one line naming the option, exit 2."""
+    for option in ("temperature", "salinity", "pressure"):
+        value = getattr(args, option)
+        if value is not None and not math.isfinite(value):
+            raise SeaprofileError(f"--{option} must be a finite number, got {value}")
+    for kind in ("latitude", "longitude"):
+        value = getattr(args, kind)
+        if value is not None:
+            check_position(kind, value, name=f"--{kind}")
+    if args.longitude is not None and args.latitude is None:
+        raise SeaprofileError("--longitude needs --latitude (TEOS-10 absolute salinity)")

@@ -1,14 +1,17 @@
 """Profile diagnostics: mixed and sonic layers, surface duct, sound channels, critical depth.
 
-Each diagnostic is a plain function on arrays (depth in m, positive down and increasing;
-sound speed in m/s; temperature in degC; potential density anomaly in kg/m3). Missing
-values are NaN and are skipped. :func:`describe` runs them all on a Profile Dataset,
-ignoring bins flagged bad (Argo flags 3, 4 and 9), and returns a JSON-friendly dict;
-:func:`describe_dataset` returns the same numbers as an ``xarray.Dataset`` with CF
-attributes.
-
-The mixed-layer and sonic-layer scans are numba kernels that accept many profiles at once
-(depth along the last axis).
+Every column diagnostic takes ``(sound_speed or another profile variable, depth, ...,
+dim="depth")`` and accepts numpy arrays (many profiles at once, depth along the last axis;
+per-profile parameters broadcast over the profile axes), xarray DataArrays (reduced along
+``dim``; ``depth=None`` uses the ``dim`` coordinate) and dask arrays, through the
+core-dimension dispatcher :func:`seaprofile.seawater._apply.columnwise` (exact alignment,
+results with units and ``long_name``, lazy until ``.compute()``; a vertical dimension in
+several chunks is refused with the rechunk that fixes it). Depth in m, positive down and
+increasing; sound speed in m/s; temperature in degC; potential density anomaly in kg/m3.
+Missing values are NaN and are skipped. :func:`describe` runs them all on a Profile
+Dataset, ignoring bins flagged bad (Argo flags 3, 4 and 9), and returns a JSON-friendly
+dict; :func:`describe_dataset` returns the same numbers as an ``xarray.Dataset`` with CF
+attributes. :func:`duct_cutoff_frequency` and :func:`depth_excess` are point-wise.
 
 Modules by topic:
 

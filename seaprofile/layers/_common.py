@@ -1,4 +1,11 @@
-"""Private helpers shared by the profile-diagnostic modules of :mod:`seaprofile.layers`."""
+"""Private helpers shared by the profile-diagnostic modules of :mod:`seaprofile.layers`.
+
+Every public layer function takes ``(sound_speed or another profile variable, depth, ...,
+dim="depth")`` and goes through :func:`seaprofile.seawater._apply.columnwise`, the
+core-dimension dispatcher: numpy profiles have the vertical axis last (depth 1-D or of
+the profiles' shape), xarray and dask profiles are reduced along ``dim`` with
+``xr.apply_ufunc(..., dask="parallelized")``.
+"""
 
 from __future__ import annotations
 
@@ -17,9 +24,67 @@ def _valid_1d(depth, sound_speed):
     ok = np.isfinite(z) & np.isfinite(c)
     z, c = z[ok], c[ok]
     if z.size and not np.all(np.diff(z) > 0):
-        raise SeaprofileError("depth must be strictly increasing")
+        raise SeaprofileError("depth must be strictly increasing (the layer functions take "
+                              "sound_speed first, then depth)")
     return z, c
 
 
 def _scalar(x):
     return x.item() if isinstance(x, np.ndarray) and x.ndim == 0 else x
+
+
+def _columns(name, values, depth, dim):
+    """The column arguments ``[(name, values), ("depth", depth)]``.
+
+    ``depth=None`` takes the coordinate ``dim`` of a DataArray; a string is read as the
+    name of the vertical dimension (the former ``depth="depth"`` calling form).
+    """
+    if isinstance(depth, str):
+        dim, depth = depth, None
+    if depth is None:
+        coord = getattr(values, "coords", {})
+        if dim not in getattr(values, "dims", ()):
+            raise SeaprofileError(
+                f"depth is required (m, positive down) unless {name} is a DataArray with "
+                f"a {dim!r} dimension (pass dim= the vertical dimension)")
+        if dim not in coord:
+            raise SeaprofileError(f"{name} has no {dim!r} coordinate: give depth")
+        depth = values[dim]
+    return [(name, values), ("depth", depth)], dim
+
+
+def _per_profile(func1d, dtypes, columns, params=(), vectorised=False):
+    """Numpy layer of a column diagnostic: ``func1d`` on each profile (vertical axis last).
+
+    ``func1d(*columns_1d, *params_0d)`` returns a tuple of ``len(dtypes)`` numbers. A
+    single profile (1-D columns) is passed as is, with its parameters, when they are
+    scalars or when ``func1d`` is ``vectorised`` over them; otherwise the profiles and
+    parameters are broadcast and ``func1d`` runs once per profile (a loop over profiles,
+    never over samples).
+    """
+    cols = [np.asarray(c, dtype=np.float64) for c in columns]
+    if any(c.ndim == 0 for c in cols):
+        raise SeaprofileError("profiles need a vertical axis (depth along the last axis)")
+    if len({c.shape[-1] for c in cols}) > 1:
+        raise SeaprofileError("the profile arrays and depth must have one length along the "
+                              f"vertical (last) axis, got {[c.shape for c in cols]}")
+    params = [np.asarray(p, dtype=np.float64) for p in params]
+    try:
+        loop = np.broadcast_shapes(*(c.shape[:-1] for c in cols), *(p.shape for p in params))
+    except ValueError:
+        raise SeaprofileError(
+            "the profile axes of the inputs do not broadcast together: "
+            f"{[c.shape for c in cols]} and parameters {[p.shape for p in params]}") from None
+    single = all(c.ndim == 1 for c in cols)
+    if single and (vectorised or loop == ()):
+        return func1d(*cols, *[_scalar(p) for p in params])
+    n = cols[0].shape[-1]
+    rows = [np.broadcast_to(c, loop + (n,)).reshape(-1, n) for c in cols]
+    prm = [np.broadcast_to(p, loop).reshape(-1) for p in params]
+    count = rows[0].shape[0]
+    outs = [np.empty(count, dtype=d) for d in dtypes]
+    for r in range(count):
+        res = func1d(*(row[r] for row in rows), *(p[r] for p in prm))
+        for o, v in zip(outs, res):
+            o[r] = v
+    return tuple(_scalar(o.reshape(loop)) for o in outs)

@@ -1,45 +1,57 @@
 """Sound channels (deep axis and a secondary channel), critical depth, depth excess and
 the sound speed at a given depth.
 
-Plain functions on 1-D arrays: depth in m, positive down and strictly increasing; sound
-speed in m/s; NaN values are skipped.
+Each takes ``(sound_speed, depth, ..., dim="depth")``: sound speed in m/s along the last
+axis (numpy, many profiles at once) or along ``dim`` (xarray, dask), depth in m, positive
+down and strictly increasing; NaN values are skipped. They go through the core-dimension
+dispatcher :func:`seaprofile.seawater._apply.columnwise`.
 """
 
 from __future__ import annotations
 
-import numpy as np
+import functools
 
-from .._validate import as_float_array
-from ._common import _scalar, _valid_1d
+import numpy as np
+import xarray as xr
+
+from .. import _cf
+from ..seawater._apply import columnwise, pointwise
+from ._common import _columns, _per_profile, _scalar, _valid_1d
 
 __all__ = ["sound_channels", "critical_depth", "depth_excess", "speed_at"]
 
 
-def sound_channels(depth, sound_speed, *, below=None, min_contrast=1.0, min_thickness=10.0):
+def sound_channels(sound_speed, depth=None, *, below=None, min_contrast=1.0, min_thickness=10.0,
+                   dim="depth"):
     """Deep sound channel axis and a secondary channel, if present.
 
     Parameters
     ----------
-    depth : array_like
-        Depth, m, positive down, strictly increasing (1-D).
-    sound_speed : array_like
-        Sound speed, m/s (1-D, NaN = missing).
-    below : float, optional
-        Search only at and below this depth, m (normally the sonic layer depth; default:
-        the whole profile).
+    sound_speed : array_like, dask array or xarray.DataArray
+        Sound speed, m/s (along the last axis / ``dim``, NaN = missing).
+    depth : array_like, dask array, xarray.DataArray or None
+        Depth, m, positive down, strictly increasing (None: the DataArray's ``dim``
+        coordinate).
+    below : float or array over the profile axes, optional
+        Search only at and below this depth, m (normally the sonic layer depth; default
+        or NaN: the whole profile).
     min_contrast : float
         Smallest rise of sound speed, m/s, on both sides of a minimum for it to count as
         a channel (default 1 m/s, i.e. rays within about 2 degrees of horizontal trapped).
     min_thickness : float
         Smallest thickness of the trapping region of a secondary channel, m (default 10).
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
 
     Returns
     -------
-    dict
+    dict or xarray.Dataset
         ``axis_depth`` (m), ``axis_speed`` (m/s), ``axis_contrast`` (m/s),
         ``secondary_depth`` (m), ``secondary_speed`` (m/s), ``secondary_contrast`` (m/s),
         ``secondary_thickness`` (m); NaN where absent. ``still_decreasing`` is True when
-        the global minimum is the deepest valid sample (the axis may lie deeper).
+        the global minimum is the deepest valid sample (the axis may lie deeper). Floats
+        for one numpy profile, arrays over the profile axes for many (dask arrays for
+        dask input), an ``xarray.Dataset`` of these variables for DataArray input.
 
     Notes
     -----
@@ -49,18 +61,51 @@ def sound_channels(depth, sound_speed, *, below=None, min_contrast=1.0, min_thic
     prominence (the rise of sound speed needed, on the lower side, to escape the minimum;
     scipy.signal.find_peaks on -c) is at least ``min_contrast`` and whose trapping region
     (the width of the well at that rise) is at least ``min_thickness`` thick, the most
-    prominent one.
+    prominent one. One numpy profile at a time (a loop over profiles, not samples).
     """
+    columns, dim = _columns("sound_speed", sound_speed, depth, dim)
+    func = functools.partial(_channels_1d, float(min_contrast), float(min_thickness))
+    outputs = [(k, _CHANNEL_ATTRS[k]) for k in _CHANNEL_KEYS]
+    out = columnwise(lambda c, z, b: _per_profile(func, _CHANNEL_DTYPES, [c, z], [b]),
+                     columns, dim=dim, params=[("below", np.nan if below is None else below)],
+                     outputs=outputs, dtypes=_CHANNEL_DTYPES)
+    if isinstance(out[0], xr.DataArray):
+        return xr.Dataset(dict(zip(_CHANNEL_KEYS, out)))
+    return dict(zip(_CHANNEL_KEYS, out))
+
+
+_CHANNEL_KEYS = ("axis_depth", "axis_speed", "axis_contrast", "secondary_depth",
+                 "secondary_speed", "secondary_contrast", "secondary_thickness",
+                 "still_decreasing")
+_CHANNEL_DTYPES = [np.float64] * 7 + [np.bool_]
+_CHANNEL_ATTRS = {
+    "axis_depth": {"long_name": "deep sound channel axis depth", "units": "m"},
+    "axis_speed": _cf.attrs_for("sound_speed", long_name="sound speed on the channel axis"),
+    "axis_contrast": {"long_name": "rise of sound speed needed to escape the channel",
+                      "units": "m s-1"},
+    "secondary_depth": {"long_name": "secondary sound channel depth", "units": "m"},
+    "secondary_speed": _cf.attrs_for("sound_speed",
+                                     long_name="sound speed on the secondary channel"),
+    "secondary_contrast": {"long_name": "sound speed rise bounding the secondary channel",
+                           "units": "m s-1"},
+    "secondary_thickness": {"long_name": "thickness of the secondary channel's trapping "
+                            "region", "units": "m"},
+    "still_decreasing": {"long_name": "sound speed still decreases at the deepest valid "
+                         "sample (the axis may lie deeper)", "units": "1"},
+}
+
+
+def _channels_1d(min_contrast, min_thickness, sound_speed, depth, below):
     z, c = _valid_1d(depth, sound_speed)
     nan = float("nan")
     out = dict(axis_depth=nan, axis_speed=nan, axis_contrast=nan, secondary_depth=nan,
                secondary_speed=nan, secondary_contrast=nan, secondary_thickness=nan,
                still_decreasing=False)
-    if below is not None and np.isfinite(below):
+    if np.isfinite(below):
         keep = z >= below
         z, c = z[keep], c[keep]
     if z.size < 3:
-        return out
+        return tuple(out.values())
     i = int(np.argmin(c))
     if i == z.size - 1:
         out["still_decreasing"] = True
@@ -86,46 +131,67 @@ def sound_channels(depth, sound_speed, *, below=None, min_contrast=1.0, min_thic
             out.update(secondary_depth=float(z[j]), secondary_speed=float(c[j]),
                        secondary_contrast=float(props["prominences"][k]),
                        secondary_thickness=float(thick[k]))
-    return out
+    return tuple(out.values())
 
 
-def speed_at(depth, sound_speed, at):
+def speed_at(sound_speed, depth, at, *, dim="depth"):
     """Sound speed at depth ``at``, m/s, by linear interpolation (NaN outside the profile).
 
     Parameters
     ----------
-    depth : array_like
-        Depth, m, positive down, strictly increasing (1-D).
-    sound_speed : array_like
-        Sound speed, m/s (1-D, NaN = missing).
+    sound_speed : array_like, dask array or xarray.DataArray
+        Sound speed, m/s (along the last axis / ``dim``, NaN = missing).
+    depth : array_like, dask array, xarray.DataArray or None
+        Depth, m, positive down, strictly increasing (None: the DataArray's ``dim``
+        coordinate).
     at : array_like
-        Depths to evaluate, m.
+        Depths to evaluate, m: any shape for one numpy profile, else one value per
+        profile (broadcast over the profile axes).
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
+
+    Returns
+    -------
+    numpy.ndarray or float, dask array or xarray.DataArray
+        Sound speed, m/s (``numpy.interp`` between valid samples).
     """
+    columns, dim = _columns("sound_speed", sound_speed, depth, dim)
+    out = columnwise(lambda c, z, a: _per_profile(_speed_at_1d, [np.float64], [c, z], [a],
+                                                  vectorised=True),
+                     columns, dim=dim, params=[("at", at)],
+                     outputs=[("sound_speed", _cf.attrs_for("sound_speed"))])
+    return out[0] if isinstance(out, tuple) else out
+
+
+def _speed_at_1d(sound_speed, depth, at):
     z, c = _valid_1d(depth, sound_speed)
-    a = as_float_array("at", at)
+    a = np.asarray(at, dtype=np.float64)
     if z.size == 0:
-        return _scalar(np.full(a.shape, np.nan))
-    return _scalar(np.interp(a, z, c, left=np.nan, right=np.nan))
+        return (_scalar(np.full(a.shape, np.nan)),)
+    return (_scalar(np.interp(a, z, c, left=np.nan, right=np.nan)),)
 
 
-def critical_depth(depth, sound_speed, reference_speed, axis_depth):
+def critical_depth(sound_speed, depth, reference_speed, axis_depth, *, dim="depth"):
     """Critical (conjugate) depth: where sound speed below the axis regains a reference, m.
 
     Parameters
     ----------
-    depth : array_like
-        Depth, m, positive down, strictly increasing (1-D).
-    sound_speed : array_like
-        Sound speed, m/s (1-D, NaN = missing).
-    reference_speed : float
+    sound_speed : array_like, dask array or xarray.DataArray
+        Sound speed, m/s (along the last axis / ``dim``, NaN = missing).
+    depth : array_like, dask array, xarray.DataArray or None
+        Depth, m, positive down, strictly increasing (None: the DataArray's ``dim``
+        coordinate).
+    reference_speed : float or array over the profile axes
         The speed to regain, m/s: the surface speed, the sonic-layer maximum, or the
         speed at a source depth.
-    axis_depth : float
+    axis_depth : float or array over the profile axes
         Depth of the sound channel axis, m.
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
 
     Returns
     -------
-    float
+    float, numpy.ndarray, dask array or xarray.DataArray
         The shallowest depth below ``axis_depth`` where sound speed reaches
         ``reference_speed`` (linear interpolation), m; NaN when it is not reached within
         the profile or there is no axis.
@@ -136,6 +202,22 @@ def critical_depth(depth, sound_speed, reference_speed, axis_depth):
     speed turns again where the speed regains it, so this is the deepest turning depth of
     rays horizontal at the reference depth (the plain geometric definition).
     """
+    columns, dim = _columns("sound_speed", sound_speed, depth, dim)
+    attrs = {"long_name": "critical depth: below the axis, where sound speed regains the "
+             "reference speed", "units": "m", "positive": "down"}
+    out = columnwise(lambda c, z, r, a: _per_profile(_critical_1d, [np.float64], [c, z],
+                                                     [r, a]),
+                     columns, dim=dim, params=[("reference_speed", reference_speed),
+                                               ("axis_depth", axis_depth)],
+                     outputs=[("critical_depth", attrs)])
+    return out[0] if isinstance(out, tuple) else out
+
+
+def _critical_1d(sound_speed, depth, reference_speed, axis_depth):
+    return (_critical_value(sound_speed, depth, reference_speed, axis_depth),)
+
+
+def _critical_value(sound_speed, depth, reference_speed, axis_depth):
     z, c = _valid_1d(depth, sound_speed)
     if not (np.isfinite(axis_depth) and np.isfinite(reference_speed)):
         return float("nan")
@@ -151,21 +233,23 @@ def critical_depth(depth, sound_speed, reference_speed, axis_depth):
 
 
 def depth_excess(bottom_depth, critical):
-    """Depth excess = bottom depth - critical depth, m (None when there is no critical depth).
+    """Depth excess = bottom depth - critical depth, m (NaN when there is no critical depth).
 
     Parameters
     ----------
-    bottom_depth : float
+    bottom_depth : array_like, dask array or xarray.DataArray
         Sea floor depth, m.
-    critical : float
+    critical : array_like, dask array or xarray.DataArray
         Critical depth, m (NaN when not reached).
 
     Returns
     -------
-    float or None
+    float, numpy.ndarray, dask array or xarray.DataArray
         Positive when the water is deeper than the critical depth (a deep sound channel
-        with refracted-refracted paths), negative when the bottom is shallower.
+        with refracted-refracted paths), negative when the bottom is shallower; NaN where
+        either is NaN. A point-wise function (bottom first, as in the definition).
     """
-    if bottom_depth is None or critical is None or not np.isfinite(critical):
-        return None
-    return float(bottom_depth) - float(critical)
+    attrs = {"long_name": "depth excess: bottom depth minus critical depth", "units": "m"}
+    return pointwise(lambda b, c: _scalar(np.asarray(b - c)),
+                     [("bottom_depth", bottom_depth), ("critical", critical)],
+                     name="depth_excess", attrs=attrs)

@@ -5,7 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from .._validate import SeaprofileError, as_float_array
-from ._common import _scalar, _valid_1d
+from ..seawater._apply import columnwise
+from ._common import _columns, _per_profile, _scalar, _valid_1d
 
 __all__ = ["harmonic_mean_sound_speed"]
 
@@ -23,23 +24,27 @@ def _slowness_segments(z, c):
     return dz / c[:-1] * _log_ratio_factor(x)
 
 
-def harmonic_mean_sound_speed(depth, sound_speed, top, bottom):
+def harmonic_mean_sound_speed(sound_speed, depth, top, bottom, *, dim="depth"):
     """Harmonic mean sound speed between depths ``top`` and ``bottom``, m/s.
 
     Parameters
     ----------
-    depth : array_like
-        Depth, m, positive down, strictly increasing (1-D).
-    sound_speed : array_like
-        Sound speed, m/s (1-D, NaN = missing).
+    sound_speed : array_like, dask array or xarray.DataArray
+        Sound speed, m/s (along the last axis / ``dim``, NaN = missing).
+    depth : array_like, dask array, xarray.DataArray or None
+        Depth, m, positive down, strictly increasing (None: the DataArray's ``dim``
+        coordinate).
     top, bottom : array_like
-        Depths, m, broadcast against each other (e.g. a transducer depth and many
-        bottom depths). Above the shallowest sample the shallowest speed is held
+        Depths, m, broadcast against each other: any shape for one numpy profile (e.g. a
+        transducer depth and many bottom depths), else one value per profile (broadcast
+        over the profile axes). Above the shallowest sample the shallowest speed is held
         constant up to the sea surface; below the deepest sample the result is NaN.
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
 
     Returns
     -------
-    numpy.ndarray or float
+    numpy.ndarray or float, dask array or xarray.DataArray
         ``(bottom - top) / integral(dz / c)``, m/s; the speed at ``top`` when
         ``bottom`` and ``top`` are less than 1e-6 m apart.
 
@@ -47,8 +52,23 @@ def harmonic_mean_sound_speed(depth, sound_speed, top, bottom):
     -----
     The profile is taken as piecewise linear between samples, and each segment is
     integrated exactly: for c = c_a + g (z - z_a), integral dz/c = ln(c_b / c_a) / g
-    (and dz / c_a when g = 0). Fully vectorised over ``top`` and ``bottom``.
+    (and dz / c_a when g = 0). Fully vectorised over ``top`` and ``bottom`` for one
+    profile; many profiles are taken one at a time.
     """
+    columns, dim = _columns("sound_speed", sound_speed, depth, dim)
+    attrs = {"long_name": "harmonic mean sound speed between two depths", "units": "m s-1"}
+    out = columnwise(lambda c, z, t, b: _per_profile(_harmonic_1d, [np.float64], [c, z],
+                                                     [t, b], vectorised=True),
+                     columns, dim=dim, params=[("top", top), ("bottom", bottom)],
+                     outputs=[("harmonic_mean_sound_speed", attrs)])
+    return out[0] if isinstance(out, tuple) else out
+
+
+def _harmonic_1d(sound_speed, depth, top, bottom):
+    return (_harmonic_value(sound_speed, depth, top, bottom),)
+
+
+def _harmonic_value(sound_speed, depth, top, bottom):
     z, c = _valid_1d(depth, sound_speed)
     t = as_float_array("top", top)
     b = as_float_array("bottom", bottom)

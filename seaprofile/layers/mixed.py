@@ -1,24 +1,26 @@
 """Mixed layer depth (temperature and density criteria), sonic layer depth, layer
 gradients and the surface-duct cut-off frequency.
 
-Each diagnostic is a plain function on arrays (depth in m, positive down and increasing;
-sound speed in m/s; temperature in degC; potential density anomaly in kg/m3). Missing
-values are NaN and are skipped. The mixed-layer and sonic-layer scans are numba kernels
-that accept many profiles at once (depth along the last axis); a DataArray input is
-reduced along its depth dimension with ``xr.apply_ufunc(..., dask="parallelized")``.
+Each diagnostic takes ``(profile variable, depth, ..., dim="depth")`` (depth in m, positive
+down and increasing; sound speed in m/s; temperature in degC; potential density anomaly in
+kg/m3) as numpy arrays (many profiles at once, depth along the last axis), xarray
+DataArrays or dask arrays, through the core-dimension dispatcher
+:func:`seaprofile.seawater._apply.columnwise`. Missing values are NaN and are skipped. The
+mixed-layer and sonic-layer scans are numba kernels.
 """
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numba
 import numpy as np
-import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
-from ._common import _scalar, _valid_1d
+from ..seawater._apply import columnwise, pointwise
+from ._common import _columns, _per_profile, _scalar, _valid_1d
 
 __all__ = [
     "mixed_layer_depth",
@@ -130,37 +132,42 @@ def _rows(name, values, depth):
     if v.ndim == 0 or v.shape[-1] < 2:
         raise SeaprofileError(f"{name} needs at least two samples along its last axis")
     try:
-        z = np.broadcast_to(z, v.shape)
-    except ValueError as exc:
+        shape = np.broadcast_shapes(v.shape, z.shape)
+        if shape[-1] != v.shape[-1]:
+            raise ValueError
+    except ValueError:
         raise SeaprofileError(
             f"depth of shape {z.shape} does not match {name} of shape {v.shape}"
-        ) from exc
-    zz = z.reshape(-1, v.shape[-1])
+        ) from None
+    n = shape[-1]
+    zz = np.broadcast_to(z, shape).reshape(-1, n)
     if not np.all(np.diff(zz, axis=-1) > 0):
         raise SeaprofileError("depth must be strictly increasing along the last axis")
     return (
-        np.ascontiguousarray(v.reshape(-1, v.shape[-1])),
+        np.ascontiguousarray(np.broadcast_to(v, shape).reshape(-1, n)),
         np.ascontiguousarray(zz),
-        v.shape[:-1],
+        shape[:-1],
     )
 
 
+_END_ATTRS = {"long_name": "no crossing within the profile: the value is the deepest valid "
+              "depth (a lower bound)", "units": "1"}
+
 
 # --- mixed layer ---------------------------------------------------------------------
-def mixed_layer_depth(temperature, depth="depth", *, threshold=0.2, reference_depth=10.0,
-                      return_reached_end=False):
+def mixed_layer_depth(temperature, depth=None, *, threshold=0.2, reference_depth=10.0,
+                      return_reached_end=False, dim="depth"):
     """Mixed layer depth by the temperature criterion, m.
 
     Parameters
     ----------
-    temperature : array_like or xarray.DataArray
-        In-situ temperature, degC; depth along the last axis; NaN = missing. A DataArray
-        (numpy- or dask-backed) is reduced along its ``depth`` dimension and returns a
-        DataArray with CF attributes.
-    depth : array_like or str
+    temperature : array_like, dask array or xarray.DataArray
+        In-situ temperature, degC; numpy/dask: depth along the last axis, xarray: along
+        ``dim``; NaN = missing.
+    depth : array_like, dask array or xarray.DataArray, optional
         Depth, m, positive down, strictly increasing (1-D, or the shape of
-        ``temperature``); for a DataArray, the name of the depth dimension (default
-        ``"depth"``).
+        ``temperature``). Default for a DataArray: its ``dim`` coordinate. (A string is
+        read as ``dim``, the former calling form.)
     threshold : float
         Temperature difference from the reference depth, degC (default 0.2).
     reference_depth : float
@@ -168,12 +175,15 @@ def mixed_layer_depth(temperature, depth="depth", *, threshold=0.2, reference_de
     return_reached_end : bool
         Also return a boolean array, True where no sample departed by ``threshold``
         (the result is then the deepest valid depth: a lower bound).
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
 
     Returns
     -------
-    numpy.ndarray or float
-        Mixed layer depth, m; NaN where no valid sample lies at or above the reference
-        depth or none lies below it.
+    numpy.ndarray or float, dask array or xarray.DataArray
+        Mixed layer depth, m, over the profile axes; NaN where no valid sample lies at or
+        above the reference depth or none lies below it. A DataArray carries the CF
+        attributes of ``ocean_mixed_layer_thickness``.
 
     Notes
     -----
@@ -184,22 +194,22 @@ def mixed_layer_depth(temperature, depth="depth", *, threshold=0.2, reference_de
     found by linear interpolation between samples. The reference value is linearly
     interpolated at 10 m.
     """
-    return _crossing("temperature", temperature, depth, threshold, reference_depth, 0,
+    return _crossing("temperature", temperature, depth, dim, threshold, reference_depth, 0,
                      return_reached_end)
 
 
-def mixed_layer_depth_density(potential_density, depth="depth", *, threshold=0.03,
-                              reference_depth=10.0, return_reached_end=False):
+def mixed_layer_depth_density(potential_density, depth=None, *, threshold=0.03,
+                              reference_depth=10.0, return_reached_end=False, dim="depth"):
     """Mixed layer depth by the density criterion, m.
 
     Parameters
     ----------
-    potential_density : array_like or xarray.DataArray
+    potential_density : array_like, dask array or xarray.DataArray
         Potential density (or its anomaly sigma-theta), kg/m3, referred to the sea
-        surface; depth along the last axis; NaN = missing (DataArray: as in
-        :func:`mixed_layer_depth`).
-    depth : array_like or str
-        Depth, m, positive down, strictly increasing (or the DataArray's depth dimension).
+        surface; along the last axis / ``dim``; NaN = missing.
+    depth : array_like, dask array or xarray.DataArray, optional
+        Depth, m, positive down, strictly increasing (default for a DataArray: its
+        ``dim`` coordinate).
     threshold : float
         Increase of potential density over its value at the reference depth, kg/m3
         (default 0.03).
@@ -207,10 +217,12 @@ def mixed_layer_depth_density(potential_density, depth="depth", *, threshold=0.0
         Reference depth, m (default 10).
     return_reached_end : bool
         Also return the "no crossing" mask (see :func:`mixed_layer_depth`).
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
 
     Returns
     -------
-    numpy.ndarray or float
+    numpy.ndarray or float, dask array or xarray.DataArray
         Mixed layer depth, m.
 
     Notes
@@ -219,66 +231,61 @@ def mixed_layer_depth_density(potential_density, depth="depth", *, threshold=0.0
     doi:10.1029/2004JC002378: sigma-theta(z) - sigma-theta(10 m) = 0.03 kg/m3, linear
     interpolation between samples.
     """
-    return _crossing("potential_density", potential_density, depth, threshold,
+    return _crossing("potential_density", potential_density, depth, dim, threshold,
                      reference_depth, 1, return_reached_end)
 
 
-def _on_dataarray(func, values, depth, attrs, **kwargs):
-    """xarray layer: apply ``func`` along the ``depth`` dimension (dask="parallelized")."""
-    dim = depth if isinstance(depth, str) else "depth"
-    if dim not in values.dims:
-        raise SeaprofileError(f"the DataArray has no dimension {dim!r}")
-    out = xr.apply_ufunc(
-        lambda v, z: func(v, z, **kwargs), values, values[dim],
-        input_core_dims=[[dim], [dim]], dask="parallelized", output_dtypes=[np.float64])
-    out.attrs.update(attrs)
-    return out
-
-
-def _crossing(name, values, depth, threshold, reference_depth, signed, return_end):
-    if isinstance(values, xr.DataArray) and not return_end:
-        kind = "temperature" if signed == 0 else "density"
-        attrs = _cf.attrs_for("mixed_layer_depth",
-                              comment=f"{kind} criterion {threshold:g} from {reference_depth:g} "
-                              "m (de Boyer Montegut et al. 2004)")
-        return _on_dataarray(
-            lambda v, z: _crossing(name, v, z, threshold, reference_depth, signed, False),
-            values, depth, attrs)
-    v, z, shape = _rows(name, values, depth)
+def _crossing(name, values, depth, dim, threshold, reference_depth, signed, return_end):
     if not threshold > 0:
         raise SeaprofileError(f"threshold must be positive, got {threshold!r}")
+    kind = "temperature" if signed == 0 else "density"
+    attrs = _cf.attrs_for("mixed_layer_depth",
+                          comment=f"{kind} criterion {threshold:g} from {reference_depth:g} "
+                          "m (de Boyer Montegut et al. 2004)")
+    columns, dim = _columns(name, values, depth, dim)
+    func = functools.partial(_crossing_numpy, name, float(threshold), float(reference_depth),
+                             signed)
+    out = columnwise(func, columns, dim=dim, outputs=[("mixed_layer_depth", attrs),
+                                                      ("reached_end", _END_ATTRS)],
+                     dtypes=[np.float64, np.bool_])
+    return tuple(out) if return_end else out[0]
+
+
+def _crossing_numpy(name, threshold, reference_depth, signed, values, depth):
+    v, z, shape = _rows(name, values, depth)
     out = np.empty(v.shape[0])
     end = np.zeros(v.shape[0], dtype=np.bool_)
-    _crossing_kernel(v, z, float(reference_depth), float(threshold), signed, out, end)
-    out = _scalar(out.reshape(shape))
-    end = _scalar(end.reshape(shape))
-    return (out, end) if return_end else out
+    _crossing_kernel(v, z, reference_depth, threshold, signed, out, end)
+    return _scalar(out.reshape(shape)), _scalar(end.reshape(shape))
 
 
 # --- sonic layer and gradients -------------------------------------------------------
-def sonic_layer_depth(sound_speed, depth="depth", *, tolerance=0.2, return_reached_end=False):
+def sonic_layer_depth(sound_speed, depth=None, *, tolerance=0.2, return_reached_end=False,
+                      dim="depth"):
     """Sonic layer depth: the depth of the near-surface sound-speed maximum, m.
 
     Parameters
     ----------
-    sound_speed : array_like or xarray.DataArray
-        Sound speed, m/s; depth along the last axis; NaN = missing. A DataArray is reduced
-        along its depth dimension and only the layer depth is returned (a DataArray).
-    depth : array_like or str
-        Depth, m, positive down, strictly increasing (or the DataArray's depth dimension).
+    sound_speed : array_like, dask array or xarray.DataArray
+        Sound speed, m/s; along the last axis / ``dim``; NaN = missing.
+    depth : array_like, dask array or xarray.DataArray, optional
+        Depth, m, positive down, strictly increasing (default for a DataArray: its
+        ``dim`` coordinate).
     tolerance : float
         Decrease below the running maximum, m/s, that ends the near-surface layer
         (default 0.2 m/s; keeps sensor noise from ending the layer early).
     return_reached_end : bool
         Also return a boolean array, True where sound speed never fell by ``tolerance``
         (the layer reaches the deepest valid sample, e.g. an isothermal winter column).
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
 
     Returns
     -------
-    depth : numpy.ndarray or float
+    depth : numpy.ndarray or float, dask array or xarray.DataArray
         Sonic layer depth, m. Equal to the shallowest valid depth when sound speed
         decreases from the surface (no surface duct).
-    speed : numpy.ndarray or float
+    speed : numpy.ndarray or float, dask array or xarray.DataArray
         Sound speed at that depth, m/s.
 
     Notes
@@ -290,20 +297,26 @@ def sonic_layer_depth(sound_speed, depth="depth", *, tolerance=0.2, return_reach
     Our rule for "near-surface": scan downward from the shallowest valid sample and stop
     at the first sample more than ``tolerance`` below the running maximum.
     """
-    if isinstance(sound_speed, xr.DataArray) and not return_reached_end:
-        attrs = {"long_name": "sonic layer depth (near-surface sound speed maximum)",
-                 "units": "m", "positive": "down"}
-        return _on_dataarray(lambda c, z, **kw: sonic_layer_depth(c, z, **kw)[0],
-                             sound_speed, depth, attrs, tolerance=tolerance)
-    c, z, shape = _rows("sound_speed", sound_speed, depth)
     if not tolerance >= 0:
         raise SeaprofileError(f"tolerance must be >= 0, got {tolerance!r}")
+    columns, dim = _columns("sound_speed", sound_speed, depth, dim)
+    outputs = [("sonic_layer_depth", {"long_name": "sonic layer depth (near-surface sound "
+                                      "speed maximum)", "units": "m", "positive": "down"}),
+               ("sonic_layer_sound_speed", _cf.attrs_for(
+                   "sound_speed", long_name="sound speed at the sonic layer depth")),
+               ("reached_end", _END_ATTRS)]
+    out = columnwise(functools.partial(_sonic_numpy, float(tolerance)), columns, dim=dim,
+                     outputs=outputs, dtypes=[np.float64, np.float64, np.bool_])
+    return tuple(out) if return_reached_end else tuple(out[:2])
+
+
+def _sonic_numpy(tolerance, sound_speed, depth):
+    c, z, shape = _rows("sound_speed", sound_speed, depth)
     zd = np.empty(c.shape[0])
     cs = np.empty(c.shape[0])
     end = np.zeros(c.shape[0], dtype=np.bool_)
-    _sonic_layer_kernel(c, z, float(tolerance), zd, cs, end)
-    out = (_scalar(zd.reshape(shape)), _scalar(cs.reshape(shape)))
-    return out + (_scalar(end.reshape(shape)),) if return_reached_end else out
+    _sonic_layer_kernel(c, z, tolerance, zd, cs, end)
+    return tuple(_scalar(a.reshape(shape)) for a in (zd, cs, end))
 
 
 def _slope(z, c):
@@ -313,24 +326,27 @@ def _slope(z, c):
     return float(np.dot(zm, c - c.mean()) / np.dot(zm, zm))
 
 
-def layer_gradients(depth, sound_speed, layer_depth, *, below_thickness=50.0):
+def layer_gradients(sound_speed, depth, layer_depth, *, below_thickness=50.0, dim="depth"):
     """Sound-speed gradients in and below a surface layer, 1/s ((m/s)/m).
 
     Parameters
     ----------
-    depth : array_like
-        Depth, m, positive down, strictly increasing (1-D).
-    sound_speed : array_like
-        Sound speed, m/s (1-D, NaN = missing).
-    layer_depth : float
+    sound_speed : array_like, dask array or xarray.DataArray
+        Sound speed, m/s (along the last axis / ``dim``, NaN = missing).
+    depth : array_like, dask array or xarray.DataArray or None
+        Depth, m, positive down, strictly increasing (None: the DataArray's ``dim``
+        coordinate).
+    layer_depth : float or array over the profile axes
         Depth of the layer's base (usually the sonic layer depth), m.
     below_thickness : float
         Thickness below the layer over which the below-layer gradient is fitted, m
         (default 50 m, clipped to the deepest valid sample).
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
 
     Returns
     -------
-    in_layer, below_layer : float
+    in_layer, below_layer : float, numpy.ndarray, dask array or xarray.DataArray
         Least-squares slopes dc/dz, 1/s, of the samples in [surface, layer_depth] and in
         [layer_depth, layer_depth + below_thickness]; NaN with fewer than two samples.
 
@@ -340,6 +356,20 @@ def layer_gradients(depth, sound_speed, layer_depth, *, below_thickness=50.0):
     in single bins does not dominate. For reference, isothermal, isohaline water has a
     gradient of about +0.016 1/s from pressure alone (common practice, no source).
     """
+    columns, dim = _columns("sound_speed", sound_speed, depth, dim)
+    attrs = {"units": "s-1"}
+    outputs = [("in_layer_gradient", dict(attrs, long_name="sound speed gradient within "
+                                          "the layer")),
+               ("below_layer_gradient", dict(attrs, long_name="sound speed gradient below "
+                                             "the layer"))]
+    func = functools.partial(_per_profile, functools.partial(
+        _gradients_1d, float(below_thickness)), [np.float64] * 2)
+    out = columnwise(lambda c, z, h: func([c, z], [h]), columns, dim=dim,
+                     params=[("layer_depth", layer_depth)], outputs=outputs)
+    return tuple(out)
+
+
+def _gradients_1d(below_thickness, sound_speed, depth, layer_depth):
     z, c = _valid_1d(depth, sound_speed)
     if not np.isfinite(layer_depth):
         return np.nan, np.nan
@@ -353,25 +383,32 @@ def duct_cutoff_frequency(layer_depth, sound_speed=1500.0):
 
     Parameters
     ----------
-    layer_depth : array_like
+    layer_depth : array_like, dask array or xarray.DataArray
         Duct thickness (sonic layer depth), m; must be positive.
-    sound_speed : array_like
+    sound_speed : array_like, dask array or xarray.DataArray
         Sound speed in the duct, m/s (default 1500).
 
     Returns
     -------
-    numpy.ndarray or float
+    numpy.ndarray or float, dask array or xarray.DataArray
         ``f_min = c / lambda_max`` with ``lambda_max = 8.5e-3 * H**1.5`` (lambda, H in
-        m), Hz. About 1.07 kHz for a 30 m layer at 1500 m/s.
+        m), Hz. About 1.07 kHz for a 30 m layer at 1500 m/s. NaN where H <= 0.
 
     Notes
     -----
     The trapping rule lambda_max ~ 8.5e-3 H^1.5 is a textbook rule of thumb (common
     practice; not traced here to a primary source). It assumes the gradient of an
-    isothermal layer; treat the result as an order of magnitude.
+    isothermal layer; treat the result as an order of magnitude. A point-wise function:
+    its argument order follows the duct (thickness first), not the column diagnostics.
     """
-    h = as_float_array("layer_depth", layer_depth)
-    c = as_float_array("sound_speed", sound_speed)
+    attrs = {"long_name": "lowest frequency trapped in the surface duct", "units": "Hz",
+             "comment": "trapping rule lambda_max = 8.5e-3 H^1.5 (common practice)"}
+    return pointwise(_cutoff_numpy, [("layer_depth", layer_depth),
+                                     ("sound_speed", sound_speed)],
+                     name="duct_cutoff_frequency", attrs=attrs)
+
+
+def _cutoff_numpy(h, c):
     with np.errstate(divide="ignore", invalid="ignore"):
         f = c / (TRAPPING_COEFFICIENT * np.where(h > 0, h, np.nan) ** 1.5)
     return _scalar(f)

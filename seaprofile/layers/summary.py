@@ -182,19 +182,19 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
     res.update(sonic_layer_depth=sld, sonic_layer_sound_speed=sld_c)
     if sld > zv[0]:
         res["surface_duct"] = True
-        g_in, g_below = layer_gradients(z, c, sld)
+        g_in, g_below = layer_gradients(c, z, sld)
         res.update(in_layer_gradient=g_in, below_layer_gradient=g_below,
                    duct_cutoff_frequency=duct_cutoff_frequency(sld, sld_c))
         if sld_end:
             notes.append("sound speed increases to the deepest valid bin: the whole "
                          "column is a surface duct")
     else:
-        _, g_below = layer_gradients(z, c, sld)
+        _, g_below = layer_gradients(c, z, sld)
         res["below_layer_gradient"] = g_below
         notes.append("sound speed decreases from the surface: no surface duct")
 
     # channels
-    ch = sound_channels(z, c, below=sld, min_contrast=min_contrast)
+    ch = sound_channels(c, z, below=sld, min_contrast=min_contrast)
     res.update(channel_axis_depth=ch["axis_depth"], channel_axis_sound_speed=ch["axis_speed"],
                channel_axis_contrast=ch["axis_contrast"],
                secondary_channel_depth=ch["secondary_depth"],
@@ -205,23 +205,23 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
         notes.append("sound speed still decreases at the deepest valid bin: no channel axis "
                      "within the profile")
     axis = ch["axis_depth"]
-    res["critical_depth_surface"] = critical_depth(z, c, cv[0], axis)
-    res["critical_depth_layer"] = critical_depth(z, c, sld_c, axis)
+    res["critical_depth_surface"] = critical_depth(c, z, cv[0], axis)
+    res["critical_depth_layer"] = critical_depth(c, z, sld_c, axis)
     if np.isfinite(axis) and res["critical_depth_layer"] is not None \
             and not np.isfinite(res["critical_depth_layer"]):
         notes.append("sound speed below the axis never regains the near-surface speed "
                      "within the profile: no critical depth (no depth excess)")
 
     if source_depth is not None:
-        cs = speed_at(z, c, source_depth)
+        cs = speed_at(c, z, source_depth)
         res.update(source_depth=source_depth, source_sound_speed=cs)
         if np.isfinite(axis) and np.isfinite(cs):
             if source_depth <= axis:
-                res["critical_depth_source"] = critical_depth(z, c, cs, axis)
+                res["critical_depth_source"] = critical_depth(c, z, cs, axis)
             else:  # mirror: search upward from the axis
                 keep = (z <= axis) & np.isfinite(c)
                 zu, cu = z[keep][::-1], c[keep][::-1]
-                res["critical_depth_source"] = -critical_depth(-zu, cu, cs, -axis)
+                res["critical_depth_source"] = -critical_depth(cu, -zu, cs, -axis)
 
     # bottom, depth excess, harmonic mean
     lower = zv[-1] if bottom_depth is None else float(bottom_depth)
@@ -237,7 +237,7 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
                          "to the bottom first; no harmonic mean")
     res["transducer_depth"] = float(transducer_depth)
     res["harmonic_mean_to_depth"] = lower
-    res["harmonic_mean_sound_speed"] = harmonic_mean_sound_speed(z, c, transducer_depth, lower)
+    res["harmonic_mean_sound_speed"] = harmonic_mean_sound_speed(c, z, transducer_depth, lower)
     est_top = _estimated_top(profile)
     if include_estimated and est_top is not None:
         for k in ("critical_depth_surface", "critical_depth_layer", "channel_axis_depth"):

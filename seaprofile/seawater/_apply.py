@@ -1,15 +1,35 @@
-"""Shared helpers of the seawater modules: latitude check and point-wise dispatch.
+"""The one way numpy, dask and xarray inputs reach seaprofile's numeric functions.
 
-:func:`apply_pointwise` runs a point-wise numpy function on numpy, dask or xarray inputs
-(xarray through ``xr.apply_ufunc(..., dask="parallelized")``, dask through
-``map_blocks``); :func:`check_latitude` validates a latitude argument before any work is
-queued. Used by :mod:`.depth` and :mod:`.state`.
+Every public numeric function of :mod:`seaprofile.seawater` and :mod:`seaprofile.layers`
+hands its inputs to one of two dispatchers here:
 
-:func:`run_loop` is the bridge from a public numpy function to its compiled kernel: it
-broadcasts the inputs like a numpy ufunc, flattens them to contiguous float64 arrays and
-calls a ``@numba.njit(cache=True)`` loop that fills a flat output. The kernels are
-compiled (or loaded from numba's on-disk cache) on first use, never at import, so
-``import seaprofile`` stays fast.
+- :func:`pointwise` for functions of one point (sound speed, depth, density, ...);
+- :func:`columnwise` for column diagnostics that reduce a profile along its vertical
+  dimension (mixed and sonic layer depth, channels, harmonic mean, ...).
+
+Both follow the same rules:
+
+* **numpy** (and plain numbers): the numpy function is called directly; for the compiled
+  equations that is :func:`run_loop`, a flat ``@numba.njit(cache=True)`` loop.
+* **xarray** (numpy- or dask-backed) and **dask**: ``xr.apply_ufunc(...,
+  dask="parallelized")``; plain dask arrays are labelled with positional dimensions first,
+  so they broadcast like numpy arrays, and come back as dask arrays. Nothing is computed
+  before ``.compute()``.
+* **Alignment**: xarray inputs must align exactly (same dimension sizes, identical
+  coordinate values); otherwise :class:`SeaprofileError` names the arguments and the
+  dimension. Mixing an xarray input with a non-scalar plain array is refused (which
+  dimension the plain array means would be a guess). Plain arrays broadcast as numpy does;
+  shapes that do not broadcast raise :class:`SeaprofileError` naming every argument.
+* **Positions**: every argument called ``latitude`` or ``longitude`` is checked by
+  :func:`seaprofile._validate.check_position` (finite, -90..90 / -180..360, NaN refused)
+  before any library sees it; eagerly for numpy data, block by block when dask computes.
+* **Attributes**: an xarray result is named after its quantity and carries the CF
+  attributes of :func:`output_attrs` (``standard_name`` where CF has one, ``long_name``,
+  ``units``) plus its provenance (``equation``: the published method or library
+  function, ``references``, ``seaprofile_version``); never the attributes of an input.
+* **Column diagnostics**: the vertical dimension ``dim`` is the core dimension; a dask
+  input split into several chunks along it raises :class:`SeaprofileError` naming the
+  dimension and the rechunk that fixes it (``.chunk({dim: -1})``).
 """
 
 from __future__ import annotations
@@ -19,78 +39,202 @@ import functools
 import numpy as np
 import xarray as xr
 
-from .._validate import SeaprofileError, as_float_array, is_lazy
+from .. import _cf
+from .._validate import SeaprofileError, as_float_array, check_position, is_lazy
+from .._version import __version__
 
-__all__ = ["apply_pointwise", "check_latitude", "run_loop"]
+__all__ = ["pointwise", "columnwise", "run_loop", "output_attrs"]
+
+_POSITIONS = ("latitude", "longitude")
+_XR = (xr.DataArray, xr.Variable)
 
 
-def check_latitude(latitude):
-    """Raise :class:`SeaprofileError` naming ``latitude`` if it is missing or invalid.
+def output_attrs(quantity, equation, references=None, **extra):
+    """CF attributes of a result: the quantity's CF entry plus its provenance.
 
-    Lazy (dask-backed) latitudes are not computed to check them.
+    Parameters
+    ----------
+    quantity : str
+        A key of :data:`seaprofile._cf.VARIABLES`, or a dict of CF attributes for a
+        quantity the data model does not list.
+    equation : str
+        The published method (a key of ``EQUATIONS`` / ``METHODS``) or library function
+        that computed it.
+    references : str, optional
+        Citation of ``equation``.
     """
-    if latitude is None:
-        raise SeaprofileError(
-            "latitude is required (degrees north); give the cast position"
-        )
-    if is_lazy(latitude):
-        return
-    lat = as_float_array("latitude", getattr(latitude, "values", latitude))
-    if lat.size and np.isnan(lat).all():
-        raise SeaprofileError(
-            "latitude is NaN (unknown position); give a latitude in degrees north"
-        )
-    with np.errstate(invalid="ignore"):
-        bad = np.abs(lat) > 90.0
-    if bad.any():
-        raise SeaprofileError(
-            f"latitude must lie within -90..90 degrees, got {lat[bad].ravel()[0]:g}"
-        )
+    out = dict(quantity) if isinstance(quantity, dict) else _cf.attrs_for(quantity)
+    out.update(extra)
+    out["equation"] = equation
+    if references:
+        out["references"] = references
+    out["seaprofile_version"] = __version__
+    return out
 
 
-def apply_pointwise(func, named_args, attrs, out_name):
-    """Run a point-wise numpy function on numpy, dask or xarray arguments.
+# --- input classification ----------------------------------------------------------------
+
+
+def _prepare(named):
+    """Validate eagerly what can be validated; return the values and the input kind."""
+    values = []
+    kind = "numpy"
+    for name, v in named:
+        if isinstance(v, xr.Dataset):
+            raise SeaprofileError(f"{name} must be an array or a DataArray, not a Dataset")
+        if isinstance(v, _XR):
+            kind = "xarray"
+            if not is_lazy(v):
+                _check_eager(name, v.values)
+            values.append(v)
+        elif is_lazy(v):
+            kind = "dask" if kind == "numpy" else kind
+            values.append(v)
+        else:
+            values.append(_check_eager(name, v))
+    if kind == "xarray":
+        for (name, _), v in zip(named, values):
+            if not isinstance(v, _XR) and np.ndim(v) != 0:
+                raise SeaprofileError(
+                    f"{name} must be an xarray.DataArray or a scalar when other inputs are "
+                    "DataArrays (which of its dimensions is which would be a guess)"
+                )
+        _check_aligned([(n, v) for (n, _), v in zip(named, values) if isinstance(v, _XR)])
+    return values, kind
+
+
+def _check_eager(name, value):
+    if name in _POSITIONS:
+        return check_position(name, value)
+    return as_float_array(name, value)
+
+
+def _check_aligned(named):
+    """xarray inputs must align exactly: same sizes, identical coordinate values."""
+    seen = {}
+    for name, v in named:
+        for dim in v.dims:
+            index = v.indexes.get(dim) if isinstance(v, xr.DataArray) else None
+            if dim not in seen:
+                seen[dim] = (name, v.sizes[dim], index)
+                continue
+            first, size, first_index = seen[dim]
+            if v.sizes[dim] != size:
+                why = f"sizes {size} and {v.sizes[dim]}"
+            elif index is not None and first_index is not None and not index.equals(
+                    first_index):
+                why = "different coordinate values"
+            else:
+                if first_index is None and index is not None:
+                    seen[dim] = (name, size, index)
+                continue
+            raise SeaprofileError(
+                f"{first} and {name} do not align along dimension {dim!r} ({why}); xarray "
+                "inputs must share identical coordinates: select or reindex them first "
+                "(e.g. xr.align(a, b, join='inner'))"
+            )
+
+
+def _broadcast_shape(named_shapes):
+    try:
+        return np.broadcast_shapes(*(s for _, s in named_shapes))
+    except ValueError:
+        shapes = ", ".join(f"{n} {tuple(s)}" for n, s in named_shapes)
+        raise SeaprofileError(f"input shapes do not broadcast together: {shapes}") from None
+
+
+def _block_checked(func, names):
+    """``func`` on blocks, checking position blocks first (lazy inputs are checked here)."""
+    positions = [i for i, n in enumerate(names) if n in _POSITIONS]
+    if not positions:
+        return func
+
+    def run(*blocks):
+        for i in positions:
+            check_position(names[i], blocks[i])
+        return func(*blocks)
+
+    return run
+
+
+def _label_plain(named, values, core_ndim=(), core_dim="core"):
+    """Plain (dask or numpy) arrays as xr.Variables with positional dims, numpy-style.
+
+    The last axis of an argument with ``core_ndim[i] == 1`` is the core axis, named
+    ``core_dim``; the leading (loop) axes are broadcast with numpy's rules.
+    """
+    core_ndim = list(core_ndim) or [0] * len(values)
+    loops = [(n, np.shape(v)[: np.ndim(v) - k]) for (n, _), v, k in zip(named, values, core_ndim)]
+    shape = _broadcast_shape(loops)
+    dims = tuple(f"axis_{i}" for i in range(len(shape)))
+    out = []
+    for v, k in zip(values, core_ndim):
+        lead = np.ndim(v) - k
+        full = shape[len(shape) - lead:] if lead else ()
+        if lead and np.shape(v)[:lead] != full:
+            v = _broadcast_lead(v, full, k)
+        core = (core_dim,) * k
+        out.append(xr.Variable(dims[len(shape) - lead:] + core, v))
+    return out, dims
+
+
+def _broadcast_lead(v, lead_shape, k):
+    target = tuple(lead_shape) + np.shape(v)[np.ndim(v) - k:]
+    if is_lazy(v):
+        import dask.array as da
+
+        return da.broadcast_to(v, target)
+    return np.broadcast_to(v, target)
+
+
+# --- point-wise functions ----------------------------------------------------------------
+
+
+def pointwise(func, named, *, name=None, attrs=None, dtype=np.float64):
+    """Run a point-wise numpy function on numpy, dask or xarray inputs (the one route).
 
     Parameters
     ----------
     func : callable
-        Takes float64 numpy arrays (broadcastable) and returns one float64 array.
-    named_args : list of (str, object)
-        Argument names (for error messages) and values, in call order.
-    attrs : dict
-        Attributes of an xarray result.
-    out_name : str
+        ``func(*arrays)``: float64 numpy arrays (broadcastable) in, one ``dtype`` array out.
+    named : sequence of (str, object)
+        Argument names (for messages; ``latitude``/``longitude`` are position-checked)
+        and values, in call order.
+    name : str, optional
         Name of an xarray result.
+    attrs : dict, optional
+        Attributes of an xarray result (see :func:`output_attrs`); none when omitted.
+    dtype : numpy dtype
+        Output dtype.
+
+    Returns
+    -------
+    numpy.ndarray or scalar, dask array or xarray.DataArray
+        As the inputs: any xarray input gives a DataArray, else any dask input a dask array.
     """
-    values = []
-    for name, v in named_args:
-        if isinstance(v, (xr.DataArray, xr.Variable)) or is_lazy(v):
-            values.append(v)
-        else:
-            values.append(as_float_array(name, v))
-    if any(isinstance(v, xr.DataArray) for v in values):
-        out = xr.apply_ufunc(
-            lambda *a: func(*[np.asarray(x, dtype=np.float64) for x in a]),
-            *values,
-            dask="parallelized",
-            output_dtypes=[np.float64],
-        )
-        out.attrs = dict(attrs)
-        out.name = out_name
-        return out
-    if any(is_lazy(v) for v in values):
-        import dask.array as da
-
-        arrs = da.broadcast_arrays(*[da.asarray(v) for v in values])
-        return da.map_blocks(
-            lambda *a: func(*[np.asarray(x, dtype=np.float64) for x in a]),
-            *arrs,
-            dtype=np.float64,
-        )
-    return func(*values)
+    names = [n for n, _ in named]
+    values, kind = _prepare(named)
+    if kind == "numpy":
+        _broadcast_shape([(n, np.shape(v)) for n, v in zip(names, values)])
+        return func(*values)
+    block = _block_checked(functools.partial(_as_numpy, func), names)
+    if kind == "dask":
+        values, _ = _label_plain(named, values)
+    out = xr.apply_ufunc(block, *values, dask="parallelized", output_dtypes=[dtype],
+                         join="exact", keep_attrs=False)
+    if kind == "dask":
+        return out.data
+    if isinstance(out, xr.DataArray):
+        out.name = name
+    out.attrs = dict(attrs or {})
+    return out
 
 
-def run_loop(loop, arrays, extra=(), dtype=np.float64):
+def _as_numpy(func, *blocks):
+    return func(*[np.asarray(b, dtype=np.float64) for b in blocks])
+
+
+def run_loop(loop, arrays, extra=(), dtype=np.float64, *, names=None, name=None, attrs=None):
     """Call a compiled point-wise loop on broadcast inputs, the way a numpy ufunc would.
 
     Parameters
@@ -105,26 +249,34 @@ def run_loop(loop, arrays, extra=(), dtype=np.float64):
         compiles once).
     dtype : numpy dtype
         Output dtype.
+    names : sequence of str, optional
+        Argument names for messages (and position checks); default ``argument 1``, ...
+    name, attrs : optional
+        Name and attributes of an xarray result (see :func:`pointwise`).
 
     Returns
     -------
     numpy.ndarray, numpy scalar, dask array or xarray.DataArray
-        Shaped like the broadcast inputs; a numpy scalar for 0-d inputs. xarray and dask
-        inputs give xarray and (lazy) dask results, as a numpy ufunc would.
+        Shaped like the broadcast inputs; a numpy scalar for 0-d inputs. Numpy inputs run
+        the loop directly; any dask or xarray input goes through :func:`pointwise`.
 
     Raises
     ------
     TypeError
-        An input that cannot be cast safely to float64 (as a float64-only ufunc).
+        A numpy input that cannot be cast safely to float64 (as a float64-only ufunc).
     ValueError
-        Shapes that do not broadcast together.
+        Numpy shapes that do not broadcast together.
     """
-    if not all(type(a) in _PLAIN for a in arrays) and any(
+    if all(type(a) in _PLAIN for a in arrays) or not any(
         isinstance(a, (xr.DataArray, xr.Dataset, xr.Variable)) or is_lazy(a) for a in arrays
     ):
-        return _run_duck(functools.partial(_run_numpy, loop, extra=extra, dtype=dtype),
-                         arrays, dtype)
-    return _run_numpy(loop, *arrays, extra=extra, dtype=dtype)
+        if names:  # a public function: errors name its arguments
+            arrays = [_check_eager(n, a) for n, a in zip(names, arrays)]
+            _broadcast_shape([(n, np.shape(a)) for n, a in zip(names, arrays)])
+        return _run_numpy(loop, *arrays, extra=extra, dtype=dtype)
+    names = list(names or (f"argument {i + 1}" for i in range(len(arrays))))
+    func = functools.partial(_run_numpy, loop, extra=extra, dtype=dtype)
+    return pointwise(func, list(zip(names, arrays)), name=name, attrs=attrs, dtype=dtype)
 
 
 _PLAIN = (np.ndarray, float, int, np.float64)  # types that need no xarray/dask check
@@ -170,23 +322,103 @@ def _float64(a):
     return arr
 
 
-def _run_duck(func, arrays, dtype):
-    """``func`` over xarray (``apply_ufunc``) or dask (``map_blocks``) inputs, lazily."""
-    if any(isinstance(a, (xr.DataArray, xr.Dataset, xr.Variable)) for a in arrays):
-        options = xr.get_options()
-        # the result is a new quantity: never the attributes of an input (callers set CF ones)
-        return xr.apply_ufunc(
-            func,
-            *arrays,
-            join=options["arithmetic_join"],
-            dataset_join=options["arithmetic_join"],
-            dataset_fill_value=np.nan,
-            dask="parallelized",
-            output_dtypes=[dtype],
-            keep_attrs=False,
-        )
-    import dask.array as da
+# --- column diagnostics ------------------------------------------------------------------
 
-    blocks = da.broadcast_arrays(*[da.asarray(a) for a in arrays])
-    meta = np.empty((0,) * blocks[0].ndim, dtype=dtype)
-    return da.map_blocks(func, *blocks, dtype=dtype, meta=meta)
+
+def columnwise(func, columns, *, dim="depth", params=(), outputs, dtypes=None,
+               new_dim=None):
+    """Run a column diagnostic on numpy, dask or xarray profiles (the core-dimension route).
+
+    Parameters
+    ----------
+    func : callable
+        ``func(*columns, *params)`` on numpy arrays: each column has the vertical axis last
+        (shape ``(..., n)`` or ``(n,)``, broadcast over the leading profile axes) and the
+        per-profile ``params`` broadcast against those leading axes. Returns a tuple of
+        ``len(outputs)`` arrays shaped like the profile axes (plus a last axis
+        ``new_dim`` when given).
+    columns : sequence of (str, object)
+        Names and values of the arrays along the vertical (numpy: last axis; xarray: the
+        dimension ``dim``), e.g. ``[("sound_speed", c), ("depth", z)]``. Plain 1-D arrays
+        next to DataArrays are taken to lie along ``dim``.
+    dim : str
+        Vertical dimension of xarray inputs (default ``"depth"``).
+    params : sequence of (str, object)
+        Per-profile arguments (scalars, or arrays over the profile axes / dimensions).
+    outputs : sequence of (str, dict)
+        Name and attributes of each output (used for xarray results).
+    dtypes : sequence of numpy dtype, optional
+        Output dtypes (default all float64).
+    new_dim : (str, int), optional
+        Name and length of a vertical dimension of the outputs that replaces ``dim``
+        (e.g. mid-points between samples).
+
+    Returns
+    -------
+    tuple
+        One numpy array (or scalar), dask array or xarray.DataArray per output.
+    """
+    dtypes = list(dtypes or [np.float64] * len(outputs))
+    if any(isinstance(v, _XR) for _, v in columns):
+        columns = [(n, _along(n, v, dim)) for n, v in columns]
+    named = [*columns, *params]
+    names = [n for n, _ in named]
+    values, kind = _prepare(named)
+    if kind == "numpy":
+        return func(*values)
+    # a scalar among the columns (e.g. one salinity for the whole column) is broadcast
+    core_ndim = [min(np.ndim(v), 1) for v in values[:len(columns)]] + [0] * len(params)
+    if not core_ndim[0]:
+        raise SeaprofileError(f"{names[0]} needs a vertical axis")
+    if kind == "dask":
+        values, _ = _label_plain(named, values, core_ndim, dim)
+    for n, v, k in zip(names, values, core_ndim):
+        if k and dim not in v.dims:
+            raise SeaprofileError(f"{n} has no dimension {dim!r} (dims {list(v.dims)}); "
+                                  "pass dim= the vertical dimension")
+        _check_core_chunks(n, v, dim, kind == "dask")
+    block = _block_checked(functools.partial(_columns_numpy, func, len(outputs)), names)
+    extra = {}
+    out_core = [[]] * len(outputs)
+    if new_dim is not None:
+        out_core = [[new_dim[0]]] * len(outputs)
+        extra = {"exclude_dims": {dim},
+                 "dask_gufunc_kwargs": {"output_sizes": {new_dim[0]: new_dim[1]}}}
+    out = xr.apply_ufunc(block, *values, input_core_dims=[[dim] if k else [] for k in
+                                                          core_ndim],
+                         output_core_dims=out_core, dask="parallelized",
+                         output_dtypes=dtypes, join="exact", keep_attrs=False, **extra)
+    out = out if isinstance(out, tuple) else (out,)
+    if kind == "dask":
+        return tuple(o.data for o in out)
+    for o, (oname, attrs) in zip(out, outputs):
+        o.name = oname
+        o.attrs = dict(attrs)
+    return out
+
+
+def _along(name, v, dim):
+    """A column argument next to DataArrays: a plain 1-D array lies along ``dim``."""
+    if isinstance(v, _XR) or np.ndim(v) == 0:
+        return v
+    if np.ndim(v) != 1:
+        raise SeaprofileError(
+            f"{name} must be 1-D or a DataArray when other inputs are DataArrays")
+    return xr.Variable((dim,), as_float_array(name, v))
+
+
+def _check_core_chunks(name, v, dim, plain):
+    chunks = getattr(v, "chunksizes", None) if isinstance(v, _XR) else None
+    if chunks and dim in chunks and len(chunks[dim]) > 1:
+        where, fix = ((f"its last (vertical) axis", ".rechunk({-1: -1})") if plain else
+                      (f"the vertical dimension {dim!r}", f".chunk({{{dim!r}: -1}})"))
+        raise SeaprofileError(
+            f"{name} is split into {len(chunks[dim])} chunks along {where}; a column "
+            f"diagnostic needs each profile in one chunk: rechunk with {fix}"
+        )
+
+
+def _columns_numpy(func, n_out, *blocks):
+    out = func(*[np.asarray(b, dtype=np.float64) for b in blocks])
+    out = out if isinstance(out, tuple) else (out,)
+    return tuple(np.asarray(o) for o in out) if n_out > 1 else np.asarray(out[0])

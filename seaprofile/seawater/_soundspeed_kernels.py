@@ -23,7 +23,8 @@ import gsw
 import numba
 import numpy as np
 
-from ._apply import run_loop
+from .._validate import SeaprofileError
+from ._apply import output_attrs, pointwise, run_loop
 
 # error_model="numpy": division by zero gives inf/NaN as in numpy, never an exception;
 # nogil: the loops release the GIL, as numpy ufunc loops do (dask threads run in parallel)
@@ -88,7 +89,7 @@ def mackenzie1981(temperature, salinity, depth):
     0.1-0.4 m/s at low latitudes and up to 0.9 m/s in near-freezing water at 70 degrees
     (depths from UNESCO 1983); prefer a pressure-based equation or ``leroy2008`` there.
     """
-    return run_loop(_mackenzie1981_loop, (temperature, salinity, depth))
+    return _run(_mackenzie1981_loop, "mackenzie1981", (temperature, salinity, depth))
 
 
 @numba.njit(**_JIT)
@@ -155,7 +156,7 @@ def chen_millero1977(temperature, salinity, pressure):
     at S 40, T68 40 degC, 10000 dbar. The UNESCO code takes ``sqrt(|S|)``; here a negative
     salinity (not a salinity at all) gives NaN instead.
     """
-    return run_loop(_chen_millero1977_loop, (temperature, salinity, pressure))
+    return _run(_chen_millero1977_loop, "chen_millero1977", (temperature, salinity, pressure))
 
 
 @numba.njit(**_JIT)
@@ -211,7 +212,7 @@ def wong_zhu1995(temperature, salinity, pressure):
     2.006e-6); the two sets must not be mixed. Validity as Chen & Millero: T 0..40 degC,
     S 0..40, 0..1000 bar. Negative salinity gives NaN.
     """
-    return run_loop(_wong_zhu1995_loop, (temperature, salinity, pressure))
+    return _run(_wong_zhu1995_loop, "wong_zhu1995", (temperature, salinity, pressure))
 
 
 @numba.njit(**_JIT)
@@ -269,7 +270,7 @@ def del_grosso1974(temperature, salinity, pressure):
 
     Validity: T 0..30 degC, S 30..40, 0..1000 kg/cm^2 (0..9806.65 dbar).
     """
-    return run_loop(_del_grosso1974_loop, (temperature, salinity, pressure))
+    return _run(_del_grosso1974_loop, "del_grosso1974", (temperature, salinity, pressure))
 
 
 @numba.njit(**_JIT)
@@ -323,7 +324,7 @@ def coppens1981(temperature, salinity, depth):
 
     Validity: T 0..35 degC, S 0..45, D 0..4 km.
     """
-    return run_loop(_coppens1981_loop, (temperature, salinity, depth))
+    return _run(_coppens1981_loop, "coppens1981", (temperature, salinity, depth))
 
 
 @numba.njit(**_JIT)
@@ -369,7 +370,7 @@ def medwin1975(temperature, salinity, depth):
 
     Validity: T 0..35 degC, S 0..45, z 0..1000 m.
     """
-    return run_loop(_medwin1975_loop, (temperature, salinity, depth))
+    return _run(_medwin1975_loop, "medwin1975", (temperature, salinity, depth))
 
 
 @numba.njit(**_JIT)
@@ -429,7 +430,7 @@ def leroy2008(temperature, salinity, depth, latitude):
     S 0..42, 0..12000 m) is our choice to cover the waters the paper names, not a range
     quoted from it.
     """
-    return run_loop(_leroy2008_loop, (temperature, salinity, depth, latitude))
+    return _run(_leroy2008_loop, "leroy2008", (temperature, salinity, depth, latitude))
 
 
 def teos10(temperature, salinity, pressure, latitude=None, longitude=None):
@@ -466,7 +467,19 @@ def teos10(temperature, salinity, pressure, latitude=None, longitude=None):
     freezing to about 40 degC near the surface); ``EQUATIONS`` uses the box
     T -2..40 degC, S 0..42, 0..10000 dbar around it.
     """
-    if latitude is not None and longitude is not None:
+    named = [("temperature", temperature), ("salinity", salinity), ("pressure", pressure)]
+    if (latitude is None) != (longitude is None):
+        missing = "longitude" if longitude is None else "latitude"
+        raise SeaprofileError(f"{missing} is required when the other coordinate is given "
+                              "(or give neither to use reference salinity)")
+    if latitude is not None:
+        named += [("latitude", latitude), ("longitude", longitude)]
+    return pointwise(_teos10_numpy, named, name="sound_speed",
+                     attrs=output_attrs("sound_speed", "teos10", REFERENCES["teos10"]))
+
+
+def _teos10_numpy(temperature, salinity, pressure, latitude=None, longitude=None):
+    if latitude is not None:
         sa = gsw.SA_from_SP(salinity, pressure, longitude, latitude)
     else:
         sa = gsw.SR_from_SP(salinity)
@@ -477,55 +490,36 @@ def teos10(temperature, salinity, pressure, latitude=None, longitude=None):
 # --- helpers of the public entry points -------------------------------------------------
 
 
-@numba.njit(cache=True, nogil=True)
-def _value_range(flat):
-    """(min, max) of a 1-D float64 array in one pass, skipping NaN; (inf, -inf) if all NaN.
-
-    A comparison with NaN is False, so NaN never replaces an accumulator; four
-    independent accumulators let the compiler vectorise the loop.
-    """
-    n = flat.size
-    lo0 = lo1 = lo2 = lo3 = np.inf
-    hi0 = hi1 = hi2 = hi3 = -np.inf
-    m = n - n % 4
-    for i in range(0, m, 4):
-        a = flat[i]
-        b = flat[i + 1]
-        c = flat[i + 2]
-        d = flat[i + 3]
-        lo0 = a if a < lo0 else lo0
-        hi0 = a if a > hi0 else hi0
-        lo1 = b if b < lo1 else lo1
-        hi1 = b if b > hi1 else hi1
-        lo2 = c if c < lo2 else lo2
-        hi2 = c if c > hi2 else hi2
-        lo3 = d if d < lo3 else lo3
-        hi3 = d if d > hi3 else hi3
-    for i in range(m, n):
-        a = flat[i]
-        lo0 = a if a < lo0 else lo0
-        hi0 = a if a > hi0 else hi0
-    return min(min(lo0, lo1), min(lo2, lo3)), max(max(hi0, hi1), max(hi2, hi3))
+def _loops():
+    """Each compiled equation function -> its loop, for callers whose inputs are checked."""
+    return {mackenzie1981: _mackenzie1981_loop, chen_millero1977: _chen_millero1977_loop,
+            wong_zhu1995: _wong_zhu1995_loop, del_grosso1974: _del_grosso1974_loop,
+            coppens1981: _coppens1981_loop, medwin1975: _medwin1975_loop,
+            leroy2008: _leroy2008_loop}
 
 
-@numba.njit(**_JIT)
-def _in_box_kernel(t, s, v, t_lo, t_hi, s_lo, s_hi, v_lo, v_hi):
-    """True where (t, s, v) lies inside the closed box; NaN gives False."""
-    if t != t or s != s or v != v:  # NaN: quiet test first, no "invalid" FP warning
-        return False
-    return t_lo <= t <= t_hi and s_lo <= s <= s_hi and v_lo <= v <= v_hi
+#: Citation of each equation (shown in ``EQUATIONS`` and in the ``references`` attribute).
+REFERENCES = {
+    "mackenzie1981": "K.V. Mackenzie, J. Acoust. Soc. Am. 70(3), 807-812 (1981)",
+    "chen_millero1977": "C.-T. Chen & F.J. Millero, J. Acoust. Soc. Am. 62, 1129-1135 "
+    "(1977); N.P. Fofonoff & R.C. Millard, Unesco Tech. Pap. Mar. Sci. 44 (1983)",
+    "wong_zhu1995": "G.S.K. Wong & S. Zhu, J. Acoust. Soc. Am. 97(3), 1732-1736 (1995)",
+    "del_grosso1974": "V.A. Del Grosso, J. Acoust. Soc. Am. 56(4), 1084-1091 (1974)",
+    "coppens1981": "A.B. Coppens, J. Acoust. Soc. Am. 69(3), 862-863 (1981)",
+    "medwin1975": "H. Medwin, J. Acoust. Soc. Am. 58, 1318-1319 (1975)",
+    "leroy2008": "C.C. Leroy, S.P. Robinson & M.J. Goldsmith, J. Acoust. Soc. Am. 124(5), "
+    "2774-2782 (2008), doi:10.1121/1.2988296",
+    "teos10": "IOC, SCOR & IAPSO (2010), TEOS-10 Manual (IOC Manuals and Guides 56); "
+    "gsw sound_speed (Roquet et al. 2015, Ocean Modelling 90, 29-43)",
+}
+
+_ARGUMENTS = ("temperature", "salinity")
 
 
-@numba.njit(**_JIT)
-def _in_box_loop(t, s, v, t_lo, t_hi, s_lo, s_hi, v_lo, v_hi, out):
-    for i in range(out.size):
-        out[i] = _in_box_kernel(t[i], s[i], v[i], t_lo, t_hi, s_lo, s_hi, v_lo, v_hi)
-
-
-def in_box(temperature, salinity, vertical, box):
-    """True where the point lies in ``box = (t_lo, t_hi, s_lo, s_hi, v_lo, v_hi)``.
-
-    Broadcasts like a ufunc and accepts numpy, dask and xarray inputs; NaN gives False.
-    """
-    return run_loop(_in_box_loop, (temperature, salinity, vertical),
-                    extra=tuple(float(x) for x in box), dtype=np.bool_)
+def _run(loop, name, arrays):
+    """An equation's compiled loop through the dispatcher (names for messages, CF attrs)."""
+    vertical = ("depth",) if name in ("mackenzie1981", "coppens1981", "medwin1975",
+                                      "leroy2008") else ("pressure",)
+    names = _ARGUMENTS + vertical + ("latitude",) * (len(arrays) - 3)
+    return run_loop(loop, arrays, names=names, name="sound_speed",
+                    attrs=output_attrs("sound_speed", name, REFERENCES[name]))

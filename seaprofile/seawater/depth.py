@@ -3,8 +3,10 @@
 Four published methods, each as a pair of public numpy functions (pressure -> depth and
 depth -> pressure) registered in :data:`METHODS`, and two entry points that accept numpy,
 dask and xarray inputs: :func:`depth_from_pressure` and :func:`pressure_from_depth`.
-The compiled kernels behind the numpy functions are in :mod:`._depth_kernels`; the
-numpy/dask/xarray dispatch and the latitude check in :mod:`._apply`.
+The compiled kernels behind the numpy functions are in :mod:`._depth_kernels`; every
+function (per method or entry point) takes numpy, dask or xarray inputs through the one
+dispatcher of :mod:`._apply` (latitude finite and within -90..90 everywhere, NaN refused;
+xarray inputs aligned exactly; CF attributes and the method on an xarray result).
 
 Units: sea pressure in dbar (zero at the sea surface), depth in m, positive down, latitude
 in degrees north. Small negative pressures or depths (a sensor just above the surface) are
@@ -19,10 +21,8 @@ from typing import Callable, NamedTuple
 import gsw
 import numpy as np
 
-from .. import _cf
 from .._validate import SeaprofileError
-from ._apply import apply_pointwise, check_latitude  # noqa: F401  (re-exported)
-from ._apply import run_loop
+from ._apply import output_attrs, pointwise, run_loop
 from ._depth_kernels import (
     _leroy_depth_loop,
     _leroy_pressure_loop,
@@ -46,6 +46,35 @@ __all__ = [
     "teos10_depth",
     "teos10_pressure",
 ]
+
+_REFERENCES = {
+    "unesco1983": "Fofonoff & Millard (1983), Unesco Tech. Pap. Mar. Sci. 44; "
+    "Saunders & Fofonoff (1976), Deep-Sea Res. 23, 109-111",
+    "leroy_parthiot1998": "Leroy & Parthiot (1998), J. Acoust. Soc. Am. 103(3), 1346-1352",
+    "saunders1981": "Saunders (1981), J. Phys. Oceanogr. 11, 573-574",
+    "teos10": "IOC, SCOR & IAPSO (2010), TEOS-10 manual; gsw z_from_p / p_from_z",
+}
+_OUTPUT = {"pressure": "depth", "depth": "pressure"}
+
+
+def _attrs(out_name, method):
+    return output_attrs(out_name, method, _REFERENCES[method])
+
+
+def _run(loop, method, in_name, values, latitude, extra=()):
+    """A method's compiled loop through the dispatcher (numpy, dask or xarray)."""
+    out = _OUTPUT[in_name]
+    return run_loop(loop, (values, latitude), extra, names=(in_name, "latitude"), name=out,
+                    attrs=_attrs(out, method))
+
+
+def _teos10_depth(pressure, latitude):
+    return -np.asarray(gsw.z_from_p(pressure, latitude), dtype=np.float64)
+
+
+def _teos10_pressure(depth, latitude):
+    return np.asarray(gsw.p_from_z(-depth, latitude), dtype=np.float64)
+
 
 # --- layer 2: public numpy functions, one pair per method ------------------------------
 
@@ -81,7 +110,7 @@ def unesco1983_depth(pressure, latitude):
     the true depth differ from the standard-ocean depth by up to about 0.1 % (geopotential
     anomaly ignored). Valid 0..10000 dbar.
     """
-    return run_loop(_unesco_depth_loop, (_arr(pressure), _arr(latitude)))
+    return _run(_unesco_depth_loop, "unesco1983", "pressure", pressure, latitude)
 
 
 def unesco1983_pressure(depth, latitude):
@@ -104,7 +133,7 @@ def unesco1983_pressure(depth, latitude):
     Newton iteration (4 steps from the Saunders 1981 closed form, itself within ~1 m) on the
     Fofonoff & Millard (1983) polynomial; the round trip is exact to far below 1 mm.
     """
-    return run_loop(_unesco_pressure_loop, (_arr(depth), _arr(latitude)))
+    return _run(_unesco_pressure_loop, "unesco1983", "depth", depth, latitude)
 
 
 def leroy_parthiot1998_depth(pressure, latitude, correction=None):
@@ -131,7 +160,8 @@ def leroy_parthiot1998_depth(pressure, latitude, correction=None):
     depth; the round trip is exact to far below 1 mm.
     """
     corr = _leroy_correction(correction)
-    return run_loop(_leroy_depth_loop, (_arr(pressure), _arr(latitude)), extra=(corr,))
+    return _run(_leroy_depth_loop, "leroy_parthiot1998", "pressure", pressure, latitude,
+                (corr,))
 
 
 def leroy_parthiot1998_pressure(depth, latitude, correction=None):
@@ -178,7 +208,8 @@ def leroy_parthiot1998_pressure(depth, latitude, correction=None):
     at ``Z = -100`` m; only small negative depths are meaningful.
     """
     corr = _leroy_correction(correction)
-    return run_loop(_leroy_pressure_loop, (_arr(depth), _arr(latitude)), extra=(corr,))
+    return _run(_leroy_pressure_loop, "leroy_parthiot1998", "depth", depth, latitude,
+                (corr,))
 
 
 def saunders1981_depth(pressure, latitude):
@@ -206,7 +237,7 @@ def saunders1981_depth(pressure, latitude):
     Stated to agree with the full (standard-ocean) integration within about 1 m down to
     5000 dbar; it drifts further in the trenches.
     """
-    return run_loop(_saunders_depth_loop, (_arr(pressure), _arr(latitude)))
+    return _run(_saunders_depth_loop, "saunders1981", "pressure", pressure, latitude)
 
 
 def saunders1981_pressure(depth, latitude):
@@ -229,7 +260,7 @@ def saunders1981_pressure(depth, latitude):
     The small root of ``c2 p^2 - (1 - c1) p + z = 0`` written as
     ``p = 2 z / ((1 - c1) + sqrt((1 - c1)^2 - 4 c2 z))`` (no cancellation near the surface).
     """
-    return run_loop(_saunders_pressure_loop, (_arr(depth), _arr(latitude)))
+    return _run(_saunders_pressure_loop, "saunders1981", "depth", depth, latitude)
 
 
 def teos10_depth(pressure, latitude):
@@ -254,7 +285,8 @@ def teos10_depth(pressure, latitude):
     (SA = 35.16504 g/kg, CT = 0 degC) with latitude- and depth-dependent gravity; no
     dynamic height anomaly is applied.
     """
-    return -np.asarray(gsw.z_from_p(_arr(pressure), _arr(latitude)), dtype=np.float64)
+    return pointwise(_teos10_depth, [("pressure", pressure), ("latitude", latitude)],
+                     name="depth", attrs=_attrs("depth", "teos10"))
 
 
 def teos10_pressure(depth, latitude):
@@ -276,7 +308,8 @@ def teos10_pressure(depth, latitude):
     -----
     See :func:`teos10_depth`.
     """
-    return np.asarray(gsw.p_from_z(-_arr(depth), _arr(latitude)), dtype=np.float64)
+    return pointwise(_teos10_pressure, [("depth", depth), ("latitude", latitude)],
+                     name="pressure", attrs=_attrs("pressure", "teos10"))
 
 
 class DepthMethod(NamedTuple):
@@ -290,31 +323,13 @@ class DepthMethod(NamedTuple):
 
 
 METHODS = {
-    "unesco1983": DepthMethod(
-        unesco1983_depth,
-        unesco1983_pressure,
-        True,
-        "Fofonoff & Millard (1983), Unesco Tech. Pap. Mar. Sci. 44; "
-        "Saunders & Fofonoff (1976), Deep-Sea Res. 23, 109-111",
-    ),
-    "leroy_parthiot1998": DepthMethod(
-        leroy_parthiot1998_depth,
-        leroy_parthiot1998_pressure,
-        True,
-        "Leroy & Parthiot (1998), J. Acoust. Soc. Am. 103(3), 1346-1352",
-    ),
-    "saunders1981": DepthMethod(
-        saunders1981_depth,
-        saunders1981_pressure,
-        True,
-        "Saunders (1981), J. Phys. Oceanogr. 11, 573-574",
-    ),
-    "teos10": DepthMethod(
-        teos10_depth,
-        teos10_pressure,
-        True,
-        "IOC, SCOR & IAPSO (2010), TEOS-10 manual; gsw z_from_p / p_from_z",
-    ),
+    name: DepthMethod(forward, inverse, True, _REFERENCES[name])
+    for name, forward, inverse in (
+        ("unesco1983", unesco1983_depth, unesco1983_pressure),
+        ("leroy_parthiot1998", leroy_parthiot1998_depth, leroy_parthiot1998_pressure),
+        ("saunders1981", saunders1981_depth, saunders1981_pressure),
+        ("teos10", teos10_depth, teos10_pressure),
+    )
 }
 
 
@@ -340,13 +355,14 @@ def depth_from_pressure(pressure, latitude, method="unesco1983", *, correction=N
     -------
     numpy.ndarray, dask array or xarray.DataArray
         Depth, m, positive down, same shape as the broadcast inputs. An xarray result carries
-        the CF attributes of ``depth`` and a ``comment`` naming the method.
+        the CF attributes of ``depth``, the method (``equation``) and its ``references``.
 
     Raises
     ------
     SeaprofileError
-        Unknown ``method``; ``latitude`` missing, all NaN or outside -90..90; ``pressure``
-        not numeric; ``correction`` given for a method other than Leroy & Parthiot.
+        Unknown ``method``; ``latitude`` missing, NaN anywhere (an unknown position),
+        infinite or outside -90..90 (dask: when computed); ``pressure`` not numeric;
+        xarray inputs that do not align exactly; ``correction`` given for a method other than Leroy & Parthiot.
 
     Notes
     -----
@@ -354,7 +370,7 @@ def depth_from_pressure(pressure, latitude, method="unesco1983", *, correction=N
     :data:`METHODS`. NaN in gives NaN out.
     """
     func = _pick(method, correction, 0)
-    return _dispatch(func, "pressure", pressure, latitude, "depth", method)
+    return _dispatch(func, "pressure", pressure, latitude)
 
 
 def pressure_from_depth(depth, latitude, method="unesco1983", *, correction=None):
@@ -388,14 +404,10 @@ def pressure_from_depth(depth, latitude, method="unesco1983", *, correction=None
     1998, gsw's own inverse for TEOS-10).
     """
     func = _pick(method, correction, 1)
-    return _dispatch(func, "depth", depth, latitude, "pressure", method)
+    return _dispatch(func, "depth", depth, latitude)
 
 
 # --- helpers --------------------------------------------------------------------------
-
-
-def _arr(x):
-    return np.asarray(x, dtype=np.float64)
 
 
 def _leroy_correction(correction):
@@ -424,14 +436,10 @@ def _pick(method, correction, which):
     return functools.partial(func, correction=correction)
 
 
-def _dispatch(func, in_name, values, latitude, out_name, method):
-    """Apply the numpy function ``func(values, latitude)`` to numpy, dask or xarray."""
-    check_latitude(latitude)
+def _dispatch(func, in_name, values, latitude):
+    """Presence checks; ``func`` (a per-method function) dispatches numpy/dask/xarray."""
+    if latitude is None:
+        raise SeaprofileError("latitude is required (degrees north); give the cast position")
     if values is None:
         raise SeaprofileError(f"{in_name} is required")
-    return apply_pointwise(
-        func,
-        [(in_name, values), ("latitude", latitude)],
-        _cf.attrs_for(out_name, comment=f"computed from {in_name} with method {method}"),
-        out_name,
-    )
+    return func(values, latitude)

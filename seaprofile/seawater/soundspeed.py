@@ -20,10 +20,10 @@ from typing import Callable
 
 import numpy as np
 
-from .. import _cf
-from .._validate import SeaprofileError, as_float_array, is_lazy, warn_outside
-from .._version import __version__
+from .._validate import SeaprofileError, is_lazy, value_range, warn_outside
+from . import _box
 from . import _soundspeed_kernels as _k
+from ._apply import output_attrs, pointwise, run_loop
 from ._soundspeed_kernels import (
     chen_millero1977,
     coppens1981,
@@ -109,32 +109,28 @@ def _eq(name, function, needs, t, s, v, reference, needs_latitude=False, uses_po
     return Equation(name, function, needs, needs_latitude, t, s, v, reference, uses_position)
 
 
+_R = _k.REFERENCES
+
 #: Sound-speed equations by name; see each function's docstring for its source.
 EQUATIONS = {
     e.name: e
     for e in (
         _eq("mackenzie1981", mackenzie1981, "depth", (-2.0, 30.0), (25.0, 40.0),
-            (0.0, 8000.0), "K.V. Mackenzie, J. Acoust. Soc. Am. 70(3), 807-812 (1981)"),
+            (0.0, 8000.0), _R["mackenzie1981"]),
         _eq("chen_millero1977", chen_millero1977, "pressure", (0.0, 40.0), (0.0, 40.0),
-            (0.0, 10000.0), "C.-T. Chen & F.J. Millero, J. Acoust. Soc. Am. 62, 1129-1135 "
-            "(1977); N.P. Fofonoff & R.C. Millard, Unesco Tech. Pap. Mar. Sci. 44 (1983)"),
+            (0.0, 10000.0), _R["chen_millero1977"]),
         _eq("wong_zhu1995", wong_zhu1995, "pressure", (0.0, 40.0), (0.0, 40.0),
-            (0.0, 10000.0), "G.S.K. Wong & S. Zhu, J. Acoust. Soc. Am. 97(3), 1732-1736 "
-            "(1995)"),
+            (0.0, 10000.0), _R["wong_zhu1995"]),
         _eq("del_grosso1974", del_grosso1974, "pressure", (0.0, 30.0), (30.0, 40.0),
-            (0.0, 1000.0 * _k._DBAR_PER_KGCM2), "V.A. Del Grosso, J. Acoust. Soc. Am. "
-            "56(4), 1084-1091 (1974)"),
+            (0.0, 1000.0 * _k._DBAR_PER_KGCM2), _R["del_grosso1974"]),
         _eq("coppens1981", coppens1981, "depth", (0.0, 35.0), (0.0, 45.0), (0.0, 4000.0),
-            "A.B. Coppens, J. Acoust. Soc. Am. 69(3), 862-863 (1981)"),
+            _R["coppens1981"]),
         _eq("medwin1975", medwin1975, "depth", (0.0, 35.0), (0.0, 45.0), (0.0, 1000.0),
-            "H. Medwin, J. Acoust. Soc. Am. 58, 1318-1319 (1975)"),
+            _R["medwin1975"]),
         _eq("leroy2008", leroy2008, "depth", (-2.0, 34.0), (0.0, 42.0), (0.0, 12000.0),
-            "C.C. Leroy, S.P. Robinson & M.J. Goldsmith, J. Acoust. Soc. Am. 124(5), "
-            "2774-2782 (2008), doi:10.1121/1.2988296", needs_latitude=True),
+            _R["leroy2008"], needs_latitude=True),
         _eq("teos10", teos10, "pressure", (-2.0, 40.0), (0.0, 42.0), (0.0, 10000.0),
-            "IOC, SCOR & IAPSO (2010), TEOS-10 Manual (IOC Manuals and Guides 56); "
-            "gsw sound_speed (Roquet et al. 2015, Ocean Modelling 90, 29-43)",
-            uses_position=True),
+            _R["teos10"], uses_position=True),
     )
 }
 
@@ -156,29 +152,36 @@ def sound_speed(temperature, salinity, pressure=None, *, depth=None, latitude=No
         Sea pressure, dbar. Give exactly one of ``pressure`` and ``depth``.
     depth : array_like, dask array or xarray.DataArray, optional
         Depth, m, positive down.
-    latitude : float or array_like, optional
-        Latitude, degrees north. Required by ``leroy2008`` and whenever the given vertical
-        coordinate must be converted (UNESCO 1983 pressure <-> depth,
+    latitude : float, array_like, dask array or xarray.DataArray, optional
+        Latitude, degrees north, finite, -90..90 (NaN is refused: an unknown position).
+        Required by ``leroy2008`` and whenever the given vertical coordinate must be
+        converted (UNESCO 1983 pressure <-> depth,
         :func:`seaprofile.seawater.depth.depth_from_pressure`).
-    longitude : float or array_like, optional
-        Longitude, degrees east; only ``teos10`` uses it (with latitude) for absolute
-        salinity.
+    longitude : float, array_like, dask array or xarray.DataArray, optional
+        Longitude, degrees east, finite, -180..360; needs ``latitude``. Only ``teos10``
+        uses it (with latitude) for absolute salinity; it is checked for every equation.
     equation : str
         A key of :data:`EQUATIONS` (default ``"chen_millero1977"``).
 
     Returns
     -------
     numpy.ndarray, dask array or xarray.DataArray
-        Sound speed, m/s, shaped like the broadcast inputs. NaN in any input gives NaN.
-        An xarray result carries the CF attributes (``speed_of_sound_in_sea_water``,
-        ``m s-1``) and ``equation`` and ``seaprofile_version`` attributes.
+        Sound speed, m/s, shaped like the broadcast inputs. NaN in temperature,
+        salinity, pressure or depth gives NaN. An xarray result carries the CF attributes
+        (``speed_of_sound_in_sea_water``, ``m s-1``) and ``equation``, ``references`` and
+        ``seaprofile_version`` attributes. Inputs reach the equation through the one
+        dispatcher of :mod:`seaprofile.seawater._apply` (its alignment, position and
+        attribute rules).
 
     Raises
     ------
     SeaprofileError
         Unknown ``equation`` (the message lists the valid names); both or neither of
-        ``pressure``/``depth``; ``latitude`` missing when needed or outside -90..90;
-        non-numeric input; shapes that do not broadcast.
+        ``pressure``/``depth``; ``latitude`` missing when needed; ``latitude`` or
+        ``longitude`` NaN, infinite or out of range (for dask inputs: when computed);
+        ``longitude`` without ``latitude``; non-numeric input; shapes that do not
+        broadcast; xarray inputs that do not align exactly (or a DataArray mixed with a
+        non-scalar plain array).
 
     Warns
     -----
@@ -196,21 +199,15 @@ def sound_speed(temperature, salinity, pressure=None, *, depth=None, latitude=No
     """
     eq = _lookup(equation)
     kind, vertical = _vertical(pressure, depth)
-    _check_latitude_needed(eq, kind, latitude)
-    named = {"temperature": temperature, "salinity": salinity, kind: vertical}
-    for name, value in (("latitude", latitude), ("longitude", longitude)):
-        if value is not None:
-            named[name] = value
-    if any(_is_xarray(v) for v in named.values()):
-        return _sound_speed_xarray(eq, kind, named)
-    if any(is_lazy(v) for v in named.values()):
-        return _sound_speed_dask(eq, kind, named)
-    arrays = {name: as_float_array(name, v) for name, v in named.items()}
-    shape = _broadcast_shape(arrays)
-    out = _evaluate(eq, kind, arrays, check=True, stacklevel=5)
-    if out.shape != shape:  # e.g. a latitude array the equation itself does not use
-        out = np.broadcast_to(out, shape).copy()
-    return out[()] if out.ndim == 0 else out
+    _check_latitude_needed(eq, kind, latitude, longitude)
+    named = [("temperature", temperature), ("salinity", salinity), (kind, vertical)]
+    named += [(n, v) for n, v in (("latitude", latitude), ("longitude", longitude))
+              if v is not None]
+    check = not any(is_lazy(v) for _, v in named)  # lazy inputs are not range-checked
+    func = functools.partial(_block, eq, kind, tuple(n for n, _ in named), check)
+    out = pointwise(func, named, name="sound_speed",
+                    attrs=output_attrs("sound_speed", eq.name, eq.reference))
+    return out[()] if isinstance(out, np.ndarray) and out.ndim == 0 else out
 
 
 def validity_mask(temperature, salinity, pressure=None, *, depth=None, latitude=None,
@@ -247,15 +244,13 @@ def validity_mask(temperature, salinity, pressure=None, *, depth=None, latitude=
     kind, vertical = _vertical(pressure, depth)
     if kind != eq.needs:
         _require_latitude(latitude, f"convert {kind} to {eq.needs} for equation {eq.name!r}")
-    named = {"temperature": temperature, "salinity": salinity, kind: vertical}
+    named = [("temperature", temperature), ("salinity", salinity), (kind, vertical)]
     if latitude is not None:
-        named["latitude"] = latitude
-    if not any(_is_xarray(v) or is_lazy(v) for v in named.values()):
-        named = {name: as_float_array(name, v) for name, v in named.items()}
-        _broadcast_shape(named)
-    v = _convert(named[kind], kind, eq.needs, named.get("latitude"))
-    return _k.in_box(named["temperature"], named["salinity"], v,
-                     (*eq.temperature_range, *eq.salinity_range, *eq.vertical_range))
+        named.append(("latitude", latitude))
+    func = functools.partial(_mask_block, eq, kind, tuple(n for n, _ in named))
+    attrs = output_attrs({"long_name": f"inside the validity box of equation {eq.name}",
+                          "units": "1"}, eq.name, eq.reference)
+    return pointwise(func, named, name="valid", attrs=attrs, dtype=np.bool_)
 
 
 # --- helpers -------------------------------------------------------------------------------
@@ -284,34 +279,18 @@ def _vertical(pressure, depth):
 def _require_latitude(latitude, why):
     if latitude is None:
         raise SeaprofileError(f"latitude (degrees north) is required to {why}")
-    if _is_xarray(latitude) or is_lazy(latitude):
-        return
-    lo, hi = _value_range(as_float_array("latitude", latitude))
-    if lo < -90.0 or hi > 90.0:
-        raise SeaprofileError(
-            f"latitude must lie within -90..90 degrees north, got {lo:g}..{hi:g}"
-        )
 
 
-def _check_latitude_needed(eq, kind, latitude):
+def _check_latitude_needed(eq, kind, latitude, longitude):
+    """Presence rules; the values are checked by the dispatcher (``check_position``)."""
     if kind != eq.needs:
         _require_latitude(latitude, f"convert {kind} to {eq.needs} for equation {eq.name!r}")
     elif eq.needs_latitude:
         _require_latitude(latitude, f"evaluate equation {eq.name!r}")
-    elif latitude is not None:
-        _require_latitude(latitude, "")
-
-
-def _is_xarray(x):
-    return type(x).__module__.split(".")[0] == "xarray"
-
-
-def _broadcast_shape(arrays):
-    try:
-        return np.broadcast_shapes(*(np.shape(a) for a in arrays.values()))
-    except ValueError:
-        shapes = ", ".join(f"{n} {np.shape(a)}" for n, a in arrays.items())
-        raise SeaprofileError(f"input shapes do not broadcast together: {shapes}") from None
+    if longitude is not None and latitude is None:
+        raise SeaprofileError(
+            "longitude is given without latitude; give both (degrees north / east) or "
+            "neither")
 
 
 def _convert(v, kind, needs, latitude):
@@ -320,9 +299,6 @@ def _convert(v, kind, needs, latitude):
         return v
     from .depth import depth_from_pressure, pressure_from_depth
 
-    if not (_is_xarray(latitude) or is_lazy(latitude)) and np.isnan(latitude).all():
-        # unknown position: no conversion possible, NaN out (NaN in gives NaN out)
-        return np.full(np.broadcast_shapes(np.shape(v), np.shape(latitude)), np.nan)
     convert = depth_from_pressure if needs == "depth" else pressure_from_depth
     return convert(v, latitude, method="unesco1983")
 
@@ -333,7 +309,7 @@ def _value_range(a):
     if a.size == 1:
         x = float(a.reshape(-1)[0])
         return (np.inf, -np.inf) if np.isnan(x) else (x, x)
-    return _k._value_range(np.ravel(a, order="K"))
+    return value_range(np.ravel(a, order="K"), False)[:2]
 
 
 def _check_box(eq, kind, t, s, v, stacklevel):
@@ -365,49 +341,27 @@ def _evaluate(eq, kind, arrays, *, check, stacklevel=5):
     elif eq.uses_position and lat is not None and arrays.get("longitude") is not None:
         extra = {"latitude": lat,
                  "longitude": np.asarray(arrays["longitude"], dtype=np.float64)}
+    loop = _LOOPS.get(eq.function)
+    if loop is not None:  # the dispatcher has checked the inputs: straight to the loop
+        return np.asarray(run_loop(loop, (t, s, v, *extra.values())), dtype=np.float64)
     return np.asarray(eq.function(t, s, v, **extra), dtype=np.float64)
 
 
+_LOOPS = _k._loops()
+
+
 def _block(eq, kind, names, check, *blocks):
-    out = _evaluate(eq, kind, dict(zip(names, blocks)), check=check, stacklevel=6)
+    """Numpy function the dispatcher calls: sound speed shaped like the broadcast inputs."""
+    out = _evaluate(eq, kind, dict(zip(names, blocks)), check=check, stacklevel=7)
     shape = np.broadcast_shapes(*(np.shape(b) for b in blocks))
+    # e.g. a latitude array the equation itself does not use
     return out if out.shape == shape else np.broadcast_to(out, shape).copy()
 
 
-def _sound_speed_dask(eq, kind, named):
-    import dask.array as da
-
-    arrs = {}
-    for name, v in named.items():
-        arrs[name] = v if is_lazy(v) else da.asarray(as_float_array(name, v))
-    if not any(np.isnan(s) for a in arrs.values() for s in a.shape):
-        _broadcast_shape(arrs)
-    blocks = da.broadcast_arrays(*arrs.values())
-    func = functools.partial(_block, eq, kind, tuple(arrs), False)
-    return da.map_blocks(func, *blocks, dtype=np.float64, meta=np.empty((0,), np.float64))
-
-
-def _sound_speed_xarray(eq, kind, named):
-    import xarray as xr
-
-    for name, v in named.items():
-        if not (_is_xarray(v) or np.ndim(v) == 0):
-            raise SeaprofileError(
-                f"{name} must be an xarray.DataArray or a scalar when other inputs are "
-                "DataArrays (its dimensions would be ambiguous)"
-            )
-    lazy = any(is_lazy(v) for v in named.values())
-    func = functools.partial(_block, eq, kind, tuple(named), not lazy)
-    try:
-        out = xr.apply_ufunc(func, *named.values(), dask="parallelized",
-                             output_dtypes=[np.float64], join="exact")
-    except SeaprofileError:
-        raise
-    except ValueError as exc:
-        raise SeaprofileError(
-            f"inputs {', '.join(named)} do not align or broadcast: {exc}"
-        ) from None
-    out.attrs = _cf.attrs_for("sound_speed", equation=eq.name,
-                              seaprofile_version=__version__)
-    out.name = "sound_speed"
-    return out
+def _mask_block(eq, kind, names, *blocks):
+    arrays = dict(zip(names, blocks))
+    v = _convert(arrays[kind], kind, eq.needs, arrays.get("latitude"))
+    mask = _box.in_box(arrays["temperature"], arrays["salinity"], v,
+                     (*eq.temperature_range, *eq.salinity_range, *eq.vertical_range))
+    shape = np.broadcast_shapes(*(np.shape(b) for b in blocks))
+    return mask if np.shape(mask) == shape else np.broadcast_to(mask, shape).copy()

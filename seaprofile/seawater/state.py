@@ -5,20 +5,21 @@ argument order ``(temperature, salinity, pressure, latitude, longitude)`` -- in-
 temperature ITS-90 degC, practical salinity, sea pressure dbar, degrees north / east -- and
 accept numpy, dask or xarray inputs (xarray results carry CF attributes).
 
-An unknown position (``None``, or all NaN as in a Cast without a fix) means: use Reference
-Salinity (``gsw.SR_from_SP``) in place of Absolute Salinity, which differs from it by at
-most about 0.03 g/kg in the open ocean (a density change of about 0.02 kg/m^3).
+No position (``latitude=None, longitude=None``) means: use Reference Salinity
+(``gsw.SR_from_SP``) in place of Absolute Salinity, which differs from it by at most about
+0.03 g/kg in the open ocean (a density change of about 0.02 kg/m^3). A position that is
+given must be known: NaN, infinite or out-of-range coordinates raise
+:class:`SeaprofileError` (a Cast without a fix passes ``None``), as everywhere in
+seaprofile. Inputs go through the one dispatcher of :mod:`._apply`.
 """
 
 from __future__ import annotations
 
 import gsw
 import numpy as np
-import xarray as xr
 
-from .. import _cf
 from .._validate import SeaprofileError, as_float_array, is_lazy
-from ._apply import apply_pointwise
+from ._apply import columnwise, output_attrs, pointwise
 
 __all__ = [
     "salinity_from_conductivity",
@@ -52,31 +53,18 @@ _ATTRS = {
 }
 
 
-def _known(name, value):
-    """None for a missing or all-NaN (unknown) position component, else the value."""
-    if value is None or is_lazy(value):
-        return value
-    arr = as_float_array(name, getattr(value, "values", value))
-    if arr.size and np.isnan(arr).all():
-        return None
-    limit = 90.0 if name == "latitude" else 360.0
-    with np.errstate(invalid="ignore"):
-        bad = (np.abs(arr) > limit) if name == "latitude" else ((arr < -180.0) | (arr > limit))
-    if bad.any():
-        valid = "-90..90" if name == "latitude" else "-180..360"
-        raise SeaprofileError(f"{name} must lie within {valid} degrees")
-    return value
+_REFERENCE = "IOC, SCOR & IAPSO (2010), TEOS-10 manual; gsw (McDougall & Barker 2011)"
 
 
 def _position(latitude, longitude):
-    lat, lon = _known("latitude", latitude), _known("longitude", longitude)
-    if (lat is None) != (lon is None):
-        missing = "longitude" if lon is None else "latitude"
+    """Both or neither; the values are checked by the dispatcher (``check_position``)."""
+    if (latitude is None) != (longitude is None):
+        missing = "longitude" if longitude is None else "latitude"
         raise SeaprofileError(
             f"{missing} is required when the other coordinate is given "
             "(or give neither to use reference salinity)"
         )
-    return lat, lon
+    return latitude, longitude
 
 
 # --- numpy layer (plain float arrays) -------------------------------------------------
@@ -99,12 +87,12 @@ def _sigma0(t, sp, p, lat=None, lon=None):
 
 
 def _call(func, named, lat, lon, attrs, out_name):
-    """Point-wise call with the position appended only when it is known."""
+    """Point-wise call with the position appended only when it is given."""
     args = list(named)
     if lat is not None:
         args += [("latitude", lat), ("longitude", lon)]
-    out = apply_pointwise(lambda *a: np.asarray(func(*a), dtype=np.float64), args, attrs, out_name)
-    return out
+    return pointwise(lambda *a: np.asarray(func(*a), dtype=np.float64), args,
+                     name=out_name, attrs=attrs)
 
 
 # --- public functions -----------------------------------------------------------------
@@ -139,7 +127,7 @@ def salinity_from_conductivity(conductivity, temperature, pressure):
         [("conductivity", conductivity), ("temperature", temperature), ("pressure", pressure)],
         None,
         None,
-        _cf.attrs_for("salinity"),
+        output_attrs("salinity", "gsw.SP_from_C (PSS-78)", _REFERENCE),
         "salinity",
     )
 
@@ -154,7 +142,8 @@ def absolute_salinity(salinity, pressure, latitude=None, longitude=None):
     pressure : array_like, dask array or xarray.DataArray
         Sea pressure, dbar.
     latitude, longitude : float, array_like or xarray.DataArray, optional
-        Degrees north / east. Both or neither; None or all-NaN means unknown.
+        Degrees north / east, finite (-90..90 / -180..360). Both or neither; neither
+        means reference salinity.
 
     Returns
     -------
@@ -173,7 +162,8 @@ def absolute_salinity(salinity, pressure, latitude=None, longitude=None):
         [("salinity", salinity), ("pressure", pressure)],
         lat,
         lon,
-        dict(_ATTRS[name]),
+        output_attrs(_ATTRS[name], f"gsw.{'SA' if lat is not None else 'SR'}_from_SP",
+                     _REFERENCE),
         name,
     )
 
@@ -208,7 +198,7 @@ def density(temperature, salinity, pressure, latitude=None, longitude=None):
         [("temperature", temperature), ("salinity", salinity), ("pressure", pressure)],
         lat,
         lon,
-        _cf.attrs_for("density"),
+        output_attrs("density", "gsw.rho (TEOS-10)", _REFERENCE),
         "density",
     )
 
@@ -243,7 +233,7 @@ def potential_density_anomaly(temperature, salinity, pressure, latitude=None, lo
         [("temperature", temperature), ("salinity", salinity), ("pressure", pressure)],
         lat,
         lon,
-        dict(_ATTRS["potential_density_anomaly"]),
+        output_attrs(_ATTRS["potential_density_anomaly"], "gsw.sigma0 (TEOS-10)", _REFERENCE),
         "potential_density_anomaly",
     )
 
@@ -286,47 +276,57 @@ def buoyancy_frequency_squared(
     Negative values mark static instability.
     """
     lat, lon = _position(latitude, longitude)
+    columns = [("temperature", temperature), ("salinity", salinity), ("pressure", pressure)]
+    params = [] if lat is None else [("latitude", lat), ("longitude", lon)]
+    plain = not any(_is_xarray(v) for _, v in columns)
+    if plain:
+        columns = [(n, _last(n, v, axis)) for n, v in columns]
+    elif dim is None:
+        ref = pressure if _is_xarray(pressure) else temperature
+        if not _is_xarray(ref) or ref.ndim != 1:
+            raise SeaprofileError("dim is required for xarray inputs with several dims")
+        dim = ref.dims[0]
+    dim = dim or "depth"
+    n = next((np.shape(v)[-1] if plain else v.sizes[dim]) for _, v in columns
+             if plain or _is_xarray(v))
+    mid = f"{dim}_mid"
+    pm_attrs = output_attrs("pressure", "gsw.Nsquared (TEOS-10)", _REFERENCE,
+                            long_name="sea pressure at the mid-point between adjacent samples")
+    outs = [("buoyancy_frequency_squared",
+             output_attrs(_ATTRS["buoyancy_frequency_squared"], "gsw.Nsquared (TEOS-10)",
+                          _REFERENCE)), ("pressure_mid", pm_attrs)]
+    n2, pm = columnwise(_n2, columns, dim=dim, params=params, outputs=outs,
+                        new_dim=(mid, max(n - 1, 0)))
+    if plain:
+        return _moveaxis(n2, -1, axis), _moveaxis(pm, -1, axis)
+    return n2.assign_coords(pressure_mid=pm)
 
-    def _n2(t, sp, p, *pos):
-        sa = _sa(sp, p, *(pos or (None, None)))
-        ct = gsw.CT_from_t(sa, t, p)
-        n2, pm = gsw.Nsquared(sa, ct, p, lat=pos[0] if pos else None, axis=-1)
-        return np.asarray(n2, dtype=np.float64), np.asarray(pm, dtype=np.float64)
 
-    arrays = [temperature, salinity, pressure]
-    if any(isinstance(a, xr.DataArray) for a in arrays):
-        if dim is None:
-            ref = pressure if isinstance(pressure, xr.DataArray) else temperature
-            if ref.ndim != 1:
-                raise SeaprofileError("dim is required for xarray inputs with several dims")
-            dim = ref.dims[0]
-        mid = f"{dim}_mid"
-        pos = [] if lat is None else [lat, lon]
-        n = next(a.sizes[dim] for a in arrays if isinstance(a, xr.DataArray))
-        n2, pm = xr.apply_ufunc(
-            _n2,
-            *arrays,
-            *pos,
-            input_core_dims=[[dim]] * 3 + [[]] * len(pos),
-            output_core_dims=[[mid], [mid]],
-            exclude_dims={dim},
-            dask="parallelized",
-            output_dtypes=[np.float64, np.float64],
-            dask_gufunc_kwargs={"output_sizes": {mid: max(n - 1, 0)}},
-        )
-        n2.attrs = dict(_ATTRS["buoyancy_frequency_squared"])
-        n2.name = "buoyancy_frequency_squared"
-        pm.attrs = _cf.attrs_for(
-            "pressure", long_name="sea pressure at the mid-point between adjacent samples"
-        )
-        return n2.assign_coords(pressure_mid=pm)
+def _n2(t, sp, p, *pos):
+    """N^2 and mid-point pressures along the last axis (numpy)."""
+    t, sp, p = np.broadcast_arrays(t, sp, p)
+    # a per-profile position applies to every sample of its profile
+    pos = tuple(x[..., None] if np.ndim(x) else x for x in pos)
+    sa = _sa(sp, p, *(pos or (None, None)))
+    ct = gsw.CT_from_t(sa, t, p)
+    n2, pm = gsw.Nsquared(sa, ct, p, lat=pos[0] if pos else None, axis=-1)
+    return np.asarray(n2, dtype=np.float64), np.asarray(pm, dtype=np.float64)
 
-    t, sp, p = np.broadcast_arrays(
-        as_float_array("temperature", temperature),
-        as_float_array("salinity", salinity),
-        as_float_array("pressure", pressure),
-    )
-    t, sp, p = (np.moveaxis(a, axis, -1) for a in (t, sp, p))
-    pos = [] if lat is None else [as_float_array("latitude", lat), as_float_array("longitude", lon)]
-    n2, pm = _n2(t, sp, p, *pos)
-    return np.moveaxis(n2, -1, axis), np.moveaxis(pm, -1, axis)
+
+def _moveaxis(a, source, destination):
+    if is_lazy(a):
+        import dask.array as da
+
+        return da.moveaxis(a, source, destination)
+    return np.moveaxis(a, source, destination)
+
+
+def _last(name, v, axis):
+    """A plain input with its vertical ``axis`` moved last (validated when not lazy)."""
+    if not is_lazy(v):
+        v = as_float_array(name, v)
+    return _moveaxis(v, axis, -1) if np.ndim(v) else v
+
+
+def _is_xarray(x):
+    return type(x).__module__.split(".")[0] == "xarray"

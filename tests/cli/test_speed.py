@@ -56,6 +56,25 @@ def test_depth_with_km_suffix(capsys):
         (["--temperature", "10", "--salinity", "35", "--depth", "abc"], "--depth"),
         (["--temperature", "10", "--salinity", "35", "--depth", "10", "--latitude", "123"], "--latitude"),
         (["--temperature", "10", "--salinity", "35", "--pressure", "100", "--equation", "mackenzie1981"], "latitude"),
+        # an infinite longitude used to crash inside the TEOS-10 library
+        (["--temperature", "10", "--salinity", "35", "--pressure", "100", "--latitude", "10",
+          "--longitude", "inf"], "--longitude must be finite"),
+        (["--temperature", "10", "--salinity", "35", "--pressure", "100", "--latitude", "10",
+          "--longitude=-inf", "--equation", "teos10"], "--longitude must be finite"),
+        (["--temperature", "10", "--salinity", "35", "--pressure", "100", "--latitude", "10",
+          "--longitude", "400"], "--longitude must lie within -180..360"),
+        (["--temperature", "10", "--salinity", "35", "--pressure", "100", "--longitude", "10"],
+         "--longitude needs --latitude"),
+        # NaN inputs used to print NaN marked valid
+        (["--temperature", "nan", "--salinity", "35", "--depth", "10"], "--temperature"),
+        (["--temperature", "10", "--salinity", "nan", "--depth", "10"], "--salinity"),
+        (["--temperature", "10", "--salinity", "35", "--pressure", "nan"], "--pressure"),
+        (["--temperature", "10", "--salinity", "35", "--pressure", "inf"], "--pressure"),
+        (["--temperature", "10", "--salinity", "35", "--depth", "nan"], "--depth"),
+        (["--temperature", "10", "--salinity", "35", "--depth", "10", "--latitude", "nan"],
+         "--latitude is NaN"),
+        (["--temperature", "10", "--salinity", "35", "--depth", "10", "--latitude", "10",
+          "--longitude", "nan", "--json"], "--longitude is NaN"),
     ],
 )
 def test_errors_one_line_exit_2(capsys, argv, fragment):

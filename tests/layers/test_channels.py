@@ -15,7 +15,7 @@ Z_MUNK = np.arange(0.0, 5001.0, 1.0)
 
 def test_munk_channel_axis():
     # Munk (1974), JASA 55, 220: the axis of the canonical profile is at z1 = 1300 m.
-    ch = layers.sound_channels(Z_MUNK, munk(Z_MUNK))
+    ch = layers.sound_channels(munk(Z_MUNK), Z_MUNK)
     assert ch["axis_depth"] == 1300.0
     assert ch["axis_speed"] == pytest.approx(1500.0, abs=1e-9)
     assert np.isnan(ch["secondary_depth"])
@@ -28,11 +28,11 @@ def test_munk_critical_depth_and_depth_excess():
     # interpolation error is far below the 0.01 m tolerance.
     c = munk(Z_MUNK)
     expected = brentq(lambda z: munk(z) - munk(0.0), 1300.0, 5000.0, xtol=1e-10)
-    got = layers.critical_depth(Z_MUNK, c, c[0], 1300.0)
+    got = layers.critical_depth(c, Z_MUNK, c[0], 1300.0)
     assert got == pytest.approx(expected, abs=0.01)
     assert layers.depth_excess(5000.0, got) == pytest.approx(5000.0 - expected, abs=0.01)
     assert layers.depth_excess(4000.0, got) < 0
-    assert layers.depth_excess(5000.0, np.nan) is None
+    assert np.isnan(layers.depth_excess(5000.0, np.nan))  # was None: NaN is array-friendly
 
     d = layers.describe(make_profile(Z_MUNK, sound=c), bottom_depth=5000.0,
                         source_depth=300.0)
@@ -60,16 +60,16 @@ def test_secondary_channel_rule():
     # Our documented rule: a second local minimum rising >= 1 m/s on its lower side,
     # with a trapping region >= 10 m thick. A 4 m/s Gaussian dip at 400 m qualifies.
     c = munk(Z_MUNK) - 4.0 * np.exp(-(((Z_MUNK - 400.0) / 40.0) ** 2))
-    ch = layers.sound_channels(Z_MUNK, c)
+    ch = layers.sound_channels(c, Z_MUNK)
     assert ch["axis_depth"] == 1300.0
     assert abs(ch["secondary_depth"] - 400.0) < 20.0
     assert ch["secondary_contrast"] > 1.0 and ch["secondary_thickness"] >= 10.0
     # a 0.3 m/s wiggle does not
     c = munk(Z_MUNK) - 0.3 * np.exp(-(((Z_MUNK - 400.0) / 40.0) ** 2))
-    assert np.isnan(layers.sound_channels(Z_MUNK, c)["secondary_depth"])
+    assert np.isnan(layers.sound_channels(c, Z_MUNK)["secondary_depth"])
 
 
 def test_no_axis_when_speed_decreases_to_the_end():
     z = np.arange(0.0, 120.0, 1.0)
-    ch = layers.sound_channels(z, 1500.0 - 0.1 * z)
+    ch = layers.sound_channels(1500.0 - 0.1 * z, z)
     assert np.isnan(ch["axis_depth"]) and ch["still_decreasing"]

@@ -20,7 +20,7 @@ def test_harmonic_mean_linear_profile(c0, g, z1, dz):
     z = np.unique(np.concatenate([[0.0, 1000.0], np.linspace(0, 1000, 37) ** 1.02 / 1.15]))
     z2 = z1 + dz
     c = c0 + g * z
-    got = layers.harmonic_mean_sound_speed(z, c, z1, z2)
+    got = layers.harmonic_mean_sound_speed(c, z, z1, z2)
     if abs(g) < 1e-12:
         expected = c0
     else:
@@ -35,15 +35,15 @@ def test_harmonic_mean_against_quadrature_and_vectorised():
     z = np.arange(0.0, 5001.0, 50.0)
     c = munk(z)
     bottoms = np.array([10.0, 333.0, 1300.0, 4444.4])
-    got = layers.harmonic_mean_sound_speed(z, c, 5.0, bottoms)
+    got = layers.harmonic_mean_sound_speed(c, z, 5.0, bottoms)
     for b, value in zip(bottoms, got):
         integral, _ = quad(lambda x: 1.0 / np.interp(x, z, c), 5.0, b, points=z[z < b],
                            limit=200, epsabs=0, epsrel=1e-13)
         assert value == pytest.approx((b - 5.0) / integral, rel=1e-10)
     # equal depths give the local speed; below the profile gives NaN
-    assert layers.harmonic_mean_sound_speed(z, c, 100.0, 100.0) == pytest.approx(
+    assert layers.harmonic_mean_sound_speed(c, z, 100.0, 100.0) == pytest.approx(
         np.interp(100.0, z, c))
-    assert np.isnan(layers.harmonic_mean_sound_speed(z, c, 0.0, 6000.0))
+    assert np.isnan(layers.harmonic_mean_sound_speed(c, z, 0.0, 6000.0))
 
 
 @given(st.lists(st.floats(1450.0, 1550.0), min_size=3, max_size=30),
@@ -52,5 +52,5 @@ def test_harmonic_mean_between_extremes(speeds, a, b):
     z = np.arange(len(speeds), dtype=float) * 7.0
     c = np.array(speeds)
     top, bottom = sorted((a * z[-1], b * z[-1]))
-    hm = layers.harmonic_mean_sound_speed(z, c, top, bottom)
+    hm = layers.harmonic_mean_sound_speed(c, z, top, bottom)
     assert c.min() - 1e-9 <= hm <= c.max() + 1e-9

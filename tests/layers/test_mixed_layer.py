@@ -80,7 +80,7 @@ def test_sonic_layer_and_gradients_on_a_constructed_duct():
     c = np.where(z <= 35, 1500 + 0.016 * z, 1500 + 0.016 * 35 - 0.1 * (z - 35))
     sld, csld = layers.sonic_layer_depth(c, z)
     assert sld == 35.0 and csld == pytest.approx(1500.56)
-    g_in, g_below = layers.layer_gradients(z, c, sld)
+    g_in, g_below = layers.layer_gradients(c, z, sld)
     assert g_in == pytest.approx(0.016, abs=1e-12)
     assert g_below == pytest.approx(-0.1, abs=1e-12)
     # decreasing from the surface: layer depth is the first sample (no duct)
@@ -118,4 +118,5 @@ def test_dataarray_and_dask_layer():
     np.testing.assert_allclose(lazy.compute().values, hs + 2.0, atol=1e-9)
     c = xr.DataArray(np.where(z <= 35, 1500 + 0.016 * z, 1500.56 - 0.1 * (z - 35)),
                      dims="depth", coords={"depth": z})
-    assert float(layers.sonic_layer_depth(c)) == 35.0
+    sld, speed = layers.sonic_layer_depth(c)  # xarray: (depth, speed) as for numpy
+    assert float(sld) == 35.0 and float(speed) == pytest.approx(1500.56)

@@ -35,7 +35,7 @@ def test_describe_summer_shelf_profile():
     assert d["channel_axis_depth"] == 52.5
     assert d["critical_depth_surface"] is None
     assert d["harmonic_mean_sound_speed"] == pytest.approx(
-        layers.harmonic_mean_sound_speed(z, prof.sound_speed.values, 4.0, 119.5))
+        layers.harmonic_mean_sound_speed(prof.sound_speed.values, z, 4.0, 119.5))
     json.dumps(d)  # JSON-friendly
     assert d["caution"] == _cf.CAUTION and d["units"]["duct_cutoff_frequency"] == "Hz"
 

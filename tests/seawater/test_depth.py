@@ -210,11 +210,3 @@ def test_inputs_not_modified():
     keep = p.copy()
     depth_from_pressure(p, 45.0)
     np.testing.assert_array_equal(p, keep)
-
-
-def test_shared_helpers_still_importable_from_depth():
-    # apply_pointwise and check_latitude moved to seaprofile.seawater._apply
-    from seaprofile.seawater import _apply, depth
-
-    assert depth.apply_pointwise is _apply.apply_pointwise
-    assert depth.check_latitude is _apply.check_latitude

@@ -273,12 +273,11 @@ def test_nan_propagates(equation):
     c = sound_speed(t, s, p, latitude=45.0, equation=equation)
     assert np.isnan(c[:3]).all() and np.isfinite(c[3])
     np.testing.assert_array_equal(t, before)  # inputs never modified
-    c = sound_speed(10.0, 35.0, depth=[100.0, 200.0], latitude=[np.nan, 45.0],
+    # a NaN latitude is an unknown position, refused by every equation (one rule), even
+    # where the equation would not use it; it never becomes NaN results or a fallback
+    with pytest.raises(SeaprofileError, match="latitude is NaN at 1 of 2 points"):
+        sound_speed(10.0, 35.0, depth=[100.0, 200.0], latitude=[np.nan, 45.0],
                     equation=equation)
-    if EQUATIONS[equation].needs == "pressure" or EQUATIONS[equation].needs_latitude:
-        assert np.isnan(c[0]) and np.isfinite(c[1])  # latitude was used
-    else:
-        assert np.isfinite(c).all()  # latitude not used by this depth-based equation
 
 
 def test_broadcasting_and_bad_shapes():

@@ -44,8 +44,10 @@ def test_absolute_salinity_with_and_without_position():
         absolute_salinity(S, P, LAT, LON), gsw.SA_from_SP(S, P, LON, LAT)
     )
     np.testing.assert_array_equal(absolute_salinity(S, P), gsw.SR_from_SP(S))
-    # an unknown position (NaN, as in a Cast without a fix) means reference salinity
-    np.testing.assert_array_equal(absolute_salinity(S, P, np.nan, np.nan), gsw.SR_from_SP(S))
+    # a NaN position is unknown and refused (one rule for every function); a Cast without
+    # a fix passes None, which means reference salinity
+    with pytest.raises(SeaprofileError, match="latitude is NaN"):
+        absolute_salinity(S, P, np.nan, np.nan)
 
 
 def test_density_and_sigma0_are_gsw():
