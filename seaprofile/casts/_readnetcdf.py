@@ -14,9 +14,14 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
-from .columns import KIND, parse_unit, recognise_column
+from .columns import KIND, checked_time, parse_unit, recognise_column
 from .model import INSTRUMENTS
-from ._readcast import _flag_values, _Raw
+from .write import NETCDF_LOCK
+from ._readcast import _flag_values, _raw_profile, _Raw
+
+#: what an unexpected file layout raises deep inside the split (turned into one
+#: InputFileError naming the file: a batch never stops on a traceback)
+_LAYOUT_ERRORS = (KeyError, IndexError, ValueError, TypeError, AttributeError, OverflowError)
 
 #: CF standard names -> Cast variables (netCDF files)
 STANDARD_NAMES = {
@@ -32,27 +37,59 @@ STANDARD_NAMES = {
 
 
 def _open_netcdf(path):
+    """The whole file, loaded, under the process-wide netCDF lock (HDF5 is not thread-safe)."""
     try:
-        with xr.open_dataset(path, decode_timedelta=False) as f:
+        with NETCDF_LOCK, xr.open_dataset(path, decode_timedelta=False) as f:
             return f.load()
     except Exception as exc:  # netCDF4/HDF5 raise many kinds
         raise InputFileError(path, f"cannot read as netCDF: {exc}") from None
 
 
-def _netcdf_split(ds, path):
-    """Split a netCDF profile file into per-profile ``(samples, instance values)`` dicts."""
+def _layout_guard(read):
+    """Run ``read(path, ...)``; an unexpected layout error becomes one InputFileError."""
+    def guarded(path, *args):
+        try:
+            return read(path, *args)
+        except SeaprofileError:
+            raise
+        except _LAYOUT_ERRORS as exc:
+            raise InputFileError(path, f"unexpected netCDF layout ({type(exc).__name__}: "
+                                 f"{exc})") from None
+    guarded.__doc__ = read.__doc__
+    return guarded
+
+
+def _netcdf_split(ds, path, data_names=()):
+    """Split a netCDF profile file into per-profile ``(samples, instance values)`` dicts.
+
+    ``data_names`` are variables taken as data besides those with a recognised
+    ``standard_name`` (names mapped with ``columns=`` or recognised by name and units).
+    """
     role = [v for v in ds.variables if ds[v].attrs.get("cf_role") == "profile_id"]
     count = [v for v in ds.variables if "sample_dimension" in ds[v].attrs]
     index = [v for v in ds.variables if "instance_dimension" in ds[v].attrs]
     if count:
+        if ds[count[0]].ndim != 1:
+            raise InputFileError(path, f"{count[0]!r} must have one dimension (profiles), "
+                                 f"has {ds[count[0]].dims}", column=count[0])
         inst, obs = ds[count[0]].dims[0], ds[count[0]].attrs["sample_dimension"]
-        ends = np.cumsum(np.asarray(ds[count[0]].values, dtype=np.int64))
+        sizes = np.asarray(ds[count[0]].values, dtype=np.float64)
+        if not sizes.size:
+            raise InputFileError(path, f"holds no profiles (dimension {inst!r} is empty)",
+                                 column=count[0])
+        if not np.all(np.isfinite(sizes) & (sizes >= 0) & (sizes == np.round(sizes))):
+            raise InputFileError(path, f"row sizes in {count[0]!r} must be whole numbers "
+                                 "0 or more", column=count[0])
+        ends = np.cumsum(sizes.astype(np.int64))
         if obs not in ds.dims or ends[-1] != ds.sizes[obs]:
             raise InputFileError(path, f"row sizes in {count[0]!r} add up to {ends[-1]}, but "
                                  f"dimension {obs!r} has {ds.sizes.get(obs)} samples",
                                  column=count[0])
         select = [slice(int(e - n), int(e)) for e, n in zip(ends, ds[count[0]].values)]
     elif index:
+        if ds[index[0]].ndim != 1:
+            raise InputFileError(path, f"{index[0]!r} must have one dimension (samples), "
+                                 f"has {ds[index[0]].dims}", column=index[0])
         inst, obs = ds[index[0]].attrs["instance_dimension"], ds[index[0]].dims[0]
         idx = np.asarray(ds[index[0]].values)
         if inst not in ds.dims:
@@ -67,13 +104,23 @@ def _netcdf_split(ds, path):
             obs = [d for d in ds[two_d[0]].dims if d != inst][0]
             select = [i for i in range(ds.sizes[inst])]
         else:
+            for name in data_names:
+                if ds[name].ndim != 1:
+                    raise InputFileError(path, f"{name!r} has dimensions {ds[name].dims}; "
+                                         "expected one dimension of samples (or a CF "
+                                         "discrete-sampling-geometry profile collection)",
+                                         column=name)
             data = [v for v in ds.variables if ds[v].ndim == 1 and ds[v].dims[0] != inst
-                    and ds[v].attrs.get("standard_name") in STANDARD_NAMES]
+                    and (ds[v].attrs.get("standard_name") in STANDARD_NAMES
+                         or v in data_names)]
             if not data:
                 raise InputFileError(path, "no variable with a recognised standard_name ("
-                                     + ", ".join(STANDARD_NAMES) + ")")
+                                     + ", ".join(STANDARD_NAMES) + "); map variables with "
+                                     "columns=, e.g. temperature=TEMP,pressure=PRES")
             obs = ds[data[0]].dims[0]
             inst, select = None, [slice(None)]
+    if inst is not None and not select:
+        raise InputFileError(path, f"holds no profiles (dimension {inst!r} is empty)")
     samples, instances = [], []
     for i, sel in enumerate(select):
         s, inst_vals = {}, {}
@@ -99,7 +146,7 @@ def _netcdf_split(ds, path):
     return samples, instances, role[0] if role else None
 
 
-def _instance_meta(ds, inst_vals, samples, role):
+def _instance_meta(ds, inst_vals, samples, role, path):
     meta = {}
     for name, value in list(inst_vals.items()) + list(samples.items()):
         sn = ds[name].attrs.get("standard_name")
@@ -107,12 +154,17 @@ def _instance_meta(ds, inst_vals, samples, role):
         if sn in ("latitude", "longitude", "time") and sn not in meta and v.size:
             if sn == "time":
                 try:
-                    t = np.asarray(v[0]).astype("datetime64[ns]") if v[0] is not None else None
-                except (TypeError, ValueError):
+                    t = checked_time(v[0]) if v[0] is not None else None
+                except SeaprofileError as exc:
+                    raise InputFileError(path, str(exc), column=name) from None
+                except (TypeError, ValueError):  # undecoded numbers: no usable time
                     t = None
                 meta["time"] = None if t is None or np.isnat(t) else t
             else:
-                meta[sn] = float(v[0])
+                try:
+                    meta[sn] = float(v[0])
+                except (TypeError, ValueError):
+                    raise InputFileError(path, f"{sn} is not a number", column=name) from None
     if role is not None:
         meta["cast_name"] = _text(inst_vals.get(role, ""))
     return meta
@@ -123,16 +175,30 @@ def _text(value):
     return v.decode("utf-8").rstrip("\x00") if isinstance(v, bytes) else str(v)
 
 
-def _own_attrs(inst_vals):
+def _own_attrs(inst_vals, path):
     text = inst_vals.get("profile_attributes")
     if text is None:
         return None
-    return json.loads(_text(text))
+    try:
+        own = json.loads(_text(text))
+    except (ValueError, RecursionError):
+        own = None
+    if not (isinstance(own, dict) and isinstance(own.get("attributes"), dict)
+            and isinstance(own.get("variables"), list)):
+        raise InputFileError(path, "profile_attributes is not the JSON seaprofile writes",
+                             column="profile_attributes")
+    return own
 
 
+@_layout_guard
 def _netcdf_raw_casts(path, columns, units):
+    """Casts found in a netCDF file (``columns``/``units`` map variable names, as for text)."""
+    positional = [f"{p}={v}" for v, p in columns.items() if isinstance(p, int)]
+    if positional:
+        raise InputFileError(path, f"columns: {', '.join(positional)} maps by position, which "
+                             "applies to text files; name the netCDF variables, e.g. "
+                             "temperature=TEMP", column=positional[0])
     ds = _open_netcdf(path)
-    samples, instances, role = _netcdf_split(ds, path)
     chosen = {}
     for name, var in ds.variables.items():
         if name in columns.values() or "flag_values" in var.attrs or "flag_meanings" in var.attrs:
@@ -156,15 +222,19 @@ def _netcdf_raw_casts(path, columns, units):
         if name not in ds.variables:
             raise InputFileError(path, f"columns: no variable {name!r} for {var}", column=name)
         chosen[var] = name
+    samples, instances, role = _netcdf_split(ds, path, tuple(chosen.values()))
     raws = []
     for s, inst_vals in zip(samples, instances):
-        own = _own_attrs(inst_vals)
+        own = _own_attrs(inst_vals, path)
         if own is not None and own.get("dimension") != "sample":
             raise InputFileError(path, "holds profiles, not casts; use read_profiles")
         raw = _Raw({}, file_format="netcdf")
         meta = {k: v for k, v in ds.attrs.items() if k not in ("featureType",)}
         meta.update(own["attributes"] if own else {})
         for var, name in chosen.items():
+            if name not in s and var in columns:
+                raise InputFileError(path, f"columns: {var}={name!r} has dimensions "
+                                     f"{ds[name].dims}, not those of the samples", column=name)
             if name not in s or (own is not None and var not in own["variables"]):
                 continue
             values = np.asarray(s[name], dtype=np.float64)
@@ -184,7 +254,7 @@ def _netcdf_raw_casts(path, columns, units):
                     raw.flags[var] = _flag_values(np.asarray(s[anc], np.float64), path, None, anc)
                     break
         raw.meta = {k: v for k, v in meta.items() if k not in ("latitude", "longitude")}
-        raw.meta.update(_instance_meta(ds, inst_vals, s, role))
+        raw.meta.update(_instance_meta(ds, inst_vals, s, role, path))
         inst = str(raw.meta.get("instrument", "")).lower()
         if "instrument" in raw.meta and inst not in INSTRUMENTS:
             raw.meta["instrument_description"] = raw.meta.pop("instrument")
@@ -192,17 +262,29 @@ def _netcdf_raw_casts(path, columns, units):
     return raws
 
 
-def _netcdf_own_datasets(path):
-    """Datasets written by ``write_netcdf``, rebuilt variable by variable."""
+@_layout_guard
+def _netcdf_own_datasets(path, columns=None, units=None):
+    """Datasets written by ``write_netcdf``, rebuilt variable by variable.
+
+    A file not written by seaprofile (no ``profile_attributes``) is read as a table of
+    depth and sound speed (:func:`._readcast._raw_profile`), its variables recognised or
+    mapped by ``columns``/``units``.
+    """
     ds = _open_netcdf(path)
+    if "profile_attributes" not in ds.variables or columns:
+        return [_raw_profile(raw, path) for raw in _netcdf_raw_casts(path, columns or {},
+                                                                      units or {})]
     samples, instances, role = _netcdf_split(ds, path)
     out = []
     for s, inst_vals in zip(samples, instances):
-        own = _own_attrs(inst_vals)
+        own = _own_attrs(inst_vals, path)
         if own is None:
             raise InputFileError(path, "not written by seaprofile (no profile_attributes)")
         dim = own["dimension"]
-        meta = _instance_meta(ds, inst_vals, s, role)
+        if dim not in ("sample", "depth") or role is None:
+            raise InputFileError(path, "profile_attributes is not the JSON seaprofile writes",
+                                 column="profile_attributes")
+        meta = _instance_meta(ds, inst_vals, s, role, path)
         t = meta.get("time")
         coords = {
             "latitude": ((), meta.get("latitude", np.nan), _cf.attrs_for("latitude")),

@@ -15,6 +15,8 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+import numpy as np
+
 from .._validate import SeaprofileError
 
 __all__ = [
@@ -35,6 +37,9 @@ __all__ = [
     "MISSING_TOKENS",
     "parse_position",
     "parse_time",
+    "checked_time",
+    "TIME_RANGE",
+    "ALIASES",
 ]
 
 # --- names: pattern (full match on the normalised name) -> candidate variables ----------
@@ -46,7 +51,7 @@ NAMES = (
     (r"depth|dep|z|depth_below_surface", ("depth",)),
     (r"salinity|sal|psal|s|practical_salinity|sea_water_(practical_)?salinity", ("salinity",)),
     (r"conductivity|cond|sea_water_(electrical_)?conductivity", ("conductivity",)),
-    (r"sound_speed|soundspeed|sound_velocity|speed_of_sound(_in_sea_water)?|sv|c"
+    (r"sound_speed|soundspeed|sound_velocity|speed_of_sound(_in_sea_water)?|sv|svel|c"
      r"|measured_sound_speed", ("measured_sound_speed", "conductivity")),
     (r"elapsed_time|time_elapsed|elapsed|time|time_since_(launch|entry)", ("elapsed_time",)),
 )
@@ -300,42 +305,85 @@ def recognise_column(header, *, unit_override=None):
     return ColumnGuess(str(header), variable, unit, is_flag)
 
 
-def _parse_pairs(text, what):
+#: other names accepted for a variable in ``columns=`` and ``units=`` mappings
+ALIASES = {"sound_speed": "measured_sound_speed"}
+
+
+def _variable(key, what):
+    key = ALIASES.get(key, key)
+    if key not in KIND:
+        raise SeaprofileError(
+            f"{what}: unknown variable {key!r}; expected one of "
+            f"{', '.join([*KIND, *ALIASES])}"
+        )
+    return key
+
+
+def _position(text):
+    """A 1-based column position written as ``3`` (or ``#3``), else None."""
+    t = str(text).strip().lstrip("#")
+    return int(t) if t.isdigit() else None
+
+
+def _parse_pairs(text, what, positions=False):
+    """``VARIABLE=VALUE`` pairs (or a dict) -> ``{variable: value}``.
+
+    With ``positions``, a pair whose key is a 1-based column position (``2=depth``, or a
+    dict ``{2: "depth"}``) maps that column to the variable: the result holds the int.
+    """
     if isinstance(text, dict):
-        return dict(text)
+        items = [(str(k), v) for k, v in text.items()]
+    elif isinstance(text, str):
+        items = []
+        for item in text.split(","):
+            item = item.strip()
+            if not item:
+                continue
+            if "=" not in item:
+                raise SeaprofileError(
+                    f"{what}: expected VARIABLE=VALUE pairs separated by commas "
+                    f"(e.g. temperature=T_deg,pressure=P"
+                    + (", or 1=depth,2=sound_speed by position" if positions else "")
+                    + f"), got {item!r}"
+                )
+            items.append(tuple(s.strip() for s in item.split("=", 1)))
+    else:
+        raise SeaprofileError(f"{what}: expected a str or dict, got {type(text).__name__}")
     out = {}
-    for item in str(text).split(","):
-        item = item.strip()
-        if not item:
-            continue
-        if "=" not in item:
-            raise SeaprofileError(
-                f"{what}: expected VARIABLE=VALUE pairs separated by commas "
-                f"(e.g. temperature=T_deg,pressure=P), got {item!r}"
-            )
-        key, value = (s.strip() for s in item.split("=", 1))
-        if not key or not value:
-            raise SeaprofileError(f"{what}: empty variable or value in {item!r}")
-        if key not in KIND:
-            raise SeaprofileError(
-                f"{what}: unknown variable {key!r}; expected one of {', '.join(KIND)}"
-            )
+    for key, value in items:
+        if not key or value is None or not str(value).strip():
+            raise SeaprofileError(f"{what}: empty variable or value in {key}={value!r}")
+        where = _position(key) if positions else None
+        if where is not None:  # position=variable
+            if where < 1:
+                raise SeaprofileError(f"{what}: column positions start at 1, got {key!r}")
+            key, value = str(value).strip(), where
+        elif not isinstance(value, (str, int)) or isinstance(value, bool):
+            raise SeaprofileError(f"{what}: value for {key!r} must be text, got {value!r}")
+        key = _variable(key, what)
         if key in out:
             raise SeaprofileError(f"{what}: {key!r} given twice")
-        out[key] = value
+        out[key] = value if isinstance(value, int) else str(value).strip()
     if not out:
         raise SeaprofileError(f"{what}: no VARIABLE=VALUE pairs in {text!r}")
     return out
 
 
 def parse_column_mapping(text):
-    """Parse ``"temperature=T_deg,pressure=P"`` into ``{"temperature": "T_deg", ...}``.
+    """Parse a column mapping into ``{variable: header cell or 1-based position}``.
 
-    Keys are seaprofile variable names (``temperature``, ``pressure``, ``depth``,
-    ``salinity``, ``conductivity``, ``measured_sound_speed``, ``elapsed_time``); values are
-    header cells (or netCDF variable names) exactly as in the file.
+    Two spellings, which may be mixed:
+
+    * by name, ``"temperature=T_deg,pressure=P"`` (or ``{"temperature": "T_deg"}``): the
+      value is a header cell (text) or a variable name (netCDF) exactly as in the file;
+    * by position, ``"1=depth,2=sound_speed"`` (or ``{1: "depth", 2: "sound_speed"}``):
+      the key is the 1-based column position, the value the variable; for text files,
+      with or without a header row.
+
+    Variables are ``temperature``, ``pressure``, ``depth``, ``salinity``, ``conductivity``,
+    ``measured_sound_speed`` (also spelled ``sound_speed``) and ``elapsed_time``.
     """
-    out = _parse_pairs(text, "columns")
+    out = _parse_pairs(text, "columns", positions=True)
     if len(set(out.values())) != len(out):
         raise SeaprofileError("columns: one file column is mapped to two variables")
     return out
@@ -348,6 +396,8 @@ def parse_unit_mapping(text):
     """
     out = _parse_pairs(text, "units")
     for var, spelling in out.items():
+        if isinstance(spelling, int):
+            raise SeaprofileError(f"units: {var}={spelling} is not a unit spelling")
         unit = parse_unit(spelling)
         if unit is None or unit.kind != KIND[var]:
             known = ", ".join(sorted(k for k, v in UNITS.items() if v[0] == KIND[var]))
@@ -369,6 +419,13 @@ META_KEYS = {
     "instrument": "instrument", "probe": "instrument", "instrument_type": "instrument",
     "vessel": "vessel", "ship": "vessel", "platform": "vessel",
     "missing_value": "missing_value", "missing": "missing_value",
+    "fill_value": "missing_value",
+    "bottom_depth": "bottom_depth", "water_depth": "bottom_depth", "depth_of_water": "bottom_depth",
+    "sea_floor_depth": "bottom_depth", "sounding": "bottom_depth",
+    "operator": "operator", "observer": "operator",
+    "cruise": "cruise", "project": "project", "survey": "cruise",
+    "serial_number": "serial_number", "sensor_serial_number": "serial_number",
+    "comment": "comment", "comments": "comment", "note": "comment", "notes": "comment",
     "dataset": "dataset",
 }
 
@@ -440,8 +497,6 @@ def parse_time(text):
     """
     import datetime as dt
 
-    import numpy as np
-
     t = str(text).strip()
     if t.lower() in ("", "unknown", "nat", "none", "nan"):
         return None
@@ -454,4 +509,38 @@ def parse_time(text):
         ) from None
     if value.tzinfo is not None:
         value = value.astimezone(dt.timezone.utc).replace(tzinfo=None)
-    return np.datetime64(value, "ns")
+    return checked_time(np.datetime64(value, "us"))
+
+
+#: the times a cast may carry: the span of numpy datetime64[ns], which xarray and every
+#: reader and writer here use (outside it a time would silently become another date)
+TIME_RANGE = (np.datetime64("1678-09-22", "s"), np.datetime64("2262-04-11", "s"))
+
+
+def checked_time(value):
+    """``value`` as ``numpy.datetime64[ns]`` (NaT stays NaT), never wrapped to another date.
+
+    Parameters
+    ----------
+    value : str, datetime.datetime, numpy.datetime64, cftime datetime or None
+        A time (UTC). ``None`` gives NaT.
+
+    Raises
+    ------
+    SeaprofileError
+        When the time lies outside :data:`TIME_RANGE` (1678-09-22..2262-04-11).
+    """
+    if value is None:
+        return np.datetime64("NaT", "ns")
+    if hasattr(value, "isoformat") and not isinstance(value, np.datetime64):
+        value = value.isoformat()  # datetime, cftime: never through int nanoseconds
+    t = np.datetime64(value)
+    if np.isnat(t):
+        return np.datetime64("NaT", "ns")
+    coarse = t.astype("datetime64[s]")
+    if not TIME_RANGE[0] <= coarse < TIME_RANGE[1]:
+        raise SeaprofileError(
+            f"time {np.datetime_as_string(coarse)} is outside the range seaprofile can hold "
+            f"({TIME_RANGE[0]}..{TIME_RANGE[1]}, numpy datetime64[ns]); correct the time"
+        )
+    return t.astype("datetime64[ns]")

@@ -1,7 +1,11 @@
 """Write Casts and Profiles: netCDF (CF DSG), CSV with a commented header, JSON, speed tables.
 
 Every writer is atomic (a temporary file in the target directory, then ``os.replace``),
-keeps an existing file unless ``overwrite=True``, and never modifies its input.
+keeps an existing file unless ``overwrite=True``, and never modifies its input. A temporary
+file is removed on any failure, on Ctrl-C (SIGINT) and on SIGTERM. Every netCDF open, read
+and write of the package holds :data:`NETCDF_LOCK` (the netCDF/HDF5 library must never be
+entered from two threads at once). :func:`refuse_input_as_output` keeps an output from
+replacing one of the inputs.
 
 Formats
 -------
@@ -21,7 +25,7 @@ JSON
     ``{"format": "seaprofile", "format_version": 1, "caution": ..., "dataset": {...}}``
     (or ``"datasets": [...]`` for a list); each dataset lists its dimension, attributes,
     coordinates and variables (attributes, dtype, values; NaN as null).
-speed table
+speed table (suffix ``.speed.txt``)
     Plain text for loading into acquisition systems: no header, one line per depth,
     two columns separated by one space: depth in m (3 decimals) and sound speed in m/s
     (3 decimals), depth increasing. Samples with NaN or flagged bad (3, 4) or missing (9)
@@ -32,7 +36,9 @@ from __future__ import annotations
 
 import json
 import os
+import signal
 import tempfile
+import threading
 from pathlib import Path
 
 import numpy as np
@@ -40,13 +46,21 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError
-from .columns import DISPLAY_UNIT, KIND
+from .columns import DISPLAY_UNIT, KIND, checked_time
 
 __all__ = ["atomic_write", "write", "write_netcdf", "write_csv", "write_json", "write_speed_table",
-           "dataset_to_dict", "dataset_from_dict", "FORMATS"]
+           "dataset_to_dict", "dataset_from_dict", "FORMATS", "NETCDF_LOCK",
+           "refuse_input_as_output", "format_of"]
 
+#: format -> file suffixes; the first is the one written. ``.speed.txt`` (the plain
+#: depth / sound-speed table) is told apart from ``.txt`` (CSV) by its two suffixes.
 FORMATS = {"netcdf": (".nc", ".nc4", ".netcdf", ".cdf"), "csv": (".csv", ".txt", ".tsv"),
-           "json": (".json",), "table": (".table", ".svt", ".dat")}
+           "json": (".json",), "table": (".speed.txt", ".table", ".dat")}
+
+#: one process-wide re-entrant lock around every netCDF open, read and write: the
+#: netCDF-C/HDF5 libraries are not thread-safe, and two threads inside them at once crash
+#: the process (``build --scheduler threads``)
+NETCDF_LOCK = threading.RLock()
 _DISPLAY = {**{v: DISPLAY_UNIT[k] for v, k in KIND.items()}, "sound_speed": "m/s"}
 _TIME_UNITS = "seconds since 1970-01-01 00:00:00"
 
@@ -54,7 +68,43 @@ _TIME_UNITS = "seconds since 1970-01-01 00:00:00"
 # --- dispatcher ------------------------------------------------------------------------
 
 
-def write(ds, path, format=None, *, overwrite=False):
+def format_of(path):
+    """The format (a key of :data:`FORMATS`) named by the suffix of ``path``, or None."""
+    name = Path(path).name.lower()
+    matches = [(len(ext), k) for k, exts in FORMATS.items() for ext in exts
+               if name.endswith(ext) and len(name) > len(ext)]
+    return max(matches)[1] if matches else None
+
+
+def refuse_input_as_output(inputs, outputs):
+    """Raise :class:`SeaprofileError` when an output path is (or links to) an input file.
+
+    Parameters
+    ----------
+    inputs, outputs : iterable of str or pathlib.Path
+        The files read, and the files about to be written (these need not exist yet).
+        A path is the same file as another when both resolve to one path (symbolic links
+        followed) or, for existing files, share device and inode (hard links).
+    """
+    def ident(p):
+        try:
+            st = os.stat(p)
+            return ("inode", st.st_dev, st.st_ino)
+        except OSError:
+            return ("path", os.path.realpath(p))
+
+    seen = {}
+    for p in inputs:
+        seen.setdefault(ident(p), str(p))
+        seen.setdefault(("path", os.path.realpath(p)), str(p))
+    for out in outputs:
+        hit = seen.get(ident(out)) or seen.get(("path", os.path.realpath(out)))
+        if hit is not None:
+            raise SeaprofileError(f"{out}: is the input file {hit}; an input is never "
+                                  "overwritten, choose another output name or directory")
+
+
+def write(ds, path, format=None, *, overwrite=False, protect=()):
     """Write ``ds`` in the format named by ``format`` or found from the file extension.
 
     Parameters
@@ -64,14 +114,16 @@ def write(ds, path, format=None, *, overwrite=False):
     path : str or pathlib.Path
         Output file.
     format : {"netcdf", "csv", "json", "table"}, optional
-        Default from the extension (``.nc``, ``.csv``, ``.json``, ``.table``).
+        Default from the extension (``.nc``, ``.csv``, ``.json``, ``.speed.txt``).
     overwrite : bool
         Replace an existing file.
+    protect : iterable of str or pathlib.Path
+        Input files that ``path`` must not be (:func:`refuse_input_as_output`).
     """
     path = Path(path)
+    refuse_input_as_output(protect, [path])
     if format is None:
-        ext = path.suffix.lower()
-        format = next((k for k, exts in FORMATS.items() if ext in exts), None)
+        format = format_of(path)
         if format is None:
             raise SeaprofileError(f"format: cannot tell the format from {path.name!r}; "
                                   f"give one of {', '.join(FORMATS)}")
@@ -82,20 +134,56 @@ def write(ds, path, format=None, *, overwrite=False):
     return writers[format](ds, path, overwrite=overwrite)
 
 
+class _Terminated(BaseException):
+    """SIGTERM arrived during an atomic write (raised by the handler, so cleanup runs)."""
+
+    def __init__(self, signum):
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _on_terminate(signum, frame):
+    raise _Terminated(signum)
+
+
+def _terminate_handler():
+    """Install the SIGTERM handler in the main thread; returns the previous one (or None)."""
+    if threading.current_thread() is not threading.main_thread():
+        return None  # signal handlers can only be set in the main thread
+    previous = signal.getsignal(signal.SIGTERM)
+    if previous in (signal.SIG_IGN, None):  # ignored or set outside Python: leave it
+        return None
+    signal.signal(signal.SIGTERM, _on_terminate)
+    return previous
+
+
+def _resume_terminate(previous, exc):
+    """After cleanup: hand the SIGTERM to the handler that was there before ours."""
+    if callable(previous):
+        previous(exc.signum, None)
+        raise SystemExit(128 + exc.signum)  # the old handler returned: still stop
+    os.kill(os.getpid(), exc.signum)  # default action: die by the signal, as without us
+    raise SystemExit(128 + exc.signum)  # pragma: no cover - not reached
+
+
 def atomic_write(path, overwrite, fill):
     """Write through ``fill(tmp_path)`` to a temporary name, then rename into place.
 
     The temporary file sits in the target directory (so the rename is atomic); an existing
-    ``path`` is kept unless ``overwrite``; on any failure nothing is left behind.
+    ``path`` is kept unless ``overwrite``; on any failure nothing is left behind. In the
+    main thread, a SIGTERM during the write removes the temporary file, then the previous
+    SIGTERM handler (by default: the process ends by the signal) takes over.
     """
     path = Path(path)
     if path.exists() and not overwrite:
         raise SeaprofileError(f"{path}: exists; pass overwrite=True (--overwrite) to replace it")
     if not path.parent.is_dir():
         raise SeaprofileError(f"{path}: directory {path.parent} does not exist")
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-    os.close(fd)
+    previous = _terminate_handler()
+    tmp = None
     try:
+        fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
+        os.close(fd)
         fill(tmp)
         os.chmod(tmp, 0o666 & ~_UMASK)  # as an ordinary new file, not mkstemp's 0600
         if overwrite:
@@ -110,10 +198,18 @@ def atomic_write(path, overwrite, fill):
                 os.replace(tmp, path)
             else:
                 os.remove(tmp)
-    except BaseException:
-        if os.path.exists(tmp):
+    except BaseException as exc:
+        if tmp is not None and os.path.exists(tmp):
             os.remove(tmp)
+        if isinstance(exc, _Terminated):
+            if previous is not None:
+                signal.signal(signal.SIGTERM, previous)
+                previous = None
+            _resume_terminate(signal.getsignal(signal.SIGTERM), exc)
         raise
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
     return path
 
 
@@ -153,7 +249,7 @@ def _sample_vars(ds, dim):
 
 
 def _iso(t):
-    t = np.datetime64(t, "ns")
+    t = checked_time(t)
     if np.isnat(t):
         return None
     s = np.datetime_as_string(t, unit="us")
@@ -183,7 +279,7 @@ def write_netcdf(ds, path, *, overwrite=False):
         # every variable and attribute is defined first and the data written after: each
         # data write ends the netCDF-4 define mode, and going back and forth between the
         # two costs about 40 % of the write. No pre-fill: every variable is written in full.
-        with netCDF4.Dataset(tmp, "w", format="NETCDF4") as nc:
+        with NETCDF_LOCK, netCDF4.Dataset(tmp, "w", format="NETCDF4") as nc:
             nc.set_fill_off()
             nc.createDimension("profile", len(items))
             nc.createDimension("obs", int(counts.sum()))
@@ -288,7 +384,7 @@ def _nc_variable(nc, items, dim, name, zvar):
 
 
 def _epoch_seconds(t):
-    t = np.datetime64(t, "ns")
+    t = checked_time(t)
     if np.isnat(t):
         return np.nan
     return (t - np.datetime64("1970-01-01T00:00:00", "ns")) / np.timedelta64(1, "s")
@@ -379,9 +475,9 @@ def dataset_from_dict(d):
     def var(entry):
         dtype = np.dtype(entry["dtype"])
         values = entry["values"]
-        if dtype.kind == "M":
-            arr = np.array(["NaT" if x is None else x.rstrip("Z") for x in np.atleast_1d(values)],
-                           dtype="datetime64[ns]")
+        if dtype.kind == "M":  # never through a silently wrapping datetime64[ns] cast
+            arr = np.array([checked_time(None if x is None else x.rstrip("Z"))
+                            for x in np.atleast_1d(values)], dtype="datetime64[ns]")
             arr = arr if entry["dims"] else arr[0]
         elif dtype.kind == "f":
             arr = np.array(values, dtype=object)
