@@ -38,6 +38,8 @@ STANDARD_NAMES = {
 
 def _open_netcdf(path):
     """The whole file, loaded, under the process-wide netCDF lock (HDF5 is not thread-safe)."""
+    # a time outside datetime64[ns] arrives as a cftime object (xarray warns) and is
+    # refused by name in _instance_meta (columns.checked_time), never wrapped around
     try:
         with NETCDF_LOCK, xr.open_dataset(path, decode_timedelta=False) as f:
             return f.load()
