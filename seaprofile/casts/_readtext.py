@@ -295,7 +295,7 @@ def _delimiter(path, given, line):
         if given not in names:
             raise SeaprofileError(f"delimiter must be one of {sorted(names)}, got {given!r}")
         return names[given]
-    for d in (",", "\t", ";"):
+    for d in ("\t", ";", ","):  # a comma may be a decimal comma in the other two
         if d in line:
             return d
     return None

@@ -72,7 +72,7 @@ def read_cast(path, *, columns=None, units=None, instrument=None, latitude=None,
         :data:`seaprofile.casts.xbt.FALL_RATES` (default ``"hanawa1995_t7"``) or ``(a, b)``.
     delimiter : str, optional
         Text files: ``","``, ``"\\t"``, ``";"`` or ``"whitespace"``; default: guessed from
-        the header row (comma, tab, semicolon, else whitespace).
+        the header (or first) row: tab, else semicolon, else comma, else whitespace.
 
     Returns
     -------
