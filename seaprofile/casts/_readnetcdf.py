@@ -8,6 +8,8 @@ multidimensional layouts (CF 1.10 chapter 9); variables are found by ``standard_
 from __future__ import annotations
 
 import json
+import os
+import struct
 
 import numpy as np
 import xarray as xr
@@ -36,8 +38,92 @@ STANDARD_NAMES = {
 }
 
 
+#: bytes per value of each classic netCDF type code
+_TYPE_SIZE = {1: 1, 2: 1, 3: 2, 4: 4, 5: 4, 6: 8, 7: 1, 8: 2, 9: 4, 10: 8, 11: 8}
+
+
+def _classic_data_end(head):
+    """Bytes a classic netCDF file (CDF-1, -2, -5) needs to hold all its data, from its header.
+
+    Follows the classic format specification (netCDF Users Guide, "The NetCDF Classic
+    Format Specification"); returns None when the header itself cannot be parsed.
+    """
+    version = head[3]
+    wide = version == 5  # CDF-5: 8-byte counts and sizes
+    pos = 4
+
+    def take(fmt):
+        nonlocal pos
+        value = struct.unpack_from(">" + fmt, head, pos)
+        pos += struct.calcsize(">" + fmt)
+        return value[0]
+
+    def count():
+        return take("Q" if wide else "I")
+
+    def name():
+        nonlocal pos
+        n = count()
+        pos += (n + 3) // 4 * 4
+        return n
+
+    def attributes():
+        nonlocal pos
+        tag, n = take("I"), count()
+        for _ in range(n if tag else 0):
+            name()
+            kind, m = take("I"), count()
+            pos += (m * _TYPE_SIZE[kind] + 3) // 4 * 4
+
+    try:
+        numrecs = count()
+        tag, ndims = take("I"), count()
+        dims = []
+        for _ in range(ndims if tag else 0):
+            name()
+            dims.append(count())
+        attributes()
+        tag, nvars = take("I"), count()
+        variables = []
+        for _ in range(nvars if tag else 0):
+            name()
+            ids = [count() for _ in range(count())]
+            attributes()
+            kind, vsize = take("I"), count()
+            begin = take("Q" if version in (2, 5) else "I")
+            shape = [dims[i] for i in ids]
+            is_record = bool(shape) and shape[0] == 0
+            size = _TYPE_SIZE[kind]
+            for n in shape[1:] if is_record else shape:
+                size *= n
+            variables.append((is_record, begin, size, vsize))
+    except (struct.error, KeyError, IndexError):
+        return None
+    if numrecs == (2**64 - 1 if wide else 2**32 - 1):  # streaming: length unknown
+        return None
+    rec = [v for v in variables if v[0]]
+    recsize = rec[0][2] if len(rec) == 1 else sum(v[3] for v in rec)
+    ends = [b + s for r, b, s, _ in variables if not r]
+    ends += [b + (numrecs - 1) * recsize + s for r, b, s, _ in variables if r and numrecs]
+    return max(ends, default=0)
+
+
+def _check_not_truncated(path):
+    """A truncated classic file reads as zeros past its end: refuse it instead."""
+    with open(path, "rb") as f:
+        head = f.read(1 << 20)
+        size = os.fstat(f.fileno()).st_size
+    if not head.startswith((b"CDF\x01", b"CDF\x02", b"CDF\x05")):
+        return
+    end = _classic_data_end(head)
+    if end is not None and size < end:
+        raise InputFileError(path, f"truncated netCDF file: its header describes {end} bytes "
+                             f"of data, the file has {size}")
+
+
 def _open_netcdf(path):
     """The whole file, loaded, under the process-wide netCDF lock (HDF5 is not thread-safe)."""
+    _check_not_truncated(path)
     # a time outside datetime64[ns] arrives as a cftime object (xarray warns) and is
     # refused by name in _instance_meta (columns.checked_time), never wrapped around
     try:

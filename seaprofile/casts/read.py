@@ -220,12 +220,14 @@ def _read_json(path):
         raise InputFileError(path, "not valid JSON: nested too deeply") from None
     if not isinstance(doc, dict) or doc.get("format") != "seaprofile":
         raise InputFileError(path, "not a seaprofile JSON file (no \"format\": \"seaprofile\")")
+    key = "datasets" if "datasets" in doc else "dataset"
     items = doc.get("datasets", [doc["dataset"]] if "dataset" in doc else None)
     if not items:
         raise InputFileError(path, "no datasets in the JSON file")
     if not isinstance(items, list) or not all(isinstance(d, dict) for d in items):
-        raise InputFileError(path, "malformed seaprofile JSON: \"datasets\" must be a list of "
-                             "objects", column="datasets")
+        what = "a list of objects" if key == "datasets" else "an object"
+        raise InputFileError(path, f"malformed seaprofile JSON: \"{key}\" must be {what}",
+                             column=key)
     out = []
     for k, d in enumerate(items):
         where = f"datasets[{k}]"
@@ -233,7 +235,10 @@ def _read_json(path):
             ds = dataset_from_dict(d)
         except SeaprofileError as exc:
             raise InputFileError(path, f"{where}: {exc}", column=where) from None
-        except (KeyError, TypeError, ValueError, AttributeError, IndexError, OverflowError,
+        except KeyError as exc:
+            raise InputFileError(path, f"malformed seaprofile JSON: no key {exc}",
+                                 column=where) from None
+        except (TypeError, ValueError, AttributeError, IndexError, OverflowError,
                 RecursionError) as exc:
             raise InputFileError(path, f"malformed seaprofile JSON: {type(exc).__name__}: "
                                  f"{exc}", column=where) from None
