@@ -417,10 +417,10 @@ def _text_raw_cast(t, columns, units):
         unit = None if unit_text is None else parse_unit(unit_text)
         if unit_text is not None and (unit is None or unit.kind != KIND[var]):
             raise InputFileError(path, f"unit {unit_text!r} is not a {KIND[var]} unit for {var}",
-                                 t.header_line, t.label(j))
+                                 t.header_line or None, t.label(j))
         if j in {k for k, _ in used.values()}:
             raise InputFileError(path, f"columns: column {t.label(j)} is mapped twice",
-                                 t.header_line)
+                                 t.header_line or None)
         used[var] = (j, unit)
     if not t.header_line:  # the unmapped columns of a headerless file
         ignored += [t.headers[j] for j in range(len(t.headers))
@@ -474,7 +474,8 @@ def _text_profile(t):
     """A Profile from a CSV written by ``write_csv`` (columns named ``name [unit]``)."""
     names = [split_header(h)[0].strip() for h in t.headers]
     if "depth" not in names:
-        raise InputFileError(t.path, "a profile file needs a 'depth [m]' column", t.header_line)
+        raise InputFileError(t.path, "a profile file needs a 'depth [m]' column",
+                             t.header_line or None)
     meta = _meta_values(t.path, t.meta)
     meta.pop("missing_value", None)
     variables = {}

@@ -74,6 +74,14 @@ def _text_cases():
                                    "either"),
         "absurd_values.csv": ((_HEAD + "pres,temp,sal\n" + _rows(10)
                                + "1e9,500,-3\n1e300,-1e300,1e300\n").encode(), "either"),
+        "huge_negative_pressure.csv": ((_HEAD + "PRES [dbar],Temp [degC],Sal\n1,10,35\n"
+                                        "2,10,35.01\n-1e7,10,35\n3,9.9,35.02\n").encode(),
+                                       "cast"),
+        "huge_negative_pressure_probe.csv": (
+            (_HEAD + "PRES [dbar],SV[m/s]\n" + "0.0,0.0\n" * 7
+             + "0.0,1499.93\n-8980452.0,1499.92\n1.0,1499.91\n").encode(), "cast"),
+        "huge_depth.csv": ((_HEAD + "depth [m],Temp [degC],Sal\n0,12,35\n1,11.9,35.01\n"
+                            "4503599627370496.0,11.8,35.02\n").encode(), "cast"),
         "duplicated_depths.csv": ((_HEAD + "depth [m],temp,sal\n"
                                    + "".join(f"{5 * (k // 3)},{12 - k / 10},35\n"
                                              for k in range(30))).encode(), "either"),

@@ -31,7 +31,13 @@ EXPECT = make_corpus.expectations()
 
 #: corpus files that crash code outside the readers: strict xfail, so each flips to a
 #: failure (and must be removed from here) once its owner fixes it
-OTHERS_DEFECTS = {}
+_BINNING = ("binning.bin_cast/_bin_numbers: a vertical coordinate far outside the ocean "
+            "(pressure -1e7 dbar, depth 4.5e15 m) is neither flagged nor refused and binning "
+            "tries to allocate one bin per metre across it (MemoryError or negative bincount: "
+            "a traceback out of `build`); owner: processing/binning")
+OTHERS_DEFECTS = {"huge_negative_pressure.csv": _BINNING,
+                  "huge_negative_pressure_probe.csv": _BINNING,
+                  "huge_depth.csv": _BINNING}
 
 
 def sha(path):
