@@ -34,6 +34,16 @@ class _Raw:
     file_format: str = "text"
 
 
+def file_stem(path):
+    """The file name without its format suffix (``deep.speed.txt`` -> ``deep``)."""
+    from .write import FORMATS
+
+    name = path.name
+    ext = max((e for exts in FORMATS.values() for e in exts
+               if name.lower().endswith(e) and len(name) > len(e)), key=len, default=None)
+    return name[: -len(ext)] if ext else path.stem
+
+
 def guess_instrument(variables):
     """Guess the instrument from the variables present.
 
@@ -71,9 +81,9 @@ def _finish(raw, path, *, instrument, latitude, longitude, salinity, fall_rate):
     _check_needs(path, inst, raw.data, salinity)
     extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS}
     try:
+        name = meta.get("cast_name") or meta.get("profile_id") or file_stem(path)
         cast = make_cast(**raw.data, latitude=lat, longitude=lon, time=meta.get("time"),
-                         instrument=inst,
-                         cast_name=meta.get("cast_name") or meta.get("profile_id") or path.stem,
+                         instrument=inst, cast_name=name,
                          vessel=meta.get("vessel", ""), source_file=str(path), **extra)
     except SeaprofileError as exc:
         raise InputFileError(path, str(exc)) from None
@@ -174,7 +184,7 @@ def _raw_profile(raw, path, lines=None):
             data[name] = ("depth", values, _cf.attrs_for(name, ancillary_variables=f"{name}_qc"))
             data[f"{name}_qc"] = ("depth", qc, _cf.flag_attrs(name))
     good = np.flatnonzero(np.isfinite(raw.data["measured_sound_speed"]))
-    name = str(meta.pop("cast_name", "") or meta.pop("profile_id", "") or path.stem)
+    name = str(meta.pop("cast_name", "") or meta.pop("profile_id", "") or file_stem(path))
     coords = {
         "depth": ("depth", z, _cf.attrs_for("depth")),
         "latitude": ((), float(meta.pop("latitude", np.nan)), _cf.attrs_for("latitude")),

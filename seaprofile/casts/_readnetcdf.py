@@ -359,9 +359,12 @@ def _netcdf_own_datasets(path, columns=None, units=None):
     mapped by ``columns``/``units``.
     """
     ds = _open_netcdf(path)
-    if "profile_attributes" not in ds.variables or columns:
+    if "profile_attributes" not in ds.variables:
         return [_raw_profile(raw, path) for raw in _netcdf_raw_casts(path, columns or {},
                                                                       units or {})]
+    if columns or units:
+        raise InputFileError(path, "written by seaprofile: its variables are known, read it "
+                             "without columns= or units=")
     samples, instances, role = _netcdf_split(ds, path)
     out = []
     for s, inst_vals in zip(samples, instances):

@@ -25,7 +25,7 @@ from .._validate import InputFileError, SeaprofileError
 from .columns import (KIND, META_KEYS, MISSING_TOKENS, normalise_name, parse_position,
                       parse_time, parse_unit, recognise_column, split_header)
 from .model import INSTRUMENTS
-from ._readcast import _flag_values, _Raw
+from ._readcast import _flag_values, _Raw, file_stem
 from ._readnumbers import parse_block
 
 
@@ -493,7 +493,8 @@ def _text_profile(t):
         coords[c] = ((), float(meta.pop(c, np.nan)), _cf.attrs_for(c))
     t0 = meta.pop("time", None)
     coords["time"] = ((), np.datetime64("NaT", "ns") if t0 is None else t0, _cf.attrs_for("time"))
-    coords["profile_id"] = ((), str(meta.pop("profile_id", meta.get("cast_name", t.path.stem))),
+    name = meta.pop("profile_id", meta.get("cast_name", file_stem(t.path)))
+    coords["profile_id"] = ((), str(name),
                             {"cf_role": "profile_id", "long_name": "cast name"})
     data = {k: ("depth", v, a) for k, (v, a) in variables.items()}
     return xr.Dataset(data, coords=coords, attrs=meta)

@@ -405,6 +405,7 @@ def test_headerless_pair_is_depth_and_sound_speed(tmp_path):
     np.testing.assert_array_equal(prof["depth"].values, [0.0, 10.0, 20.0])
     np.testing.assert_array_equal(prof["sound_speed"].values, [1500, 1499.5, 1499])
     assert prof.attrs["equation"] == "measured" and prof.attrs["cast_max_depth"] == 20.0
+    assert cast.attrs["cast_name"] == "cast" and prof["profile_id"].item() == "cast"
 
 
 def test_own_speed_table_reads_back(tmp_path):

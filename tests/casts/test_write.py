@@ -508,3 +508,9 @@ def test_two_writer_processes_into_one_folder(tmp_path, fmt):
     for name in names:  # every file whole, from one writer or the other
         cast = read_cast(tmp_path / name)
         assert cast.sizes["sample"] == 2000 and cast.attrs["cast_name"] in ("A", "B")
+
+
+def test_own_netcdf_profile_refuses_a_mapping(tmp_path):
+    path = write_netcdf(sample_profile(), tmp_path / "p.nc")
+    with pytest.raises(SeaprofileError, match="without columns"):
+        read_profile(path, columns="depth=depth,sound_speed=sound_speed")
