@@ -27,16 +27,19 @@ from pathlib import Path
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
 from .columns import parse_column_mapping, parse_unit_mapping
+from .model import INSTRUMENTS, measured_variables
 from .xbt import DEFAULT_FALL_RATE
 from ._readcast import _finish, _raw_profile, guess_instrument
 from ._readnetcdf import STANDARD_NAMES, _netcdf_own_datasets, _netcdf_raw_casts
-from ._readtext import _parse_text, _text_profile, _text_raw_cast
+from ._readtext import _decode, _parse_text, _text_profile, _text_raw_cast
 
 __all__ = ["read_cast", "read_casts", "read_profile", "read_profiles", "read_speed_table",
            "parse_column_mapping", "parse_unit_mapping", "guess_instrument",
            "check_input_file"]
 
 _NETCDF_MAGIC = (b"CDF\x01", b"CDF\x02", b"CDF\x05", b"\x89HDF")
+_UNICODE_BOMS = ((b"\x00\x00\xfe\xff", "utf-32"), (b"\xff\xfe\x00\x00", "utf-32"),
+                 (b"\xfe\xff", "utf-16"), (b"\xff\xfe", "utf-16"))
 
 
 # --- public API ------------------------------------------------------------------------
@@ -211,8 +214,8 @@ def _read_json(path):
     from .write import dataset_from_dict
 
     try:
-        doc = json.loads(path.read_bytes().decode("utf-8-sig"))
-    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        doc = json.loads(_decode(path, path.read_bytes())[0])
+    except json.JSONDecodeError as exc:
         line = getattr(exc, "lineno", None)
         col = getattr(exc, "colno", None)
         raise InputFileError(path, f"not valid JSON: {getattr(exc, 'msg', exc)}", line, col)
@@ -262,6 +265,15 @@ def _check_json_dataset(path, ds, where):
             raise InputFileError(path, f"malformed seaprofile JSON: {name!r} holds "
                                  f"{var.dtype} values, expected numbers",
                                  column=f"{where}.{name}")
+    if dims == ("sample",):  # a Cast: flags beside every measured variable, a known kind
+        for name in measured_variables(ds):
+            if f"{name}_qc" not in ds.data_vars:
+                raise InputFileError(path, f"malformed seaprofile JSON: {name!r} has no flags "
+                                     f"({name}_qc)", column=f"{where}.{name}")
+        if ds.attrs.get("instrument", "ctd") not in INSTRUMENTS:
+            raise InputFileError(path, f"malformed seaprofile JSON: instrument "
+                                 f"{ds.attrs.get('instrument')!r} is not one of {INSTRUMENTS}",
+                                 column=f"{where}.attributes.instrument")
 
 
 # --- helpers ---------------------------------------------------------------------------
@@ -323,6 +335,10 @@ def _sniff(path):
         os.close(fd)
     if head.startswith(_NETCDF_MAGIC):
         return "netcdf"
+    for bom, enc in _UNICODE_BOMS:  # UTF-16/32 JSON: look at the text, not the bytes
+        if head.startswith(bom):
+            head = head[: len(head) // 4 * 4].decode(enc, errors="ignore").encode()
+            break
     if head.lstrip(b"\xef\xbb\xbf \t\r\n").startswith((b"{", b"[")):
         return "json"
     return "text"

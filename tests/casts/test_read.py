@@ -611,7 +611,20 @@ def test_empty_collections_and_broken_netcdf(tmp_path):
      '"coordinates": {}, "variables": {"t": {"dims": ["sample"], "dtype": "O", '
      '"attributes": {}, "values": [1]}}}}', "expected numbers"),
     ('{"format": "seaprofile", "dataset": ' + "[" * 100000 + "]" * 100000 + "}", "JSON"),
+    ('{"format": "seaprofile", "dataset": {"dimension": "sample", "attributes": {}, '
+     '"coordinates": {}, "variables": {"pressure": {"dims": ["sample"], "dtype": "f8", '
+     '"attributes": {}, "values": [1]}}}}', "no flags"),
 ])
 def test_malformed_json(tmp_path, doc, match):
     with pytest.raises(InputFileError, match=match):
         read_casts(put(tmp_path, doc, "odd.json"))
+
+
+def test_utf16_json_is_json(tmp_path):
+    from seaprofile.casts.write import write_json
+
+    cast = read_cast(put(tmp_path, CTD))
+    path = tmp_path / "cast16.json"
+    path.write_bytes(write_json(cast, tmp_path / "cast.json").read_text().encode("utf-16"))
+    back = read_cast(path)
+    np.testing.assert_array_equal(back["temperature"].values, cast["temperature"].values)

@@ -141,7 +141,9 @@ def _json_cases():
                  "coordinates": {"latitude": {"dims": [], "dtype": "f8", "attributes": {},
                                               "values": 1.0}},
                  "variables": {"pressure": {"dims": ["sample"], "dtype": "f8",
-                                            "attributes": {}, "values": [1.0, 2.0]}}}
+                                            "attributes": {}, "values": [1.0, 2.0]},
+                               "pressure_qc": {"dims": ["sample"], "dtype": "i1",
+                                               "attributes": {}, "values": [0, 0]}}}
     doc = {"format": "seaprofile", "format_version": 1}
 
     def j(obj):
@@ -149,6 +151,8 @@ def _json_cases():
 
     wrong_dtype = json.loads(json.dumps(good_cast))
     wrong_dtype["variables"]["pressure"]["values"] = ["a", "b"]
+    no_flags = json.loads(json.dumps(good_cast))
+    del no_flags["variables"]["pressure_qc"]
     two_d = json.loads(json.dumps(good_cast))
     two_d["variables"]["pressure"]["dims"] = ["sample", "x"]
     two_d["variables"]["pressure"]["values"] = [[1.0], [2.0]]
@@ -167,9 +171,10 @@ def _json_cases():
         "json_wrong_value_types.json": (j({**doc, "dataset": wrong_dtype}), "error"),
         "json_two_dimensional.json": (j({**doc, "dataset": two_d}), "error"),
         "json_year_3000.json": (j({**doc, "dataset": far}), "error"),
+        "json_no_flags.json": (j({**doc, "dataset": no_flags}), "error"),
         "json_missing_keys.json": (j({**doc, "dataset": {"dimension": "sample"}}), "error"),
         "json_utf16.json": (json.dumps({**doc, "dataset": good_cast}).encode("utf-16"),
-                            "error"),
+                            "cast"),
         "json_nan_literal.json": (b'{"format": "seaprofile", "dataset": NaN}', "error"),
     }
 
