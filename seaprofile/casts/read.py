@@ -265,6 +265,19 @@ def _check_json_dataset(path, ds, where):
             raise InputFileError(path, f"malformed seaprofile JSON: {name!r} holds "
                                  f"{var.dtype} values, expected numbers",
                                  column=f"{where}.{name}")
+    for name, kinds in (("latitude", "fi"), ("longitude", "fi"), ("time", "M")):
+        if name in ds.variables and (ds[name].ndim or ds[name].dtype.kind not in kinds):
+            raise InputFileError(path, f"malformed seaprofile JSON: {name!r} must be one "
+                                 f"{'time' if kinds == 'M' else 'number'}",
+                                 column=f"{where}.{name}")
+    try:
+        steps = json.loads(ds.attrs.get("processing_steps", "[]"))
+    except (TypeError, ValueError, RecursionError):
+        steps = None
+    if not isinstance(steps, list) or not isinstance(ds.attrs.get("history", ""), str):
+        raise InputFileError(path, "malformed seaprofile JSON: processing_steps must be a JSON "
+                             "list in a string, history a string",
+                             column=f"{where}.attributes")
     if dims == ("sample",):  # a Cast: flags beside every measured variable, a known kind
         for name in measured_variables(ds):
             if f"{name}_qc" not in ds.data_vars:
