@@ -101,7 +101,7 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
         if r.unusable:
             report.failures.append(f"{r.path}: {r.unusable}")
         stem = Path(r.written[0]).stem if r.written else Path(r.path).stem
-        for fmt, ext in (("csv", ".csv"), ("table", ".table")):
+        for fmt, ext in (("csv", ".csv"), ("table", ".speed.txt")):
             if r.unusable and fmt == "table":
                 continue
             target = out / "profiles" / f"{stem}{ext}"

@@ -13,7 +13,7 @@ import numpy as np
 
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
-from .columns import KIND
+from .columns import KIND, checked_time
 from .model import INSTRUMENTS, make_cast
 from .xbt import DEFAULT_SALINITY, add_variable, assumed_salinity, complete_xbt_cast
 
@@ -32,6 +32,16 @@ class _Raw:
     column_map: dict = field(default_factory=dict)
     ignored: list = field(default_factory=list)
     file_format: str = "text"
+
+
+def file_stem(path):
+    """The file name without its format suffix (``deep.speed.txt`` -> ``deep``)."""
+    from .write import FORMATS
+
+    name = path.name
+    ext = max((e for exts in FORMATS.values() for e in exts
+               if name.lower().endswith(e) and len(name) > len(e)), key=len, default=None)
+    return name[: -len(ext)] if ext else path.stem
 
 
 def guess_instrument(variables):
@@ -71,9 +81,9 @@ def _finish(raw, path, *, instrument, latitude, longitude, salinity, fall_rate):
     _check_needs(path, inst, raw.data, salinity)
     extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS}
     try:
+        name = meta.get("cast_name") or meta.get("profile_id") or file_stem(path)
         cast = make_cast(**raw.data, latitude=lat, longitude=lon, time=meta.get("time"),
-                         instrument=inst,
-                         cast_name=meta.get("cast_name") or meta.get("profile_id") or path.stem,
+                         instrument=inst, cast_name=name,
                          vessel=meta.get("vessel", ""), source_file=str(path), **extra)
     except SeaprofileError as exc:
         raise InputFileError(path, str(exc)) from None
@@ -138,3 +148,56 @@ def _derive(cast, inst, salinity, fall_rate):
         cast.attrs = _cf.record_step(cast.attrs, "assume_salinity", salinity_source=desc + note)
     return cast
 
+
+
+#: Cast variables a foreign depth / sound-speed table may carry into a Profile
+_PROFILE_VARIABLES = {"measured_sound_speed": "sound_speed", "temperature": "temperature",
+                      "salinity": "salinity", "pressure": "pressure"}
+
+
+def _raw_profile(raw, path, lines=None):
+    """A Profile from a table of depth and sound speed (and optionally T, S, p).
+
+    ``lines`` (text files) are the line numbers of the rows, to name the first depth that
+    does not increase. The sound speed is taken as given (``equation="measured"``).
+    """
+    from xarray import Dataset
+
+    if "depth" not in raw.data or "measured_sound_speed" not in raw.data:
+        raise InputFileError(path, "a profile needs depth (m) and sound speed (m/s); found "
+                             f"{sorted(raw.data)}; map them with columns=")
+    z = raw.data["depth"]
+    bad = np.flatnonzero(~np.isfinite(z) | (np.diff(z, prepend=-np.inf) <= 0))
+    if bad.size:
+        k = int(bad[0])
+        what = "is missing" if not np.isfinite(z[k]) else f"{z[k]:g} does not increase"
+        raise InputFileError(path, f"depth {what}: a profile needs depths increasing from "
+                             "row to row", None if lines is None else int(lines[k]),
+                             raw.column_map.get("depth"))
+    meta = dict(raw.meta)
+    data = {}
+    for var, name in _PROFILE_VARIABLES.items():
+        if var in raw.data:
+            values = raw.data[var]
+            qc = raw.flags.get(var, np.zeros(z.size, np.int8))
+            qc = np.where(np.isfinite(values), qc, _cf.MISSING).astype(np.int8)
+            data[name] = ("depth", values, _cf.attrs_for(name, ancillary_variables=f"{name}_qc"))
+            data[f"{name}_qc"] = ("depth", qc, _cf.flag_attrs(name))
+    good = np.flatnonzero(np.isfinite(raw.data["measured_sound_speed"]))
+    name = str(meta.pop("cast_name", "") or meta.pop("profile_id", "") or file_stem(path))
+    coords = {
+        "depth": ("depth", z, _cf.attrs_for("depth")),
+        "latitude": ((), float(meta.pop("latitude", np.nan)), _cf.attrs_for("latitude")),
+        "longitude": ((), float(meta.pop("longitude", np.nan)), _cf.attrs_for("longitude")),
+        "time": ((), checked_time(meta.pop("time", None)), _cf.attrs_for("time")),
+        "profile_id": ((), name, {"cf_role": "profile_id", "long_name": "cast name"}),
+    }
+    extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS and k != "instrument"}
+    attrs = _cf.base_attrs(featureType="profile", equation="measured", cast_name=name,
+                           source_file=str(path),
+                           cast_max_depth=float(z[good[-1]]) if good.size else float("nan"),
+                           **extra)
+    attrs = _cf.record_step(attrs, "read_profile", source_file=str(path),
+                            file_format=raw.file_format, columns=raw.column_map,
+                            unit_conversions=raw.conversions, ignored_columns=raw.ignored)
+    return Dataset(data, coords=coords, attrs=attrs)

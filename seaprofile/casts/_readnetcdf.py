@@ -8,15 +8,22 @@ multidimensional layouts (CF 1.10 chapter 9); variables are found by ``standard_
 from __future__ import annotations
 
 import json
+import os
+import struct
 
 import numpy as np
 import xarray as xr
 
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
-from .columns import KIND, parse_unit, recognise_column
+from .columns import KIND, checked_time, parse_unit, recognise_column
 from .model import INSTRUMENTS
-from ._readcast import _flag_values, _Raw
+from .write import NETCDF_LOCK
+from ._readcast import _flag_values, _raw_profile, _Raw
+
+#: what an unexpected file layout raises deep inside the split (turned into one
+#: InputFileError naming the file: a batch never stops on a traceback)
+_LAYOUT_ERRORS = (KeyError, IndexError, ValueError, TypeError, AttributeError, OverflowError)
 
 #: CF standard names -> Cast variables (netCDF files)
 STANDARD_NAMES = {
@@ -31,28 +38,146 @@ STANDARD_NAMES = {
 }
 
 
-def _open_netcdf(path):
+#: bytes per value of each classic netCDF type code
+_TYPE_SIZE = {1: 1, 2: 1, 3: 2, 4: 4, 5: 4, 6: 8, 7: 1, 8: 2, 9: 4, 10: 8, 11: 8}
+
+
+def _classic_data_end(head):
+    """Bytes a classic netCDF file (CDF-1, -2, -5) needs to hold all its data, from its header.
+
+    Follows the classic format specification (netCDF Users Guide, "The NetCDF Classic
+    Format Specification"); returns None when the header itself cannot be parsed.
+    """
+    version = head[3]
+    wide = version == 5  # CDF-5: 8-byte counts and sizes
+    pos = 4
+
+    def take(fmt):
+        nonlocal pos
+        value = struct.unpack_from(">" + fmt, head, pos)
+        pos += struct.calcsize(">" + fmt)
+        return value[0]
+
+    def count():
+        return take("Q" if wide else "I")
+
+    def name():
+        nonlocal pos
+        n = count()
+        pos += (n + 3) // 4 * 4
+        return n
+
+    def attributes():
+        nonlocal pos
+        tag, n = take("I"), count()
+        for _ in range(n if tag else 0):
+            name()
+            kind, m = take("I"), count()
+            pos += (m * _TYPE_SIZE[kind] + 3) // 4 * 4
+
     try:
-        with xr.open_dataset(path, decode_timedelta=False) as f:
+        numrecs = count()
+        tag, ndims = take("I"), count()
+        dims = []
+        for _ in range(ndims if tag else 0):
+            name()
+            dims.append(count())
+        attributes()
+        tag, nvars = take("I"), count()
+        variables = []
+        for _ in range(nvars if tag else 0):
+            name()
+            ids = [count() for _ in range(count())]
+            attributes()
+            kind, vsize = take("I"), count()
+            begin = take("Q" if version in (2, 5) else "I")
+            shape = [dims[i] for i in ids]
+            is_record = bool(shape) and shape[0] == 0
+            size = _TYPE_SIZE[kind]
+            for n in shape[1:] if is_record else shape:
+                size *= n
+            variables.append((is_record, begin, size, vsize))
+    except (struct.error, KeyError, IndexError):
+        return None
+    if numrecs == (2**64 - 1 if wide else 2**32 - 1):  # streaming: length unknown
+        return None
+    rec = [v for v in variables if v[0]]
+    recsize = rec[0][2] if len(rec) == 1 else sum(v[3] for v in rec)
+    ends = [b + s for r, b, s, _ in variables if not r]
+    ends += [b + (numrecs - 1) * recsize + s for r, b, s, _ in variables if r and numrecs]
+    return max(ends, default=0)
+
+
+def _check_not_truncated(path):
+    """A truncated classic file reads as zeros past its end: refuse it instead."""
+    with open(path, "rb") as f:
+        head = f.read(1 << 20)
+        size = os.fstat(f.fileno()).st_size
+    if not head.startswith((b"CDF\x01", b"CDF\x02", b"CDF\x05")):
+        return
+    end = _classic_data_end(head)
+    if end is not None and size < end:
+        raise InputFileError(path, f"truncated netCDF file: its header describes {end} bytes "
+                             f"of data, the file has {size}")
+
+
+def _open_netcdf(path):
+    """The whole file, loaded, under the process-wide netCDF lock (HDF5 is not thread-safe)."""
+    _check_not_truncated(path)
+    # a time outside datetime64[ns] arrives as a cftime object (xarray warns) and is
+    # refused by name in _instance_meta (columns.checked_time), never wrapped around
+    try:
+        with NETCDF_LOCK, xr.open_dataset(path, decode_timedelta=False) as f:
             return f.load()
     except Exception as exc:  # netCDF4/HDF5 raise many kinds
         raise InputFileError(path, f"cannot read as netCDF: {exc}") from None
 
 
-def _netcdf_split(ds, path):
-    """Split a netCDF profile file into per-profile ``(samples, instance values)`` dicts."""
+def _layout_guard(read):
+    """Run ``read(path, ...)``; an unexpected layout error becomes one InputFileError."""
+    def guarded(path, *args):
+        try:
+            return read(path, *args)
+        except SeaprofileError:
+            raise
+        except _LAYOUT_ERRORS as exc:
+            raise InputFileError(path, f"unexpected netCDF layout ({type(exc).__name__}: "
+                                 f"{exc})") from None
+    guarded.__doc__ = read.__doc__
+    return guarded
+
+
+def _netcdf_split(ds, path, data_names=()):
+    """Split a netCDF profile file into per-profile ``(samples, instance values)`` dicts.
+
+    ``data_names`` are variables taken as data besides those with a recognised
+    ``standard_name`` (names mapped with ``columns=`` or recognised by name and units).
+    """
     role = [v for v in ds.variables if ds[v].attrs.get("cf_role") == "profile_id"]
     count = [v for v in ds.variables if "sample_dimension" in ds[v].attrs]
     index = [v for v in ds.variables if "instance_dimension" in ds[v].attrs]
     if count:
+        if ds[count[0]].ndim != 1:
+            raise InputFileError(path, f"{count[0]!r} must have one dimension (profiles), "
+                                 f"has {ds[count[0]].dims}", column=count[0])
         inst, obs = ds[count[0]].dims[0], ds[count[0]].attrs["sample_dimension"]
-        ends = np.cumsum(np.asarray(ds[count[0]].values, dtype=np.int64))
+        sizes = np.asarray(ds[count[0]].values, dtype=np.float64)
+        if not sizes.size:
+            raise InputFileError(path, f"holds no profiles (dimension {inst!r} is empty)",
+                                 column=count[0])
+        if not np.all(np.isfinite(sizes) & (sizes >= 0) & (sizes == np.round(sizes))):
+            raise InputFileError(path, f"row sizes in {count[0]!r} must be whole numbers "
+                                 "0 or more", column=count[0])
+        ends = np.cumsum(sizes.astype(np.int64))
         if obs not in ds.dims or ends[-1] != ds.sizes[obs]:
             raise InputFileError(path, f"row sizes in {count[0]!r} add up to {ends[-1]}, but "
                                  f"dimension {obs!r} has {ds.sizes.get(obs)} samples",
                                  column=count[0])
         select = [slice(int(e - n), int(e)) for e, n in zip(ends, ds[count[0]].values)]
     elif index:
+        if ds[index[0]].ndim != 1:
+            raise InputFileError(path, f"{index[0]!r} must have one dimension (samples), "
+                                 f"has {ds[index[0]].dims}", column=index[0])
         inst, obs = ds[index[0]].attrs["instance_dimension"], ds[index[0]].dims[0]
         idx = np.asarray(ds[index[0]].values)
         if inst not in ds.dims:
@@ -67,13 +192,23 @@ def _netcdf_split(ds, path):
             obs = [d for d in ds[two_d[0]].dims if d != inst][0]
             select = [i for i in range(ds.sizes[inst])]
         else:
+            for name in data_names:
+                if ds[name].ndim != 1:
+                    raise InputFileError(path, f"{name!r} has dimensions {ds[name].dims}; "
+                                         "expected one dimension of samples (or a CF "
+                                         "discrete-sampling-geometry profile collection)",
+                                         column=name)
             data = [v for v in ds.variables if ds[v].ndim == 1 and ds[v].dims[0] != inst
-                    and ds[v].attrs.get("standard_name") in STANDARD_NAMES]
+                    and (ds[v].attrs.get("standard_name") in STANDARD_NAMES
+                         or v in data_names)]
             if not data:
                 raise InputFileError(path, "no variable with a recognised standard_name ("
-                                     + ", ".join(STANDARD_NAMES) + ")")
+                                     + ", ".join(STANDARD_NAMES) + "); map variables with "
+                                     "columns=, e.g. temperature=TEMP,pressure=PRES")
             obs = ds[data[0]].dims[0]
             inst, select = None, [slice(None)]
+    if inst is not None and not select:
+        raise InputFileError(path, f"holds no profiles (dimension {inst!r} is empty)")
     samples, instances = [], []
     for i, sel in enumerate(select):
         s, inst_vals = {}, {}
@@ -99,7 +234,7 @@ def _netcdf_split(ds, path):
     return samples, instances, role[0] if role else None
 
 
-def _instance_meta(ds, inst_vals, samples, role):
+def _instance_meta(ds, inst_vals, samples, role, path):
     meta = {}
     for name, value in list(inst_vals.items()) + list(samples.items()):
         sn = ds[name].attrs.get("standard_name")
@@ -107,12 +242,17 @@ def _instance_meta(ds, inst_vals, samples, role):
         if sn in ("latitude", "longitude", "time") and sn not in meta and v.size:
             if sn == "time":
                 try:
-                    t = np.asarray(v[0]).astype("datetime64[ns]") if v[0] is not None else None
-                except (TypeError, ValueError):
+                    t = checked_time(v[0]) if v[0] is not None else None
+                except SeaprofileError as exc:
+                    raise InputFileError(path, str(exc), column=name) from None
+                except (TypeError, ValueError):  # undecoded numbers: no usable time
                     t = None
                 meta["time"] = None if t is None or np.isnat(t) else t
             else:
-                meta[sn] = float(v[0])
+                try:
+                    meta[sn] = float(v[0])
+                except (TypeError, ValueError):
+                    raise InputFileError(path, f"{sn} is not a number", column=name) from None
     if role is not None:
         meta["cast_name"] = _text(inst_vals.get(role, ""))
     return meta
@@ -123,16 +263,30 @@ def _text(value):
     return v.decode("utf-8").rstrip("\x00") if isinstance(v, bytes) else str(v)
 
 
-def _own_attrs(inst_vals):
+def _own_attrs(inst_vals, path):
     text = inst_vals.get("profile_attributes")
     if text is None:
         return None
-    return json.loads(_text(text))
+    try:
+        own = json.loads(_text(text))
+    except (ValueError, RecursionError):
+        own = None
+    if not (isinstance(own, dict) and isinstance(own.get("attributes"), dict)
+            and isinstance(own.get("variables"), list)):
+        raise InputFileError(path, "profile_attributes is not the JSON seaprofile writes",
+                             column="profile_attributes")
+    return own
 
 
+@_layout_guard
 def _netcdf_raw_casts(path, columns, units):
+    """Casts found in a netCDF file (``columns``/``units`` map variable names, as for text)."""
+    positional = [f"{p}={v}" for v, p in columns.items() if isinstance(p, int)]
+    if positional:
+        raise InputFileError(path, f"columns: {', '.join(positional)} maps by position, which "
+                             "applies to text files; name the netCDF variables, e.g. "
+                             "temperature=TEMP", column=positional[0])
     ds = _open_netcdf(path)
-    samples, instances, role = _netcdf_split(ds, path)
     chosen = {}
     for name, var in ds.variables.items():
         if name in columns.values() or "flag_values" in var.attrs or "flag_meanings" in var.attrs:
@@ -156,15 +310,19 @@ def _netcdf_raw_casts(path, columns, units):
         if name not in ds.variables:
             raise InputFileError(path, f"columns: no variable {name!r} for {var}", column=name)
         chosen[var] = name
+    samples, instances, role = _netcdf_split(ds, path, tuple(chosen.values()))
     raws = []
     for s, inst_vals in zip(samples, instances):
-        own = _own_attrs(inst_vals)
+        own = _own_attrs(inst_vals, path)
         if own is not None and own.get("dimension") != "sample":
             raise InputFileError(path, "holds profiles, not casts; use read_profiles")
         raw = _Raw({}, file_format="netcdf")
         meta = {k: v for k, v in ds.attrs.items() if k not in ("featureType",)}
         meta.update(own["attributes"] if own else {})
         for var, name in chosen.items():
+            if name not in s and var in columns:
+                raise InputFileError(path, f"columns: {var}={name!r} has dimensions "
+                                     f"{ds[name].dims}, not those of the samples", column=name)
             if name not in s or (own is not None and var not in own["variables"]):
                 continue
             values = np.asarray(s[name], dtype=np.float64)
@@ -184,7 +342,7 @@ def _netcdf_raw_casts(path, columns, units):
                     raw.flags[var] = _flag_values(np.asarray(s[anc], np.float64), path, None, anc)
                     break
         raw.meta = {k: v for k, v in meta.items() if k not in ("latitude", "longitude")}
-        raw.meta.update(_instance_meta(ds, inst_vals, s, role))
+        raw.meta.update(_instance_meta(ds, inst_vals, s, role, path))
         inst = str(raw.meta.get("instrument", "")).lower()
         if "instrument" in raw.meta and inst not in INSTRUMENTS:
             raw.meta["instrument_description"] = raw.meta.pop("instrument")
@@ -192,17 +350,32 @@ def _netcdf_raw_casts(path, columns, units):
     return raws
 
 
-def _netcdf_own_datasets(path):
-    """Datasets written by ``write_netcdf``, rebuilt variable by variable."""
+@_layout_guard
+def _netcdf_own_datasets(path, columns=None, units=None):
+    """Datasets written by ``write_netcdf``, rebuilt variable by variable.
+
+    A file not written by seaprofile (no ``profile_attributes``) is read as a table of
+    depth and sound speed (:func:`._readcast._raw_profile`), its variables recognised or
+    mapped by ``columns``/``units``.
+    """
     ds = _open_netcdf(path)
+    if "profile_attributes" not in ds.variables:
+        return [_raw_profile(raw, path) for raw in _netcdf_raw_casts(path, columns or {},
+                                                                      units or {})]
+    if columns or units:
+        raise InputFileError(path, "written by seaprofile: its variables are known, read it "
+                             "without columns= or units=")
     samples, instances, role = _netcdf_split(ds, path)
     out = []
     for s, inst_vals in zip(samples, instances):
-        own = _own_attrs(inst_vals)
+        own = _own_attrs(inst_vals, path)
         if own is None:
             raise InputFileError(path, "not written by seaprofile (no profile_attributes)")
         dim = own["dimension"]
-        meta = _instance_meta(ds, inst_vals, s, role)
+        if dim not in ("sample", "depth") or role is None:
+            raise InputFileError(path, "profile_attributes is not the JSON seaprofile writes",
+                                 column="profile_attributes")
+        meta = _instance_meta(ds, inst_vals, s, role, path)
         t = meta.get("time")
         coords = {
             "latitude": ((), meta.get("latitude", np.nan), _cf.attrs_for("latitude")),

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import csv
 import json
+import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -24,7 +25,7 @@ from .._validate import InputFileError, SeaprofileError
 from .columns import (KIND, META_KEYS, MISSING_TOKENS, normalise_name, parse_position,
                       parse_time, parse_unit, recognise_column, split_header)
 from .model import INSTRUMENTS
-from ._readcast import _flag_values, _Raw
+from ._readcast import _flag_values, _Raw, file_stem
 from ._readnumbers import parse_block
 
 
@@ -52,6 +53,8 @@ class _Table:
     split: object  # list of lines -> list of lists of cells (str)
     plain: np.ndarray | None = None
     _rows: list | None = field(default=None, repr=False)
+    encoding: str = "utf-8"
+    decimal_comma: bool = False  # "1,5" is 1.5 (the delimiter is not a comma)
 
     @property
     def rows(self):
@@ -69,12 +72,15 @@ class _Table:
             values = self.plain[:, j].copy()
             odd = np.flatnonzero(~np.isfinite(values))
             if odd.size:  # "nan" is a missing spelling; "-nan" is not: check the text
-                cells = [r[j] for r in self.split([self.texts[k].strip() for k in odd])]
+                rows = _Lines([self.texts[k].strip() for k in odd], self.lines[odd])
+                cells = [r[j] for r in self.split(rows)]
                 values[odd] = _cells_to_numbers(self.path, cells, self.lines[odd],
                                                 self.label(j))
         else:
-            values = _cells_to_numbers(self.path, [r[j] for r in self.rows], self.lines,
-                                       self.label(j))
+            cells = [r[j] for r in self.rows]
+            if self.decimal_comma:
+                cells = [c.replace(",", ".") if _DECIMAL_COMMA.match(c) else c for c in cells]
+            values = _cells_to_numbers(self.path, cells, self.lines, self.label(j))
         if missing_value is not None:
             values[values == missing_value] = np.nan
         return values
@@ -132,39 +138,121 @@ def _plain_numbers(texts, delim, width):
     return values
 
 
-def _parse_text(path, delimiter, header=True):
+_BOMS = ((b"\x00\x00\xfe\xff", "utf-32-be"), (b"\xff\xfe\x00\x00", "utf-32-le"),
+         (b"\xef\xbb\xbf", "utf-8-sig"), (b"\xfe\xff", "utf-16-be"), (b"\xff\xfe", "utf-16-le"))
+#: control characters that never occur in a text cast (tab, newline, carriage return are fine)
+_CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+_DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+$")
+
+
+def _utf16_without_bom(raw):
+    """'utf-16-le'/'utf-16-be' when every other byte is NUL (ASCII text in UTF-16), else None."""
+    even, odd = raw[0::2], raw[1::2]
+    if len(raw) < 4 or len(raw) % 2:
+        return None
+    if odd.count(0) == len(odd) and even.count(0) == 0:
+        return "utf-16-le"
+    if even.count(0) == len(even) and odd.count(0) == 0:
+        return "utf-16-be"
+    return None
+
+
+def _decode(path, raw):
+    """The text of a file and its encoding: UTF-8 (BOM or not), UTF-16/32 (BOM, or UTF-16
+    ASCII without BOM); anything else, NUL bytes and control characters are errors."""
+    enc = next((e for bom, e in _BOMS if raw.startswith(bom)), None) or _utf16_without_bom(raw)
     try:
-        text = path.read_text(encoding="utf-8-sig")
+        text = raw.decode(enc or "utf-8")
     except UnicodeDecodeError as exc:
-        raise InputFileError(path, f"not UTF-8 text (undecodable byte at offset {exc.start})")
+        line = raw[: exc.start].count(b"\n") + 1 if enc in (None, "utf-8-sig") else None
+        raise InputFileError(path, f"not {(enc or 'UTF-8').upper().replace('-SIG', '')} text "
+                             f"(undecodable byte at offset {exc.start}); save it as UTF-8",
+                             line) from None
+    bad = _CONTROL.search(text)
+    if bad:
+        line = text.count("\n", 0, bad.start()) + 1
+        raise InputFileError(path, f"binary data, not text (control character "
+                             f"U+{ord(bad.group()):04X})", line)
+    return text.lstrip("\ufeff"), (enc or "utf-8").replace("-sig", "")
+
+
+def _numeric_row(cells):
+    """True when every cell of a row is a number (decimal commas allowed): no header."""
+    if not cells:
+        return False
+    for c in cells:
+        try:
+            float(c.replace(",", ".") if _DECIMAL_COMMA.match(c) else c)
+        except ValueError:
+            return False
+    return True
+
+
+def _splitter(path, delim):
+    """lines -> lists of cells; a cell beyond the csv module's limit names its line."""
+    if delim is None:
+        return lambda items: [s.split() for s in items]
+
+    def split(items):
+        try:
+            return [[c.strip() for c in r] for r in csv.reader(items, delimiter=delim)]
+        except csv.Error as exc:
+            for k, item in enumerate(items):  # find the row (items keep their order)
+                try:
+                    list(csv.reader([item], delimiter=delim))
+                except csv.Error:
+                    break
+            raise InputFileError(path, f"cannot split the row: {exc}",
+                                 getattr(items, "line_of", lambda k: None)(k)) from None
+    return split
+
+
+class _Lines(list):
+    """Data lines that know their line numbers in the file (for split errors)."""
+
+    def __init__(self, items, numbers):
+        super().__init__(items)
+        self.numbers = list(numbers)
+
+    def line_of(self, k):
+        return int(self.numbers[k]) if k < len(self.numbers) else None
+
+
+def _parse_text(path, delimiter, header=None):
+    """The table of a text file; ``header`` True/False, or None to tell from the first row
+    (a row of numbers only is data: the file has no header row)."""
+    text, encoding = _decode(path, path.read_bytes())
     if not text.strip():
         raise InputFileError(path, "the file is empty")
-    all_lines = text.splitlines()
-    meta, head, start = {}, None, None
+    all_lines = text.replace("\r\n", "\n").replace("\r", "\n").split("\n")
+    meta, head, start, notes = {}, None, None, []
     for i, line in enumerate(all_lines):  # metadata and header: stop at the first data row
         s = line.strip()
         if not s:
             continue
         if s.startswith("#"):
             if head is None:
-                _meta_line(s[1:], i + 1, meta)
+                _meta_line(s[1:], i + 1, meta, notes)
             continue
+        if head is None and header is None:  # a first row of numbers is data
+            d = _delimiter(path, delimiter, s)
+            header = not _numeric_row(_splitter(path, d)([s])[0])
         if head is None and header:
             head = (i + 1, s)
         else:
             start = i
             break
-    if header and head is None:
+    _own_attributes(meta, notes)
+    if header is not False and head is None and start is None:
         raise InputFileError(path, "no header row (only comment lines)", len(all_lines))
     if start is None:
         where = head[0] if head else None
         raise InputFileError(path, "no data rows" + (" after the header" if head else ""), where)
     delim = _delimiter(path, delimiter, head[1] if head else all_lines[start].strip())
-    split = (lambda items: [s.split() for s in items]) if delim is None else (
-        lambda items: [[c.strip() for c in r] for r in csv.reader(items, delimiter=delim)])
+    split = _splitter(path, delim)
     headers = None
     if head:
-        headers = split([head[1]])[0]
+        headers = split(_Lines([head[1]], [head[0]]))[0]
         for j, h in enumerate(headers):
             if not h:
                 raise InputFileError(path, "empty header cell", head[0], j + 1)
@@ -175,9 +263,9 @@ def _parse_text(path, delimiter, header=True):
     plain = _plain_numbers(texts, delim, len(headers) if headers else None)
     if plain is not None:  # fast path: consecutive plain rows
         headers = headers or [f"column {j + 1}" for j in range(plain.shape[1])]
-        return _Table(path, meta, headers, header_line, texts,
-                      np.arange(start + 1, start + 1 + len(texts), dtype=np.int64), split,
-                      plain)
+        lines = np.arange(start + 1, start + 1 + len(texts), dtype=np.int64)
+        return _Table(path, meta, headers, header_line, _Lines(texts, lines), lines, split,
+                      plain, encoding=encoding, decimal_comma=delim != ",")
     # careful path: blank and comment lines skipped, every row checked
     rows, lines = [], []
     for i, line in enumerate(texts, start + 1):
@@ -185,6 +273,7 @@ def _parse_text(path, delimiter, header=True):
         if s and not s.startswith("#"):
             rows.append(s)
             lines.append(i)
+    rows = _Lines(rows, lines)
     cells = split(rows)
     headers = headers or [f"column {j + 1}" for j in range(len(cells[0]))]
     n = len(headers)
@@ -192,10 +281,11 @@ def _parse_text(path, delimiter, header=True):
     bad = np.flatnonzero(lengths != n)
     if bad.size:
         k = int(bad[0])
-        raise InputFileError(path, f"expected {n} fields as in the header, got {lengths[k]} "
+        raise InputFileError(path, f"expected {n} fields as in the "
+                             f"{'header' if head else 'first row'}, got {lengths[k]} "
                              "(ragged row)", lines[k], min(int(lengths[k]), n) + 1)
     return _Table(path, meta, headers, header_line, rows, np.asarray(lines, dtype=np.int64),
-                  split, None, cells)
+                  split, None, cells, encoding=encoding, decimal_comma=delim != ",")
 
 
 def _delimiter(path, given, line):
@@ -205,24 +295,53 @@ def _delimiter(path, given, line):
         if given not in names:
             raise SeaprofileError(f"delimiter must be one of {sorted(names)}, got {given!r}")
         return names[given]
-    for d in (",", "\t", ";"):
+    for d in ("\t", ";", ","):  # a comma may be a decimal comma in the other two
         if d in line:
             return d
     return None
 
 
-def _meta_line(text, lineno, meta):
-    if ":" not in text:
+_IDENTIFIER = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
+_OWN_FILE = "seaprofile CSV file"
+
+
+def _meta_line(text, lineno, meta, notes):
+    """One ``# ...`` line before the header: a recognised ``key: value`` (:data:`META_KEYS`)
+    fills ``meta``; anything else is kept, as written, in ``notes``."""
+    text = text.strip()
+    key, sep, value = text.partition(":")
+    name = META_KEYS.get(normalise_name(key)) if sep else None
+    if name is None:
+        notes.append((text, lineno))
         return
-    key, value = (s.strip() for s in text.split(":", 1))
-    if not key:
-        return
-    norm = normalise_name(key)
-    name = META_KEYS.get(norm, key.replace(" ", "_"))
+    value = value.strip()
     if name in meta:
         meta[name] = (meta[name][0] + "\n" + value, meta[name][1])
     else:
         meta[name] = (value, lineno)
+
+
+def _own_attributes(meta, notes):
+    """Fold the unrecognised comment lines into ``meta``.
+
+    In a file written by :func:`seaprofile.casts.write.write_csv` (first comment line
+    ``seaprofile CSV file``) every ``# attribute: value`` line is one of its own attributes
+    and comes back as such. In any other file, free text never becomes attribute names:
+    the lines are kept together in one ``comment`` attribute.
+    """
+    own = bool(notes) and notes[0][0] == _OWN_FILE
+    free = []
+    for text, lineno in notes[1:] if own else notes:
+        key, sep, value = text.partition(":")
+        if own and sep and _IDENTIFIER.match(key.strip()):
+            k, value = key.strip(), value.strip()
+            meta[k] = (meta[k][0] + "\n" + value, meta[k][1]) if k in meta else (value, lineno)
+        elif text:
+            free.append(text)
+    if free:
+        old = meta.get("comment")
+        joined = "\n".join(([old[0]] if old else []) + free)
+        meta["comment"] = (joined, old[1] if old else notes[0][1])
 
 
 def _meta_values(path, meta):
@@ -241,6 +360,10 @@ def _meta_values(path, meta):
                     out["instrument_description"] = value
             elif key == "missing_value":
                 out[key] = float(value)
+            elif key == "bottom_depth":
+                out[key] = float(value)
+                if not (np.isfinite(out[key]) and out[key] > 0):
+                    raise SeaprofileError(f"expected a depth in m above 0, got {value!r}")
             elif key == "processing_steps":
                 steps = json.loads(value)
                 if not isinstance(steps, list):
@@ -254,23 +377,56 @@ def _meta_values(path, meta):
     return out
 
 
+#: a file without a header row and two columns: depth (m) and sound speed (m/s), as
+#: :func:`seaprofile.casts.write.write_speed_table` writes them
+HEADERLESS_PAIR = {"depth": 1, "measured_sound_speed": 2}
+
+
+def _column_index(t, var, head):
+    """The index of the column ``head`` (a header cell, or a 1-based position)."""
+    if isinstance(head, int):
+        if head > len(t.headers):
+            raise InputFileError(t.path, f"columns: {var} is column {head}, but the rows have "
+                                 f"{len(t.headers)} columns", t.header_line or int(t.lines[0]))
+        return head - 1
+    if not t.header_line:
+        raise InputFileError(t.path, f"columns: {var}={head!r} names a header cell, but the "
+                             "file has no header row; map columns by position "
+                             "(e.g. 1=depth,2=sound_speed)", int(t.lines[0]))
+    idx = [j for j, h in enumerate(t.headers) if h == head] or [
+        j for j, h in enumerate(t.headers) if h.lower() == head.lower()]
+    if len(idx) != 1:
+        raise InputFileError(t.path, f"columns: {var}={head!r} matches {len(idx)} header "
+                             f"cells; the header has {t.headers}", t.header_line)
+    return idx[0]
+
+
 def _text_raw_cast(t, columns, units):
     path = t.path
     used, flags, ignored = {}, {}, []
+    if not t.header_line and not columns:
+        if len(t.headers) != 2:
+            raise InputFileError(path, f"no header row and {len(t.headers)} columns: map "
+                                 "them by position, e.g. columns='1=pressure,2=temperature,"
+                                 "3=salinity' (two columns without a header are read as "
+                                 "depth m, sound speed m/s)", int(t.lines[0]))
+        columns = HEADERLESS_PAIR
     for var, head in columns.items():
-        idx = [j for j, h in enumerate(t.headers) if h == head] or [
-            j for j, h in enumerate(t.headers) if h.lower() == head.lower()]
-        if len(idx) != 1:
-            raise InputFileError(path, f"columns: {var}={head!r} matches {len(idx)} header "
-                                 f"cells; the header has {t.headers}", t.header_line)
-        unit_text = units.get(var, split_header(head)[1])
+        j = _column_index(t, var, head)
+        unit_text = units.get(var, None if isinstance(head, int) else split_header(head)[1])
         unit = None if unit_text is None else parse_unit(unit_text)
         if unit_text is not None and (unit is None or unit.kind != KIND[var]):
             raise InputFileError(path, f"unit {unit_text!r} is not a {KIND[var]} unit for {var}",
-                                 t.header_line, t.label(idx[0]))
-        used[var] = (idx[0], unit)
+                                 t.header_line or None, t.label(j))
+        if j in {k for k, _ in used.values()}:
+            raise InputFileError(path, f"columns: column {t.label(j)} is mapped twice",
+                                 t.header_line or None)
+        used[var] = (j, unit)
+    if not t.header_line:  # the unmapped columns of a headerless file
+        ignored += [t.headers[j] for j in range(len(t.headers))
+                    if j not in {k for k, _ in used.values()}]
     taken = {j for j, _ in used.values()}
-    for j, h in enumerate(t.headers):
+    for j, h in enumerate(t.headers if t.header_line else ()):
         if j in taken:
             continue
         try:
@@ -297,7 +453,8 @@ def _text_raw_cast(t, columns, units):
                              "them with columns=", t.header_line)
     meta = _meta_values(path, t.meta)
     missing_value = meta.pop("missing_value", None)
-    raw = _Raw({}, meta=meta, ignored=ignored, file_format="text")
+    fmt = "text" if t.encoding == "utf-8" else f"text ({t.encoding})"
+    raw = _Raw({}, meta=meta, ignored=ignored, file_format=fmt)
     for var, (j, unit) in used.items():
         values = t.numbers(j, missing_value)
         if unit is not None and not unit.identity:
@@ -317,7 +474,8 @@ def _text_profile(t):
     """A Profile from a CSV written by ``write_csv`` (columns named ``name [unit]``)."""
     names = [split_header(h)[0].strip() for h in t.headers]
     if "depth" not in names:
-        raise InputFileError(t.path, "a profile file needs a 'depth [m]' column", t.header_line)
+        raise InputFileError(t.path, "a profile file needs a 'depth [m]' column",
+                             t.header_line or None)
     meta = _meta_values(t.path, t.meta)
     meta.pop("missing_value", None)
     variables = {}
@@ -335,7 +493,8 @@ def _text_profile(t):
         coords[c] = ((), float(meta.pop(c, np.nan)), _cf.attrs_for(c))
     t0 = meta.pop("time", None)
     coords["time"] = ((), np.datetime64("NaT", "ns") if t0 is None else t0, _cf.attrs_for("time"))
-    coords["profile_id"] = ((), str(meta.pop("profile_id", meta.get("cast_name", t.path.stem))),
+    name = meta.pop("profile_id", meta.get("cast_name", file_stem(t.path)))
+    coords["profile_id"] = ((), str(name),
                             {"cf_role": "profile_id", "long_name": "cast name"})
     data = {k: ("depth", v, a) for k, (v, a) in variables.items()}
     return xr.Dataset(data, coords=coords, attrs=meta)

@@ -16,6 +16,7 @@ import re
 from dataclasses import dataclass
 
 from .._validate import SeaprofileError
+from ._metadata import META_KEYS, TIME_RANGE, checked_time, parse_position, parse_time
 
 __all__ = [
     "NAMES",
@@ -35,6 +36,9 @@ __all__ = [
     "MISSING_TOKENS",
     "parse_position",
     "parse_time",
+    "checked_time",
+    "TIME_RANGE",
+    "ALIASES",
 ]
 
 # --- names: pattern (full match on the normalised name) -> candidate variables ----------
@@ -46,7 +50,7 @@ NAMES = (
     (r"depth|dep|z|depth_below_surface", ("depth",)),
     (r"salinity|sal|psal|s|practical_salinity|sea_water_(practical_)?salinity", ("salinity",)),
     (r"conductivity|cond|sea_water_(electrical_)?conductivity", ("conductivity",)),
-    (r"sound_speed|soundspeed|sound_velocity|speed_of_sound(_in_sea_water)?|sv|c"
+    (r"sound_speed|soundspeed|sound_velocity|speed_of_sound(_in_sea_water)?|sv|svel|c"
      r"|measured_sound_speed", ("measured_sound_speed", "conductivity")),
     (r"elapsed_time|time_elapsed|elapsed|time|time_since_(launch|entry)", ("elapsed_time",)),
 )
@@ -300,42 +304,85 @@ def recognise_column(header, *, unit_override=None):
     return ColumnGuess(str(header), variable, unit, is_flag)
 
 
-def _parse_pairs(text, what):
+#: other names accepted for a variable in ``columns=`` and ``units=`` mappings
+ALIASES = {"sound_speed": "measured_sound_speed"}
+
+
+def _variable(key, what):
+    key = ALIASES.get(key, key)
+    if key not in KIND:
+        raise SeaprofileError(
+            f"{what}: unknown variable {key!r}; expected one of "
+            f"{', '.join([*KIND, *ALIASES])}"
+        )
+    return key
+
+
+def _position(text):
+    """A 1-based column position written as ``3`` (or ``#3``), else None."""
+    t = str(text).strip().lstrip("#")
+    return int(t) if t.isdigit() else None
+
+
+def _parse_pairs(text, what, positions=False):
+    """``VARIABLE=VALUE`` pairs (or a dict) -> ``{variable: value}``.
+
+    With ``positions``, a pair whose key is a 1-based column position (``2=depth``, or a
+    dict ``{2: "depth"}``) maps that column to the variable: the result holds the int.
+    """
     if isinstance(text, dict):
-        return dict(text)
+        items = [(str(k), v) for k, v in text.items()]
+    elif isinstance(text, str):
+        items = []
+        for item in text.split(","):
+            item = item.strip()
+            if not item:
+                continue
+            if "=" not in item:
+                raise SeaprofileError(
+                    f"{what}: expected VARIABLE=VALUE pairs separated by commas "
+                    f"(e.g. temperature=T_deg,pressure=P"
+                    + (", or 1=depth,2=sound_speed by position" if positions else "")
+                    + f"), got {item!r}"
+                )
+            items.append(tuple(s.strip() for s in item.split("=", 1)))
+    else:
+        raise SeaprofileError(f"{what}: expected a str or dict, got {type(text).__name__}")
     out = {}
-    for item in str(text).split(","):
-        item = item.strip()
-        if not item:
-            continue
-        if "=" not in item:
-            raise SeaprofileError(
-                f"{what}: expected VARIABLE=VALUE pairs separated by commas "
-                f"(e.g. temperature=T_deg,pressure=P), got {item!r}"
-            )
-        key, value = (s.strip() for s in item.split("=", 1))
-        if not key or not value:
-            raise SeaprofileError(f"{what}: empty variable or value in {item!r}")
-        if key not in KIND:
-            raise SeaprofileError(
-                f"{what}: unknown variable {key!r}; expected one of {', '.join(KIND)}"
-            )
+    for key, value in items:
+        if not key or value is None or not str(value).strip():
+            raise SeaprofileError(f"{what}: empty variable or value in {key}={value!r}")
+        where = _position(key) if positions else None
+        if where is not None:  # position=variable
+            if where < 1:
+                raise SeaprofileError(f"{what}: column positions start at 1, got {key!r}")
+            key, value = str(value).strip(), where
+        elif not isinstance(value, (str, int)) or isinstance(value, bool):
+            raise SeaprofileError(f"{what}: value for {key!r} must be text, got {value!r}")
+        key = _variable(key, what)
         if key in out:
             raise SeaprofileError(f"{what}: {key!r} given twice")
-        out[key] = value
+        out[key] = value if isinstance(value, int) else str(value).strip()
     if not out:
         raise SeaprofileError(f"{what}: no VARIABLE=VALUE pairs in {text!r}")
     return out
 
 
 def parse_column_mapping(text):
-    """Parse ``"temperature=T_deg,pressure=P"`` into ``{"temperature": "T_deg", ...}``.
+    """Parse a column mapping into ``{variable: header cell or 1-based position}``.
 
-    Keys are seaprofile variable names (``temperature``, ``pressure``, ``depth``,
-    ``salinity``, ``conductivity``, ``measured_sound_speed``, ``elapsed_time``); values are
-    header cells (or netCDF variable names) exactly as in the file.
+    Two spellings, which may be mixed:
+
+    * by name, ``"temperature=T_deg,pressure=P"`` (or ``{"temperature": "T_deg"}``): the
+      value is a header cell (text) or a variable name (netCDF) exactly as in the file;
+    * by position, ``"1=depth,2=sound_speed"`` (or ``{1: "depth", 2: "sound_speed"}``):
+      the key is the 1-based column position, the value the variable; for text files,
+      with or without a header row.
+
+    Variables are ``temperature``, ``pressure``, ``depth``, ``salinity``, ``conductivity``,
+    ``measured_sound_speed`` (also spelled ``sound_speed``) and ``elapsed_time``.
     """
-    out = _parse_pairs(text, "columns")
+    out = _parse_pairs(text, "columns", positions=True)
     if len(set(out.values())) != len(out):
         raise SeaprofileError("columns: one file column is mapped to two variables")
     return out
@@ -348,6 +395,8 @@ def parse_unit_mapping(text):
     """
     out = _parse_pairs(text, "units")
     for var, spelling in out.items():
+        if isinstance(spelling, int):
+            raise SeaprofileError(f"units: {var}={spelling} is not a unit spelling")
         unit = parse_unit(spelling)
         if unit is None or unit.kind != KIND[var]:
             known = ", ".join(sorted(k for k, v in UNITS.items() if v[0] == KIND[var]))
@@ -357,101 +406,5 @@ def parse_unit_mapping(text):
     return out
 
 
-# --- header metadata: "# key: value" lines ---------------------------------------------
-#: metadata key spellings (normalised) -> the Cast field they fill
-META_KEYS = {
-    "latitude": "latitude", "lat": "latitude",
-    "longitude": "longitude", "lon": "longitude", "long": "longitude",
-    "time": "time", "date": "time", "datetime": "time", "cast_time": "time",
-    "start_time": "time", "date_time": "time",
-    "cast_name": "cast_name", "cast": "cast_name", "name": "cast_name",
-    "station": "cast_name", "profile_id": "profile_id",
-    "instrument": "instrument", "probe": "instrument", "instrument_type": "instrument",
-    "vessel": "vessel", "ship": "vessel", "platform": "vessel",
-    "missing_value": "missing_value", "missing": "missing_value",
-    "dataset": "dataset",
-}
-
 #: spellings read as missing (case-insensitive) in numeric columns
 MISSING_TOKENS = ("", "nan", "na", "n/a", "null", "none", "-")
-
-_POSITION = re.compile(
-    r"^\s*([+-]?\d+(?:\.\d*)?)\s*(?:[°º\s:]\s*(\d+(?:\.\d*)?)\s*'?)?\s*([NSEWnsew])?\s*$"
-)
-
-
-def parse_position(text, which):
-    """Parse a latitude/longitude: decimal degrees or degrees and decimal minutes.
-
-    Accepts ``54.5``, ``-3.25``, ``54.5 N``, ``54 30.5 N``, ``54°30.5'N``, ``3 15 W``.
-
-    Parameters
-    ----------
-    text : str
-        The value as written.
-    which : {"latitude", "longitude"}
-        Decides the allowed hemisphere letters and range.
-
-    Returns
-    -------
-    float
-        Degrees north (latitude) or east (longitude); NaN for ``""``, ``"nan"``,
-        ``"unknown"``.
-
-    Raises
-    ------
-    SeaprofileError
-        Unparseable text, minutes >= 60, a wrong hemisphere letter, or out of range.
-    """
-    if str(text).strip().lower() in ("", "nan", "unknown", "none"):
-        return float("nan")
-    m = _POSITION.match(str(text))
-    if not m:
-        raise SeaprofileError(
-            f"expected {which} in decimal degrees (54.5) or degrees and minutes "
-            f"(54 30.5 N), got {text!r}"
-        )
-    deg = float(m.group(1))
-    minutes = float(m.group(2)) if m.group(2) else 0.0
-    if minutes >= 60.0:
-        raise SeaprofileError(f"{which}: minutes must be below 60, got {text!r}")
-    value = abs(deg) + minutes / 60.0
-    negative = m.group(1).startswith("-")
-    hemi = (m.group(3) or "").upper()
-    allowed = "NS" if which == "latitude" else "EW"
-    if hemi and hemi not in allowed:
-        raise SeaprofileError(f"{which}: hemisphere must be {' or '.join(allowed)}, got {text!r}")
-    if hemi in ("S", "W"):
-        if negative:
-            raise SeaprofileError(f"{which}: both a minus sign and {hemi} in {text!r}")
-        negative = True
-    value = -value if negative else value
-    limit = 90.0 if which == "latitude" else 360.0
-    if not -limit <= value <= limit:
-        raise SeaprofileError(f"{which} must lie in -{limit:g}..{limit:g}, got {text!r}")
-    return value
-
-
-def parse_time(text):
-    """Parse an ISO 8601 date/time (``2024-05-01T12:30:00Z``, ``2024-05-01 12:30``).
-
-    Offsets such as ``+02:00`` are converted to UTC. Returns ``numpy.datetime64`` (ns) or
-    None for ``""``, ``"unknown"``, ``"NaT"``.
-    """
-    import datetime as dt
-
-    import numpy as np
-
-    t = str(text).strip()
-    if t.lower() in ("", "unknown", "nat", "none", "nan"):
-        return None
-    t2 = t[:-1] + "+00:00" if t.endswith(("Z", "z")) else t
-    try:
-        value = dt.datetime.fromisoformat(t2.replace(" ", "T", 1) if "T" not in t2 else t2)
-    except ValueError:
-        raise SeaprofileError(
-            f"expected an ISO 8601 time such as 2024-05-01T12:30:00Z, got {text!r}"
-        ) from None
-    if value.tzinfo is not None:
-        value = value.astimezone(dt.timezone.utc).replace(tzinfo=None)
-    return np.datetime64(value, "ns")

@@ -11,6 +11,7 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError
+from .columns import checked_time
 
 MEASURED = (
     "pressure",
@@ -63,7 +64,8 @@ def make_cast(
     latitude, longitude : float
         Position of the cast, degrees north / east (NaN when unknown).
     time : str or numpy.datetime64, optional
-        Time of the cast (UTC).
+        Time of the cast (UTC), within 1678-09-22..2262-04-11 (numpy datetime64[ns]; a
+        time outside it is refused, never wrapped to another date).
     instrument : {"ctd", "xbt", "svp"}
         Instrument kind.
     cast_name, vessel, source_file : str
@@ -102,7 +104,7 @@ def make_cast(
             raise SeaprofileError(f"{name} has {arr.size} samples, expected {n}")
         data_vars[name] = ("sample", arr, _cf.attrs_for(name, ancillary_variables=f"{name}_qc"))
         data_vars[f"{name}_qc"] = ("sample", np.zeros(n, np.int8), _cf.flag_attrs(name))
-    t = np.datetime64("NaT", "ns") if time is None else np.datetime64(time, "ns")
+    t = checked_time(time)
     coords = {
         "latitude": ((), float(latitude), _cf.attrs_for("latitude")),
         "longitude": ((), float(longitude), _cf.attrs_for("longitude")),

@@ -1,7 +1,11 @@
 """Write Casts and Profiles: netCDF (CF DSG), CSV with a commented header, JSON, speed tables.
 
 Every writer is atomic (a temporary file in the target directory, then ``os.replace``),
-keeps an existing file unless ``overwrite=True``, and never modifies its input.
+keeps an existing file unless ``overwrite=True``, and never modifies its input. A temporary
+file is removed on any failure, on Ctrl-C (SIGINT) and on SIGTERM. Every netCDF open, read
+and write of the package holds :data:`NETCDF_LOCK` (the netCDF/HDF5 library must never be
+entered from two threads at once). :func:`refuse_input_as_output` keeps an output from
+replacing one of the inputs.
 
 Formats
 -------
@@ -21,7 +25,7 @@ JSON
     ``{"format": "seaprofile", "format_version": 1, "caution": ..., "dataset": {...}}``
     (or ``"datasets": [...]`` for a list); each dataset lists its dimension, attributes,
     coordinates and variables (attributes, dtype, values; NaN as null).
-speed table
+speed table (suffix ``.speed.txt``)
     Plain text for loading into acquisition systems: no header, one line per depth,
     two columns separated by one space: depth in m (3 decimals) and sound speed in m/s
     (3 decimals), depth increasing. Samples with NaN or flagged bad (3, 4) or missing (9)
@@ -31,8 +35,6 @@ speed table
 from __future__ import annotations
 
 import json
-import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -40,13 +42,18 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError
-from .columns import DISPLAY_UNIT, KIND
+from ._atomic import NETCDF_LOCK, atomic_write, refuse_input_as_output
+from .columns import DISPLAY_UNIT, KIND, checked_time
 
 __all__ = ["atomic_write", "write", "write_netcdf", "write_csv", "write_json", "write_speed_table",
-           "dataset_to_dict", "dataset_from_dict", "FORMATS"]
+           "dataset_to_dict", "dataset_from_dict", "FORMATS", "NETCDF_LOCK",
+           "refuse_input_as_output", "format_of"]
 
+#: format -> file suffixes; the first is the one written. ``.speed.txt`` (the plain
+#: depth / sound-speed table) is told apart from ``.txt`` (CSV) by its two suffixes.
 FORMATS = {"netcdf": (".nc", ".nc4", ".netcdf", ".cdf"), "csv": (".csv", ".txt", ".tsv"),
-           "json": (".json",), "table": (".table", ".svt", ".dat")}
+           "json": (".json",), "table": (".speed.txt", ".table", ".dat")}
+
 _DISPLAY = {**{v: DISPLAY_UNIT[k] for v, k in KIND.items()}, "sound_speed": "m/s"}
 _TIME_UNITS = "seconds since 1970-01-01 00:00:00"
 
@@ -54,7 +61,15 @@ _TIME_UNITS = "seconds since 1970-01-01 00:00:00"
 # --- dispatcher ------------------------------------------------------------------------
 
 
-def write(ds, path, format=None, *, overwrite=False):
+def format_of(path):
+    """The format (a key of :data:`FORMATS`) named by the suffix of ``path``, or None."""
+    name = Path(path).name.lower()
+    matches = [(len(ext), k) for k, exts in FORMATS.items() for ext in exts
+               if name.endswith(ext) and len(name) > len(ext)]
+    return max(matches)[1] if matches else None
+
+
+def write(ds, path, format=None, *, overwrite=False, protect=()):
     """Write ``ds`` in the format named by ``format`` or found from the file extension.
 
     Parameters
@@ -64,14 +79,16 @@ def write(ds, path, format=None, *, overwrite=False):
     path : str or pathlib.Path
         Output file.
     format : {"netcdf", "csv", "json", "table"}, optional
-        Default from the extension (``.nc``, ``.csv``, ``.json``, ``.table``).
+        Default from the extension (``.nc``, ``.csv``, ``.json``, ``.speed.txt``).
     overwrite : bool
         Replace an existing file.
+    protect : iterable of str or pathlib.Path
+        Input files that ``path`` must not be (:func:`refuse_input_as_output`).
     """
     path = Path(path)
+    refuse_input_as_output(protect, [path])
     if format is None:
-        ext = path.suffix.lower()
-        format = next((k for k, exts in FORMATS.items() if ext in exts), None)
+        format = format_of(path)
         if format is None:
             raise SeaprofileError(f"format: cannot tell the format from {path.name!r}; "
                                   f"give one of {', '.join(FORMATS)}")
@@ -80,50 +97,6 @@ def write(ds, path, format=None, *, overwrite=False):
     if format not in writers:
         raise SeaprofileError(f"format must be one of {', '.join(writers)}, got {format!r}")
     return writers[format](ds, path, overwrite=overwrite)
-
-
-def atomic_write(path, overwrite, fill):
-    """Write through ``fill(tmp_path)`` to a temporary name, then rename into place.
-
-    The temporary file sits in the target directory (so the rename is atomic); an existing
-    ``path`` is kept unless ``overwrite``; on any failure nothing is left behind.
-    """
-    path = Path(path)
-    if path.exists() and not overwrite:
-        raise SeaprofileError(f"{path}: exists; pass overwrite=True (--overwrite) to replace it")
-    if not path.parent.is_dir():
-        raise SeaprofileError(f"{path}: directory {path.parent} does not exist")
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-    os.close(fd)
-    try:
-        fill(tmp)
-        os.chmod(tmp, 0o666 & ~_UMASK)  # as an ordinary new file, not mkstemp's 0600
-        if overwrite:
-            os.replace(tmp, path)
-        else:  # link fails if the file appeared meanwhile: never replace it silently
-            try:
-                os.link(tmp, path)
-            except FileExistsError:
-                raise SeaprofileError(
-                    f"{path}: exists; pass overwrite=True (--overwrite) to replace it") from None
-            except OSError:  # file systems without hard links
-                os.replace(tmp, path)
-            else:
-                os.remove(tmp)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.remove(tmp)
-        raise
-    return path
-
-
-def _read_umask():
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
-_UMASK = _read_umask()  # read once at import: os.umask is process-wide, not thread-safe
 
 
 def _as_list(ds):
@@ -153,7 +126,7 @@ def _sample_vars(ds, dim):
 
 
 def _iso(t):
-    t = np.datetime64(t, "ns")
+    t = checked_time(t)
     if np.isnat(t):
         return None
     s = np.datetime_as_string(t, unit="us")
@@ -183,7 +156,7 @@ def write_netcdf(ds, path, *, overwrite=False):
         # every variable and attribute is defined first and the data written after: each
         # data write ends the netCDF-4 define mode, and going back and forth between the
         # two costs about 40 % of the write. No pre-fill: every variable is written in full.
-        with netCDF4.Dataset(tmp, "w", format="NETCDF4") as nc:
+        with NETCDF_LOCK, netCDF4.Dataset(tmp, "w", format="NETCDF4") as nc:
             nc.set_fill_off()
             nc.createDimension("profile", len(items))
             nc.createDimension("obs", int(counts.sum()))
@@ -288,7 +261,7 @@ def _nc_variable(nc, items, dim, name, zvar):
 
 
 def _epoch_seconds(t):
-    t = np.datetime64(t, "ns")
+    t = checked_time(t)
     if np.isnat(t):
         return np.nan
     return (t - np.datetime64("1970-01-01T00:00:00", "ns")) / np.timedelta64(1, "s")
@@ -379,9 +352,9 @@ def dataset_from_dict(d):
     def var(entry):
         dtype = np.dtype(entry["dtype"])
         values = entry["values"]
-        if dtype.kind == "M":
-            arr = np.array(["NaT" if x is None else x.rstrip("Z") for x in np.atleast_1d(values)],
-                           dtype="datetime64[ns]")
+        if dtype.kind == "M":  # never through a silently wrapping datetime64[ns] cast
+            arr = np.array([checked_time(None if x is None else x.rstrip("Z"))
+                            for x in np.atleast_1d(values)], dtype="datetime64[ns]")
             arr = arr if entry["dims"] else arr[0]
         elif dtype.kind == "f":
             arr = np.array(values, dtype=object)

@@ -184,3 +184,20 @@ def test_parse_time():
     assert parse_time("unknown") is None
     with pytest.raises(SeaprofileError, match="ISO 8601"):
         parse_time("yesterday")
+
+
+def test_parse_column_mapping_by_position():
+    assert parse_column_mapping("1=depth,2=sound_speed") == {"depth": 1,
+                                                            "measured_sound_speed": 2}
+    assert parse_column_mapping({1: "depth", 2: "sound_speed"}) == {
+        "depth": 1, "measured_sound_speed": 2}
+    assert parse_column_mapping("#3=temperature,pressure=PRES") == {"temperature": 3,
+                                                                   "pressure": "PRES"}
+    for bad, match in (("0=depth", "start at 1"), ("1=depth,1=temperature", "two variables"),
+                       ("1=oxygen", "unknown variable"), ("1=depth,depth=D", "twice")):
+        with pytest.raises(SeaprofileError, match=match):
+            parse_column_mapping(bad)
+    with pytest.raises(SeaprofileError, match="str or dict"):
+        parse_column_mapping(["depth"])
+    with pytest.raises(SeaprofileError, match="not a unit"):
+        parse_unit_mapping({"depth": 3})

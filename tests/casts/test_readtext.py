@@ -104,3 +104,65 @@ def test_missing_words_in_a_plain_block(tmp_path):
     cast = read_cast(p)
     assert np.isnan(cast["temperature"].values[:2]).all()
     assert cast["temperature_qc"].values.tolist() == [9, 9, 0]
+
+
+# --- encodings, line ends, decimal commas, oversized cells (tracker defects) -------------
+
+TABLE = "# cast_name: Rook-2 (synthetic)\nPRES [dbar],Temp [degC],Sal\n1.0,12.5,34.9\n5.0,12.25,35.0\n"
+
+
+@pytest.mark.parametrize("encoding", ["utf-8", "utf-8-sig", "utf-16", "utf-16-le",
+                                      "utf-16-be", "utf-32"])
+def test_unicode_encodings_and_byte_order_marks(tmp_path, encoding):
+    path = tmp_path / "cast.csv"
+    path.write_bytes(TABLE.replace("Temp [degC]", "Temp [°C]").encode(encoding))
+    cast = read_cast(path)
+    np.testing.assert_array_equal(cast["temperature"].values, [12.5, 12.25])
+    assert cast.attrs["cast_name"] == "Rook-2 (synthetic)"
+
+
+@pytest.mark.parametrize("newline", ["\r\n", "\r", "\n"])
+def test_line_ends(tmp_path, newline):
+    path = tmp_path / "cast.csv"
+    path.write_bytes(TABLE.replace("\n", newline).encode())
+    np.testing.assert_array_equal(read_cast(path)["pressure"].values, [1.0, 5.0])
+    bad = tmp_path / "bad.csv"
+    bad.write_bytes((TABLE + "9.0,x,35\n").replace("\n", newline).encode())
+    with pytest.raises(InputFileError) as info:
+        read_cast(bad)
+    assert info.value.line == 5 and info.value.column == "2 (Temp [degC])"
+
+
+def test_decimal_commas_where_the_delimiter_is_not_a_comma(tmp_path):
+    path = tmp_path / "cast.txt"
+    path.write_text("PRES;TEMP;SAL\n1,0;12,5;34,90\n5;12,25;35\n")
+    cast = read_cast(path)
+    np.testing.assert_array_equal(cast["temperature"].values, [12.5, 12.25])
+    np.testing.assert_array_equal(cast["salinity"].values, [34.9, 35.0])
+    tab = tmp_path / "cast.tsv"
+    tab.write_text("0\t1500,5\n10\t1499,25\n")  # headerless, tab: depth, sound speed
+    np.testing.assert_array_equal(read_cast(tab)["measured_sound_speed"].values,
+                                  [1500.5, 1499.25])
+
+
+def test_other_encodings_and_binary_data_are_refused_with_a_line(tmp_path):
+    latin = tmp_path / "latin.csv"
+    latin.write_bytes(TABLE.replace("Rook", "R\xf6k").encode("latin-1"))
+    with pytest.raises(InputFileError, match="not UTF-8.*save it as UTF-8") as info:
+        read_cast(latin)
+    assert info.value.line == 1
+    junk = tmp_path / "junk.csv"
+    junk.write_bytes(TABLE.encode() + b"1,2\x00\x01,3\n")
+    with pytest.raises(InputFileError, match="binary data") as info:
+        read_cast(junk)
+    assert info.value.line == 5
+
+
+def test_cell_beyond_the_csv_field_limit_names_its_line(tmp_path):
+    import csv
+
+    path = tmp_path / "huge.csv"
+    path.write_text(TABLE + '7.0,"' + "9" * (csv.field_size_limit() + 10) + '",35\n')
+    with pytest.raises(InputFileError, match="field larger") as info:
+        read_cast(path)
+    assert info.value.line == 5

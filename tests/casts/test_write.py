@@ -4,7 +4,11 @@ import hashlib
 import json
 import os
 import shutil
+import signal
+import subprocess
+import sys
 import tempfile
+import textwrap
 from pathlib import Path
 
 import netCDF4
@@ -18,7 +22,8 @@ from seaprofile import SeaprofileError, _cf
 from seaprofile.casts.model import make_cast
 from seaprofile.casts.read import read_cast, read_casts, read_profile, read_profiles
 from seaprofile.casts.read import read_speed_table
-from seaprofile.casts.write import (write, write_csv, write_json, write_netcdf,
+from seaprofile.casts.write import (FORMATS, NETCDF_LOCK, format_of, refuse_input_as_output,
+                                    write, write_csv, write_json, write_netcdf,
                                     write_speed_table)
 
 # invented test data (synthetic)
@@ -310,3 +315,202 @@ def test_round_trip_of_a_built_profile(tmp_path, ext):
     assert_same(prof, back, check_attr_types=(ext != "csv"))
     for v in prof.data_vars:
         assert back[v].dtype == prof[v].dtype, v
+
+
+# --- defects from the tracker ----------------------------------------------------------
+
+REPO = Path(__file__).resolve().parents[2]
+
+
+def run_python(code, *args, **kwargs):
+    """Run ``code`` in a fresh interpreter with this checkout importable."""
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    return subprocess.run([sys.executable, "-c", textwrap.dedent(code), *map(str, args)],
+                          env=env, capture_output=True, text=True, timeout=300, **kwargs)
+
+
+def test_speed_table_suffix_is_our_own(tmp_path):
+    assert FORMATS["table"][0] == ".speed.txt"
+    assert ".svt" not in {e for exts in FORMATS.values() for e in exts}
+    assert format_of("deep.speed.txt") == "table" and format_of("deep.txt") == "csv"
+    assert format_of("deep.SPEED.TXT") == "table" and format_of(".speed.txt") == "csv"
+    path = write(sample_profile(), tmp_path / "deep.speed.txt")
+    assert path.read_text().splitlines()[0] == "0.000 1500.000"
+    back = read_profile(path)  # the table reads back as a profile
+    np.testing.assert_allclose(back["sound_speed"].values[:2], [1500.0, 1499.5])
+
+
+def test_refuse_input_as_output(tmp_path):
+    src = tmp_path / "cast.csv"
+    src.write_text("pres,temp,sal\n1,2,3\n")
+    (tmp_path / "sub").mkdir()
+    (tmp_path / "alias.csv").symlink_to(src)
+    os.link(src, tmp_path / "hard.csv")
+    for out in (src, tmp_path / "sub" / ".." / "cast.csv", tmp_path / "alias.csv",
+                tmp_path / "hard.csv"):
+        with pytest.raises(SeaprofileError, match="is the input file"):
+            refuse_input_as_output([src], [out])
+    refuse_input_as_output([src], [tmp_path / "cast.nc", tmp_path / "sub" / "cast.csv"])
+    digest = sha(src)
+    with pytest.raises(SeaprofileError, match="input"):
+        write(sample_profile(), src, "csv", overwrite=True, protect=[src])
+    assert sha(src) == digest
+
+
+def test_times_outside_datetime64ns_are_refused_on_write(tmp_path):
+    cast = sample_cast().assign_coords(time=((), np.datetime64("3000-01-01T00:00:00", "s")))
+    for ext in ("nc", "csv", "json"):
+        with pytest.raises(SeaprofileError, match="outside the range"):
+            write(cast, tmp_path / f"far.{ext}")
+    assert os.listdir(tmp_path) == []
+    with pytest.raises(SeaprofileError, match="outside the range"):
+        make_cast(pressure=[1.0], time="3000-01-01")
+
+
+def test_netcdf_lock_is_reentrant():
+    with NETCDF_LOCK, NETCDF_LOCK:  # writers call readers' helpers and back
+        pass
+
+
+def test_threaded_netcdf_writes_and_reads(tmp_path):
+    # without NETCDF_LOCK this crashed the interpreter (SIGSEGV) within a few runs,
+    # hence a subprocess: a crash fails this test instead of killing the test session
+    code = """
+        import sys
+        from concurrent.futures import ThreadPoolExecutor
+        from pathlib import Path
+        import numpy as np
+        from seaprofile.batch import build_files
+        from seaprofile.casts.model import make_cast
+        from seaprofile.casts.read import read_casts
+        from seaprofile.casts.write import write_netcdf
+
+        out = Path(sys.argv[1])
+
+        def cast(k):  # invented, synthetic
+            p = np.linspace(1, 200, 400)
+            return make_cast(pressure=p, temperature=12 - p / 40 + 0.01 * k,
+                             salinity=34.5 + p / 1000, latitude=50.0, longitude=-5.0,
+                             cast_name=f"c{k}")
+
+        def job(k):
+            path = write_netcdf([cast(2 * k), cast(2 * k + 1)], out / f"in{k}.nc")
+            got = read_casts(path)
+            assert [c.attrs["cast_name"] for c in got] == [f"c{2 * k}", f"c{2 * k + 1}"]
+            return str(path)
+
+        with ThreadPoolExecutor(8) as ex:
+            paths = list(ex.map(job, range(24)))
+        res = build_files(paths, out_dir=out / "built", format="netcdf", scheduler="threads")
+        assert all(r.ok for r in res), [r.error for r in res if not r.ok]
+        print(len(res))
+    """
+    done = run_python(code, tmp_path)
+    assert done.returncode == 0, done.stderr[-2000:]
+    assert done.stdout.split() == ["48"]
+    built = sorted(os.listdir(tmp_path / "built"))
+    assert built == sorted(f"c{k}.nc" for k in range(48))  # no temporary files left
+    assert len(read_casts(tmp_path / "in3.nc")) == 2
+
+
+@pytest.mark.skipif(not hasattr(signal, "SIGTERM") or os.name != "posix", reason="POSIX")
+def test_sigterm_during_a_write_leaves_no_temporary_file(tmp_path):
+    code = """
+        import signal, sys
+        from pathlib import Path
+        from seaprofile.casts.write import atomic_write
+
+        def fill(tmp):
+            Path(tmp).write_text("half a file")
+            print("writing", flush=True)
+            sys.stdin.readline()  # blocks until the parent has sent SIGTERM
+
+        before = signal.getsignal(signal.SIGTERM)
+        atomic_write(Path(sys.argv[1]) / "out.csv", False, fill)
+    """
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    proc = subprocess.Popen([sys.executable, "-c", textwrap.dedent(code), str(tmp_path)],
+                            env=env, stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                            stderr=subprocess.PIPE, text=True)
+    try:
+        assert proc.stdout.readline().strip() == "writing"
+        assert any(n.endswith(".tmp") for n in os.listdir(tmp_path))  # mid-write
+        proc.send_signal(signal.SIGTERM)
+        proc.wait(timeout=60)
+    finally:
+        proc.kill()
+        proc.communicate()
+    assert proc.returncode == -signal.SIGTERM  # ended by the signal, as without handler
+    assert os.listdir(tmp_path) == []
+
+
+def test_sigterm_handler_restored_and_previous_one_called(tmp_path):
+    code = """
+        import os, signal, sys
+        from pathlib import Path
+        from seaprofile.casts.write import atomic_write
+
+        calls = []
+        def mine(signum, frame):
+            calls.append(signum)
+        signal.signal(signal.SIGTERM, mine)
+        atomic_write(Path(sys.argv[1]) / "a.txt", False, lambda t: Path(t).write_text("a"))
+        assert signal.getsignal(signal.SIGTERM) is mine  # restored after a good write
+
+        def fill(tmp):
+            Path(tmp).write_text("half")
+            os.kill(os.getpid(), signal.SIGTERM)
+        try:
+            atomic_write(Path(sys.argv[1]) / "b.txt", False, fill)
+        except SystemExit as exc:
+            print("exit", exc.code, calls == [signal.SIGTERM])
+        assert signal.getsignal(signal.SIGTERM) is mine
+    """
+    done = run_python(code, tmp_path)
+    assert done.returncode == 0, done.stderr[-2000:]
+    assert done.stdout.split() == ["exit", str(128 + signal.SIGTERM), "True"]
+    assert os.listdir(tmp_path) == ["a.txt"]
+
+
+@pytest.mark.parametrize("fmt", ["netcdf", "csv"])
+def test_two_writer_processes_into_one_folder(tmp_path, fmt):
+    code = """
+        import sys
+        from pathlib import Path
+        import numpy as np
+        from seaprofile import SeaprofileError
+        from seaprofile.casts.model import make_cast
+        from seaprofile.casts.write import write
+
+        out, who, fmt = Path(sys.argv[1]), sys.argv[2], sys.argv[3]
+        ext = {"netcdf": ".nc", "csv": ".csv"}[fmt]
+        p = np.linspace(1, 100, 2000)  # invented, synthetic
+        cast = make_cast(pressure=p, temperature=10 - p / 50, salinity=35 + 0 * p,
+                         cast_name=who)
+        refused = 0
+        for k in range(15):
+            write(cast, out / f"shared{k % 3}{ext}", fmt, overwrite=True)  # both replace
+            try:
+                write(cast, out / f"first{k}{ext}", fmt)  # one of the two wins
+            except SeaprofileError:
+                refused += 1
+        print(refused)
+    """
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    procs = [subprocess.Popen([sys.executable, "-c", textwrap.dedent(code), str(tmp_path),
+                               who, fmt], env=env, stdout=subprocess.PIPE,
+                              stderr=subprocess.PIPE, text=True) for who in ("A", "B")]
+    outs = [p.communicate(timeout=300) for p in procs]
+    assert [p.returncode for p in procs] == [0, 0], [o[1][-1500:] for o in outs]
+    names = os.listdir(tmp_path)
+    assert not [n for n in names if n.startswith(".") or n.endswith(".tmp")]
+    assert sum(int(o[0]) for o in outs) == 15  # each "first" file written exactly once
+    for name in names:  # every file whole, from one writer or the other
+        cast = read_cast(tmp_path / name)
+        assert cast.sizes["sample"] == 2000 and cast.attrs["cast_name"] in ("A", "B")
+
+
+def test_own_netcdf_profile_refuses_a_mapping(tmp_path):
+    path = write_netcdf(sample_profile(), tmp_path / "p.nc")
+    with pytest.raises(SeaprofileError, match="without columns"):
+        read_profile(path, columns="depth=depth,sound_speed=sound_speed")
