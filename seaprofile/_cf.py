@@ -24,11 +24,39 @@ CHANGED = 5
 ESTIMATED = 8
 MISSING = 9
 
+#: Flags of values no one should use: probably bad (3), bad (4) and missing (9). Values
+#: flagged so are left out of bin averages, extensions, comparisons, plots, ray tracing
+#: and layer diagnostics. Estimated values (8: filled, extended, replaced) stay usable.
+UNUSABLE_FLAGS = (PROBABLY_BAD, BAD, MISSING)
+#: Flags of values quality-control tests neither test nor use as a neighbour: the
+#: unusable ones and, in addition, estimated values (8), which were not measured.
+NOT_MEASURED_FLAGS = (PROBABLY_BAD, BAD, ESTIMATED, MISSING)
+#: Flags of values that failed a test (3, 4): a quantity derived from such a value is
+#: flagged the same (quality control passes them on; see ``derived_from``).
+FAILED_FLAGS = (PROBABLY_BAD, BAD)
+
 FLAG_VALUES = np.array([0, 1, 2, 3, 4, 5, 8, 9], dtype=np.int8)
 FLAG_MEANINGS = (
     "no_qc_performed good_data probably_good_data bad_data_that_are_potentially_correctable "
     "bad_data value_changed estimated_value missing_value"
 )
+
+
+def usable(values, flags):
+    """Where ``values`` may be used: finite and not flagged 3, 4 or 9.
+
+    Parameters
+    ----------
+    values : array_like of float
+        Values of any variable, in its own units.
+    flags : array_like of int
+        Their Argo flags (same shape), see :data:`UNUSABLE_FLAGS`.
+
+    Returns
+    -------
+    numpy.ndarray of bool
+    """
+    return np.isfinite(values) & ~np.isin(flags, UNUSABLE_FLAGS)
 
 
 def flag_attrs(variable):

@@ -26,7 +26,6 @@ from ._extend import (  # noqa: F401  (re-exported: the extension lives in _exte
     cast_bottom_depth,
     extend_to,
 )
-from .casts._common import EXCLUDED
 from .casts.binning import check_step
 
 _extend = extend_to  # build_profile's argument of the same name hides the function
@@ -181,7 +180,7 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
 def _usable(profile):
     c = profile["sound_speed"].values
     f = profile["sound_speed_qc"].values
-    return bool((np.isfinite(c) & ~np.isin(f, EXCLUDED)).any())
+    return bool(_cf.usable(c, f).any())
 
 
 def describe_assumptions(profile):
@@ -243,7 +242,7 @@ def compare_profiles(a, b):
     def usable(p):
         c = p["sound_speed"].values.astype(np.float64)
         f = p["sound_speed_qc"].values if "sound_speed_qc" in p else np.zeros(c.size, np.int8)
-        ok = np.isfinite(c) & ~np.isin(f, (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING))
+        ok = _cf.usable(c, f)
         return p["depth"].values.astype(np.float64)[ok], c[ok]
 
     for name, p in (("a", a), ("b", b)):

@@ -13,7 +13,7 @@ import numpy as np
 
 from .. import _cf
 from .._validate import SeaprofileError
-from ._common import EXCLUDED, require_cast, vertical
+from ._common import require_cast, vertical
 from .flags import raise_flags
 
 __all__ = ["despike", "DESPIKE_FLOOR", "DESPIKE_MAX_SPAN"]
@@ -157,7 +157,7 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
 
 def _despike_one(x, flags, vert, half, threshold, floor, max_span):
     """Indices of the usable values, which of them are spikes, and how many were tested."""
-    idx = np.flatnonzero(np.isfinite(x) & ~np.isin(flags, EXCLUDED) & np.isfinite(vert))
+    idx = np.flatnonzero(_cf.usable(x, flags) & np.isfinite(vert))
     m = idx.size
     full = np.zeros(m, bool)
     if m >= 2 * half + 1:

@@ -60,7 +60,7 @@ def compare_measured_sound_speed(cast, equation="chen_millero1977"):
     for v in (*needed, vertical):
         q = f"{v}_qc"
         if q in cast:
-            bad |= np.isin(cast[q].values, (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING))
+            bad |= np.isin(cast[q].values, _cf.UNUSABLE_FLAGS)
     diff = np.where(bad, np.nan, diff)
     finite = diff[np.isfinite(diff)]
     attrs = {

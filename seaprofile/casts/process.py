@@ -31,7 +31,6 @@ from ..seawater.depth import METHODS as DEPTH_METHODS
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.state import salinity_from_conductivity
 from ._common import (
-    EXCLUDED,
     cast_latitude,
     exceeds_earlier,
     require_cast,
@@ -90,7 +89,7 @@ def _selection_vertical(cast):
     name, v = vertical(cast)
     low, high = GLOBAL_RANGE[name]
     with np.errstate(invalid="ignore"):
-        bad = (v < low) | (v > high) | np.isin(cast[f"{name}_qc"].values, EXCLUDED)
+        bad = (v < low) | (v > high) | np.isin(cast[f"{name}_qc"].values, _cf.UNUSABLE_FLAGS)
     return np.where(bad, np.nan, v), bad
 
 
@@ -372,7 +371,7 @@ def replace_salinity(cast, salinity, *, where="bad"):
     if where == "all":
         mask = np.ones(n, bool)
     else:
-        mask = ~np.isfinite(old) | np.isin(old_flags, EXCLUDED)
+        mask = ~_cf.usable(old, old_flags)
     mask &= np.isfinite(values)
     new = np.where(mask, values, old)
     flags = np.where(mask, _cf.ESTIMATED, old_flags).astype(np.int8)

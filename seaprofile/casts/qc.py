@@ -113,7 +113,7 @@ def _propagate(w):
     counts = {}
     for var, inputs in derived:
         src = worst_flag(*[w.flag(v) for v in inputs if v in ds.data_vars])
-        bad = np.isin(src, (_cf.PROBABLY_BAD, _cf.BAD))
+        bad = np.isin(src, _cf.FAILED_FLAGS)
         old = w.flag(var)
         new = raise_flags(old, np.where(bad, src, 0))
         counts[var] = int(np.count_nonzero(new != old))
