@@ -14,7 +14,7 @@ import numpy as np
 from .. import _cf
 from .._validate import SeaprofileError
 from ._common import require_cast, vertical
-from .flags import raise_flags
+from .flags import pass_on_failed, raise_flags
 
 __all__ = ["despike", "DESPIKE_FLOOR", "DESPIKE_MAX_SPAN"]
 
@@ -108,9 +108,12 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
     Returns
     -------
     xarray.Dataset
-        A new Cast with raised flags (nothing deleted). The step records ``flagged``
+        A new Cast with raised flags (nothing deleted); a spike in an input of a derived
+        variable (conductivity under salinity computed from it) flags the derived value
+        too (:func:`seaprofile.casts.flags.pass_on_failed`). The step records ``flagged``
         (count per variable), ``flagged_at`` (pressures, or depths, of the first 20
-        flagged values per variable), ``not_tested`` (count per variable) and the reason.
+        flagged values per variable), ``not_tested`` (count per variable) and the reason,
+        and ``bad_input`` (derived values flagged because of a flagged input).
 
     Notes
     -----
@@ -147,9 +150,13 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
         new = np.zeros(flags.size, np.int8)
         new[idx[hit]] = _cf.BAD
         out.variables[f"{var}_qc"].data = raise_flags(flags, new)
+    passed = {}
+    for var, f in pass_on_failed(out, lambda v: out[f"{v}_qc"].values).items():
+        passed[var] = int(np.count_nonzero(f != out[f"{var}_qc"].values))
+        out.variables[f"{var}_qc"].data = f
     out.attrs = _cf.record_step(
         cast.attrs, "despike", window=window, threshold=threshold, max_span=max_span,
-        flagged=counts, flagged_at=where, not_tested=untested,
+        flagged=counts, flagged_at=where, not_tested=untested, bad_input=passed,
         not_tested_reason=f"fewer than {half} usable samples on a side, or the window spans "
                           f"more than {max_span:g}: left to the Argo spike test")
     return out

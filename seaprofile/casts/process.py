@@ -53,6 +53,7 @@ __all__ = [
     "select_direction",
     "remove_reversals",
     "add_salinity",
+    "salinity_and_flags",
     "despike",
     "replace_salinity",
     "add_depth",
@@ -246,6 +247,47 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
 
 
 # --- derived variables -----------------------------------------------------------------
+#: the inputs of practical salinity computed from conductivity, in the order of gsw.SP_from_C
+SALINITY_INPUTS = ("conductivity", "temperature", "pressure")
+#: what :func:`add_salinity` writes to the Cast's ``salinity_source`` attribute
+SALINITY_SOURCE = "computed from conductivity (PSS-78)"
+
+
+def salinity_and_flags(cast):
+    """Practical salinity from a Cast's conductivity, temperature and pressure, and its flags.
+
+    The one place salinity is computed from conductivity: reading a file and
+    :func:`add_salinity` both use it.
+
+    Parameters
+    ----------
+    cast : xarray.Dataset
+        A Cast with ``conductivity`` (mS/cm), ``temperature`` (degC, ITS-90) and
+        ``pressure`` (sea pressure, dbar), each with its ``_qc`` flags.
+
+    Returns
+    -------
+    salinity : numpy.ndarray of float64
+        Practical salinity (PSS-78), dimensionless.
+    flags : numpy.ndarray of int8
+        The worst of the three inputs' flags (:func:`~seaprofile.casts.flags.worst_flag`:
+        a bad or estimated input makes the salinity bad or estimated), 9 (missing) where
+        the salinity is NaN.
+
+    Notes
+    -----
+    Practical Salinity Scale 1978 (Unesco 1981, Unesco Tech. Pap. Mar. Sci. 36), evaluated
+    with ``gsw.SP_from_C`` (:func:`seaprofile.seawater.state.salinity_from_conductivity`).
+    """
+    for v in SALINITY_INPUTS:
+        if v not in cast.data_vars:
+            raise SeaprofileError(f"cast needs {v} to compute salinity from conductivity")
+    values = np.asarray(salinity_from_conductivity(*[cast[v].values for v in SALINITY_INPUTS]),
+                        dtype=np.float64)
+    flags = worst_flag(*[cast[f"{v}_qc"].values for v in SALINITY_INPUTS])
+    return values, np.where(np.isfinite(values), flags, _cf.MISSING).astype(np.int8)
+
+
 def add_salinity(cast):
     """Practical salinity from conductivity, temperature and pressure (PSS-78, via gsw).
 
@@ -257,22 +299,22 @@ def add_salinity(cast):
     Returns
     -------
     xarray.Dataset
-        A new Cast with ``salinity``; its flags are the worst of the three inputs' flags.
-        A Cast that already has salinity is returned unchanged.
+        A new Cast with ``salinity`` and its flags from :func:`salinity_and_flags`. The
+        salinity's attribute ``derived_from`` names its inputs, so that quality control
+        and :func:`despike` pass a bad conductivity, temperature or pressure flag found
+        later on to it; the Cast's ``salinity_source`` says where it came from. A Cast that
+        already has salinity is returned unchanged.
     """
     require_cast(cast)
     if "salinity" in cast.data_vars:
         return cast.copy()
-    for v in ("conductivity", "temperature", "pressure"):
-        if v not in cast.data_vars:
-            raise SeaprofileError(f"cast needs {v} to compute salinity from conductivity")
-    s = salinity_from_conductivity(cast["conductivity"].values, cast["temperature"].values,
-                                   cast["pressure"].values)
-    flags = worst_flag(cast["conductivity_qc"].values, cast["temperature_qc"].values,
-                       cast["pressure_qc"].values)
-    out = with_variable(cast, "sample", "salinity", s, flags,
-                        comment="computed from conductivity, temperature and pressure (PSS-78)")
+    values, flags = salinity_and_flags(cast)
+    out = with_variable(cast, "sample", "salinity", values, flags,
+                        comment="computed from conductivity, temperature and pressure "
+                                "(PSS-78 via gsw.SP_from_C)",
+                        derived_from=" ".join(SALINITY_INPUTS))
     out.attrs = _cf.record_step(cast.attrs, "add_salinity", method="PSS-78 (gsw.SP_from_C)")
+    out.attrs["salinity_source"] = SALINITY_SOURCE
     return out
 
 

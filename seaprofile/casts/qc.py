@@ -65,7 +65,7 @@ from ._qc_tests import (
     stuck_value,
 )
 from ._qc_work import _Work
-from .flags import raise_flags, worst_flag
+from .flags import pass_on_failed, raise_flags, worst_flag
 
 __all__ = [
     "TESTS",
@@ -103,25 +103,13 @@ DEFAULT_TESTS = (
 
 
 def _propagate(w):
-    """Pass bad (3, 4) input flags on to derived salinity and sound speed."""
-    ds = w.ds
-    derived = []
-    if "salinity" in ds.data_vars and "conductivity" in ds.data_vars:
-        derived.append(("salinity", ("conductivity", "temperature", "pressure")))
-    if "sound_speed" in ds.data_vars and ds.attrs.get("equation", "") != "measured":
-        derived.append(("sound_speed", ("temperature", "salinity", "pressure")))
-    counts = {}
-    for var, inputs in derived:
-        src = worst_flag(*[w.flag(v) for v in inputs if v in ds.data_vars])
-        bad = np.isin(src, _cf.FAILED_FLAGS)
-        old = w.flag(var)
-        new = raise_flags(old, np.where(bad, src, 0))
-        counts[var] = int(np.count_nonzero(new != old))
-        w.flags[var] = new
-    if counts:
+    """Pass failed (3, 4) input flags on to derived variables (salinity, sound speed)."""
+    new = pass_on_failed(w.ds, w.flag)
+    if new:
         entry = w.summary.setdefault("bad_input", {})
-        for var, n in counts.items():
-            entry[var] = entry.get(var, 0) + n
+        for var, f in new.items():
+            entry[var] = entry.get(var, 0) + int(np.count_nonzero(f != w.flag(var)))
+            w.flags[var] = f
 
 
 def run_qc(ds, tests=DEFAULT_TESTS):
@@ -139,10 +127,11 @@ def run_qc(ds, tests=DEFAULT_TESTS):
     Returns
     -------
     xarray.Dataset
-        A new Dataset: flags raised by the tests (never lowered; 8 and 9 kept); bad
-        temperature, pressure or conductivity flags passed on to salinity computed from
-        conductivity, and bad temperature, salinity or pressure flags to a computed
-        ``sound_speed``; flags still 0 of every variable a test examined set to 1 (good);
+        A new Dataset: flags raised by the tests (never lowered; 8 and 9 kept); failed
+        (3, 4) input flags passed on to the derived variables
+        (:func:`~seaprofile.casts.flags.derived_variables`: those whose ``derived_from``
+        attribute names their inputs, salinity next to conductivity, a computed
+        ``sound_speed``); flags still 0 of every variable a test examined set to 1 (good);
         ``qc_summary`` (JSON ``{test: {variable: number of values that failed}}``, counts
         added to those of earlier runs) and the step recorded in ``processing_steps``.
     """

@@ -187,3 +187,41 @@ def test_a_wild_pressure_does_not_swallow_the_rest_of_the_cast():
     out = pr.remove_reversals(pr.select_direction(pr.remove_soak(cast)))
     assert out.sizes["sample"] == 100
     assert _cf.steps_of(out.attrs)[-1]["kept_unusable_vertical"] == 1
+
+
+def test_salinity_from_conductivity_flags_and_derivation():
+    import gsw
+
+    p = np.array([10.0, 20.0, 30.0, 40.0, 50.0])
+    t = np.array([15.0, 14.0, 13.0, 12.0, 11.0])
+    c = np.array([42.0, 41.0, np.nan, 40.0, 39.0])
+    cast = make_cast(pressure=p, temperature=t, conductivity=c)
+    flags = {"conductivity": [4, 0, 9, 1, 5], "temperature": [8, 0, 0, 3, 1],
+             "pressure": [1, 0, 0, 5, 1]}
+    for v, f in flags.items():
+        cast[f"{v}_qc"] = cast[f"{v}_qc"].copy(data=np.array(f, np.int8))
+    values, q = pr.salinity_and_flags(cast)
+    # gsw (TEOS-10 library) SP_from_C: PSS-78, the reference implementation
+    np.testing.assert_array_equal(values, gsw.SP_from_C(c, t, p))
+    # worst flag in the order 0 < 1 < 2 < 5 < 8 < 3 < 4 < 9: a bad conductivity under an
+    # estimated temperature stays bad (the largest number, 8, would hide it)
+    assert q.tolist() == [4, 0, 9, 3, 5]
+    out = pr.add_salinity(cast)
+    assert out["salinity_qc"].values.tolist() == q.tolist()
+    assert out["salinity"].attrs["derived_from"] == "conductivity temperature pressure"
+    assert out.attrs["salinity_source"] == pr.SALINITY_SOURCE
+    with pytest.raises(SeaprofileError, match="conductivity"):
+        pr.salinity_and_flags(make_cast(pressure=p, temperature=t, salinity=t))
+
+
+def test_despike_passes_a_bad_conductivity_on_to_its_salinity():
+    p = np.arange(1.0, 61.0, 0.25)
+    c = np.full(p.size, 45.0)
+    c[100] = 45.5  # an invented spike, well above the conductivity floor of 0.05 mS/cm
+    cast = pr.add_salinity(make_cast(pressure=p, temperature=np.full(p.size, 18.0),
+                                     conductivity=c))
+    out = pr.despike(cast, variables=["conductivity"])
+    assert out["conductivity_qc"].values[100] == 4
+    assert out["salinity_qc"].values[100] == 4
+    assert np.count_nonzero(out["salinity_qc"].values == 4) == 1
+    assert _cf.steps_of(out.attrs)[-1]["bad_input"] == {"salinity": 1}
