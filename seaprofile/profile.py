@@ -264,6 +264,5 @@ def compare_profiles(a, b):
         profile_a=str(a.attrs.get("cast_name", "a")), profile_b=str(b.attrs.get("cast_name", "b")),
     )
     return xr.Dataset(
-        {"sound_speed_difference": (("depth",), d, {
-            "long_name": "sound speed difference (a - b)", "units": "m s-1"})},
+        {"sound_speed_difference": (("depth",), d, _cf.attrs_for("sound_speed_difference"))},
         coords={"depth": ("depth", z, _cf.attrs_for("depth"))}, attrs=attrs)
