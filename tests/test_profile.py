@@ -7,6 +7,7 @@ import xarray as xr
 
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
+from seaprofile.casts import binning
 from seaprofile.casts import process as pr
 from seaprofile.casts.model import make_cast
 from seaprofile.casts.qc import qc_summary
@@ -118,7 +119,7 @@ def test_extend_with_reference_joins_continuously():
     zr = np.arange(0.0, 1001.0, 5.0)
     ref = make_cast(depth=zr, temperature=3.0 + 15.0 * np.exp(-zr / 150.0),
                     salinity=np.full(zr.size, 35.0), latitude=LAT, longitude=LON)
-    ref = pr.add_sound_speed(pr.bin_cast(pr.add_depth(ref), 5.0))
+    ref = binning.add_sound_speed(binning.bin_cast(pr.add_depth(ref), 5.0))
     out = extend_to(prof, 800.0, reference=ref)
     c = out["sound_speed"].values
     z = out["depth"].values

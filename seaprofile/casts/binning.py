@@ -3,9 +3,8 @@
 :func:`bin_cast` averages the usable samples of a Cast into regular depth (or pressure)
 bins -- the Profile; :func:`fill_gaps` interpolates across short runs of empty bins
 (flagged 8, estimated); :func:`add_sound_speed` adds sound speed, computed by a published
-equation or taken from a sound-speed probe. All three are also importable from
-:mod:`seaprofile.casts.process`, the steps that come before them. Inputs are never
-modified; each step records itself with :func:`seaprofile._cf.record_step`.
+equation or taken from a sound-speed probe. The steps before them are in
+:mod:`seaprofile.casts.process`. Inputs are never modified; each step records itself with :func:`seaprofile._cf.record_step`.
 """
 
 from __future__ import annotations

@@ -1,8 +1,8 @@
 """Despiking a Cast: a running-median test that scales with the sample spacing.
 
 :func:`despike` flags (never deletes) values that stand out from a running median of their
-neighbours, where the neighbours are close enough for the median to mean something; it is
-importable from :mod:`seaprofile.casts.process` too. It runs after the Argo tests of
+neighbours, where the neighbours are close enough for the median to mean something. It
+runs after the Argo tests of
 :mod:`seaprofile.casts.qc`, to catch what their thresholds let through on dense records.
 """
 

@@ -9,16 +9,18 @@ Steps that *select* the part of the record to work with -- :func:`remove_soak`,
 :func:`select_direction`, :func:`remove_reversals` -- return a Cast holding only the
 selected samples, and record how many samples they left out (and which, for the soak and
 direction). The original Cast, which the caller keeps, still holds every sample. Steps that
-*judge* values -- :func:`despike` and everything in :mod:`seaprofile.casts.qc` -- never
-remove anything: they raise ``<var>_qc`` flags, and :func:`bin_cast` leaves values flagged
+*judge* values -- :func:`~seaprofile.casts.despike.despike` and everything in
+:mod:`seaprofile.casts.qc` -- never remove anything: they raise ``<var>_qc`` flags, and
+:func:`~seaprofile.casts.binning.bin_cast` leaves values flagged
 3 (probably bad), 4 (bad) or 9 (missing) out of the bin averages. A sample whose pressure
 is impossible (flagged, or outside -5..12000 dbar) is not judged by the selection steps:
 it is kept for quality control to flag, with its reason.
 
-:func:`replace_salinity` puts a given salinity (flag 8) where the salinity channel failed.
-:func:`despike` lives in :mod:`seaprofile.casts.despike`; the steps on a Profile --
-:func:`bin_cast`, :func:`fill_gaps` and :func:`add_sound_speed` -- in
-:mod:`seaprofile.casts.binning`. All are importable from here.
+:func:`add_salinity` computes salinity from conductivity (:func:`salinity_and_flags`, the
+one place this is done, reading a file included) and :func:`replace_salinity` puts a given
+salinity (flag 8) where the salinity channel failed. Despiking is in
+:mod:`seaprofile.casts.despike`; the steps on a Profile -- ``bin_cast``, ``fill_gaps`` and
+``add_sound_speed`` -- in :mod:`seaprofile.casts.binning`.
 """
 
 from __future__ import annotations
@@ -38,14 +40,6 @@ from ._common import (
     with_variable,
 )
 from ._qc_tests import GLOBAL_RANGE
-from .binning import _equation_sound_speed  # noqa: F401  (used by seaprofile.profile)
-from .binning import add_sound_speed, bin_cast, fill_gaps  # noqa: F401  (re-exported)
-from .despike import (  # noqa: F401  (re-exported)
-    DESPIKE_FLOOR,
-    DESPIKE_MAX_SPAN,
-    _running_median,
-    despike,
-)
 from .flags import worst_flag
 
 __all__ = [
@@ -54,17 +48,11 @@ __all__ = [
     "remove_reversals",
     "add_salinity",
     "salinity_and_flags",
-    "despike",
     "replace_salinity",
     "add_depth",
-    "bin_cast",
-    "fill_gaps",
-    "add_sound_speed",
-    "DESPIKE_FLOOR",
-    "DESPIKE_MAX_SPAN",
+    "SALINITY_INPUTS",
+    "SALINITY_SOURCE",
 ]
-
-_latitude = cast_latitude  # a private name seaprofile.profile uses
 
 
 # --- helpers ---------------------------------------------------------------------------

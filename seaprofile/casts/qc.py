@@ -12,7 +12,7 @@ Flag order
 A later test never lowers an earlier flag. Flags are compared by severity
 ``0 < 1 < 2 < 5 < 3 < 4`` (Argo's order 0 < 1 < 2 < 3 < 4, with 5 "changed" counted as
 usable data below "probably bad"); flags 8 (estimated) and 9 (missing) are never changed by
-a test. When a derived quantity takes the flags of its inputs (:func:`worst_flag`), the
+a test. When a derived quantity takes the flags of its inputs (``flags.worst_flag``), the
 severity order is ``0 < 1 < 2 < 5 < 8 < 3 < 4 < 9``: an estimated input makes the result
 estimated, a bad one makes it bad, a missing one makes it missing.
 
@@ -30,11 +30,11 @@ usable values above and below it.
 Where the code lives
 --------------------
 This module holds the driver (:func:`run_qc`, :data:`TESTS`, :func:`qc_summary`). The
-tests themselves and their default thresholds are in :mod:`seaprofile.casts._qc_tests`,
-the Dataset under test they share with the driver in :mod:`seaprofile.casts._qc_work`
-and the flag arithmetic (:func:`raise_flags`, :func:`worst_flag`) in
-:mod:`seaprofile.casts.flags`. Tests, thresholds and flag functions are all importable
-from here.
+tests themselves and their default thresholds are defined in the private module
+:mod:`seaprofile.casts._qc_tests` and made public here (import them from this module);
+the Dataset under test they share with the driver is in :mod:`seaprofile.casts._qc_work`,
+and the flag arithmetic (``raise_flags``, ``worst_flag``, ``pass_on_failed``) in
+:mod:`seaprofile.casts.flags`.
 """
 
 from __future__ import annotations
@@ -45,7 +45,8 @@ import numpy as np
 
 from .. import _cf
 from .._validate import SeaprofileError
-from ._qc_tests import (  # noqa: F401  (the default thresholds, re-exported)
+from ._qc_tests import (
+    BODIES,
     GLOBAL_RANGE,
     GRADIENT_THRESHOLDS,
     MAX_OCEAN_DEPTH,
@@ -53,9 +54,6 @@ from ._qc_tests import (  # noqa: F401  (the default thresholds, re-exported)
     SPIKE_THRESHOLDS,
     SPLIT_PRESSURE,
     STUCK_MIN_VALUES,
-)
-from ._qc_tests import (
-    BODIES,
     density_inversion,
     global_range,
     gradient,
@@ -65,13 +63,19 @@ from ._qc_tests import (
     stuck_value,
 )
 from ._qc_work import _Work
-from .flags import pass_on_failed, raise_flags, worst_flag
+from .flags import pass_on_failed
 
+# the tests and their default thresholds: defined in _qc_tests, public here
 __all__ = [
     "TESTS",
     "DEFAULT_TESTS",
-    "raise_flags",
-    "worst_flag",
+    "GLOBAL_RANGE",
+    "GRADIENT_THRESHOLDS",
+    "MAX_OCEAN_DEPTH",
+    "SOUND_SPEED_RANGE",
+    "SPIKE_THRESHOLDS",
+    "SPLIT_PRESSURE",
+    "STUCK_MIN_VALUES",
     "global_range",
     "pressure_increasing",
     "spike",

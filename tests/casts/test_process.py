@@ -6,6 +6,7 @@ import xarray as xr
 
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
+from seaprofile.casts.despike import _running_median, despike
 from seaprofile.casts import process as pr
 from seaprofile.casts.model import make_cast
 
@@ -81,11 +82,11 @@ def test_despike_flags_spikes_only():
     idx = [100, 500, 501, 900]
     t_spiky[idx] += [0.5, -1.0, -1.0, 2.0]
     cast = make_cast(pressure=z, temperature=t_spiky, salinity=np.full(z.size, 35.0))
-    out = pr.despike(cast)
+    out = despike(cast)
     assert np.flatnonzero(out["temperature_qc"].values == 4).tolist() == idx
     np.testing.assert_array_equal(out["temperature"].values, t_spiky)  # nothing deleted
     assert _cf.steps_of(out.attrs)[-1]["flagged"] == {"temperature": 4, "salinity": 0}
-    clean = pr.despike(make_cast(pressure=z, temperature=t))
+    clean = despike(make_cast(pressure=z, temperature=t))
     assert (clean["temperature_qc"].values == 0).all()
 
 
@@ -97,7 +98,7 @@ def test_running_median_matches_numpy():
         ref = [np.nanmedian(x[max(0, i - half): i + half + 1])
                if np.isfinite(x[max(0, i - half): i + half + 1]).any() else np.nan
                for i in range(x.size)]
-        np.testing.assert_allclose(pr._running_median(x, half), ref, rtol=0, atol=0)
+        np.testing.assert_allclose(_running_median(x, half), ref, rtol=0, atol=0)
 
 
 def test_add_depth_check_value_and_missing_latitude():
@@ -111,39 +112,30 @@ def test_add_depth_check_value_and_missing_latitude():
         pr.add_depth(cast)
 
 
-def test_profile_steps_still_importable_from_process():
-    # bin_cast, fill_gaps and add_sound_speed moved to seaprofile.casts.binning
-    from seaprofile.casts import binning
-
-    for name in ("bin_cast", "fill_gaps", "add_sound_speed"):
-        assert getattr(pr, name) is getattr(binning, name)
-        assert name in pr.__all__
-
-
 def test_despike_spares_coarse_casts_and_window_ends():
     # a smooth tanh thermocline sampled every 10 m: a 15-sample window spans 140 m, too
     # coarse for a running median; before the fix thermocline samples were flagged 4
     z = np.arange(3.7, 1000.0, 10.0)
     t = 4.0 + 7.0 * (1.0 - np.tanh((z - 150.0) / 40.0))
     cast = make_cast(pressure=z, temperature=t, salinity=np.full(z.size, 35.0))
-    out = pr.despike(cast)
+    out = despike(cast)
     assert (out["temperature_qc"].values == 0).all()
     step = _cf.steps_of(out.attrs)[-1]
     assert step["not_tested"] == {"temperature": z.size, "salinity": z.size}
     assert "Argo spike test" in step["not_tested_reason"]
     # a dense record: only the 7 values at each end lack a full window
     zd = np.linspace(1, 300, 1500)
-    dense = pr.despike(make_cast(pressure=zd, temperature=8.0 + 0.01 * zd))
+    dense = despike(make_cast(pressure=zd, temperature=8.0 + 0.01 * zd))
     assert _cf.steps_of(dense.attrs)[-1]["not_tested"]["temperature"] == 14
     with pytest.raises(SeaprofileError, match="max_span"):
-        pr.despike(cast, max_span=0.0)
+        despike(cast, max_span=0.0)
 
 
 def test_despike_reports_where_it_flagged():
     z = np.linspace(1, 300, 1500)
     t = 8.0 + 0.01 * z
     t[700] += 1.0
-    out = pr.despike(make_cast(pressure=z, temperature=t))
+    out = despike(make_cast(pressure=z, temperature=t))
     step = _cf.steps_of(out.attrs)[-1]
     assert step["flagged"] == {"temperature": 1}
     assert step["flagged_at"]["temperature"] == [pytest.approx(z[700])]
@@ -220,7 +212,7 @@ def test_despike_passes_a_bad_conductivity_on_to_its_salinity():
     c[100] = 45.5  # an invented spike, well above the conductivity floor of 0.05 mS/cm
     cast = pr.add_salinity(make_cast(pressure=p, temperature=np.full(p.size, 18.0),
                                      conductivity=c))
-    out = pr.despike(cast, variables=["conductivity"])
+    out = despike(cast, variables=["conductivity"])
     assert out["conductivity_qc"].values[100] == 4
     assert out["salinity_qc"].values[100] == 4
     assert np.count_nonzero(out["salinity_qc"].values == 4) == 1
