@@ -24,11 +24,39 @@ CHANGED = 5
 ESTIMATED = 8
 MISSING = 9
 
+#: Flags of values no one should use: probably bad (3), bad (4) and missing (9). Values
+#: flagged so are left out of bin averages, extensions, comparisons, plots, ray tracing
+#: and layer diagnostics. Estimated values (8: filled, extended, replaced) stay usable.
+UNUSABLE_FLAGS = (PROBABLY_BAD, BAD, MISSING)
+#: Flags of values quality-control tests neither test nor use as a neighbour: the
+#: unusable ones and, in addition, estimated values (8), which were not measured.
+NOT_MEASURED_FLAGS = (PROBABLY_BAD, BAD, ESTIMATED, MISSING)
+#: Flags of values that failed a test (3, 4): a quantity derived from such a value is
+#: flagged the same (quality control passes them on; see ``derived_from``).
+FAILED_FLAGS = (PROBABLY_BAD, BAD)
+
 FLAG_VALUES = np.array([0, 1, 2, 3, 4, 5, 8, 9], dtype=np.int8)
 FLAG_MEANINGS = (
     "no_qc_performed good_data probably_good_data bad_data_that_are_potentially_correctable "
     "bad_data value_changed estimated_value missing_value"
 )
+
+
+def usable(values, flags):
+    """Where ``values`` may be used: finite and not flagged 3, 4 or 9.
+
+    Parameters
+    ----------
+    values : array_like of float
+        Values of any variable, in its own units.
+    flags : array_like of int
+        Their Argo flags (same shape), see :data:`UNUSABLE_FLAGS`.
+
+    Returns
+    -------
+    numpy.ndarray of bool
+    """
+    return np.isfinite(values) & ~np.isin(flags, UNUSABLE_FLAGS)
 
 
 def flag_attrs(variable):
@@ -112,7 +140,75 @@ VARIABLES = {
     "range": {"long_name": "horizontal range from the source", "units": "m"},
     "travel_time": {"long_name": "one-way travel time", "units": "s"},
     "transmission_loss": {"long_name": "transmission loss", "units": "dB"},
+    "profile_id": {"cf_role": "profile_id", "long_name": "cast name"},
+    # --- derived products of a Cast or a Profile
+    "sound_speed_difference": {"long_name": "sound speed difference (a - b)", "units": "m s-1"},
+    # ``{equation}``: the key of the sound-speed equation (filled in by casts.probe)
+    "probe_sound_speed_difference": {
+        "long_name": "measured minus computed ({equation}) sound speed",
+        "units": "m s-1",
+    },
+    "absolute_salinity": {
+        "standard_name": "sea_water_absolute_salinity",
+        "long_name": "absolute salinity (TEOS-10)",
+        "units": "g kg-1",
+    },
+    "reference_salinity": {
+        "standard_name": "sea_water_reference_salinity",
+        "long_name": "reference salinity (TEOS-10; used when the position is unknown)",
+        "units": "g kg-1",
+    },
+    "potential_density_anomaly": {
+        "standard_name": "sea_water_sigma_theta",
+        "long_name": "potential density anomaly referenced to 0 dbar (sigma0, TEOS-10)",
+        "units": "kg m-3",
+    },
+    "buoyancy_frequency_squared": {
+        "standard_name": "square_of_brunt_vaisala_frequency_in_sea_water",
+        "long_name": "buoyancy frequency squared at pressure mid-points (TEOS-10)",
+        "units": "s-2",
+    },
+    "sonic_layer_depth": {
+        "long_name": "sonic layer depth (near-surface sound speed maximum)",
+        "units": "m",
+        "positive": "down",
+    },
+    # --- ray fans (propagation.rays) and eigenrays (propagation.eigenrays)
+    "angle": {"long_name": "ray angle from horizontal, positive toward the bottom",
+              "units": "degree"},
+    "launch_angle": {"long_name": "launch angle from horizontal, positive toward the bottom",
+                     "units": "degree"},
+    "arrival_angle": {
+        "long_name": "ray angle at the receiver from horizontal, positive toward the bottom",
+        "units": "degree",
+    },
+    "point_count": {"long_name": "number of valid points along the ray", "units": "1"},
+    "surface_reflections": {"long_name": "number of surface reflections", "units": "1"},
+    "bottom_reflections": {"long_name": "number of bottom reflections", "units": "1"},
+    "turning_points": {"long_name": "number of refracted turning points", "units": "1"},
+    "caustics": {"long_name": "number of caustics passed (ray-tube width changes sign)",
+                 "units": "1"},
+    "spreading": {
+        "long_name": "dynamic-ray spreading q: distance between neighbouring rays per radian "
+                     "of launch angle",
+        "units": "m rad-1",
+    },
+    "receiver_range_index": {"long_name": "index of the receiver range", "units": "1"},
+    "receiver_depth_index": {"long_name": "index of the receiver depth", "units": "1"},
+    "spreading_loss": {
+        "long_name": "geometric spreading loss of the eigenray (ray-tube area)",
+        "units": "dB",
+        "reference": "re 1 m",
+    },
+    "phase": {"long_name": "phase shift: pi per surface reflection plus pi/2 per caustic",
+              "units": "rad"},
+    "depth_miss": {
+        "long_name": "depth of the eigenray at the receiver range minus receiver depth",
+        "units": "m",
+    },
+    "arrival_count": {"long_name": "number of eigenrays found", "units": "1"},
 }
+
 
 def attrs_for(name, **extra):
     """A fresh copy of the CF attributes for ``name``, updated with ``extra``."""

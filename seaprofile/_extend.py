@@ -15,7 +15,7 @@ import xarray as xr
 
 from . import _cf
 from ._validate import SeaprofileError
-from .casts._common import EXCLUDED, cast_latitude
+from .casts._common import cast_latitude
 from .casts._qc_tests import GLOBAL_RANGE, MAX_OCEAN_DEPTH, SOUND_SPEED_RANGE
 from .casts.binning import _equation_sound_speed as equation_sound_speed
 from .casts.binning import check_bin_count, check_step
@@ -87,7 +87,7 @@ class LongExtensionWarning(UserWarning):
 def _last_good(profile):
     c = profile["sound_speed"].values
     f = profile["sound_speed_qc"].values
-    ok = np.isfinite(c) & ~np.isin(f, EXCLUDED)
+    ok = _cf.usable(c, f)
     idx = np.flatnonzero(ok)
     if idx.size == 0:
         raise SeaprofileError("profile has no usable sound speed to extend from")
@@ -277,7 +277,7 @@ def _usable_reference(reference, var):
     r = reference[var].values.astype(np.float64)
     ok = np.isfinite(r)
     if f"{var}_qc" in reference:
-        ok &= ~np.isin(reference[f"{var}_qc"].values, EXCLUDED)
+        ok &= ~np.isin(reference[f"{var}_qc"].values, _cf.UNUSABLE_FLAGS)
     if not ok.any():
         raise SeaprofileError(f"reference has no usable {var}")
     return zr[ok], r[ok]

@@ -14,26 +14,26 @@ import xarray as xr
 
 from . import _cf
 from ._validate import SeaprofileError
-from .casts import process as _p
-from .casts import qc as _qc
-from ._extend import (  # noqa: F401  (re-exported: the extension lives in _extend.py)
+from ._extend import (
     JOIN_BLEND,
-    LONG_EXTENSION_FRACTION,
-    LONG_EXTENSION_M,
     LongExtensionWarning,
-    check_bottom_depth,
     _is_bottom,
     cast_bottom_depth,
+    check_bottom_depth,
     extend_to,
 )
-from .casts._common import EXCLUDED
-from .casts.binning import check_step
+from .casts import binning as _b
+from .casts import process as _p
+from .casts import qc as _qc
+from .casts.despike import despike as _despike
 
 _extend = extend_to  # build_profile's argument of the same name hides the function
 
+# extend_to, cast_bottom_depth, check_bottom_depth, JOIN_BLEND and LongExtensionWarning are
+# defined in the private module _extend.py: this is their public home
 __all__ = ["build_profile", "extend_to", "compare_profiles", "describe_assumptions",
            "cast_bottom_depth", "check_bottom_depth", "CAST_TESTS", "PROFILE_TESTS",
-           "JOIN_BLEND"]
+           "JOIN_BLEND", "LongExtensionWarning"]
 
 #: quality-control tests run on the Cast's samples, in order
 CAST_TESTS = ("global_range", "pressure_increasing", "spike", "stuck_value",
@@ -60,17 +60,17 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
        depth) -- before QC so the tests and the density check have both;
     7. :func:`~seaprofile.casts.qc.run_qc` with :data:`CAST_TESTS` (if ``qc``): the
        published Argo tests first, so that what they catch is counted under their names;
-    8. :func:`~seaprofile.casts.process.despike` (a robust median test for what the Argo
+    8. :func:`~seaprofile.casts.despike.despike` (a robust median test for what the Argo
        thresholds let through on dense records; flags only);
     9. with ``replacement_salinity`` only:
        :func:`~seaprofile.casts.process.replace_salinity` (for ``replace_salinity="bad"``
        after the tests and despiking that find the bad values, with the density-inversion
        test run after it; for ``"all"`` before quality control);
-    10. :func:`~seaprofile.casts.process.bin_cast`: bins where the cast is denser than
+    10. :func:`~seaprofile.casts.binning.bin_cast`: bins where the cast is denser than
         the bins, its own levels where it is sparser;
-    11. :func:`~seaprofile.casts.process.fill_gaps`: every interior level without data
+    11. :func:`~seaprofile.casts.binning.fill_gaps`: every interior level without data
         (by default) interpolated linearly in depth and flagged 8;
-    12. :func:`~seaprofile.casts.process.add_sound_speed`;
+    12. :func:`~seaprofile.casts.binning.add_sound_speed`;
     13. :func:`~seaprofile.casts.qc.run_qc` with :data:`PROFILE_TESTS` (if ``qc``);
     14. :func:`extend_to` when ``extend_to`` is given (skipped, and recorded as skipped,
         when no bin has a usable sound speed).
@@ -129,7 +129,7 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     """
     if not isinstance(cast, xr.Dataset) or "sample" not in cast.dims:
         raise SeaprofileError("cast must be a Cast (xarray.Dataset with dimension 'sample')")
-    bin_size = check_step(bin_size, "bin_size")
+    bin_size = _b.check_step(bin_size, "bin_size")
     bottom = None
     if extend_to is not None:
         bottom = (cast_bottom_depth(cast) if _is_bottom(extend_to)
@@ -156,14 +156,14 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     tests = tuple(t for t in CAST_TESTS if not (late and t == "density_inversion"))
     if qc:  # the published Argo tests first, so their counts are theirs
         ds = _qc.run_qc(ds, tests)
-    ds = _p.despike(ds)
+    ds = _despike(ds)
     if late:
         ds = _p.replace_salinity(ds, replacement_salinity, where="bad")
         if qc and "density_inversion" in CAST_TESTS:
             ds = _qc.run_qc(ds, ("density_inversion",))
-    prof = _p.bin_cast(ds, bin_size, "depth", argument="bin_size")
-    prof = _p.fill_gaps(prof, max_gap)
-    prof = _p.add_sound_speed(prof, equation)
+    prof = _b.bin_cast(ds, bin_size, "depth", argument="bin_size")
+    prof = _b.fill_gaps(prof, max_gap)
+    prof = _b.add_sound_speed(prof, equation)
     if qc:
         prof = _qc.run_qc(prof, PROFILE_TESTS)
     if bottom is not None:
@@ -181,7 +181,7 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
 def _usable(profile):
     c = profile["sound_speed"].values
     f = profile["sound_speed_qc"].values
-    return bool((np.isfinite(c) & ~np.isin(f, EXCLUDED)).any())
+    return bool(_cf.usable(c, f).any())
 
 
 def describe_assumptions(profile):
@@ -243,7 +243,7 @@ def compare_profiles(a, b):
     def usable(p):
         c = p["sound_speed"].values.astype(np.float64)
         f = p["sound_speed_qc"].values if "sound_speed_qc" in p else np.zeros(c.size, np.int8)
-        ok = np.isfinite(c) & ~np.isin(f, (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING))
+        ok = _cf.usable(c, f)
         return p["depth"].values.astype(np.float64)[ok], c[ok]
 
     for name, p in (("a", a), ("b", b)):
@@ -265,6 +265,5 @@ def compare_profiles(a, b):
         profile_a=str(a.attrs.get("cast_name", "a")), profile_b=str(b.attrs.get("cast_name", "b")),
     )
     return xr.Dataset(
-        {"sound_speed_difference": (("depth",), d, {
-            "long_name": "sound speed difference (a - b)", "units": "m s-1"})},
+        {"sound_speed_difference": (("depth",), d, _cf.attrs_for("sound_speed_difference"))},
         coords={"depth": ("depth", z, _cf.attrs_for("depth"))}, attrs=attrs)

@@ -7,6 +7,7 @@ import xarray as xr
 
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
+from seaprofile.casts import binning
 from seaprofile.casts import process as pr
 from seaprofile.casts.model import make_cast
 from seaprofile.casts.qc import qc_summary
@@ -118,7 +119,7 @@ def test_extend_with_reference_joins_continuously():
     zr = np.arange(0.0, 1001.0, 5.0)
     ref = make_cast(depth=zr, temperature=3.0 + 15.0 * np.exp(-zr / 150.0),
                     salinity=np.full(zr.size, 35.0), latitude=LAT, longitude=LON)
-    ref = pr.add_sound_speed(pr.bin_cast(pr.add_depth(ref), 5.0))
+    ref = binning.add_sound_speed(binning.bin_cast(pr.add_depth(ref), 5.0))
     out = extend_to(prof, 800.0, reference=ref)
     c = out["sound_speed"].values
     z = out["depth"].values
@@ -263,3 +264,40 @@ def test_validators_name_the_option_they_are_given():
     with pytest.raises(SeaprofileError, match="--bin"):
         check_step("inf", "--bin")
     assert check_bottom_depth("4800", "--extend-to") == 4800.0
+
+
+@pytest.mark.parametrize("path", ["made", "read"])
+def test_salinity_from_a_failed_conductivity_is_not_binned(tmp_path, path):
+    # Invented cast: a mixed layer (20 degC, S 34.5) to 60 dbar over a thermocline,
+    # sampled every 0.25 dbar. At 30 dbar both sensors glitch: temperature 0.1 degC low and
+    # conductivity low enough to give a salinity 0.015 low. Despiking flags the
+    # temperature and the conductivity (beyond their floors of 0.05), but the salinity
+    # computed from them moves by less than its own floor (0.02) and no Argo threshold,
+    # nor the density test (the glitch makes the water denser by 0.015 kg m-3, gsw, under
+    # its threshold of 0.03), looks at it by itself. Its inputs failed, so it must not be binned.
+    p = np.arange(1.0, 201.0, 0.25)
+    t = np.where(p < 60.0, 20.0, 20.0 - 12.0 * (1 - np.exp(-(p - 60.0) / 50.0)))
+    s = np.where(p < 60.0, 34.5, 34.5 + 0.5 * (1 - np.exp(-(p - 60.0) / 50.0)))
+    k = int(np.flatnonzero(p == 30.0)[0])
+    t[k] -= 0.1
+    s[k] -= 0.015
+    c = gsw.C_from_SP(s, t, p)
+    if path == "made":
+        cast = make_cast(pressure=p, temperature=t, conductivity=c, latitude=LAT,
+                         longitude=LON)
+    else:
+        from seaprofile.casts.read import read_cast
+
+        f = tmp_path / "conductivity.csv"
+        rows = "".join(f"{a!r},{b!r},{d!r}\n" for a, b, d in zip(p.tolist(), t.tolist(),
+                                                                  c.tolist()))
+        f.write_text(f"# latitude: {LAT}\n# longitude: {LON}\npres,temp,cond\n" + rows)
+        cast = read_cast(f)
+    prof = build_profile(cast)
+    despiked = [st for st in _cf.steps_of(prof.attrs) if st["step"] == "despike"][0]
+    assert despiked["flagged"]["conductivity"] == 1
+    assert despiked["flagged"]["salinity"] == 0
+    # the 30 m bin (29.5..30.5 m, four samples around 30 dbar) holds only mixed-layer
+    # water once the glitch is left out; with it the mean would be 34.5 - 0.015 / 4
+    assert prof["salinity"].sel(depth=30.0).item() == pytest.approx(34.5, abs=1e-9)
+    assert prof["temperature"].sel(depth=30.0).item() == pytest.approx(20.0, abs=1e-9)

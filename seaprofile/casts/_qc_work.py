@@ -17,9 +17,6 @@ from .. import _cf
 from .._validate import SeaprofileError
 from .flags import raise_flags
 
-#: flags whose values a test neither tests nor uses as a neighbour
-_UNUSABLE = (_cf.PROBABLY_BAD, _cf.BAD, _cf.ESTIMATED, _cf.MISSING)
-
 
 def _dim(ds):
     if "sample" in ds.dims:
@@ -64,7 +61,7 @@ class _Work:
     def usable(self, var):
         """Values of ``var`` and where they are finite and not flagged 3, 4, 8 or 9."""
         values = self.ds[var].values.astype(np.float64)
-        return values, np.isfinite(values) & ~np.isin(self.flag(var), _UNUSABLE)
+        return values, np.isfinite(values) & ~np.isin(self.flag(var), _cf.NOT_MEASURED_FLAGS)
 
     def apply(self, hits, test, flag=_cf.BAD):
         entry = self.summary.setdefault(test, {})

@@ -3,9 +3,8 @@
 :func:`bin_cast` averages the usable samples of a Cast into regular depth (or pressure)
 bins -- the Profile; :func:`fill_gaps` interpolates across short runs of empty bins
 (flagged 8, estimated); :func:`add_sound_speed` adds sound speed, computed by a published
-equation or taken from a sound-speed probe. All three are also importable from
-:mod:`seaprofile.casts.process`, the steps that come before them. Inputs are never
-modified; each step records itself with :func:`seaprofile._cf.record_step`.
+equation or taken from a sound-speed probe. The steps before them are in
+:mod:`seaprofile.casts.process`. Inputs are never modified; each step records itself with :func:`seaprofile._cf.record_step`.
 """
 
 from __future__ import annotations
@@ -18,7 +17,6 @@ from .._validate import SeaprofileError
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
 from ._common import (
-    EXCLUDED,
     cast_latitude,
     position,
     require_cast,
@@ -210,7 +208,7 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
 
 def _usable(cast, var):
     vals = cast[var].values.astype(np.float64)
-    return np.isfinite(vals) & ~np.isin(cast[f"{var}_qc"].values, EXCLUDED)
+    return _cf.usable(vals, cast[f"{var}_qc"].values)
 
 
 def _isolated(x, placed, distance):
@@ -233,7 +231,7 @@ def _level_values(cast, var, levels):
     """Own values and flags of the kept levels (NaN and 9 where not usable)."""
     vals = cast[var].values.astype(np.float64)[levels]
     fl = cast[f"{var}_qc"].values[levels].astype(np.int8)
-    ok = np.isfinite(vals) & ~np.isin(fl, EXCLUDED)
+    ok = _cf.usable(vals, fl)
     return np.where(ok, vals, np.nan), np.where(ok, fl, _cf.MISSING).astype(np.int8)
 
 
@@ -263,7 +261,7 @@ def _bin_numbers(x, flags, step, axis, argument="step"):
     centres)`` covering the shallowest to the deepest occupied bin.
     """
     with np.errstate(invalid="ignore"):
-        placed = np.isfinite(x) & ~np.isin(flags, EXCLUDED) & (x >= -0.5 * step)
+        placed = _cf.usable(x, flags) & (x >= -0.5 * step)
     if not placed.any():
         raise SeaprofileError(f"cast has no usable {axis} samples to bin")
     lo, hi = float(x[placed].min()), float(x[placed].max())
@@ -288,7 +286,7 @@ def _bin_means(cast, var, placed, idx, nb):
     """Mean of the usable samples of ``var`` in each bin, and the bin flags (9 if none)."""
     vals = cast[var].values.astype(np.float64)
     fl = cast[f"{var}_qc"].values
-    use = placed & np.isfinite(vals) & ~np.isin(fl, EXCLUDED)
+    use = placed & _cf.usable(vals, fl)
     n = np.bincount(idx[use], minlength=nb)
     total = np.bincount(idx[use], weights=vals[use], minlength=nb)
     with np.errstate(invalid="ignore", divide="ignore"):

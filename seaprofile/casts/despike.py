@@ -1,8 +1,8 @@
 """Despiking a Cast: a running-median test that scales with the sample spacing.
 
 :func:`despike` flags (never deletes) values that stand out from a running median of their
-neighbours, where the neighbours are close enough for the median to mean something; it is
-importable from :mod:`seaprofile.casts.process` too. It runs after the Argo tests of
+neighbours, where the neighbours are close enough for the median to mean something. It
+runs after the Argo tests of
 :mod:`seaprofile.casts.qc`, to catch what their thresholds let through on dense records.
 """
 
@@ -13,8 +13,8 @@ import numpy as np
 
 from .. import _cf
 from .._validate import SeaprofileError
-from ._common import EXCLUDED, require_cast, vertical
-from .flags import raise_flags
+from ._common import require_cast, vertical
+from .flags import pass_on_failed, raise_flags
 
 __all__ = ["despike", "DESPIKE_FLOOR", "DESPIKE_MAX_SPAN"]
 
@@ -108,9 +108,12 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
     Returns
     -------
     xarray.Dataset
-        A new Cast with raised flags (nothing deleted). The step records ``flagged``
+        A new Cast with raised flags (nothing deleted); a spike in an input of a derived
+        variable (conductivity under salinity computed from it) flags the derived value
+        too (:func:`seaprofile.casts.flags.pass_on_failed`). The step records ``flagged``
         (count per variable), ``flagged_at`` (pressures, or depths, of the first 20
-        flagged values per variable), ``not_tested`` (count per variable) and the reason.
+        flagged values per variable), ``not_tested`` (count per variable) and the reason,
+        and ``bad_input`` (derived values flagged because of a flagged input).
 
     Notes
     -----
@@ -147,9 +150,13 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
         new = np.zeros(flags.size, np.int8)
         new[idx[hit]] = _cf.BAD
         out.variables[f"{var}_qc"].data = raise_flags(flags, new)
+    passed = {}
+    for var, f in pass_on_failed(out, lambda v: out[f"{v}_qc"].values).items():
+        passed[var] = int(np.count_nonzero(f != out[f"{var}_qc"].values))
+        out.variables[f"{var}_qc"].data = f
     out.attrs = _cf.record_step(
         cast.attrs, "despike", window=window, threshold=threshold, max_span=max_span,
-        flagged=counts, flagged_at=where, not_tested=untested,
+        flagged=counts, flagged_at=where, not_tested=untested, bad_input=passed,
         not_tested_reason=f"fewer than {half} usable samples on a side, or the window spans "
                           f"more than {max_span:g}: left to the Argo spike test")
     return out
@@ -157,7 +164,7 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
 
 def _despike_one(x, flags, vert, half, threshold, floor, max_span):
     """Indices of the usable values, which of them are spikes, and how many were tested."""
-    idx = np.flatnonzero(np.isfinite(x) & ~np.isin(flags, EXCLUDED) & np.isfinite(vert))
+    idx = np.flatnonzero(_cf.usable(x, flags) & np.isfinite(vert))
     m = idx.size
     full = np.zeros(m, bool)
     if m >= 2 * half + 1:

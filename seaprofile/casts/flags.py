@@ -5,7 +5,9 @@ test's flags into the current ones so that none is ever lowered, comparing by se
 ``0 < 1 < 2 < 5 < 3 < 4`` (Argo's order 0 < 1 < 2 < 3 < 4, with 5 "changed" counted as
 usable data below "probably bad") and never changing 8 (estimated) or 9 (missing).
 :func:`worst_flag` gives a quantity derived from several inputs the most severe of their
-flags in the order ``0 < 1 < 2 < 5 < 8 < 3 < 4 < 9``.
+flags in the order ``0 < 1 < 2 < 5 < 8 < 3 < 4 < 9``; :func:`derived_variables` says which
+variables of a Dataset were computed from which, and :func:`pass_on_failed` passes the
+flags of failed inputs on to them (used by quality control and despiking).
 """
 
 from __future__ import annotations
@@ -14,7 +16,7 @@ import numpy as np
 
 from .. import _cf
 
-__all__ = ["raise_flags", "worst_flag"]
+__all__ = ["raise_flags", "worst_flag", "derived_variables", "pass_on_failed"]
 
 # severity rank indexed by the flag value 0..9 (6 and 7 are unused by Argo table 2)
 _RAISE_RANK = np.array([0, 1, 2, 4, 5, 3, 0, 0, 0, 0], dtype=np.int8)
@@ -55,3 +57,69 @@ def worst_flag(*flags):
     for f in arrays[1:]:
         out = np.where(_DERIVED_RANK[f] > _DERIVED_RANK[out], f, out)
     return out.astype(np.int8)
+
+
+def derived_variables(ds):
+    """The variables of ``ds`` computed from others, with the inputs present in ``ds``.
+
+    A variable is derived when its attribute ``derived_from`` names its inputs (separated
+    by spaces; :func:`seaprofile.casts.process.add_salinity` writes it). Datasets made
+    without that attribute follow two rules: salinity next to conductivity was computed
+    from it (a CTD's salinity channel is), and a ``sound_speed`` whose ``equation``
+    attribute is not ``"measured"`` from temperature, salinity and pressure.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A Cast or a Profile.
+
+    Returns
+    -------
+    list of (str, tuple of str)
+        ``(variable, inputs)`` pairs, in the order of ``ds``'s variables.
+    """
+    out = []
+    for var in ds.data_vars:
+        named = str(ds[var].attrs.get("derived_from", "")).split()
+        if not named and var == "salinity" and "conductivity" in ds.data_vars:
+            named = ["conductivity", "temperature", "pressure"]
+        if (not named and var == "sound_speed"
+                and ds.attrs.get("equation", "") != "measured"):
+            named = ["temperature", "salinity", "pressure"]
+        inputs = tuple(v for v in named if v in ds.data_vars and v != var)
+        if inputs:
+            out.append((str(var), inputs))
+    return out
+
+
+def pass_on_failed(ds, flag):
+    """Flags of the derived variables of ``ds`` after passing on failed input flags.
+
+    Where an input of a derived variable (:func:`derived_variables`) is flagged 3 or 4
+    (:data:`seaprofile._cf.FAILED_FLAGS`) the derived value is raised to that flag
+    (:func:`worst_flag` of the inputs, merged with :func:`raise_flags`: never lowered;
+    8 and 9 kept).
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A Cast or a Profile.
+    flag : callable
+        ``flag(variable)`` returns the current flags (int array) of a variable of ``ds``.
+
+    Returns
+    -------
+    dict
+        ``{variable: new flags}`` for every derived variable (a derived variable that is
+        the input of another is done first).
+    """
+    pairs = derived_variables(ds)
+    # inputs first: salinity before the sound speed computed from it
+    pairs.sort(key=lambda pair: -sum(pair[0] in inputs for _, inputs in pairs))
+    out = {}
+    for var, inputs in pairs:
+        src = worst_flag(*[out[v] if v in out else flag(v) for v in inputs])
+        failed = np.isin(src, _cf.FAILED_FLAGS)
+        out[var] = raise_flags(out[var] if var in out else flag(var),
+                               np.where(failed, src, 0))
+    return out

@@ -60,15 +60,13 @@ def compare_measured_sound_speed(cast, equation="chen_millero1977"):
     for v in (*needed, vertical):
         q = f"{v}_qc"
         if q in cast:
-            bad |= np.isin(cast[q].values, (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING))
+            bad |= np.isin(cast[q].values, _cf.UNUSABLE_FLAGS)
     diff = np.where(bad, np.nan, diff)
     finite = diff[np.isfinite(diff)]
-    attrs = {
-        "long_name": f"measured minus computed ({equation}) sound speed",
-        "units": "m s-1",
-        "equation": equation,
-        "mean_difference": float(finite.mean()) if finite.size else np.nan,
-        "std_difference": float(finite.std()) if finite.size else np.nan,
-    }
+    attrs = _cf.attrs_for(
+        "probe_sound_speed_difference", equation=equation,
+        mean_difference=float(finite.mean()) if finite.size else np.nan,
+        std_difference=float(finite.std()) if finite.size else np.nan)
+    attrs["long_name"] = attrs["long_name"].format(equation=equation)
     return xr.DataArray(diff, dims=("sample",), coords={vertical: ("sample",
                         cast[vertical].values)}, name="sound_speed_difference", attrs=attrs)

@@ -9,16 +9,18 @@ Steps that *select* the part of the record to work with -- :func:`remove_soak`,
 :func:`select_direction`, :func:`remove_reversals` -- return a Cast holding only the
 selected samples, and record how many samples they left out (and which, for the soak and
 direction). The original Cast, which the caller keeps, still holds every sample. Steps that
-*judge* values -- :func:`despike` and everything in :mod:`seaprofile.casts.qc` -- never
-remove anything: they raise ``<var>_qc`` flags, and :func:`bin_cast` leaves values flagged
+*judge* values -- :func:`~seaprofile.casts.despike.despike` and everything in
+:mod:`seaprofile.casts.qc` -- never remove anything: they raise ``<var>_qc`` flags, and
+:func:`~seaprofile.casts.binning.bin_cast` leaves values flagged
 3 (probably bad), 4 (bad) or 9 (missing) out of the bin averages. A sample whose pressure
 is impossible (flagged, or outside -5..12000 dbar) is not judged by the selection steps:
 it is kept for quality control to flag, with its reason.
 
-:func:`replace_salinity` puts a given salinity (flag 8) where the salinity channel failed.
-:func:`despike` lives in :mod:`seaprofile.casts.despike`; the steps on a Profile --
-:func:`bin_cast`, :func:`fill_gaps` and :func:`add_sound_speed` -- in
-:mod:`seaprofile.casts.binning`. All are importable from here.
+:func:`add_salinity` computes salinity from conductivity (:func:`salinity_and_flags`, the
+one place this is done, reading a file included) and :func:`replace_salinity` puts a given
+salinity (flag 8) where the salinity channel failed. Despiking is in
+:mod:`seaprofile.casts.despike`; the steps on a Profile -- ``bin_cast``, ``fill_gaps`` and
+``add_sound_speed`` -- in :mod:`seaprofile.casts.binning`.
 """
 
 from __future__ import annotations
@@ -31,7 +33,6 @@ from ..seawater.depth import METHODS as DEPTH_METHODS
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.state import salinity_from_conductivity
 from ._common import (
-    EXCLUDED,
     cast_latitude,
     exceeds_earlier,
     require_cast,
@@ -39,14 +40,6 @@ from ._common import (
     with_variable,
 )
 from ._qc_tests import GLOBAL_RANGE
-from .binning import _equation_sound_speed  # noqa: F401  (used by seaprofile.profile)
-from .binning import add_sound_speed, bin_cast, fill_gaps  # noqa: F401  (re-exported)
-from .despike import (  # noqa: F401  (re-exported)
-    DESPIKE_FLOOR,
-    DESPIKE_MAX_SPAN,
-    _running_median,
-    despike,
-)
 from .flags import worst_flag
 
 __all__ = [
@@ -54,17 +47,12 @@ __all__ = [
     "select_direction",
     "remove_reversals",
     "add_salinity",
-    "despike",
+    "salinity_and_flags",
     "replace_salinity",
     "add_depth",
-    "bin_cast",
-    "fill_gaps",
-    "add_sound_speed",
-    "DESPIKE_FLOOR",
-    "DESPIKE_MAX_SPAN",
+    "SALINITY_INPUTS",
+    "SALINITY_SOURCE",
 ]
-
-_latitude = cast_latitude  # a private name seaprofile.profile uses
 
 
 # --- helpers ---------------------------------------------------------------------------
@@ -90,7 +78,7 @@ def _selection_vertical(cast):
     name, v = vertical(cast)
     low, high = GLOBAL_RANGE[name]
     with np.errstate(invalid="ignore"):
-        bad = (v < low) | (v > high) | np.isin(cast[f"{name}_qc"].values, EXCLUDED)
+        bad = (v < low) | (v > high) | np.isin(cast[f"{name}_qc"].values, _cf.UNUSABLE_FLAGS)
     return np.where(bad, np.nan, v), bad
 
 
@@ -247,6 +235,47 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
 
 
 # --- derived variables -----------------------------------------------------------------
+#: the inputs of practical salinity computed from conductivity, in the order of gsw.SP_from_C
+SALINITY_INPUTS = ("conductivity", "temperature", "pressure")
+#: what :func:`add_salinity` writes to the Cast's ``salinity_source`` attribute
+SALINITY_SOURCE = "computed from conductivity (PSS-78)"
+
+
+def salinity_and_flags(cast):
+    """Practical salinity from a Cast's conductivity, temperature and pressure, and its flags.
+
+    The one place salinity is computed from conductivity: reading a file and
+    :func:`add_salinity` both use it.
+
+    Parameters
+    ----------
+    cast : xarray.Dataset
+        A Cast with ``conductivity`` (mS/cm), ``temperature`` (degC, ITS-90) and
+        ``pressure`` (sea pressure, dbar), each with its ``_qc`` flags.
+
+    Returns
+    -------
+    salinity : numpy.ndarray of float64
+        Practical salinity (PSS-78), dimensionless.
+    flags : numpy.ndarray of int8
+        The worst of the three inputs' flags (:func:`~seaprofile.casts.flags.worst_flag`:
+        a bad or estimated input makes the salinity bad or estimated), 9 (missing) where
+        the salinity is NaN.
+
+    Notes
+    -----
+    Practical Salinity Scale 1978 (Unesco 1981, Unesco Tech. Pap. Mar. Sci. 36), evaluated
+    with ``gsw.SP_from_C`` (:func:`seaprofile.seawater.state.salinity_from_conductivity`).
+    """
+    for v in SALINITY_INPUTS:
+        if v not in cast.data_vars:
+            raise SeaprofileError(f"cast needs {v} to compute salinity from conductivity")
+    values = np.asarray(salinity_from_conductivity(*[cast[v].values for v in SALINITY_INPUTS]),
+                        dtype=np.float64)
+    flags = worst_flag(*[cast[f"{v}_qc"].values for v in SALINITY_INPUTS])
+    return values, np.where(np.isfinite(values), flags, _cf.MISSING).astype(np.int8)
+
+
 def add_salinity(cast):
     """Practical salinity from conductivity, temperature and pressure (PSS-78, via gsw).
 
@@ -258,22 +287,22 @@ def add_salinity(cast):
     Returns
     -------
     xarray.Dataset
-        A new Cast with ``salinity``; its flags are the worst of the three inputs' flags.
-        A Cast that already has salinity is returned unchanged.
+        A new Cast with ``salinity`` and its flags from :func:`salinity_and_flags`. The
+        salinity's attribute ``derived_from`` names its inputs, so that quality control
+        and :func:`despike` pass a bad conductivity, temperature or pressure flag found
+        later on to it; the Cast's ``salinity_source`` says where it came from. A Cast that
+        already has salinity is returned unchanged.
     """
     require_cast(cast)
     if "salinity" in cast.data_vars:
         return cast.copy()
-    for v in ("conductivity", "temperature", "pressure"):
-        if v not in cast.data_vars:
-            raise SeaprofileError(f"cast needs {v} to compute salinity from conductivity")
-    s = salinity_from_conductivity(cast["conductivity"].values, cast["temperature"].values,
-                                   cast["pressure"].values)
-    flags = worst_flag(cast["conductivity_qc"].values, cast["temperature_qc"].values,
-                       cast["pressure_qc"].values)
-    out = with_variable(cast, "sample", "salinity", s, flags,
-                        comment="computed from conductivity, temperature and pressure (PSS-78)")
+    values, flags = salinity_and_flags(cast)
+    out = with_variable(cast, "sample", "salinity", values, flags,
+                        comment="computed from conductivity, temperature and pressure "
+                                "(PSS-78 via gsw.SP_from_C)",
+                        derived_from=" ".join(SALINITY_INPUTS))
     out.attrs = _cf.record_step(cast.attrs, "add_salinity", method="PSS-78 (gsw.SP_from_C)")
+    out.attrs["salinity_source"] = SALINITY_SOURCE
     return out
 
 
@@ -372,7 +401,7 @@ def replace_salinity(cast, salinity, *, where="bad"):
     if where == "all":
         mask = np.ones(n, bool)
     else:
-        mask = ~np.isfinite(old) | np.isin(old_flags, EXCLUDED)
+        mask = ~_cf.usable(old, old_flags)
     mask &= np.isfinite(values)
     new = np.where(mask, values, old)
     flags = np.where(mask, _cf.ESTIMATED, old_flags).astype(np.int8)

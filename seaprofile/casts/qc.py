@@ -12,7 +12,7 @@ Flag order
 A later test never lowers an earlier flag. Flags are compared by severity
 ``0 < 1 < 2 < 5 < 3 < 4`` (Argo's order 0 < 1 < 2 < 3 < 4, with 5 "changed" counted as
 usable data below "probably bad"); flags 8 (estimated) and 9 (missing) are never changed by
-a test. When a derived quantity takes the flags of its inputs (:func:`worst_flag`), the
+a test. When a derived quantity takes the flags of its inputs (``flags.worst_flag``), the
 severity order is ``0 < 1 < 2 < 5 < 8 < 3 < 4 < 9``: an estimated input makes the result
 estimated, a bad one makes it bad, a missing one makes it missing.
 
@@ -30,11 +30,11 @@ usable values above and below it.
 Where the code lives
 --------------------
 This module holds the driver (:func:`run_qc`, :data:`TESTS`, :func:`qc_summary`). The
-tests themselves and their default thresholds are in :mod:`seaprofile.casts._qc_tests`,
-the Dataset under test they share with the driver in :mod:`seaprofile.casts._qc_work`
-and the flag arithmetic (:func:`raise_flags`, :func:`worst_flag`) in
-:mod:`seaprofile.casts.flags`. Tests, thresholds and flag functions are all importable
-from here.
+tests themselves and their default thresholds are defined in the private module
+:mod:`seaprofile.casts._qc_tests` and made public here (import them from this module);
+the Dataset under test they share with the driver is in :mod:`seaprofile.casts._qc_work`,
+and the flag arithmetic (``raise_flags``, ``worst_flag``, ``pass_on_failed``) in
+:mod:`seaprofile.casts.flags`.
 """
 
 from __future__ import annotations
@@ -45,7 +45,8 @@ import numpy as np
 
 from .. import _cf
 from .._validate import SeaprofileError
-from ._qc_tests import (  # noqa: F401  (the default thresholds, re-exported)
+from ._qc_tests import (
+    BODIES,
     GLOBAL_RANGE,
     GRADIENT_THRESHOLDS,
     MAX_OCEAN_DEPTH,
@@ -53,9 +54,6 @@ from ._qc_tests import (  # noqa: F401  (the default thresholds, re-exported)
     SPIKE_THRESHOLDS,
     SPLIT_PRESSURE,
     STUCK_MIN_VALUES,
-)
-from ._qc_tests import (
-    BODIES,
     density_inversion,
     global_range,
     gradient,
@@ -65,13 +63,19 @@ from ._qc_tests import (
     stuck_value,
 )
 from ._qc_work import _Work
-from .flags import raise_flags, worst_flag
+from .flags import pass_on_failed
 
+# the tests and their default thresholds: defined in _qc_tests, public here
 __all__ = [
     "TESTS",
     "DEFAULT_TESTS",
-    "raise_flags",
-    "worst_flag",
+    "GLOBAL_RANGE",
+    "GRADIENT_THRESHOLDS",
+    "MAX_OCEAN_DEPTH",
+    "SOUND_SPEED_RANGE",
+    "SPIKE_THRESHOLDS",
+    "SPLIT_PRESSURE",
+    "STUCK_MIN_VALUES",
     "global_range",
     "pressure_increasing",
     "spike",
@@ -103,25 +107,13 @@ DEFAULT_TESTS = (
 
 
 def _propagate(w):
-    """Pass bad (3, 4) input flags on to derived salinity and sound speed."""
-    ds = w.ds
-    derived = []
-    if "salinity" in ds.data_vars and "conductivity" in ds.data_vars:
-        derived.append(("salinity", ("conductivity", "temperature", "pressure")))
-    if "sound_speed" in ds.data_vars and ds.attrs.get("equation", "") != "measured":
-        derived.append(("sound_speed", ("temperature", "salinity", "pressure")))
-    counts = {}
-    for var, inputs in derived:
-        src = worst_flag(*[w.flag(v) for v in inputs if v in ds.data_vars])
-        bad = np.isin(src, (_cf.PROBABLY_BAD, _cf.BAD))
-        old = w.flag(var)
-        new = raise_flags(old, np.where(bad, src, 0))
-        counts[var] = int(np.count_nonzero(new != old))
-        w.flags[var] = new
-    if counts:
+    """Pass failed (3, 4) input flags on to derived variables (salinity, sound speed)."""
+    new = pass_on_failed(w.ds, w.flag)
+    if new:
         entry = w.summary.setdefault("bad_input", {})
-        for var, n in counts.items():
-            entry[var] = entry.get(var, 0) + n
+        for var, f in new.items():
+            entry[var] = entry.get(var, 0) + int(np.count_nonzero(f != w.flag(var)))
+            w.flags[var] = f
 
 
 def run_qc(ds, tests=DEFAULT_TESTS):
@@ -139,10 +131,11 @@ def run_qc(ds, tests=DEFAULT_TESTS):
     Returns
     -------
     xarray.Dataset
-        A new Dataset: flags raised by the tests (never lowered; 8 and 9 kept); bad
-        temperature, pressure or conductivity flags passed on to salinity computed from
-        conductivity, and bad temperature, salinity or pressure flags to a computed
-        ``sound_speed``; flags still 0 of every variable a test examined set to 1 (good);
+        A new Dataset: flags raised by the tests (never lowered; 8 and 9 kept); failed
+        (3, 4) input flags passed on to the derived variables
+        (:func:`~seaprofile.casts.flags.derived_variables`: those whose ``derived_from``
+        attribute names their inputs, salinity next to conductivity, a computed
+        ``sound_speed``); flags still 0 of every variable a test examined set to 1 (good);
         ``qc_summary`` (JSON ``{test: {variable: number of values that failed}}``, counts
         added to those of earlier runs) and the step recorded in ``processing_steps``.
     """

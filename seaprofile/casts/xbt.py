@@ -16,6 +16,7 @@ from .. import _cf
 from .._validate import SeaprofileError, as_float_array
 from .._validate import is_lazy, warn_outside
 from ..seawater._apply import run_loop
+from ._common import with_variable
 
 __all__ = [
     "FALL_RATES",
@@ -204,11 +205,7 @@ def add_variable(cast, name, values, qc=None, **extra_attrs):
     values = np.asarray(values, dtype=np.float64)
     if qc is None:
         qc = np.where(np.isfinite(values), _cf.NO_QC, _cf.MISSING).astype(np.int8)
-    out = cast.copy()
-    out[name] = ("sample", values, _cf.attrs_for(name, ancillary_variables=f"{name}_qc",
-                                                **extra_attrs))
-    out[f"{name}_qc"] = ("sample", np.asarray(qc, dtype=np.int8), _cf.flag_attrs(name))
-    return out
+    return with_variable(cast, "sample", name, values, qc, **extra_attrs)
 
 
 def complete_xbt_cast(cast, *, fall_rate=DEFAULT_FALL_RATE, salinity=DEFAULT_SALINITY):

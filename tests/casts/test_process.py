@@ -6,6 +6,7 @@ import xarray as xr
 
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
+from seaprofile.casts.despike import _running_median, despike
 from seaprofile.casts import process as pr
 from seaprofile.casts.model import make_cast
 
@@ -81,11 +82,11 @@ def test_despike_flags_spikes_only():
     idx = [100, 500, 501, 900]
     t_spiky[idx] += [0.5, -1.0, -1.0, 2.0]
     cast = make_cast(pressure=z, temperature=t_spiky, salinity=np.full(z.size, 35.0))
-    out = pr.despike(cast)
+    out = despike(cast)
     assert np.flatnonzero(out["temperature_qc"].values == 4).tolist() == idx
     np.testing.assert_array_equal(out["temperature"].values, t_spiky)  # nothing deleted
     assert _cf.steps_of(out.attrs)[-1]["flagged"] == {"temperature": 4, "salinity": 0}
-    clean = pr.despike(make_cast(pressure=z, temperature=t))
+    clean = despike(make_cast(pressure=z, temperature=t))
     assert (clean["temperature_qc"].values == 0).all()
 
 
@@ -97,7 +98,7 @@ def test_running_median_matches_numpy():
         ref = [np.nanmedian(x[max(0, i - half): i + half + 1])
                if np.isfinite(x[max(0, i - half): i + half + 1]).any() else np.nan
                for i in range(x.size)]
-        np.testing.assert_allclose(pr._running_median(x, half), ref, rtol=0, atol=0)
+        np.testing.assert_allclose(_running_median(x, half), ref, rtol=0, atol=0)
 
 
 def test_add_depth_check_value_and_missing_latitude():
@@ -111,39 +112,30 @@ def test_add_depth_check_value_and_missing_latitude():
         pr.add_depth(cast)
 
 
-def test_profile_steps_still_importable_from_process():
-    # bin_cast, fill_gaps and add_sound_speed moved to seaprofile.casts.binning
-    from seaprofile.casts import binning
-
-    for name in ("bin_cast", "fill_gaps", "add_sound_speed"):
-        assert getattr(pr, name) is getattr(binning, name)
-        assert name in pr.__all__
-
-
 def test_despike_spares_coarse_casts_and_window_ends():
     # a smooth tanh thermocline sampled every 10 m: a 15-sample window spans 140 m, too
     # coarse for a running median; before the fix thermocline samples were flagged 4
     z = np.arange(3.7, 1000.0, 10.0)
     t = 4.0 + 7.0 * (1.0 - np.tanh((z - 150.0) / 40.0))
     cast = make_cast(pressure=z, temperature=t, salinity=np.full(z.size, 35.0))
-    out = pr.despike(cast)
+    out = despike(cast)
     assert (out["temperature_qc"].values == 0).all()
     step = _cf.steps_of(out.attrs)[-1]
     assert step["not_tested"] == {"temperature": z.size, "salinity": z.size}
     assert "Argo spike test" in step["not_tested_reason"]
     # a dense record: only the 7 values at each end lack a full window
     zd = np.linspace(1, 300, 1500)
-    dense = pr.despike(make_cast(pressure=zd, temperature=8.0 + 0.01 * zd))
+    dense = despike(make_cast(pressure=zd, temperature=8.0 + 0.01 * zd))
     assert _cf.steps_of(dense.attrs)[-1]["not_tested"]["temperature"] == 14
     with pytest.raises(SeaprofileError, match="max_span"):
-        pr.despike(cast, max_span=0.0)
+        despike(cast, max_span=0.0)
 
 
 def test_despike_reports_where_it_flagged():
     z = np.linspace(1, 300, 1500)
     t = 8.0 + 0.01 * z
     t[700] += 1.0
-    out = pr.despike(make_cast(pressure=z, temperature=t))
+    out = despike(make_cast(pressure=z, temperature=t))
     step = _cf.steps_of(out.attrs)[-1]
     assert step["flagged"] == {"temperature": 1}
     assert step["flagged_at"]["temperature"] == [pytest.approx(z[700])]
@@ -187,3 +179,41 @@ def test_a_wild_pressure_does_not_swallow_the_rest_of_the_cast():
     out = pr.remove_reversals(pr.select_direction(pr.remove_soak(cast)))
     assert out.sizes["sample"] == 100
     assert _cf.steps_of(out.attrs)[-1]["kept_unusable_vertical"] == 1
+
+
+def test_salinity_from_conductivity_flags_and_derivation():
+    import gsw
+
+    p = np.array([10.0, 20.0, 30.0, 40.0, 50.0])
+    t = np.array([15.0, 14.0, 13.0, 12.0, 11.0])
+    c = np.array([42.0, 41.0, np.nan, 40.0, 39.0])
+    cast = make_cast(pressure=p, temperature=t, conductivity=c)
+    flags = {"conductivity": [4, 0, 9, 1, 5], "temperature": [8, 0, 0, 3, 1],
+             "pressure": [1, 0, 0, 5, 1]}
+    for v, f in flags.items():
+        cast[f"{v}_qc"] = cast[f"{v}_qc"].copy(data=np.array(f, np.int8))
+    values, q = pr.salinity_and_flags(cast)
+    # gsw (TEOS-10 library) SP_from_C: PSS-78, the reference implementation
+    np.testing.assert_array_equal(values, gsw.SP_from_C(c, t, p))
+    # worst flag in the order 0 < 1 < 2 < 5 < 8 < 3 < 4 < 9: a bad conductivity under an
+    # estimated temperature stays bad (the largest number, 8, would hide it)
+    assert q.tolist() == [4, 0, 9, 3, 5]
+    out = pr.add_salinity(cast)
+    assert out["salinity_qc"].values.tolist() == q.tolist()
+    assert out["salinity"].attrs["derived_from"] == "conductivity temperature pressure"
+    assert out.attrs["salinity_source"] == pr.SALINITY_SOURCE
+    with pytest.raises(SeaprofileError, match="conductivity"):
+        pr.salinity_and_flags(make_cast(pressure=p, temperature=t, salinity=t))
+
+
+def test_despike_passes_a_bad_conductivity_on_to_its_salinity():
+    p = np.arange(1.0, 61.0, 0.25)
+    c = np.full(p.size, 45.0)
+    c[100] = 45.5  # an invented spike, well above the conductivity floor of 0.05 mS/cm
+    cast = pr.add_salinity(make_cast(pressure=p, temperature=np.full(p.size, 18.0),
+                                     conductivity=c))
+    out = despike(cast, variables=["conductivity"])
+    assert out["conductivity_qc"].values[100] == 4
+    assert out["salinity_qc"].values[100] == 4
+    assert np.count_nonzero(out["salinity_qc"].values == 4) == 1
+    assert _cf.steps_of(out.attrs)[-1]["bad_input"] == {"salinity": 1}

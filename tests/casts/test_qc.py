@@ -232,15 +232,14 @@ def test_run_qc_never_lowers_flags(data):
         assert not (new == 0).any()  # every variable was examined: 0 became 1
 
 
-def test_flag_functions_and_thresholds_still_importable_from_qc():
-    # raise_flags/worst_flag live in seaprofile.casts.flags, the tests and their default
-    # thresholds in seaprofile.casts._qc_tests
-    from seaprofile.casts import _qc_tests, flags
+def test_tests_and_thresholds_are_public_in_qc():
+    # the tests and their default thresholds are defined in the private module
+    # seaprofile.casts._qc_tests; seaprofile.casts.qc is their public home
+    from seaprofile.casts import _qc_tests
 
-    assert qc.raise_flags is flags.raise_flags and qc.worst_flag is flags.worst_flag
-    for name in ("GLOBAL_RANGE", "SPIKE_THRESHOLDS", "GRADIENT_THRESHOLDS",
-                 "SPLIT_PRESSURE", "SOUND_SPEED_RANGE", *qc.TESTS):
-        assert getattr(qc, name) is getattr(_qc_tests, name)
+    for name in ("GLOBAL_RANGE", "SPIKE_THRESHOLDS", "GRADIENT_THRESHOLDS", "MAX_OCEAN_DEPTH",
+                 "SPLIT_PRESSURE", "SOUND_SPEED_RANGE", "STUCK_MIN_VALUES", *qc.TESTS):
+        assert name in qc.__all__ and getattr(qc, name) is getattr(_qc_tests, name)
 
 
 def test_stuck_value_spares_short_and_speed_only_profiles():

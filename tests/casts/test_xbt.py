@@ -126,7 +126,8 @@ def test_complete_xbt_cast_without_latitude_has_no_pressure():
 def test_joined_to_a_reference_the_probe_follows_its_measured_water():
     # Before the fix the reference was shifted to meet the probe's assumed salinity (35
     # here, against 34.4 measured by the reference), carrying about -0.7 m/s to the bottom.
-    from seaprofile.casts.process import add_depth, add_sound_speed, bin_cast
+    from seaprofile.casts.binning import add_sound_speed, bin_cast
+    from seaprofile.casts.process import add_depth
     from seaprofile.profile import build_profile
 
     lat, lon = 30.0, -40.0
