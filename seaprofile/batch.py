@@ -26,7 +26,7 @@ from .layers import describe
 from .layers.summary import BAD_FLAGS
 from .profile import build_profile
 
-__all__ = ["BuildResult", "assumptions", "build_files", "diagnose", "flags_by_test", "short_assumptions",
+__all__ = ["BuildResult", "assumptions", "build_files", "flags_by_test", "short_assumptions",
            "load_profile", "read_as_profiles", "summary_row", "usable_bins"]
 
 
@@ -54,7 +54,7 @@ class BuildResult:
     unusable : str or None
         Why the Profile has no usable sound speed (fewer than two good bins), else None.
     diagnostics_error : str or None
-        The error of :func:`diagnose` when the Profile is usable but a diagnostic failed.
+        The error of :func:`seaprofile.layers.describe` when the Profile is usable but a diagnostic failed.
     """
 
     path: str
@@ -94,36 +94,6 @@ def usable_bins(profile):
         if name in profile:
             ok &= ~np.isin(np.asarray(profile[name].values), BAD_FLAGS)
     return int(ok.sum())
-
-
-def diagnose(profile, **options):
-    """:func:`seaprofile.layers.describe` of a Profile whose position may be half known.
-
-    Parameters
-    ----------
-    profile : xarray.Dataset
-        A Profile (not modified).
-    **options
-        Passed to :func:`seaprofile.layers.describe` (``bottom_depth`` m, ``source_depth``
-        m, ``transducer_depth`` m, ...).
-
-    Returns
-    -------
-    dict
-        As :func:`seaprofile.layers.describe`.
-
-    Notes
-    -----
-    A profile with a latitude but no longitude (or the reverse) is described as one with
-    no position: densities then use the reference salinity (TEOS-10, IOC et al. 2010,
-    ``gsw.SR_from_SP``) instead of absolute salinity, which needs both coordinates.
-    Without this, ``describe`` refuses such a profile.
-    """
-    lat = float(profile["latitude"]) if "latitude" in profile.coords else np.nan
-    lon = float(profile["longitude"]) if "longitude" in profile.coords else np.nan
-    if np.isfinite(lat) != np.isfinite(lon):
-        profile = profile.assign_coords(latitude=np.nan, longitude=np.nan)
-    return describe(profile, **options)
 
 
 def _cast_span(cast, extend_to):
@@ -205,7 +175,7 @@ def _diagnostics(res, bottom):
         res.unusable = "fewer than two bins with a usable sound speed (see the flags)"
         return {"notes": [res.unusable]}
     try:
-        return diagnose(res.profile, bottom_depth=bottom)
+        return describe(res.profile, bottom_depth=bottom)
     except SeaprofileError as exc:
         res.diagnostics_error = str(exc)
         return {"notes": [f"diagnostics failed: {exc}"]}

@@ -148,7 +148,17 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     ds = _p.remove_reversals(ds)
     if "salinity" not in ds.data_vars and "conductivity" in ds.data_vars:
         ds = _p.add_salinity(ds)
-    ds = _p.add_depth(ds, latitude=latitude, method=depth_method)
+    if _speed_only_without_position(ds, latitude):
+        # depth and measured sound speed, no position: pressure is needed by nothing
+        # downstream, and guessing a latitude would invent it (~0.5 % apart over latitudes)
+        n = ds.sizes["sample"]
+        ds = ds.assign(pressure=("sample", np.full(n, np.nan), _cf.attrs_for("pressure")),
+                       pressure_qc=("sample", np.full(n, _cf.MISSING, np.int8),
+                                    _cf.flag_attrs("pressure")))
+        ds.attrs = _cf.record_step(ds.attrs, "add_depth", skipped="sound speed measured "
+                                   "against depth and no position: pressure left unknown")
+    else:
+        ds = _p.add_depth(ds, latitude=latitude, method=depth_method)
     replace = replacement_salinity is not None
     if replace and replace_salinity == "all":
         ds = _p.replace_salinity(ds, replacement_salinity, where="all")
@@ -176,6 +186,18 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     prof.attrs["title"] = f"sound-speed profile from {cast.attrs.get('title', 'a cast')}"
     prof.attrs["assumptions"] = describe_assumptions(prof)
     return prof
+
+
+def _speed_only_without_position(cast, latitude):
+    """A depth / measured-sound-speed cast with no T, S, pressure nor latitude."""
+    if latitude is not None or "pressure" in cast.data_vars or "depth" not in cast.data_vars:
+        return False
+    if "measured_sound_speed" not in cast.data_vars:
+        return False
+    if "temperature" in cast.data_vars or "salinity" in cast.data_vars:
+        return False
+    lat = cast.coords.get("latitude")
+    return lat is None or not np.isfinite(float(lat.values))
 
 
 def _usable(profile):

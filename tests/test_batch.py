@@ -196,10 +196,10 @@ def test_assumptions_read_from_attributes():
 
 
 def test_half_known_position_still_diagnosed():
-    from seaprofile.batch import diagnose
+    from seaprofile.layers import describe
 
     p = load_profile(DEMO / "shelf_summer_ctd.csv")
     half = p.assign_coords(longitude=np.nan)
-    d = diagnose(half)
+    d = describe(half)
     assert d["mixed_layer_depth_density"] is not None
     assert float(half["latitude"]) == float(p["latitude"])  # the input is not modified

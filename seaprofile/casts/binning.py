@@ -140,7 +140,8 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
             raise SeaprofileError(f"cast has no {v}: run add_depth(cast, latitude=...) first")
     method = depth_method or cast.attrs.get("depth_method", "unesco1983")
     lat = latitude if latitude is not None else cast.attrs.get("depth_latitude", None)
-    lat = cast_latitude(cast, lat)
+    no_pressure = axis == "depth" and not np.isfinite(cast["pressure"].values).any()
+    lat = None if no_pressure else cast_latitude(cast, lat)
 
     x = cast[axis].values.astype(np.float64)
     xflag = cast[f"{axis}_qc"].values
@@ -160,7 +161,11 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
     axis_flag = _highest_flag(idx, binned, xflag, nb)
     axis_flag[counts == 0] = _cf.ESTIMATED
     with np.errstate(over="ignore", invalid="ignore"):
-        if axis == "depth":
+        if axis == "depth" and no_pressure:  # a speed-against-depth cast, no position
+            depth = centres
+            pressure = np.full(centres.size, np.nan)
+            comment = "unknown: the cast gave depth and no position"
+        elif axis == "depth":
             depth = centres
             pressure = np.asarray(pressure_from_depth(centres, lat, method), np.float64)
             comment = f"at the bin-centre depth, method {method}"
@@ -172,6 +177,8 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
     depth = np.concatenate([depth, cast["depth"].values[levels]])
     pressure = np.concatenate([pressure, cast["pressure"].values[levels]])
     pair_flag = np.concatenate([axis_flag, cast[f"{other}_qc"].values[levels]])
+    if no_pressure:
+        pair_flag[:] = _cf.MISSING
     counts = np.concatenate([counts, np.ones(nl, np.int64)])
     position = np.concatenate([centres, x[levels]])
     order = _keep_rows(position, counts, nb, step)

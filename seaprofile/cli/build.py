@@ -75,7 +75,7 @@ def run(args):
               "; what each profile assumes is written in full in its file (attribute "
               "'assumptions') and in --json")
         print(f"Caution: {CAUTION}")
-    return 1 if failed else 0
+    return 2 if failed else 0
 
 
 def error_line(result):

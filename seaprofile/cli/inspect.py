@@ -6,7 +6,7 @@ default settings; --columns, --units, --latitude and --longitude say how to read
 
 from __future__ import annotations
 
-from ..batch import diagnose
+from ..layers import describe
 from ..io import load_profile, profile_bottom
 from .._validate import SeaprofileError
 from ._common import parse_length, print_json
@@ -45,7 +45,7 @@ def run(args):
     floor = bottom if bottom is not None else profile_bottom(profile)
     if source is not None and floor is not None and source > floor:
         raise SeaprofileError(f"--source-depth {source:g} m lies below the bottom ({floor:g} m)")
-    d = diagnose(profile, bottom_depth=bottom, source_depth=source, transducer_depth=transducer)
+    d = describe(profile, bottom_depth=bottom, source_depth=source, transducer_depth=transducer)
     if args.json:
         print_json(d)
         return 0

@@ -3,19 +3,19 @@
 from __future__ import annotations
 
 import os
-import threading
 from pathlib import Path
 
 from ..casts.write import atomic_write
+from ..casts._atomic import NETCDF_LOCK as _NETCDF_LOCK
 from .errors import ArgumentError, MemoryLimitError
 
 __all__ = ["FIGURE_FORMATS", "MEMORY_LIMIT", "NETCDF_LOCK", "BYTES_PER_BIN", "BYTES_PER_RAY_SAMPLE",
            "check_figure_path", "check_memory", "check_output", "fan_bytes", "format_bytes",
            "is_same_file", "profile_bytes", "save_figure", "write_netcdf"]
 
-#: held around every netCDF (HDF5) read and write of the batch and the commands: the HDF5
+#: the one process-wide lock held around every netCDF (HDF5) read and write: the HDF5
 #: library must not be entered from two threads at once (``build --scheduler threads``)
-NETCDF_LOCK = threading.RLock()
+NETCDF_LOCK = _NETCDF_LOCK
 
 #: figure formats by file suffix
 FIGURE_FORMATS = {".png": "png", ".pdf": "pdf", ".svg": "svg"}

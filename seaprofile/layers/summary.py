@@ -167,9 +167,12 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
 
         lat = float(profile["latitude"]) if "latitude" in profile.coords else np.nan
         lon = float(profile["longitude"]) if "longitude" in profile.coords else np.nan
+        # TEOS-10 needs both coordinates for absolute salinity; with one unknown (a
+        # latitude alone is common), reference salinity is used, as for no position
+        known = bool(np.isfinite(lat) and np.isfinite(lon))
         sigma = potential_density_anomaly(
             temp, sal, np.asarray(profile["pressure"].values, dtype=np.float64),
-            lat if np.isfinite(lat) else None, lon if np.isfinite(lon) else None)
+            lat if known else None, lon if known else None)
         mld, end = mixed_layer_depth_density(np.asarray(sigma, dtype=np.float64), z,
                                              return_reached_end=True)
         res["mixed_layer_depth_density"] = mld

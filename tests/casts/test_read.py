@@ -531,8 +531,6 @@ def test_latitude_without_longitude_reads_builds_and_writes(tmp_path):
             assert float(back.latitude) == 54.2
 
 
-@pytest.mark.xfail(strict=True, reason="layers.describe -> seawater.state._position refuses "
-                   "a known latitude with an unknown (NaN) longitude (owner: layers/seawater)")
 def test_latitude_without_longitude_describe(tmp_path):
     from seaprofile.layers import describe
     from seaprofile.profile import build_profile

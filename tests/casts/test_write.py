@@ -3,7 +3,6 @@
 import hashlib
 import json
 import os
-import shutil
 import signal
 import subprocess
 import sys
@@ -199,47 +198,6 @@ def test_netcdf_cf_attributes(tmp_path):
         assert q.flag_values.tolist() == [0, 1, 2, 3, 4, 5, 8, 9]
         assert len(q.flag_meanings.split()) == 8
         assert nc["pressure"].positive == "down"
-
-
-# The CF standard-name table (cfconventions.org) canonical units, # from memory; a minimal
-# offline table so the checker needs no network.
-_NAMES = {"sea_water_temperature": "K", "sea_water_practical_salinity": "1",
-          "sea_water_pressure": "dbar", "depth": "m", "sea_water_electrical_conductivity":
-          "S m-1", "speed_of_sound_in_sea_water": "m s-1", "latitude": "degree_north",
-          "longitude": "degree_east", "time": "s", "status_flag": ""}
-
-
-def test_cf_checker_accepts_the_collection(tmp_path):
-    try:
-        from cfchecker.cfchecks import CFChecker, CFVersion
-    except Exception as exc:  # not installed, or the UDUNITS-2 C library is missing
-        pytest.skip(f"cfchecker unavailable: {exc}")
-    snt = tmp_path / "names.xml"
-    snt.write_text('<?xml version="1.0"?>\n<standard_name_table><version_number>0'
-                   "</version_number><last_modified>test</last_modified>"
-                   + "".join(f'<entry id="{k}"><canonical_units>{u}</canonical_units></entry>'
-                             for k, u in _NAMES.items()) + "</standard_name_table>\n")
-    for name, root in (("area.xml", "area_type_table"), ("region.xml",
-                                                         "standardized_region_list")):
-        (tmp_path / name).write_text(f'<?xml version="1.0"?>\n<{root}><version_number>0'
-                                     f"</version_number><date>test</date></{root}>\n")
-    path = write_netcdf([sample_cast("A"), sample_cast("C", 8)], tmp_path / "casts.nc")
-    # cfchecker 4.1 knows CF up to 1.8; the DSG rules used here are unchanged since 1.8,
-    # so the copy it checks is relabelled
-    checked = tmp_path / "casts_cf18.nc"
-    shutil.copy(path, checked)
-    with netCDF4.Dataset(checked, "a") as nc:
-        nc.Conventions = "CF-1.8"
-    for f in (checked, write(sample_profile(), tmp_path / "profile.nc")):
-        if f.name == "profile.nc":
-            with netCDF4.Dataset(f, "a") as nc:
-                nc.Conventions = "CF-1.8"
-        checker = CFChecker(cfStandardNamesXML=str(snt), cfAreaTypesXML=str(tmp_path / "area.xml"),
-                            cfRegionNamesXML=str(tmp_path / "region.xml"),
-                            version=CFVersion((1, 8)), silent=True)
-        checker.checker(str(f))
-        totals = checker.get_total_counts()
-        assert totals["FATAL"] == 0 and totals["ERROR"] == 0, checker.all_messages
 
 
 def test_json_document(tmp_path):

@@ -12,7 +12,7 @@ DEMO = Path(__file__).resolve().parents[2] / "demo_casts"
 def test_build_reports_bad_file_and_exits_1(tmp_path, capsys):
     code = main(["build", str(DEMO / "shelf_summer_ctd.csv"), str(DEMO / "broken" / "bad_number.csv"),
                  "--out", str(tmp_path), "--format", "csv"])
-    assert code == 1
+    assert code == 2  # bad input: exit 2, the other files still built
     captured = capsys.readouterr()
     assert "VS31-S04" in captured.out and "FAILED" in captured.out
     err = captured.err.strip().splitlines()
@@ -28,7 +28,7 @@ def test_build_json_summary(capsys):
 
 
 def test_build_missing_file_exit_1(capsys):
-    assert main(["build", "no/such/cast.csv"]) == 1
+    assert main(["build", "no/such/cast.csv"]) == 2
     assert "no/such/cast.csv" in capsys.readouterr().err
 
 

@@ -43,7 +43,7 @@ def test_input_is_never_an_output(tmp_path, capsys, monkeypatch):
     shutil.copy(DEMO / "shelf_summer_ctd.csv", src)
     before = src.read_bytes()
     monkeypatch.chdir(tmp_path)
-    assert main(["build", "VS31-S04.csv", "--format", "csv", "--out", ".", "--overwrite"]) == 1
+    assert main(["build", "VS31-S04.csv", "--format", "csv", "--out", ".", "--overwrite"]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "is an input" in err[0] and "VS31-S04.csv" in err[0]
     assert src.read_bytes() == before
@@ -56,7 +56,7 @@ def test_reference_file_is_never_an_output(tmp_path, capsys):
     before = ref.read_bytes()
     capsys.readouterr()
     assert main(["build", str(DEMO / "xbt_drop.csv"), "--extend-to", "3000", "--reference",
-                 str(ref), "--out", str(tmp_path), "--overwrite"]) == 1
+                 str(ref), "--out", str(tmp_path), "--overwrite"]) == 2
     assert "is an input" in capsys.readouterr().err
     assert ref.read_bytes() == before
 
@@ -68,7 +68,7 @@ def test_missing_reference_named_as_the_option(tmp_path, capsys):
     rows = "\n".join(f"{z:.1f},{1510.0 - 0.02 * z:.3f}" for z in np.arange(1.0, 200.0))
     path.write_text("# note: SYNTHETIC test cast\n# instrument: svp\n# latitude: 44.0\n"
                     f"# longitude: -9.6\ndepth [m],sound speed [m/s]\n{rows}\n")
-    assert main(["build", str(path), "--extend-to", "400"]) == 1
+    assert main(["build", str(path), "--extend-to", "400"]) == 2
     err = capsys.readouterr().err
     assert "--reference" in err and "reference=" not in err
     ref = DEMO / "svp_cast.csv"
@@ -79,7 +79,7 @@ def test_missing_reference_named_as_the_option(tmp_path, capsys):
 
 
 def test_reader_keyword_hints_name_the_option(renamed_cast, capsys):
-    assert main(["build", str(renamed_cast)]) == 1
+    assert main(["build", str(renamed_cast)]) == 2
     err = capsys.readouterr().err
     assert "--columns" in err and "columns=" not in err
     assert main(["build", str(renamed_cast), *RENAMED_OPTIONS, "--json"]) == 0
@@ -107,7 +107,7 @@ def test_diagnostics_error_is_reported_as_itself(monkeypatch, capsys):
     def broken(profile, **options):
         raise seaprofile.batch.SeaprofileError("an invented diagnostics failure")
 
-    monkeypatch.setattr(seaprofile.batch, "diagnose", broken)
+    monkeypatch.setattr(seaprofile.batch, "describe", broken)
     assert main(["build", str(DEMO / "shelf_summer_ctd.csv"), "--json"]) == 0
     (row,) = json.loads(capsys.readouterr().out)["casts"]
     assert row["status"] == "diagnostics failed: an invented diagnostics failure"
@@ -153,7 +153,7 @@ def test_extend_to_bottom_without_a_bottom_depth_is_an_error_of_that_cast(tmp_pa
                     + "".join(f"{p},{12 - 0.02 * p:.3f},35.0\n" for p in range(1, 80)))
     with_floor = DEMO / "shelf_summer_ctd.csv"
     assert main(["build", str(bare), str(with_floor), "--extend-to", "bottom",
-                 "--out", str(tmp_path / "out")]) == 1
+                 "--out", str(tmp_path / "out")]) == 2
     captured = capsys.readouterr()
     err = [line for line in captured.err.splitlines() if line.strip()]
     assert len(err) == 1 and "no_floor.csv" in err[0] and "--extend-to" in err[0]

@@ -30,14 +30,10 @@ CORPUS = make_corpus.CORPUS
 EXPECT = make_corpus.expectations()
 
 #: corpus files that crash code outside the readers: strict xfail, so each flips to a
-#: failure (and must be removed from here) once its owner fixes it
-_BINNING = ("binning.bin_cast/_bin_numbers: a vertical coordinate far outside the ocean "
-            "(pressure -1e7 dbar, depth 4.5e15 m) is neither flagged nor refused and binning "
-            "tries to allocate one bin per metre across it (MemoryError or negative bincount: "
-            "a traceback out of `build`); owner: processing/binning")
-OTHERS_DEFECTS = {"huge_negative_pressure.csv": _BINNING,
-                  "huge_negative_pressure_probe.csv": _BINNING,
-                  "huge_depth.csv": _BINNING}
+#: failure (and must be removed from here) once its owner fixes it. Empty now: the binning
+#: crash on a vertical coordinate far outside the ocean (huge_negative_pressure*.csv,
+#: huge_depth.csv) is fixed, those samples are range-flagged and left out of the bins.
+OTHERS_DEFECTS = {}
 
 
 def sha(path):
@@ -164,9 +160,6 @@ def test_a_million_samples(tmp_path, capsys):
     assert code == 0 and os.listdir(tmp_path / "out") == ["Million__synthetic.nc"]
 
 
-@pytest.mark.xfail(strict=True, reason="cli/build.py returns 1, not 2, when an input file "
-                   "cannot be read: RULES.md says bad input -> exit 2, README.md documents 1 "
-                   "for build; owner: CLI (decide, then drop this mark or this test)")
 def test_build_failure_exit_status_is_two(tmp_path, capsys):
     path = tmp_path / "empty.csv"
     path.write_bytes(b"")
