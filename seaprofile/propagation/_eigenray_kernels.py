@@ -31,9 +31,14 @@ def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt, e
 
 @numba.njit(cache=True, parallel=True)
 def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max_refl,
-                   sp_th, sp_z, max_steps):
+                   sp_th, sp_z, sp_th_far, max_steps):
     """Between neighbouring fan rays, locate a fold (dz/dtheta0 = 0 inside one family) or a
-    kink (a surface / bottom reflection at the receiver range) and its depth."""
+    kink (a surface / bottom reflection at the receiver range) and its depth.
+
+    ``sp_th`` is the launch angle on the side of ray a, ``sp_th_far`` on the side of ray
+    a + 1: the same angle for a fold, the two ends of the final bisection interval of a
+    kink (the rays that reflect just after and just before the receiver range).
+    """
     nray, nr = Z.shape
     zr_min = zr.min()
     zr_max = zr.max()
@@ -107,12 +112,15 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                 if zx == zx:
                     sp_th[a, k] = x
                     sp_z[a, k] = zx
+                    sp_th_far[a, k] = x
             elif abs(na - nb_) == 1:
                 surface = CNT[a, k, 0] != CNT[a + 1, k, 0]
                 # only needed when a receiver lies between the kink and both neighbours
-                if surface and not zr_min < min(za, zb):
+                # (or on a neighbour that lies on the boundary itself: a receiver on the
+                # surface or the bottom next to a ray launched along it)
+                if surface and not zr_min <= min(za, zb):
                     continue
-                if (not surface) and not zr_max > max(za, zb):
+                if (not surface) and not zr_max >= max(za, zb):
                     continue
                 lo = th[a]
                 hi = th[a + 1]
@@ -133,14 +141,26 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                 if zx == zx:
                     sp_th[a, k] = lo
                     sp_z[a, k] = zx
+                    sp_th_far[a, k] = hi
 
 
 @numba.njit(cache=True)
-def _pair_changes(za, zb, zsp, zt, out):
-    """Sign changes of the miss on [a, a+1] split at a special point: out[0..2] flags."""
+def _pair_changes(za, zb, zsp, zt, out, on_boundary, tol):
+    """Sign changes of the miss on [a, a+1] split at a special point: out[0..2] flags.
+
+    ``on_boundary``: the receiver lies on the surface or the bottom, where the depth never
+    changes sign. There a special point within ``tol`` of the receiver depth is a kink whose
+    boundary ray reflects exactly at the receiver: it counts on both of its sides (the
+    incident and the reflected path, see :mod:`.eigenrays`).
+    """
     out[0] = 0
     out[1] = 0
     out[2] = 0
+    if on_boundary:
+        if zsp == zsp and abs(zsp - zt) <= tol:
+            out[1] = 1
+            out[2] = 1
+        return
     if zsp == zsp:
         if (za - zt < 0.0) != (zsp - zt < 0.0):
             out[1] = 1
@@ -151,13 +171,14 @@ def _pair_changes(za, zb, zsp, zt, out):
 
 
 @numba.njit(cache=True, parallel=True)
-def _brackets(Z, sp_z, zr, offsets, fill, counts, bk, bj, ba, bs):
+def _brackets(Z, sp_z, zr, bottom, tol, offsets, fill, counts, bk, bj, ba, bs):
     """Count (fill=False) or list (fill=True) the brackets of every receiver."""
     nray, nr = Z.shape
     nd = zr.size
     for k in prange(nr):
         flags = np.zeros(3, dtype=np.int64)
         for jd in range(nd):
+            on_boundary = zr[jd] <= 0.0 or zr[jd] >= bottom
             m = offsets[k, jd]
             c = 0
             for a in range(nray - 1):
@@ -165,7 +186,7 @@ def _brackets(Z, sp_z, zr, offsets, fill, counts, bk, bj, ba, bs):
                 zb = Z[a + 1, k]
                 if not (za == za and zb == zb):
                     continue
-                _pair_changes(za, zb, sp_z[a, k], zr[jd], flags)
+                _pair_changes(za, zb, sp_z[a, k], zr[jd], flags, on_boundary, tol)
                 for sub in range(3):
                     if flags[sub]:
                         if fill:
@@ -178,8 +199,8 @@ def _brackets(Z, sp_z, zr, offsets, fill, counts, bk, bj, ba, bs):
 
 
 @numba.njit(cache=True, parallel=True)
-def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, max_refl, ftol,
-            out_f, out_i, max_steps):
+def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, bj, ba, bs,
+            max_refl, ftol, out_f, out_i, max_steps):
     nb = bk.size
     for b in prange(nb):
         k = bk[b]
@@ -204,7 +225,7 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, 
             hi = sp_th[a, k]
             fhi = sp_z[a, k] - zt
         elif bs[b] == 2:
-            lo = sp_th[a, k]
+            lo = sp_th_far[a, k]
             flo = sp_z[a, k] - zt
         if fhi != flo:
             x = lo - flo * (hi - lo) / (fhi - flo)
@@ -212,6 +233,12 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, 
             x = 0.5 * (lo + hi)
         if not (lo <= x <= hi):
             x = 0.5 * (lo + hi)
+        # a special point that is itself on the receiver (a kink reflecting exactly at a
+        # receiver on the surface or the bottom) is the root: start there
+        if bs[b] == 1 and abs(fhi) <= ftol:
+            x = hi
+        elif bs[b] == 2 and abs(flo) <= ftol:
+            x = lo
         ok = 0
         f = np.nan
         for it in range(80):

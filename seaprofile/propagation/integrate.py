@@ -53,6 +53,7 @@ from __future__ import annotations
 import numpy as np
 
 from .._validate import SeaprofileError
+from .codes import FAN_POINT_BYTES, check_memory
 # the compiled stepper; the tableau is re-exported for the tests
 from ._integrate_kernels import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
                                  _STEPLIMIT, MAX_STEPS, _trace_rays)
@@ -85,6 +86,9 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
     stats_all = np.zeros((n, 7), dtype=np.int64)
     while todo.size:
         m = todo.size
+        check_memory(m * float(buffer) * FAN_POINT_BYTES, "range_step",
+                     f"keeping every integration point of {m} rays ({buffer} points each)",
+                     "give range_step to sample the rays, or trace fewer angles")
         out = [np.full((m, buffer), np.nan) for _ in range(5)]
         kinds = np.full((m, buffer), -1, dtype=np.int8)
         stats = np.zeros((m, 7), dtype=np.int64)

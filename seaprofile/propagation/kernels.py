@@ -52,13 +52,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from .._validate import SeaprofileError
 # the compiled kernels (re-exported: eigenrays.py and the tests use them from here)
 from ._arcs import (_RIDE_DEPTH, _RIDE_SINE, _SAMPLE, MAX_STEPS,  # noqa: F401
                     _fan_kernel, _trace_ray)
+from .codes import MAX_STORED_POINTS  # a module global here, so tests can lower it
 
 __all__ = ["fan_paths", "fan_samples", "trace_layers"]
-
-MAX_STORED_POINTS = 40_000_000  # per array (320 MB of float64)
 
 
 def _gradients(zn, cn):
@@ -145,11 +145,10 @@ def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
     first = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=0)
     mp = int(first["points"].max()) if first["points"].size else 1
     if mp * first["points"].size > MAX_STORED_POINTS:
-        from .._validate import SeaprofileError
-
         raise SeaprofileError(
             f"range_step: keeping every event point needs {mp} points x "
-            f"{first['points'].size} rays; give range_step to sample the rays instead")
+            f"{first['points'].size} rays (about {mp * first['points'].size * 33 / 1e9:.3g} GB);"
+            f" give range_step to sample the rays instead")
     out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=mp)
     res = _fan_common(out)
     res.update(range=out["path_range"], depth=out["path_depth"], travel_time=out["path_time"],

@@ -30,6 +30,7 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
+from .codes import FAN_POINT_BYTES, check_memory
 
 __all__ = ["END_REASONS", "POINT_KINDS", "rayfan_dataset", "trace_fan"]
 
@@ -205,13 +206,18 @@ def _check_fan_args(environment, source_depth, angles, max_range, range_step, ma
     if rmax.ndim != 0 or not np.isfinite(rmax) or rmax <= 0:
         raise SeaprofileError("max_range must be one positive number (m)")
     if range_step is not None:
-        rs = float(as_float_array("range_step", range_step))
-        if not np.isfinite(rs) or rs <= 0:
-            raise SeaprofileError("range_step must be a positive number (m)")
-    mb = int(max_bounces)
-    if mb < 0:
-        raise SeaprofileError("max_bounces must be >= 0")
-    return zs, a, float(rmax), mb
+        rs = as_float_array("range_step", range_step)
+        if rs.ndim != 0 or not np.isfinite(rs) or rs <= 0:
+            raise SeaprofileError("range_step must be one positive number (m)")
+        # estimated before anything is allocated (float: the count may not fit an int)
+        samples = float(rmax) / float(rs) + 2.0
+        check_memory(a.size * samples * FAN_POINT_BYTES, "range_step",
+                     f"{a.size} rays x {samples:.3g} range samples",
+                     "use a coarser range_step, a shorter max_range or fewer angles")
+    mb = as_float_array("max_bounces", max_bounces)
+    if mb.ndim != 0 or not np.isfinite(mb) or mb < 0 or mb != np.floor(mb):
+        raise SeaprofileError("max_bounces must be one whole number >= 0")
+    return zs, a, float(rmax), int(min(float(mb), 2**62))
 
 
 def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,

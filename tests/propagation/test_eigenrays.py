@@ -8,13 +8,22 @@ from seaprofile._validate import SeaprofileError
 from seaprofile.propagation import Environment, eigenrays, trace_fan
 
 
-def _images(zs, zr, r, depth, max_reflections):
-    """Method of images for an isovelocity layer (Jensen et al. 2011, ch. 2-3)."""
+def _images(zs, zr, r, depth, max_reflections, count_zs=None, count_zr=None):
+    """Method of images for an isovelocity layer (Jensen et al. 2011, ch. 2-3).
+
+    Reflections are counted as the boundary planes strictly between image and receiver;
+    ``count_zs`` / ``count_zr`` (default ``zs`` / ``zr``) are the depths used for that count
+    only: a source or receiver on the surface or the bottom is counted as the limit of one
+    just inside the water, where each image of a merging pair keeps its own reflection.
+    """
+    count_zs = zs if count_zs is None else count_zs
+    count_zr = zr if count_zr is None else count_zr
     out = []
     for n in range(-max_reflections - 1, max_reflections + 2):
         for sign in (1, -1):
             zi = 2 * n * depth + sign * zs
-            lo, hi = min(zi, zr), max(zi, zr)
+            zc = 2 * n * depth + sign * count_zs
+            lo, hi = min(zc, count_zr), max(zc, count_zr)
             ks = [k for k in range(int(np.floor(lo / depth)) - 1, int(np.ceil(hi / depth)) + 2)
                   if lo < k * depth < hi]
             if len(ks) > max_reflections:
@@ -55,6 +64,77 @@ def test_isovelocity_against_images(zs, zr, r):
     assert np.all(e.caustics.values == 0)
     np.testing.assert_allclose(e.phase.values, np.pi * e.surface_reflections.values)
     assert np.all(np.abs(e.depth_miss.values) < 1e-6)
+
+
+def _sorted_arrivals(e):
+    key = (e.bottom_reflections.values, e.surface_reflections.values,
+           np.round(e.launch_angle.values, 6), np.round(e.travel_time.values, 9))
+    return e.isel(arrival=np.lexsort(key))
+
+
+def _sorted_images(ref):
+    return sorted(ref, key=lambda x: (round(x[0] / 1500.0, 9), round(x[1], 6), x[3], x[4]))
+
+
+_INSIDE = 1e-9  # m: how far inside the water a boundary source or receiver is counted
+
+
+@pytest.mark.parametrize("zs, zr, r", [
+    (30.0, 0.0, 1000.0), (30.0, 100.0, 1000.0), (70.0, 0.0, 25000.0), (70.0, 100.0, 25000.0),
+    (0.0, 40.0, 1000.0), (100.0, 40.0, 1000.0), (0.0, 100.0, 3000.0), (0.0, 0.0, 1000.0),
+    (100.0, 100.0, 1000.0),
+    # a huge range: every family is far narrower than the 0.05 degree search fan
+    (50.0, 20.0, 1e7), (50.0, 0.0, 1e7), (50.0, 100.0, 1e7),
+])
+def test_source_or_receiver_on_the_surface_or_bottom_against_images(zs, zr, r):
+    # a seafloor target or a receiver at the surface is a normal case (tracker defect: no
+    # path was found to a receiver exactly at depth 0 or at the bottom depth)
+    c, depth = 1500.0, 100.0
+    env = Environment.from_arrays([0.0, depth], [c, c])
+    e = eigenrays(env, zs, [r], [zr], max_reflections=3)
+
+    def inside(z):
+        return _INSIDE if z == 0.0 else (depth - _INSIDE if z == depth else z)
+
+    ref = _sorted_images(_images(zs, zr, r, depth, 3, inside(zs), inside(zr)))
+    assert e.sizes["arrival"] == len(ref) > 0
+    e = _sorted_arrivals(e)
+    slant = np.array([x[0] for x in ref])
+    # Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
+    # ch. 2 (images at 2nD +- zs): travel time R/c, 1e-9 relative as in the test above
+    np.testing.assert_allclose(e.travel_time.values, slant / c, rtol=1e-9)
+    # angles: the kink on the boundary is bisected to 1e-14 rad (6e-13 deg)
+    np.testing.assert_allclose(e.launch_angle.values, [x[1] for x in ref], atol=1e-7)
+    np.testing.assert_allclose(e.arrival_angle.values, [x[2] for x in ref], atol=1e-7)
+    np.testing.assert_array_equal(e.surface_reflections.values, [x[3] for x in ref])
+    np.testing.assert_array_equal(e.bottom_reflections.values, [x[4] for x in ref])
+    # spherical spreading 20 log10 R (Jensen et al. 2011, ch. 3); at 1e7 m the slant
+    # range differs from r by < 1e-6 relative and 1e-8 dB is ~2e-9 relative in R
+    np.testing.assert_allclose(e.spreading_loss.values, 20 * np.log10(slant), atol=1e-8)
+    assert np.all(np.abs(e.depth_miss.values) < 1e-6)
+
+
+@pytest.mark.parametrize("zr, expected", [(0.0, 0.0), (100.0, 2.0)])
+def test_merged_paths_at_a_boundary_receiver_sum_to_the_boundary_field(zr, expected):
+    # a receiver on a boundary gets both members of each merging image pair (equal time and
+    # loss, one reflection apart). Their coherent sum is the field there: zero at the
+    # pressure-release surface (reflection coefficient -1; Jensen et al. 2011, ch. 1-2,
+    # Lloyd's mirror) and twice one path at the bottom, which eigenrays treats as rigid
+    # (coefficient +1)
+    env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0])
+    e = eigenrays(env, 30.0, [2000.0], [zr], max_reflections=3)
+    amp = 10.0 ** (-e.spreading_loss.values / 20.0) * np.exp(1j * e.phase.values)
+    t = np.round(e.travel_time.values, 9)
+    pairs = 0
+    for tk in np.unique(t):
+        group = amp[t == tk]
+        if group.size != 2:
+            continue  # the partner has one reflection more than allowed
+        pairs += 1
+        # rounding of the loss (1e-8 dB) and phase: 1e-9 of one path's amplitude
+        np.testing.assert_allclose(abs(group.sum()), expected * abs(group[0]),
+                                   atol=1e-9 * abs(group[0]))
+    assert pairs >= 3
 
 
 def _munk(z):

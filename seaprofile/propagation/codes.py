@@ -1,0 +1,96 @@
+"""Codes and limits shared by every ray solver: point kinds, end reasons, safety limits.
+
+One place for the integers the compiled kernels write and the Datasets document (numba
+reads module-level ``int`` / ``float`` constants as compile-time constants, so the kernels
+import them from here instead of keeping copies in step by comments).
+"""
+
+from __future__ import annotations
+
+from .._validate import SeaprofileError
+
+__all__ = [
+    "DEFAULT_MAX_BOUNCES",
+    "END_REASONS",
+    "MAX_STEPS",
+    "MAX_STORED_POINTS",
+    "MEMORY_LIMIT",
+    "POINT_KINDS",
+    "PADDING",
+    "check_memory",
+]
+
+# --- point kinds: what happens at a stored point of a ray -----------------------------
+NO_POINT = -1  # padding after the ray's last point
+START = 0
+LAYER_CROSSING = 1
+TURNING_POINT = 2
+SURFACE_REFLECTION = 3
+BOTTOM_REFLECTION = 4
+RANGE_SAMPLE = 5
+END = 6
+
+#: point_kind code -> meaning (padding, -1, listed separately as :data:`PADDING`).
+POINT_KINDS = {
+    START: "start",
+    LAYER_CROSSING: "layer_crossing",
+    TURNING_POINT: "turning_point",
+    SURFACE_REFLECTION: "surface_reflection",
+    BOTTOM_REFLECTION: "bottom_reflection",
+    RANGE_SAMPLE: "range_sample",
+    END: "end",
+}
+#: meaning of point_kind -1: no point (padding after the ray's last point).
+PADDING = "no_point"
+
+# --- end reasons: why a ray stopped ---------------------------------------------------
+RANGE_REACHED = 0
+ABSORBED = 1  # more than max_bounces surface + bottom reflections
+LEFT_DOMAIN = 2  # e.g. turned back in range or left through a boundary
+STEP_LIMIT = 3  # safety stop of the stepping loop
+
+#: end_reason code -> meaning.
+END_REASONS = {
+    RANGE_REACHED: "range_reached",
+    ABSORBED: "absorbed",
+    LEFT_DOMAIN: "left_domain",
+    STEP_LIMIT: "step_limit_reached",
+}
+
+# --- limits ---------------------------------------------------------------------------
+#: Reflections after which a ray is stopped ("absorbed") unless the caller says otherwise.
+DEFAULT_MAX_BOUNCES = 100
+#: Safety stop of every stepping loop, per ray (pieces of arc or trial integration steps).
+MAX_STEPS = 20_000_000
+#: Most path points kept per array of a fan without range_step (320 MB of float64).
+MAX_STORED_POINTS = 40_000_000
+#: Largest memory (bytes) one call may ask for; estimated before allocating.
+MEMORY_LIMIT = 4_000_000_000
+#: Bytes per (ray, point) of a stored fan: the kernel's rows (range, depth, time, angle,
+#: q: 5 x 8, kind: 1) and the Dataset's copies of them.
+FAN_POINT_BYTES = 88
+
+
+def check_memory(nbytes, argument, what, remedy):
+    """Refuse a request whose estimated memory exceeds :data:`MEMORY_LIMIT`.
+
+    Parameters
+    ----------
+    nbytes : float
+        Estimated bytes the call would allocate.
+    argument : str
+        The argument(s) that set the size, named in the message.
+    what : str
+        What would be allocated (e.g. ``"1000 rays x 1e8 range samples"``).
+    remedy : str
+        How to ask for less (e.g. ``"use a coarser range_step or fewer angles"``).
+
+    Raises
+    ------
+    SeaprofileError
+        When ``nbytes`` exceeds the limit; the message names the argument and the memory.
+    """
+    if not nbytes <= MEMORY_LIMIT:
+        raise SeaprofileError(
+            f"{argument}: {what} would need about {nbytes / 1e9:.3g} GB of memory, more "
+            f"than the {MEMORY_LIMIT / 1e9:g} GB allowed; {remedy}")
