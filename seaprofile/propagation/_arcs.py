@@ -12,24 +12,16 @@ import numba
 import numpy as np
 from numba import prange
 
-# point kinds (see rays.POINT_KINDS)
-_START, _CROSS, _TURN, _SURF, _BOT, _SAMPLE, _END = 0, 1, 2, 3, 4, 5, 6
-# end reasons (see rays.END_REASONS)
-_REACHED, _ABSORBED, _LEFT, _STEPLIMIT = 0, 1, 2, 3
-MAX_STEPS = 20_000_000
+# point kinds, end reasons, the grazing rule (see there) and the step limit
+from .codes import (ABSORBED, BOTTOM_REFLECTION, END, LAYER_CROSSING, MAX_STEPS,  # noqa: F401
+                    RANGE_REACHED, RANGE_SAMPLE, RIDE_DEPTH, RIDE_SINE, START, STEP_LIMIT,
+                    SURFACE_REFLECTION, TURNING_POINT)
+
 # value-safe fast-math: fused multiply-add and reciprocal only (no NaN/inf assumptions)
 _FM = {"contract", "arcp"}
 # Sines below 0.01 at the end of a piece come from the Snell increment, larger ones from
 # 1 - (p c)^2 (whose rounding error, ~1e-16 / s, is then below 1e-14).
 _SMALL_SINE2 = 1e-4
-# A ray trapped at a sound-speed minimum node, or against the surface / bottom by a layer
-# that bends it straight back, so flat that it would never move more than this (m) away
-# from it, runs along it (the eigenray depth tolerance, 1 micrometre). Without this a
-# near-horizontal ray there is traced as ~1e6 tiny arcs or bounces per km.
-_RIDE_DEPTH = 1e-6
-# ... and only when its sine is below this: setting it to 0 changes cos(theta) / c by at
-# most 5e-11 relative (Snell's invariant stays exact to that).
-_RIDE_SINE = 1e-5
 
 
 @numba.njit(cache=True, inline="always", fastmath=_FM)
@@ -138,7 +130,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
     nb = 0
     nt = 0
     nc = 0
-    reason = _REACHED
+    reason = RANGE_REACHED
     # layer and direction
     jl = np.searchsorted(zn, zs, side="left")  # first node >= zs
     at_node = jl <= n and zn[jl] == zs
@@ -170,7 +162,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
         p_z[npts] = z
         p_t[npts] = 0.0
         p_a[npts] = np.degrees(theta)
-        p_k[npts] = _START
+        p_k[npts] = START
     npts += 1
     while k < nsamp and samp_r[k] <= 0.0:
         s_z[k] = z
@@ -188,7 +180,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
     while True:
         steps += 1
         if steps > max_steps:
-            reason = _STEPLIMIT
+            reason = STEP_LIMIT
             break
         if d == 0:
             # horizontal straight travel along a node or in an isovelocity layer
@@ -213,9 +205,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 p_z[npts] = z
                 p_t[npts] = t
                 p_a[npts] = 0.0
-                p_k[npts] = _END
+                p_k[npts] = END
             npts += 1
-            reason = _REACHED
+            reason = RANGE_REACHED
             break
         g = gn[i]
         gm = g * d
@@ -318,9 +310,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 p_z[npts] = z
                 p_t[npts] = t
                 p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
-                p_k[npts] = _END
+                p_k[npts] = END
             npts += 1
-            reason = _REACHED
+            reason = RANGE_REACHED
             break
         # advance to the end of the piece
         qn = q + pp * kk
@@ -338,14 +330,14 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
         z = z + d * dz
         c = ce
         sa = sb
-        kind = _CROSS
+        kind = LAYER_CROSSING
         stop = False
         on_node = not turning
         if turning:
             nt += 1
             d = -d
             sa = 0.0
-            kind = _TURN
+            kind = TURNING_POINT
         else:
             z = zb
             c = cb
@@ -353,9 +345,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             if d > 0 and i == n - 1:
                 nb += 1
                 d = -1
-                kind = _BOT
-                if (gn[n - 1] < 0.0 and sa < _RIDE_SINE
-                        and c * sa * sa < -2.0 * gn[n - 1] * _RIDE_DEPTH):
+                kind = BOTTOM_REFLECTION
+                if (gn[n - 1] < 0.0 and sa < RIDE_SINE
+                        and c * sa * sa < -2.0 * gn[n - 1] * RIDE_DEPTH):
                     sa = 0.0
                 if sa > 0.0:
                     pp += q * 2.0 * gn[n - 1] * p2 / sa
@@ -368,9 +360,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             elif d < 0 and i == 0:
                 ns += 1
                 d = 1
-                kind = _SURF
-                if (gn[0] > 0.0 and sa < _RIDE_SINE
-                        and c * sa * sa < 2.0 * gn[0] * _RIDE_DEPTH):
+                kind = SURFACE_REFLECTION
+                if (gn[0] > 0.0 and sa < RIDE_SINE
+                        and c * sa * sa < 2.0 * gn[0] * RIDE_DEPTH):
                     sa = 0.0
                 if sa > 0.0:
                     pp -= q * 2.0 * gn[0] * p2 / sa
@@ -382,10 +374,10 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 j = i + 1 if d > 0 else i
                 if sa > 0.0 and gn[j - 1] < 0.0 < gn[j]:
                     # a sound-speed minimum: the ray oscillates about the node, rising
-                    # and sinking c s^2 / (2 |g|) at most; below _RIDE_DEPTH it is a ray
+                    # and sinking c s^2 / (2 |g|) at most; below RIDE_DEPTH it is a ray
                     # along the node (else ~1e6 tiny arcs per km)
                     gmin = min(-gn[j - 1], gn[j])
-                    if sa < _RIDE_SINE and c * sa * sa < 2.0 * gmin * _RIDE_DEPTH:
+                    if sa < RIDE_SINE and c * sa * sa < 2.0 * gmin * RIDE_DEPTH:
                         sa = 0.0
                 if sa > 0.0:
                     pp -= q * (gn[j] - gn[j - 1]) * p2 / sa
@@ -407,7 +399,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             p_k[npts] = kind
         npts += 1
         if stop:
-            reason = _ABSORBED
+            reason = ABSORBED
             break
     return npts, ns, nb, nt, nc, reason, steps
 

@@ -3,6 +3,11 @@
 One place for the integers the compiled kernels write and the Datasets document (numba
 reads module-level ``int`` / ``float`` constants as compile-time constants, so the kernels
 import them from here instead of keeping copies in step by comments).
+
+The codes are part of the files the package writes (``point_kind``, ``end_reason``): never
+renumber them. numba's on-disk cache keys a kernel on its own source file, not on this
+one: after changing a limit used by a kernel (``RIDE_*``, ``MAX_STEPS``) clear the cache
+(``seaprofile._jitcache.user_cache_dir()``) or touch the kernel modules.
 """
 
 from __future__ import annotations
@@ -64,6 +69,14 @@ DEFAULT_MAX_BOUNCES = 100
 MAX_STEPS = 20_000_000
 #: Most path points kept per array of a fan without range_step (320 MB of float64).
 MAX_STORED_POINTS = 40_000_000
+#: A ray trapped at a sound-speed minimum node, or against the surface / bottom by a
+#: layer that bends it straight back, so flat that it would never move more than this (m)
+#: away from it, runs along it (the eigenray depth tolerance, 1 micrometre). Without this
+#: a near-horizontal ray there is traced as ~1e6 tiny arcs or bounces per km.
+RIDE_DEPTH = 1e-6
+#: ... and only when its sine is below this: setting it to 0 changes cos(theta) / c by at
+#: most 5e-11 relative (Snell's invariant stays exact to that). Both solvers use the rule.
+RIDE_SINE = 1e-5
 #: Largest memory (bytes) one call may ask for; estimated before allocating.
 MEMORY_LIMIT = 4_000_000_000
 #: Bytes per (ray, point) of a stored fan: the kernel's rows (range, depth, time, angle,

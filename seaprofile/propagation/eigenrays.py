@@ -67,9 +67,9 @@ import xarray as xr
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
 from ._eigenray_kernels import _brackets, _find_specials, _refine
-from .codes import check_memory
+from .codes import MAX_STEPS, check_memory
 from .environment import Environment
-from .kernels import MAX_STEPS, _gradients, _layer_times, trace_layers
+from .kernels import _gradients, _layer_times, trace_layers
 
 __all__ = ["eigenrays", "DEFAULT_FAN_SPACING"]
 

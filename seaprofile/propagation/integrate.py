@@ -56,7 +56,10 @@ from .._validate import SeaprofileError
 from .codes import FAN_POINT_BYTES, check_memory
 # the compiled stepper; the tableau is re-exported for the tests
 from ._integrate_kernels import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
-                                 _STEPLIMIT, MAX_STEPS, _trace_rays)
+                                 _trace_rays)
+from .codes import DEFAULT_MAX_BOUNCES, MAX_STEPS, STEP_LIMIT
+from .rayfan import check_fan_args, rayfan_dataset
+from .section import Section
 
 
 # --------------------------------------------------------------------------------------
@@ -95,7 +98,7 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
         _trace_rays(*medium, float(source_depth), theta[todo], float(max_range), step,
                     float(tolerance), float(max_step), float(direction_scale),
                     int(max_bounces), int(MAX_STEPS), *out, kinds, stats)
-        full = (stats[:, 5] == _STEPLIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
+        full = (stats[:, 5] == STEP_LIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
         for local, ray in enumerate(todo):
             if not full[local]:
                 cnt = stats[local, 0]
@@ -121,8 +124,6 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
 
 def _medium_of(environment):
     """The compiled tables of an Environment: (coef, ref, edges, depth, bathy_r, bathy_z)."""
-    from .section import Section
-
     section = environment.section
     if section is None:
         section = Section([0.0], environment.depth, np.asarray(environment.sound_speed)[None, :],
@@ -159,7 +160,7 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
         reflection, cast range or bathymetry knot crossed, end).
     max_bounces : int, optional
         A ray ends ("absorbed") after more surface + bottom reflections than this
-        (default: that of :func:`seaprofile.propagation.rays.trace_fan`).
+        (default: :data:`seaprofile.propagation.codes.DEFAULT_MAX_BOUNCES`).
     tolerance : float
         Local error allowed per integration step, m: position error, c times the travel-time
         error and 1000 m times the error of the unit tangent (see the module notes). The
@@ -173,7 +174,7 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
     Returns
     -------
     xr.Dataset
-        A RayFan with the layout of :func:`seaprofile.propagation.rays.rayfan_dataset`
+        A RayFan with the layout of :func:`seaprofile.propagation.rayfan.rayfan_dataset`
         (``solver="integrated"``). Rays that turn back in range end with ``left_domain``.
         Point kinds: crossings of depth nodes, cast ranges and bathymetry knots are
         ``layer_crossing``; plain integration-step ends are ``range_sample``; the angle
@@ -187,10 +188,8 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
     module docstring for the boundary handling, the dynamic-ray jump conditions and the
     error control. Valid for the ray (high-frequency) approximation only.
     """
-    from .rays import DEFAULT_MAX_BOUNCES, _check_fan_args, rayfan_dataset
-
     mb_in = DEFAULT_MAX_BOUNCES if max_bounces is None else max_bounces
-    zs, a, rmax, mb = _check_fan_args(environment, source_depth, angles, max_range,
+    zs, a, rmax, mb = check_fan_args(environment, source_depth, angles, max_range,
                                       range_step, mb_in)
     tol = float(tolerance)
     if not np.isfinite(tol) or tol <= 0:

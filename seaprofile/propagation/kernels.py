@@ -53,9 +53,8 @@ from __future__ import annotations
 import numpy as np
 
 from .._validate import SeaprofileError
-# the compiled kernels (re-exported: eigenrays.py and the tests use them from here)
-from ._arcs import (_RIDE_DEPTH, _RIDE_SINE, _SAMPLE, MAX_STEPS,  # noqa: F401
-                    _fan_kernel, _trace_ray)
+from ._arcs import _fan_kernel
+from .codes import MAX_STEPS, NO_POINT, RANGE_SAMPLE
 from .codes import MAX_STORED_POINTS  # a module global here, so tests can lower it
 
 __all__ = ["fan_paths", "fan_samples", "trace_layers"]
@@ -165,7 +164,7 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
     rr = np.broadcast_to(np.asarray(ranges, dtype=np.float64), (nray, len(ranges))).copy()
     valid = np.isfinite(out["sample_depth"])
     rr[~valid] = np.nan
-    kind = np.where(valid, _SAMPLE, -1).astype(np.int8)
+    kind = np.where(valid, RANGE_SAMPLE, NO_POINT).astype(np.int8)
     res = _fan_common(out)
     res.update(range=rr, depth=out["sample_depth"], travel_time=out["sample_time"],
                angle=out["sample_angle"], point_kind=kind,

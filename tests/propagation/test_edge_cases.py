@@ -154,7 +154,7 @@ def test_snell_invariant_from_nodes_and_boundaries(profile, data):
     # Jensen et al. (2011), ch. 3: cos(theta) / c is constant along a ray in
     # range-independent water, also for sources on nodes, the surface or the bottom and
     # for horizontal and vertical launches (the kernel's grazing rules change it by at
-    # most 5e-11 relative, kernels._RIDE_SINE)
+    # most 5e-11 relative, codes.RIDE_SINE)
     steps, speeds = profile
     z = np.concatenate([[0.0], np.cumsum(steps)])
     env = Environment.from_arrays(z, speeds)

@@ -49,3 +49,37 @@ def test_point_kind_codes_are_documented_padding_included():
     meanings = attrs["flag_meanings"].split()
     assert dict(zip(values, meanings)) == {-1: "no_point", **POINT_KINDS}
     assert set(np.unique(fan.point_kind.values)) <= set(values)
+
+
+def test_no_import_circles_inside_propagation():
+    # every module of the ray engine imports only modules below it: the codes, the record
+    # (rayfan.py) and the checks are shared from their own modules, never from rays.py
+    import ast
+    from pathlib import Path
+
+    import seaprofile.propagation as prop
+
+    root = Path(prop.__file__).parent
+    graph = {}
+    for f in root.glob("*.py"):
+        deps = set()
+        for node in ast.walk(ast.parse(f.read_text())):
+            if isinstance(node, ast.ImportFrom) and node.level == 1:
+                deps.update([node.module.split(".")[0]] if node.module
+                            else [a.name for a in node.names])
+        graph[f.stem] = deps - {f.stem}
+    done, active = set(), []
+
+    def visit(mod):
+        assert mod not in active, f"import circle: {' -> '.join(active + [mod])}"
+        if mod in done or mod not in graph:
+            return
+        active.append(mod)
+        for dep in sorted(graph[mod]):
+            visit(dep)
+        active.pop()
+        done.add(mod)
+
+    for mod in sorted(graph):
+        visit(mod)
+    assert "rays" not in graph["integrate"] and "rays" not in graph["eigenrays"]
