@@ -125,7 +125,7 @@ def main():
         "fan_end_reasons": {str(k): int(np.sum(out["end_reason"] == k)) for k in range(4)},
         "eigenrays_s": t_eig,
         "eigenray_receivers": int(rr.size * zr.size),
-        "eigenray_arrivals": int(eig.sizes["arrival"]),
+        "eigenray_arrivals": int(eig.sizes["path"]),
         "eigenray_max_depth_miss_m": float(np.abs(eig.depth_miss).max()),
         "baseline_solve_ivp_per_ray_s": t_base_per_ray,
         "exact_per_ray_s_same_rays": t_ours_per_ray,

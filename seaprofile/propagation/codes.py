@@ -22,6 +22,7 @@ __all__ = [
     "MEMORY_LIMIT",
     "POINT_KINDS",
     "PADDING",
+    "PATH_KINDS",
     "check_memory",
 ]
 
@@ -60,6 +61,15 @@ END_REASONS = {
     ABSORBED: "absorbed",
     LEFT_DOMAIN: "left_domain",
     STEP_LIMIT: "step_limit_reached",
+}
+
+# --- path kinds: which boundaries an eigenray met (from its reflection counts) ---------
+#: path_kind code -> meaning; the code is (surface reflections > 0) + 2 (bottom ones > 0).
+PATH_KINDS = {
+    0: "refracted",
+    1: "surface_reflected",
+    2: "bottom_reflected",
+    3: "surface_and_bottom_reflected",
 }
 
 # --- limits ---------------------------------------------------------------------------

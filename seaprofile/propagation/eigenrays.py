@@ -62,7 +62,6 @@ phase belong to the loss computation, which knows the sediment.
 from __future__ import annotations
 
 import numpy as np
-import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
@@ -70,6 +69,7 @@ from ._eigenray_kernels import _brackets, _find_specials, _refine
 from .codes import MAX_STEPS, check_memory
 from .environment import Environment
 from .kernels import _gradients, _layer_times, trace_layers
+from .pathtable import path_table_dataset
 
 __all__ = ["eigenrays", "DEFAULT_FAN_SPACING"]
 
@@ -226,13 +226,11 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     Returns
     -------
     xr.Dataset
-        Dimensions ``receiver_range``, ``receiver_depth`` (coordinates, m) and ``arrival``
-        (all arrivals, sorted by receiver then travel time). Per arrival:
-        ``receiver_range_index``, ``receiver_depth_index``, ``travel_time`` (s),
-        ``launch_angle``, ``arrival_angle`` (degrees, positive down),
-        ``surface_reflections``, ``bottom_reflections``, ``turning_points``, ``caustics``,
-        ``spreading_loss`` (dB re 1 m), ``phase`` (rad, unwrapped). Per receiver:
-        ``arrival_count``.
+        A PathTable (layout in :mod:`seaprofile.propagation.pathtable`): per path
+        (dimension ``path``, sorted by receiver then travel time) its kind, launch and
+        arrival angles (degrees, positive down), travel time (s), spreading loss (dB re
+        1 m), surface / bottom reflections, caustics, turning points, phase (rad), depth
+        miss (m) and receiver indices; ``path_count`` per receiver.
 
     Notes
     -----
@@ -295,53 +293,16 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     with np.errstate(divide="ignore"):
         loss = 10.0 * np.log10(rng * np.abs(out_f[:, 3]) / cos_arr)
     phase = np.pi * out_i[:, 1] + 0.5 * np.pi * out_i[:, 4]
-    n_arr = np.zeros((rr.size, zr.size), dtype=np.int32)
-    np.add.at(n_arr, (bk, bj), 1)
-
-    def cnt(name, v, long):
-        return ("arrival", v.astype(np.int32), {"long_name": long, "units": "1"})
-
-    ds = xr.Dataset(
-        {
-            "receiver_range_index": cnt("", bk, "index of the receiver range"),
-            "receiver_depth_index": cnt("", bj, "index of the receiver depth"),
-            "travel_time": ("arrival", out_f[:, 1], _cf.attrs_for("travel_time")),
-            "launch_angle": ("arrival", out_f[:, 0], {
-                "long_name": "launch angle from horizontal, positive toward the bottom",
-                "units": "degree"}),
-            "arrival_angle": ("arrival", out_f[:, 2], {
-                "long_name": "ray angle at the receiver from horizontal, positive toward the bottom",
-                "units": "degree"}),
-            "surface_reflections": cnt("", out_i[:, 1], "number of surface reflections"),
-            "bottom_reflections": cnt("", out_i[:, 2], "number of bottom reflections"),
-            "turning_points": cnt("", out_i[:, 3], "number of refracted turning points"),
-            "caustics": cnt("", out_i[:, 4], "number of caustics passed"),
-            "spreading_loss": ("arrival", loss, {
-                "long_name": "geometric spreading loss of the eigenray (ray-tube area)",
-                "units": "dB", "reference": "re 1 m"}),
-            "phase": ("arrival", phase, {
-                "long_name": "phase shift: pi per surface reflection plus pi/2 per caustic",
-                "units": "rad"}),
-            "depth_miss": ("arrival", out_f[:, 4], {
-                "long_name": "depth of the eigenray at the receiver range minus receiver depth",
-                "units": "m"}),
-            "arrival_count": (("receiver_range", "receiver_depth"), n_arr,
-                              {"long_name": "number of eigenrays found", "units": "1"}),
-        },
-        coords={
-            "receiver_range": ("receiver_range", rr, _cf.attrs_for("range",
-                                                                   long_name="receiver range")),
-            "receiver_depth": ("receiver_depth", zr, _cf.attrs_for("depth",
-                                                                   long_name="receiver depth")),
-        },
-    )
     attrs = dict(environment.attrs or {})
     attrs.update(_cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs}))
     attrs = _cf.record_step(attrs, "eigenrays", source_depth_m=zs, max_reflections=mr,
                             fan_rays=int(n_fan), refined_rays=int(a.size - n_fan),
                             fan_min_deg=float(a[0]), fan_max_deg=float(a[-1]),
                             layers=int(zn.size - 1))
-    attrs.update(title="eigenrays", source_depth=zs, max_reflections=mr,
+    attrs.update(title="eigenray paths", source_depth=zs, max_reflections=mr,
                  bottom_depth=float(environment.bottom_depth), solver="exact_layered")
-    ds.attrs = attrs
-    return ds
+    return path_table_dataset(
+        rr, zr, bk, bj, launch_angle=out_f[:, 0], arrival_angle=out_f[:, 2],
+        travel_time=out_f[:, 1], spreading_loss=loss, surface_reflections=out_i[:, 1],
+        bottom_reflections=out_i[:, 2], caustics=out_i[:, 4], turning_points=out_i[:, 3],
+        phase=phase, depth_miss=out_f[:, 4], attrs=attrs)

@@ -179,7 +179,7 @@ def test_travel_time_reciprocity_path_by_path(profile, fs, fr, r):
     env = Environment.from_arrays(z, speeds)
     zs, zr = fs * z[-1], fr * z[-1]
     e = eigenrays(env, zs, [r], [zr], max_reflections=2)
-    for k in range(e.sizes["arrival"]):
+    for k in range(e.sizes["path"]):
         back = trace_fan(env, zr, [-float(e.arrival_angle[k])], r, range_step=r,
                          max_bounces=3)
         assert int(back.end_reason[0]) == 0

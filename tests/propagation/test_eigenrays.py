@@ -45,10 +45,10 @@ def test_isovelocity_against_images(zs, zr, r):
     env = Environment.from_arrays([0.0, depth], [c, c])
     e = eigenrays(env, zs, [r], [zr], max_reflections=3)
     ref = _images(zs, zr, r, depth, 3)
-    assert e.sizes["arrival"] == len(ref)
+    assert e.sizes["path"] == len(ref)
     # equal times (symmetric geometry) may come in any order: sort by (time, launch angle)
     ref = sorted(ref, key=lambda x: (round(x[0] / c, 9), x[1]))
-    e = e.isel(arrival=np.lexsort((e.launch_angle.values, np.round(e.travel_time.values, 9))))
+    e = e.isel(path=np.lexsort((e.launch_angle.values, np.round(e.travel_time.values, 9))))
     slant = np.array([x[0] for x in ref])
     # Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
     # ch. 2 (images at 2nD +- zs): travel time R/c; the closed forms are exact, so only
@@ -69,7 +69,7 @@ def test_isovelocity_against_images(zs, zr, r):
 def _sorted_arrivals(e):
     key = (e.bottom_reflections.values, e.surface_reflections.values,
            np.round(e.launch_angle.values, 6), np.round(e.travel_time.values, 9))
-    return e.isel(arrival=np.lexsort(key))
+    return e.isel(path=np.lexsort(key))
 
 
 def _sorted_images(ref):
@@ -97,7 +97,7 @@ def test_source_or_receiver_on_the_surface_or_bottom_against_images(zs, zr, r):
         return _INSIDE if z == 0.0 else (depth - _INSIDE if z == depth else z)
 
     ref = _sorted_images(_images(zs, zr, r, depth, 3, inside(zs), inside(zr)))
-    assert e.sizes["arrival"] == len(ref) > 0
+    assert e.sizes["path"] == len(ref) > 0
     e = _sorted_arrivals(e)
     slant = np.array([x[0] for x in ref])
     # Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
@@ -156,7 +156,7 @@ def test_travel_time_reciprocity(munk_env):
     fan = np.linspace(-40.0, 40.0, 4001)
     a = eigenrays(munk_env, 800.0, [42000.0], [2700.0], max_reflections=2, angles=fan)
     b = eigenrays(munk_env, 2700.0, [42000.0], [800.0], max_reflections=2, angles=fan)
-    assert a.sizes["arrival"] == b.sizes["arrival"] > 3
+    assert a.sizes["path"] == b.sizes["path"] > 3
     np.testing.assert_allclose(np.sort(a.travel_time.values), np.sort(b.travel_time.values),
                                rtol=1e-10)
     np.testing.assert_allclose(np.sort(a.launch_angle.values), np.sort(-b.arrival_angle.values),
@@ -170,9 +170,9 @@ def test_spreading_matches_neighbouring_rays(munk_env):
     # the depth at the receiver range between neighbouring rays
     r = 37000.0
     e = eigenrays(munk_env, 1000.0, [r], [1800.0], max_reflections=1)
-    assert e.sizes["arrival"] >= 2
+    assert e.sizes["path"] >= 2
     d = 1e-5
-    for i in range(e.sizes["arrival"]):
+    for i in range(e.sizes["path"]):
         th = float(e.launch_angle[i])
         fan = trace_fan(munk_env, 1000.0, [th - d, th + d], r, range_step=r)
         if fan.surface_reflections[0] != fan.surface_reflections[1] or \
@@ -189,8 +189,18 @@ def test_spreading_matches_neighbouring_rays(munk_env):
 def test_layout_and_netcdf_round_trip(tmp_path, munk_env):
     e = eigenrays(munk_env, 1000.0, [10000.0, 20000.0, 30000.0], [500.0, 1500.0],
                   max_reflections=2)
-    assert set(e.dims) == {"arrival", "receiver_range", "receiver_depth"}
-    assert int(e.arrival_count.sum()) == e.sizes["arrival"]
+    assert set(e.dims) == {"path", "receiver_range", "receiver_depth"}
+    # the PathTable record: our own names, in the documented order (pathtable.py)
+    assert list(e.data_vars) == [
+        "path_kind", "launch_angle", "arrival_angle", "travel_time", "spreading_loss",
+        "surface_reflections", "bottom_reflections", "caustics", "turning_points", "phase",
+        "depth_miss", "receiver_range_index", "receiver_depth_index", "path_count"]
+    kind = (e.surface_reflections.values > 0) + 2 * (e.bottom_reflections.values > 0)
+    np.testing.assert_array_equal(e.path_kind.values, kind)
+    assert e.path_kind.dtype == np.int8 and set(kind) == {0, 1, 2, 3}
+    assert e.path_kind.attrs["flag_meanings"].split() == [
+        "refracted", "surface_reflected", "bottom_reflected", "surface_and_bottom_reflected"]
+    assert int(e.path_count.sum()) == e.sizes["path"]
     assert e.travel_time.attrs["units"] == "s" and e.spreading_loss.attrs["units"] == "dB"
     assert "caution" in e.attrs and "eigenrays" in e.attrs["processing_steps"]
     # sorted by receiver, then time
@@ -288,6 +298,6 @@ def test_refinement_can_be_switched_off_and_is_recorded():
     env = _duct_env()
     plain = eigenrays(env, 30.0, [6000.0], [20.0], refine=False)
     refined = eigenrays(env, 30.0, [6000.0], [20.0])
-    assert refined.sizes["arrival"] > plain.sizes["arrival"]
+    assert refined.sizes["path"] > plain.sizes["path"]
     assert '"refined_rays": 0' in plain.attrs["processing_steps"]
     assert '"refined_rays": 0' not in refined.attrs["processing_steps"]
