@@ -96,8 +96,14 @@ def _start_direction(zn, gn, j, n):
 
 @numba.njit(cache=True, fastmath=_FM)
 def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
-               s_z, s_t, s_a, s_q, s_cnt, p_r, p_z, p_t, p_a, p_k, max_steps):
+               s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k,
+               max_steps):
     """Trace one ray exactly; write samples at ``samp_r`` and (up to len(p_r)) path points.
+
+    Per sample (``s_*``, length of ``samp_r`` or 0) and per path point (``p_*``): depth,
+    time, angle (degrees), sound speed, the dynamic-ray q and P; path points also range and
+    kind; ``s_cnt`` (0 rows, or one per sample) the counts of reflections, turning points
+    and caustics so far.
 
     Returns (npoints, surface, bottom, turning, caustics, end_reason, steps).
     """
@@ -162,6 +168,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
         p_z[npts] = z
         p_t[npts] = 0.0
         p_a[npts] = np.degrees(theta)
+        p_c[npts] = c
+        p_q[npts] = 0.0
+        p_p[npts] = pp
         p_k[npts] = START
     npts += 1
     while k < nsamp and samp_r[k] <= 0.0:
@@ -169,6 +178,8 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
         s_t[k] = 0.0
         s_a[k] = np.degrees(theta)
         s_q[k] = 0.0
+        s_c[k] = c
+        s_p[k] = pp
         if want_cnt:
             s_cnt[k, 0] = 0
             s_cnt[k, 1] = 0
@@ -190,6 +201,8 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 s_t[k] = t + dr / c
                 s_a[k] = 0.0
                 s_q[k] = q + pp * c * dr
+                s_c[k] = c
+                s_p[k] = pp
                 if want_cnt:
                     s_cnt[k, 0] = ns
                     s_cnt[k, 1] = nb
@@ -205,6 +218,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 p_z[npts] = z
                 p_t[npts] = t
                 p_a[npts] = 0.0
+                p_c[npts] = c
+                p_q[npts] = q
+                p_p[npts] = pp
                 p_k[npts] = END
             npts += 1
             reason = RANGE_REACHED
@@ -272,6 +288,8 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             s_t[k] = t + dt2
             s_a[k] = d * np.degrees(np.arctan2(sk, p * ck))
             s_q[k] = q + pp * kk2
+            s_c[k] = ck
+            s_p[k] = pp
             if want_cnt:
                 qk = q + pp * kk2
                 extra = 0
@@ -310,6 +328,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 p_z[npts] = z
                 p_t[npts] = t
                 p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
+                p_c[npts] = c
+                p_q[npts] = q
+                p_p[npts] = pp
                 p_k[npts] = END
             npts += 1
             reason = RANGE_REACHED
@@ -396,6 +417,9 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             p_z[npts] = z
             p_t[npts] = t
             p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
+            p_c[npts] = c
+            p_q[npts] = q
+            p_p[npts] = pp
             p_k[npts] = kind
         npts += 1
         if stop:
@@ -406,12 +430,14 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
 
 @numba.njit(cache=True, parallel=True)
 def _fan_kernel(zn, cn, gn, tl, zs, thetas, rmax, max_bounces, samp_r,
-                S_z, S_t, S_a, S_q, S_cnt, P_r, P_z, P_t, P_a, P_k, out_int, max_steps):
+                S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p, P_k,
+                out_int, max_steps):
     nray = thetas.size
     for j in prange(nray):
         cnt = S_cnt[j]
         res = _trace_ray(zn, cn, gn, tl, zs, thetas[j], rmax, max_bounces, samp_r,
-                         S_z[j], S_t[j], S_a[j], S_q[j], cnt,
-                         P_r[j], P_z[j], P_t[j], P_a[j], P_k[j], max_steps)
+                         S_z[j], S_t[j], S_a[j], S_q[j], S_c[j], S_p[j], cnt,
+                         P_r[j], P_z[j], P_t[j], P_a[j], P_c[j], P_q[j], P_p[j], P_k[j],
+                         max_steps)
         for m in range(7):
             out_int[j, m] = res[m]

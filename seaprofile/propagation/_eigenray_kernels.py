@@ -17,12 +17,12 @@ from ._arcs import _trace_ray
 
 
 @numba.njit(cache=True)
-def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt, e_r, e_k,
-          max_steps):
+def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p, s_cnt,
+          e_r, e_k, max_steps):
     """Trace one ray (launch angle x, rad) to range r; returns (depth, dz/dtheta0, count)."""
     s_z[0] = np.nan
-    _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt,
-               e_r, e_r, e_r, e_r, e_k, max_steps)
+    _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p, s_cnt,
+               e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, max_steps)
     sgn = 1.0 if (s_cnt[0, 0] + s_cnt[0, 1]) % 2 == 0 else -1.0
     cosr = np.cos(np.radians(s_a[0]))
     deriv = sgn * s_q[0] / cosr if cosr > 0.0 else 0.0
@@ -50,6 +50,8 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
         s_t = np.empty(1)
         s_a = np.empty(1)
         s_q = np.empty(1)
+        s_c = np.empty(1)
+        s_p = np.empty(1)
         s_cnt = np.zeros((1, 4), dtype=np.int32)
         e_r = np.empty(0)
         e_k = np.empty(0, dtype=np.int8)
@@ -92,7 +94,7 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                     if not (lo < x < hi):
                         x = 0.5 * (lo + hi)
                     zx, dx, nx = _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t,
-                                       s_a, s_q, s_cnt, e_r, e_k, max_steps)
+                                       s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
                     if zx != zx or nx != na:
                         break
                     if (dx > 0.0) == (dlo > 0.0):
@@ -127,7 +129,7 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                 for it in range(45):
                     x = 0.5 * (lo + hi)
                     zx, dx, nx = _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t,
-                                       s_a, s_q, s_cnt, e_r, e_k, max_steps)
+                                       s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
                     if nx == na:
                         lo = x
                     else:
@@ -137,7 +139,7 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                 # depth on the family-a side of the boundary: 0 or the bottom for a true
                 # reflection kink, the grazing depth when the ray just touches the boundary
                 zx, dx, nx = _eval(zn, cn, gn, tl, zs, lo, r, max_refl, samp, s_z, s_t,
-                                   s_a, s_q, s_cnt, e_r, e_k, max_steps)
+                                   s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
                 if zx == zx:
                     sp_th[a, k] = lo
                     sp_z[a, k] = zx
@@ -214,6 +216,8 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, b
         s_t = np.empty(1)
         s_a = np.empty(1)
         s_q = np.empty(1)
+        s_c = np.empty(1)
+        s_p = np.empty(1)
         s_cnt = np.zeros((1, 4), dtype=np.int32)
         e_r = np.empty(0)
         e_k = np.empty(0, dtype=np.int8)
@@ -243,8 +247,8 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, b
         f = np.nan
         for it in range(80):
             s_z[0] = np.nan
-            _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt,
-                       e_r, e_r, e_r, e_r, e_k, max_steps)
+            _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p,
+                       s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, max_steps)
             f = s_z[0] - zt
             if f != f:
                 # absorbed before the receiver: shrink towards the valid end points
@@ -269,8 +273,8 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, b
                 x = xn
                 ok = 1
                 s_z[0] = np.nan
-                _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt,
-                           e_r, e_r, e_r, e_r, e_k, max_steps)
+                _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c,
+                           s_p, s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, max_steps)
                 f = s_z[0] - zt
                 # a collapsed bracket is a root only if the miss is small (not a jump)
                 if not abs(f) < 1e3 * ftol:

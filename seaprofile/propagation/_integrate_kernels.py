@@ -70,7 +70,7 @@ _RIDE_STEP = 50.0  # m: longest step of a ray running along a node or a boundary
 @numba.njit(cache=True)
 def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_step, tol,
                max_step, dir_scale, max_bounces, max_steps,
-               out_r, out_z, out_t, out_a, out_q, out_k, stats):
+               out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, stats):
     """Trace one ray. Fills the point rows (full path, or samples every ``range_step`` m
     when it is > 0) and stats = (points, surface, bottom, turning, caustics, end, steps)."""
     npts = out_r.shape[0]
@@ -106,6 +106,8 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
     out_t[0] = 0.0
     out_a[0] = math.degrees(theta0)
     out_q[0] = 0.0
+    out_c[0] = c0
+    out_p[0] = y[6]
     out_k[0] = RANGE_SAMPLE if sampled else START
     count = 1
     next_sample = 1
@@ -399,6 +401,8 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
             out_t[count] = y[4]
             out_a[count] = math.degrees(math.atan2(y[3], y[2]))
             out_q[count] = y[5]
+            out_c[count] = 1.0 / f[4]
+            out_p[count] = y[6]
             out_k[count] = kind
             count += 1
         h = hnext
@@ -414,9 +418,9 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
 @numba.njit(cache=True, parallel=True)
 def _trace_rays(coef, ref, edges, depth, br, bz, z0, angles, max_range, range_step, tol,
                 max_step, dir_scale, max_bounces, max_steps,
-                out_r, out_z, out_t, out_a, out_q, out_k, stats):
+                out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, stats):
     """Trace every ray (prange over rays); row n of each output is ray n."""
     for n in numba.prange(angles.shape[0]):
         _trace_one(coef, ref, edges, depth, br, bz, z0, angles[n], max_range, range_step,
                    tol, max_step, dir_scale, max_bounces, max_steps, out_r[n], out_z[n],
-                   out_t[n], out_a[n], out_q[n], out_k[n], stats[n])
+                   out_t[n], out_a[n], out_q[n], out_c[n], out_p[n], out_k[n], stats[n])

@@ -90,8 +90,8 @@ RIDE_SINE = 1e-5
 #: Largest memory (bytes) one call may ask for; estimated before allocating.
 MEMORY_LIMIT = 4_000_000_000
 #: Bytes per (ray, point) of a stored fan: the kernel's rows (range, depth, time, angle,
-#: q: 5 x 8, kind: 1) and the Dataset's copies of them.
-FAN_POINT_BYTES = 88
+#: c, q, p: 7 x 8, kind: 1) and the copies the integrator makes of them.
+FAN_POINT_BYTES = 120
 
 
 def check_memory(nbytes, argument, what, remedy):

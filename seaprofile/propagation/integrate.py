@@ -71,7 +71,8 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
                   first_buffer=512):
     """Trace rays on plain arrays (no validation); grows the point buffer when needed.
 
-    Returns a dict: range, depth, travel_time, angle, spreading (ray, point) NaN-padded,
+    Returns a dict: range, depth, travel_time, angle, tube_width (q), sound_speed,
+    tube_slowness (p) (ray, point) NaN-padded,
     point_kind (ray, point) -1-padded, and per ray point_count, surface_reflections,
     bottom_reflections, turning_points, caustics, end_reason, steps.
     """
@@ -92,7 +93,7 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
         check_memory(m * float(buffer) * FAN_POINT_BYTES, "range_step",
                      f"keeping every integration point of {m} rays ({buffer} points each)",
                      "give range_step to sample the rays, or trace fewer angles")
-        out = [np.full((m, buffer), np.nan) for _ in range(5)]
+        out = [np.full((m, buffer), np.nan) for _ in range(7)]
         kinds = np.full((m, buffer), -1, dtype=np.int8)
         stats = np.zeros((m, 7), dtype=np.int64)
         _trace_rays(*medium, float(source_depth), theta[todo], float(max_range), step,
@@ -108,7 +109,8 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
         buffer = int(min(4 * buffer, max_points))
     width = max(1, int(stats_all[:, 0].max())) if n else 1
     result = {}
-    names = ("range", "depth", "travel_time", "angle", "spreading", "point_kind")
+    names = ("range", "depth", "travel_time", "angle", "tube_width", "sound_speed",
+             "tube_slowness", "point_kind")
     for kk, name in enumerate(names):
         fill, dtype = (-1, np.int8) if name == "point_kind" else (np.nan, np.float64)
         arr = np.full((n, width), fill, dtype=dtype)
@@ -136,8 +138,7 @@ def _medium_of(environment):
 
 
 def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_step=None,
-                         max_bounces=None, tolerance=1e-6, max_step=2000.0,
-                         include_spreading=False):
+                         max_bounces=None, tolerance=1e-6, max_step=2000.0):
     """Trace a fan of rays through a range-dependent environment by numerical integration.
 
     Parameters
@@ -167,10 +168,6 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
         global error grows roughly in proportion; measured values are in the tests.
     max_step : float
         Longest integration step (arc length), m.
-    include_spreading : bool
-        Add ``spreading`` (ray, point): the dynamic-ray q, distance between neighbouring
-        rays per radian of launch angle, m/rad (sign changes are caustics).
-
     Returns
     -------
     xr.Dataset
@@ -205,6 +202,8 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
         out["surface_reflections"], out["bottom_reflections"], out["turning_points"],
         out["end_reason"], source_depth=zs, max_range=rmax, max_bounces=mb,
         environment=environment, solver="integrated", point_kind=out["point_kind"],
+        sound_speed=out["sound_speed"], tube_width=out["tube_width"],
+        tube_slowness=out["tube_slowness"],
         caustics=out["caustics"], range_step=range_step,
         step_parameters={
             "tolerance_m": tol,
@@ -214,9 +213,4 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
             "integration_steps": int(out["steps"].sum()),
         },
     )
-    if include_spreading:
-        ds["spreading"] = (("ray", "point"), out["spreading"], {
-            "long_name": "dynamic-ray spreading q: distance between neighbouring rays per "
-                         "radian of launch angle",
-            "units": "m rad-1"})
     return ds

@@ -112,21 +112,22 @@ def trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=None, *,
     S_t = np.full((nray, ns), np.nan)
     S_a = np.full((nray, ns), np.nan)
     S_q = np.full((nray, ns), np.nan)
+    S_c = np.full((nray, ns), np.nan)
+    S_p = np.full((nray, ns), np.nan)
     S_cnt = np.full((nray, ns if counts else 0, 4), -1, dtype=np.int32)
     mp = int(max_points)
-    P_r = np.full((nray, mp), np.nan)
-    P_z = np.full((nray, mp), np.nan)
-    P_t = np.full((nray, mp), np.nan)
-    P_a = np.full((nray, mp), np.nan)
-    P_k = np.full((nray, mp), -1, dtype=np.int8)
+    P_r, P_z, P_t, P_a, P_c, P_q, P_p = (np.full((nray, mp), np.nan) for _ in range(7))
+    P_k = np.full((nray, mp), NO_POINT, dtype=np.int8)
     out_int = np.zeros((nray, 7), dtype=np.int64)
-    _fan_kernel(zn, cn, gn, _layer_times(zn, cn), float(zs), th, float(rmax), int(max_bounces), samp,
-                S_z, S_t, S_a, S_q, S_cnt, P_r, P_z, P_t, P_a, P_k, out_int, int(max_steps))
+    _fan_kernel(zn, cn, gn, _layer_times(zn, cn), float(zs), th, float(rmax), int(max_bounces),
+                samp, S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p,
+                P_k, out_int, int(max_steps))
     return {
         "sample_depth": S_z, "sample_time": S_t, "sample_angle": S_a, "sample_q": S_q,
+        "sample_sound_speed": S_c, "sample_p": S_p,
         "sample_counts": S_cnt if counts else None,
         "path_range": P_r, "path_depth": P_z, "path_time": P_t, "path_angle": P_a,
-        "path_kind": P_k,
+        "path_sound_speed": P_c, "path_q": P_q, "path_p": P_p, "path_kind": P_k,
         "points": out_int[:, 0], "surface_reflections": out_int[:, 1],
         "bottom_reflections": out_int[:, 2], "turning_points": out_int[:, 3],
         "caustics": out_int[:, 4], "end_reason": out_int[:, 5].astype(np.int8),
@@ -146,12 +147,13 @@ def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
     if mp * first["points"].size > MAX_STORED_POINTS:
         raise SeaprofileError(
             f"range_step: keeping every event point needs {mp} points x "
-            f"{first['points'].size} rays (about {mp * first['points'].size * 33 / 1e9:.3g} GB);"
+            f"{first['points'].size} rays (about {mp * first['points'].size * 57 / 1e9:.3g} GB);"
             f" give range_step to sample the rays instead")
     out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=mp)
     res = _fan_common(out)
     res.update(range=out["path_range"], depth=out["path_depth"], travel_time=out["path_time"],
-               angle=out["path_angle"], point_kind=out["path_kind"],
+               angle=out["path_angle"], sound_speed=out["path_sound_speed"],
+               tube_width=out["path_q"], tube_slowness=out["path_p"], point_kind=out["path_kind"],
                point_count=np.minimum(out["points"], mp), steps=out["steps"])
     return res
 
@@ -167,6 +169,7 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
     kind = np.where(valid, RANGE_SAMPLE, NO_POINT).astype(np.int8)
     res = _fan_common(out)
     res.update(range=rr, depth=out["sample_depth"], travel_time=out["sample_time"],
-               angle=out["sample_angle"], point_kind=kind,
+               angle=out["sample_angle"], sound_speed=out["sample_sound_speed"],
+               tube_width=out["sample_q"], tube_slowness=out["sample_p"], point_kind=kind,
                point_count=valid.sum(axis=1).astype(np.int32), steps=out["steps"])
     return res

@@ -6,7 +6,10 @@ numerical range-dependent integrator, :mod:`.integrate`; build it with
 
 * dimensions ``ray`` and ``point``;
 * ``range``, ``depth`` (m), ``travel_time`` (s), ``angle`` (degrees from horizontal,
-  positive down) on ``(ray, point)``, NaN after the ray's last point;
+  positive down), ``sound_speed`` (m/s) and the dynamic-ray pair ``tube_width`` (q, m/rad:
+  the distance between neighbouring rays per radian of launch angle; its sign changes are
+  caustics) and ``tube_slowness`` (p = dq/ds / c, s m-1 rad-1) on ``(ray, point)``, NaN
+  after the ray's last point; at a reflection the angle and p are the reflected ones;
 * ``point_kind`` (int8, ``(ray, point)``): what happened at the point (start, layer
   crossing, turning point, surface / bottom reflection, range sample, end), -1 as padding
   (``no_point``, listed in ``flag_values``; no ``_FillValue``, so the variable reads back
@@ -66,6 +69,9 @@ def rayfan_dataset(
     caustics=None,
     range_step=None,
     step_parameters=None,
+    sound_speed=None,
+    tube_width=None,
+    tube_slowness=None,
 ):
     """Assemble a RayFan Dataset from plain arrays (layout in the module docstring).
 
@@ -98,6 +104,9 @@ def rayfan_dataset(
         Resampling step, m, when the points are range samples.
     step_parameters : dict, optional
         Extra parameters recorded in the provenance step.
+    sound_speed, tube_width, tube_slowness : ndarray (ray, point), optional
+        Sound speed (m/s), dynamic-ray q (m/rad) and p (s m-1 rad-1) at the points; NaN
+        when not given.
     """
     nray, npt = np.shape(depth)
     dims = ("ray", "point")
@@ -123,6 +132,17 @@ def rayfan_dataset(
         "end_reason": ("ray", np.asarray(end_reason, dtype=np.int8),
                        _flag_attrs(END_REASONS, "how the ray ended")),
     }
+    for name, v, attrs in (
+            ("sound_speed", sound_speed, _cf.attrs_for("sound_speed")),
+            ("tube_width", tube_width, {
+                "long_name": "dynamic-ray q: distance between neighbouring rays per radian "
+                             "of launch angle (sign changes are caustics)",
+                "units": "m rad-1"}),
+            ("tube_slowness", tube_slowness, {
+                "long_name": "dynamic-ray p: rate of change of q along the ray over c",
+                "units": "s m-1 rad-1"})):
+        v = np.full((nray, npt), np.nan) if v is None else np.asarray(v, dtype=np.float64)
+        data[name] = (dims, v, attrs)
     if point_kind is None:
         point_kind = np.where(np.isfinite(np.asarray(depth)), RANGE_SAMPLE, NO_POINT)
     # -1 (padding) is an ordinary documented code, not a _FillValue: a declared fill value

@@ -83,3 +83,47 @@ def test_no_import_circles_inside_propagation():
     for mod in sorted(graph):
         visit(mod)
     assert "rays" not in graph["integrate"] and "rays" not in graph["eigenrays"]
+
+
+@pytest.mark.parametrize("range_step", [None, 400.0])
+@pytest.mark.parametrize("solver", ["exact", "integrated"])
+def test_both_solvers_fill_the_ray_record_isovelocity(solver, range_step):
+    # uniform water, point source: q is the path length c t and p stays 1/c, also through
+    # flat reflections (dynamic ray equations with q(0) = 0, p(0) = 1/c; Jensen, Kuperman,
+    # Porter & Schmidt 2011, Computational Ocean Acoustics, ch. 3)
+    env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0])
+    trace = trace_fan if solver == "exact" else trace_fan_integrated
+    fan = trace(env, 30.0, [-20.0, -2.0, 0.0, 7.0], 3000.0, range_step=range_step,
+                max_bounces=50)
+    ok = fan.point_kind.values >= 0
+    np.testing.assert_array_equal(np.isfinite(fan.sound_speed.values), ok)
+    np.testing.assert_allclose(fan.sound_speed.values[ok], 1500.0, rtol=1e-15)
+    # exact solver: rounding only; integrator: its 1e-6 m local tolerance over ~30 steps
+    rtol = 1e-12 if solver == "exact" else 1e-7
+    np.testing.assert_allclose(fan.tube_width.values[ok],
+                               1500.0 * fan.travel_time.values[ok], rtol=rtol, atol=1e-9)
+    np.testing.assert_allclose(fan.tube_slowness.values[ok], 1.0 / 1500.0, rtol=rtol)
+
+
+def test_both_solvers_fill_the_same_ray_record_in_a_layered_profile():
+    # the same rays through the same c(z): the integrator (range_step samples, tight
+    # tolerance) against the exact arcs, variable by variable
+    env = _env()
+    angles = [-12.0, -4.0, 3.0, 9.0]
+    exact = trace_fan(env, 50.0, angles, 6000.0, range_step=500.0, max_bounces=20)
+    integ = trace_fan_integrated(env, 50.0, angles, 6000.0, range_step=500.0,
+                                 max_bounces=20, tolerance=1e-9)
+    assert list(exact.data_vars) == list(integ.data_vars)
+    ok = exact.point_kind.values >= 0
+    # c at each point is the profile's, to rounding (exact) and to the depth error of the
+    # integrator (< 1e-5 m here, times |dc/dz| <= 0.15 1/s)
+    np.testing.assert_allclose(exact.sound_speed.values[ok],
+                               env.sound_speed_at(exact.depth.values[ok]), rtol=1e-13)
+    np.testing.assert_allclose(integ.sound_speed.values[ok], exact.sound_speed.values[ok],
+                               rtol=1e-8)
+    # q and p: the integrator's global error at tolerance 1e-9 m is well below 1e-5 relative
+    # (tests/propagation/test_integrate.py measures it against the circular-arc solution)
+    np.testing.assert_allclose(integ.tube_width.values[ok], exact.tube_width.values[ok],
+                               rtol=1e-5, atol=1e-6)
+    np.testing.assert_allclose(integ.tube_slowness.values[ok], exact.tube_slowness.values[ok],
+                               rtol=1e-5, atol=1e-12)
