@@ -13,7 +13,7 @@ import numpy as np
 from numba import prange
 
 # point kinds, end reasons, the grazing rule (see there) and the step limit
-from .codes import (ABSORBED, BOTTOM_REFLECTION, END, LAYER_CROSSING, MAX_STEPS,  # noqa: F401
+from .codes import (ABSORBED, AT_BOTTOM, AT_SURFACE, BOTTOM_REFLECTION, END, LAYER_CROSSING,
                     RANGE_REACHED, RANGE_SAMPLE, RIDE_DEPTH, RIDE_SINE, START, STEP_LIMIT,
                     SURFACE_REFLECTION, TURNING_POINT)
 
@@ -84,6 +84,15 @@ def _sin_from_cos(cosv):
     return np.sqrt(x)
 
 
+@numba.njit(cache=True, inline="always")
+def _store_reflection(rf_r, rf_a, rf_k, m, r, sa, cosv, boundary):
+    """Reflection number m (from 0) of the ray: range, grazing angle (degrees), boundary."""
+    if m < rf_r.size:
+        rf_r[m] = r
+        rf_a[m] = np.degrees(np.arctan2(sa, cosv))
+        rf_k[m] = boundary
+
+
 @numba.njit(cache=True)
 def _start_direction(zn, gn, j, n):
     """Direction of a horizontal ray at node j: +1 down, -1 up, 0 stays (local minimum)."""
@@ -97,13 +106,14 @@ def _start_direction(zn, gn, j, n):
 @numba.njit(cache=True, fastmath=_FM)
 def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k,
-               max_steps):
+               rf_r, rf_a, rf_k, max_steps):
     """Trace one ray exactly; write samples at ``samp_r`` and (up to len(p_r)) path points.
 
     Per sample (``s_*``, length of ``samp_r`` or 0) and per path point (``p_*``): depth,
     time, angle (degrees), sound speed, the dynamic-ray q and P; path points also range and
     kind; ``s_cnt`` (0 rows, or one per sample) the counts of reflections, turning points
-    and caustics so far.
+    and caustics so far; per reflection (up to len(rf_r)) its range, grazing angle and
+    boundary (``REFLECTION_BOUNDARIES``).
 
     Returns (npoints, surface, bottom, turning, caustics, end_reason, steps).
     """
@@ -367,6 +377,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 nb += 1
                 d = -1
                 kind = BOTTOM_REFLECTION
+                _store_reflection(rf_r, rf_a, rf_k, ns + nb - 1, r, sa, p * c, AT_BOTTOM)
                 if (gn[n - 1] < 0.0 and sa < RIDE_SINE
                         and c * sa * sa < -2.0 * gn[n - 1] * RIDE_DEPTH):
                     sa = 0.0
@@ -382,6 +393,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 ns += 1
                 d = 1
                 kind = SURFACE_REFLECTION
+                _store_reflection(rf_r, rf_a, rf_k, ns + nb - 1, r, sa, p * c, AT_SURFACE)
                 if (gn[0] > 0.0 and sa < RIDE_SINE
                         and c * sa * sa < 2.0 * gn[0] * RIDE_DEPTH):
                     sa = 0.0
@@ -431,13 +443,13 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
 @numba.njit(cache=True, parallel=True)
 def _fan_kernel(zn, cn, gn, tl, zs, thetas, rmax, max_bounces, samp_r,
                 S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p, P_k,
-                out_int, max_steps):
+                RF_r, RF_a, RF_k, out_int, max_steps):
     nray = thetas.size
     for j in prange(nray):
         cnt = S_cnt[j]
         res = _trace_ray(zn, cn, gn, tl, zs, thetas[j], rmax, max_bounces, samp_r,
                          S_z[j], S_t[j], S_a[j], S_q[j], S_c[j], S_p[j], cnt,
                          P_r[j], P_z[j], P_t[j], P_a[j], P_c[j], P_q[j], P_p[j], P_k[j],
-                         max_steps)
+                         RF_r[j], RF_a[j], RF_k[j], max_steps)
         for m in range(7):
             out_int[j, m] = res[m]

@@ -22,7 +22,7 @@ def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p
     """Trace one ray (launch angle x, rad) to range r; returns (depth, dz/dtheta0, count)."""
     s_z[0] = np.nan
     _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p, s_cnt,
-               e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, max_steps)
+               e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k, max_steps)
     sgn = 1.0 if (s_cnt[0, 0] + s_cnt[0, 1]) % 2 == 0 else -1.0
     cosr = np.cos(np.radians(s_a[0]))
     deriv = sgn * s_q[0] / cosr if cosr > 0.0 else 0.0
@@ -248,7 +248,7 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, b
         for it in range(80):
             s_z[0] = np.nan
             _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p,
-                       s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, max_steps)
+                       s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k, max_steps)
             f = s_z[0] - zt
             if f != f:
                 # absorbed before the receiver: shrink towards the valid end points
@@ -274,7 +274,8 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, b
                 ok = 1
                 s_z[0] = np.nan
                 _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c,
-                           s_p, s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, max_steps)
+                           s_p, s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k,
+                           max_steps)
                 f = s_z[0] - zt
                 # a collapsed bracket is a root only if the miss is small (not a jump)
                 if not abs(f) < 1e3 * ftol:

@@ -16,7 +16,7 @@ import numpy as np
 
 from ._integrate_cells import (_bottom_at, _g, _interface_dynamic, _locate,
                                _reflect_dynamic, _rhs, _root, _start_layer, _trapped)
-from .codes import (ABSORBED, BOTTOM_REFLECTION, END, LAYER_CROSSING, LEFT_DOMAIN,  # noqa: F401
+from .codes import (ABSORBED, AT_BOTTOM, AT_SURFACE, BOTTOM_REFLECTION, END, LAYER_CROSSING, LEFT_DOMAIN,  # noqa: F401
                     MAX_STEPS, RANGE_REACHED, RANGE_SAMPLE, RIDE_SINE, START, STEP_LIMIT,
                     SURFACE_REFLECTION, TURNING_POINT)
 from .section import _cell_eval, _find_interval
@@ -70,7 +70,8 @@ _RIDE_STEP = 50.0  # m: longest step of a ray running along a node or a boundary
 @numba.njit(cache=True)
 def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_step, tol,
                max_step, dir_scale, max_bounces, max_steps,
-               out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, stats):
+               out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, rf_r, rf_a, rf_k,
+               stats):
     """Trace one ray. Fills the point rows (full path, or samples every ``range_step`` m
     when it is > 0) and stats = (points, surface, bottom, turning, caustics, end, steps)."""
     npts = out_r.shape[0]
@@ -326,6 +327,12 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                     nuz = 1.0 / nn
                     n_bot += 1
                 tn = tr * nur + tz * nuz
+                m_rf = n_surf + n_bot - 1
+                if m_rf < rf_r.shape[0]:
+                    # grazing angle: between the incident ray and the (local) boundary
+                    rf_r[m_rf] = yt[0]
+                    rf_a[m_rf] = math.degrees(math.asin(min(1.0, abs(tn))))
+                    rf_k[m_rf] = AT_SURFACE if which == _B_TOP else AT_BOTTOM
                 ur = tr - 2.0 * tn * nur
                 uz = tz - 2.0 * tn * nuz
                 yt[5], yt[6] = _reflect_dynamic(yt[5], yt[6], cb, gr, gz, tr, tz, ur, uz,
@@ -418,9 +425,11 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
 @numba.njit(cache=True, parallel=True)
 def _trace_rays(coef, ref, edges, depth, br, bz, z0, angles, max_range, range_step, tol,
                 max_step, dir_scale, max_bounces, max_steps,
-                out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, stats):
+                out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, rf_r, rf_a, rf_k,
+                stats):
     """Trace every ray (prange over rays); row n of each output is ray n."""
     for n in numba.prange(angles.shape[0]):
         _trace_one(coef, ref, edges, depth, br, bz, z0, angles[n], max_range, range_step,
                    tol, max_step, dir_scale, max_bounces, max_steps, out_r[n], out_z[n],
-                   out_t[n], out_a[n], out_q[n], out_c[n], out_p[n], out_k[n], stats[n])
+                   out_t[n], out_a[n], out_q[n], out_c[n], out_p[n], out_k[n], rf_r[n],
+                   rf_a[n], rf_k[n], stats[n])

@@ -63,6 +63,17 @@ END_REASONS = {
     STEP_LIMIT: "step_limit_reached",
 }
 
+# --- reflection boundaries: where a reflection of the ray record happens --------------
+NO_REFLECTION = -1  # padding after the ray's last reflection
+AT_SURFACE = 0
+AT_BOTTOM = 1
+#: reflection_boundary code -> meaning (padding, -1: :data:`NO_REFLECTION_MEANING`).
+REFLECTION_BOUNDARIES = {AT_SURFACE: "surface", AT_BOTTOM: "bottom"}
+NO_REFLECTION_MEANING = "no_reflection"
+#: Reflections a sampled fan keeps per ray at first; a fan with more is traced again with
+#: room for all of them (its count is known after the first pass).
+FIRST_REFLECTIONS_KEPT = 16
+
 # --- path kinds: which boundaries an eigenray met (from its reflection counts) ---------
 #: path_kind code -> meaning; the code is (surface reflections > 0) + 2 (bottom ones > 0).
 PATH_KINDS = {

@@ -57,7 +57,8 @@ from .codes import FAN_POINT_BYTES, check_memory
 # the compiled stepper; the tableau is re-exported for the tests
 from ._integrate_kernels import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
                                  _trace_rays)
-from .codes import DEFAULT_MAX_BOUNCES, MAX_STEPS, STEP_LIMIT
+from .codes import (DEFAULT_MAX_BOUNCES, FIRST_REFLECTIONS_KEPT, MAX_STEPS, NO_POINT,
+                    NO_REFLECTION, STEP_LIMIT)
 from .rayfan import check_fan_args, rayfan_dataset
 from .section import Section
 
@@ -88,32 +89,47 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
     todo = np.arange(n)
     rows = [None] * n
     stats_all = np.zeros((n, 7), dtype=np.int64)
+    room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)  # reflections kept per ray
     while todo.size:
         m = todo.size
         check_memory(m * float(buffer) * FAN_POINT_BYTES, "range_step",
                      f"keeping every integration point of {m} rays ({buffer} points each)",
                      "give range_step to sample the rays, or trace fewer angles")
         out = [np.full((m, buffer), np.nan) for _ in range(7)]
-        kinds = np.full((m, buffer), -1, dtype=np.int8)
+        kinds = np.full((m, buffer), NO_POINT, dtype=np.int8)
+        refl = [np.full((m, room), np.nan), np.full((m, room), np.nan),
+                np.full((m, room), NO_REFLECTION, dtype=np.int8)]
         stats = np.zeros((m, 7), dtype=np.int64)
         _trace_rays(*medium, float(source_depth), theta[todo], float(max_range), step,
                     float(tolerance), float(max_step), float(direction_scale),
-                    int(max_bounces), int(MAX_STEPS), *out, kinds, stats)
+                    int(max_bounces), int(MAX_STEPS), *out, kinds, *refl, stats)
         full = (stats[:, 5] == STEP_LIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
+        nrefl = stats[:, 1] + stats[:, 2]
+        again = full | (nrefl > room)
         for local, ray in enumerate(todo):
-            if not full[local]:
+            if not again[local]:
                 cnt = stats[local, 0]
-                rows[ray] = [o[local, :cnt] for o in out] + [kinds[local, :cnt]]
+                rows[ray] = ([o[local, :cnt] for o in out] + [kinds[local, :cnt]]
+                             + [f[local, :nrefl[local]] for f in refl])
                 stats_all[ray] = stats[local]
-        todo = todo[full]
-        buffer = int(min(4 * buffer, max_points))
+        todo = todo[again]
+        if np.any(full):
+            buffer = int(min(4 * buffer, max_points))
+        if np.any(again & ~full):
+            room = int(nrefl[again].max())
+            check_memory(todo.size * float(room) * 17, "max_bounces",
+                         f"{todo.size} rays x {room} reflections", "lower max_bounces")
     width = max(1, int(stats_all[:, 0].max())) if n else 1
     result = {}
     names = ("range", "depth", "travel_time", "angle", "tube_width", "sound_speed",
-             "tube_slowness", "point_kind")
+             "tube_slowness", "point_kind", "reflection_range", "grazing_angle",
+             "reflection_boundary")
+    widths = (width,) * 8 + (int((stats_all[:, 1] + stats_all[:, 2]).max()) if n else 0,) * 3
     for kk, name in enumerate(names):
-        fill, dtype = (-1, np.int8) if name == "point_kind" else (np.nan, np.float64)
-        arr = np.full((n, width), fill, dtype=dtype)
+        fill, dtype = ((NO_POINT, np.int8) if name == "point_kind" else
+                       (NO_REFLECTION, np.int8) if name == "reflection_boundary" else
+                       (np.nan, np.float64))
+        arr = np.full((n, widths[kk]), fill, dtype=dtype)
         for ray in range(n):
             v = rows[ray][kk]
             arr[ray, : v.size] = v
@@ -203,7 +219,8 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
         out["end_reason"], source_depth=zs, max_range=rmax, max_bounces=mb,
         environment=environment, solver="integrated", point_kind=out["point_kind"],
         sound_speed=out["sound_speed"], tube_width=out["tube_width"],
-        tube_slowness=out["tube_slowness"],
+        tube_slowness=out["tube_slowness"], reflections=(
+            out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
         caustics=out["caustics"], range_step=range_step,
         step_parameters={
             "tolerance_m": tol,

@@ -15,6 +15,10 @@ numerical range-dependent integrator, :mod:`.integrate`; build it with
   (``no_point``, listed in ``flag_values``; no ``_FillValue``, so the variable reads back
   from netCDF as int8);
 * ``point_count`` (int32, ``ray``): number of valid points;
+* dimension ``reflection``: every surface and bottom reflection of each ray, in order:
+  ``reflection_boundary`` (int8: 0 surface, 1 bottom, -1 padding ``no_reflection``),
+  ``reflection_range`` (m) and ``grazing_angle`` (degrees between the incident ray and
+  the boundary, >= 0); kept whether or not the points are range samples;
 * coordinate ``launch_angle`` (degrees, ``ray``);
 * ``surface_reflections``, ``bottom_reflections``, ``turning_points``, ``caustics``
   (int32, ``ray``): counts along the whole ray;
@@ -33,8 +37,9 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
-from .codes import (END_REASONS, FAN_POINT_BYTES, NO_POINT, PADDING, POINT_KINDS, RANGE_SAMPLE,
-                    check_memory)
+from .codes import (END_REASONS, FAN_POINT_BYTES, NO_POINT, NO_REFLECTION,
+                    NO_REFLECTION_MEANING, PADDING, POINT_KINDS, RANGE_SAMPLE,
+                    REFLECTION_BOUNDARIES, check_memory)
 from .environment import Environment
 
 __all__ = ["check_fan_args", "rayfan_dataset"]
@@ -72,6 +77,7 @@ def rayfan_dataset(
     sound_speed=None,
     tube_width=None,
     tube_slowness=None,
+    reflections=None,
 ):
     """Assemble a RayFan Dataset from plain arrays (layout in the module docstring).
 
@@ -107,6 +113,10 @@ def rayfan_dataset(
     sound_speed, tube_width, tube_slowness : ndarray (ray, point), optional
         Sound speed (m/s), dynamic-ray q (m/rad) and p (s m-1 rad-1) at the points; NaN
         when not given.
+    reflections : (ndarray, ndarray, ndarray), optional
+        Per ray and reflection (ray, reflection): the boundary (codes of
+        :data:`.codes.REFLECTION_BOUNDARIES`, -1 padding), range (m) and grazing angle
+        (degrees); none when not given.
     """
     nray, npt = np.shape(depth)
     dims = ("ray", "point")
@@ -143,6 +153,18 @@ def rayfan_dataset(
                 "units": "s m-1 rad-1"})):
         v = np.full((nray, npt), np.nan) if v is None else np.asarray(v, dtype=np.float64)
         data[name] = (dims, v, attrs)
+    if reflections is None:
+        reflections = (np.full((nray, 0), NO_REFLECTION, dtype=np.int8),
+                       np.full((nray, 0), np.nan), np.full((nray, 0), np.nan))
+    rdims = ("ray", "reflection")
+    data["reflection_boundary"] = (rdims, np.asarray(reflections[0], dtype=np.int8), _flag_attrs(
+        {NO_REFLECTION: NO_REFLECTION_MEANING, **REFLECTION_BOUNDARIES},
+        "boundary of the reflection"))
+    data["reflection_range"] = (rdims, np.asarray(reflections[1], dtype=np.float64),
+                                _cf.attrs_for("range", long_name="range of the reflection"))
+    data["grazing_angle"] = (rdims, np.asarray(reflections[2], dtype=np.float64), {
+        "long_name": "grazing angle of the reflection (between ray and boundary)",
+        "units": "degree"})
     if point_kind is None:
         point_kind = np.where(np.isfinite(np.asarray(depth)), RANGE_SAMPLE, NO_POINT)
     # -1 (padding) is an ordinary documented code, not a _FillValue: a declared fill value
@@ -179,7 +201,7 @@ def rayfan_dataset(
     # integer variables are written without a fill value (xarray would otherwise decode
     # them to floats): their codes are complete, padding included
     for name in ("point_kind", "point_count", "surface_reflections", "bottom_reflections",
-                 "turning_points", "caustics", "end_reason"):
+                 "turning_points", "caustics", "end_reason", "reflection_boundary"):
         ds[name].encoding["_FillValue"] = None
     return ds
 

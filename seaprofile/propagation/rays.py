@@ -71,5 +71,6 @@ def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
         environment=environment, solver="exact_layered", point_kind=out["point_kind"],
         caustics=out["caustics"], range_step=range_step,
         step_parameters={"layers": int(zn.size - 1)}, sound_speed=out["sound_speed"],
-        tube_width=out["tube_width"], tube_slowness=out["tube_slowness"],
+        tube_width=out["tube_width"], tube_slowness=out["tube_slowness"], reflections=(
+            out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
     )

@@ -127,3 +127,44 @@ def test_both_solvers_fill_the_same_ray_record_in_a_layered_profile():
                                rtol=1e-5, atol=1e-6)
     np.testing.assert_allclose(integ.tube_slowness.values[ok], exact.tube_slowness.values[ok],
                                rtol=1e-5, atol=1e-12)
+
+
+@pytest.mark.parametrize("range_step", [None, 400.0])
+@pytest.mark.parametrize("solver", ["exact", "integrated"])
+def test_reflections_of_the_ray_record_against_images(solver, range_step):
+    # isovelocity water 100 m deep, source 30 m, ray launched 20 degrees up: the method of
+    # images (Jensen et al. 2011, ch. 2) puts the reflections at r = (30 + 100 k) /
+    # tan(20 deg), alternately at the surface and the bottom, all grazing at 20 degrees.
+    # 40 of them in 11 km, more than the first room kept per ray (FIRST_REFLECTIONS_KEPT)
+    env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0])
+    trace = trace_fan if solver == "exact" else trace_fan_integrated
+    fan = trace(env, 30.0, [-20.0, 0.0], 11000.0, range_step=range_step, max_bounces=100)
+    n = int(fan.surface_reflections[0] + fan.bottom_reflections[0])
+    assert n == 40 and fan.sizes["reflection"] == n
+    k = np.arange(n)
+    # exact arcs: rounding; integrator: 1e-6 m local tolerance over ~40 legs
+    atol = 1e-9 if solver == "exact" else 1e-4
+    np.testing.assert_allclose(fan.reflection_range.values[0],
+                               (30.0 + 100.0 * k) / np.tan(np.radians(20.0)), atol=atol)
+    np.testing.assert_allclose(fan.grazing_angle.values[0], 20.0, atol=atol)
+    np.testing.assert_array_equal(fan.reflection_boundary.values[0], k % 2)
+    # the horizontal ray never reflects: padding only
+    assert np.all(fan.reflection_boundary.values[1] == -1)
+    assert np.all(np.isnan(fan.reflection_range.values[1]))
+
+
+def test_reflections_on_a_sloping_bottom_steepen_by_the_slope_each_time():
+    # up-slope wedge of slope alpha, derived from specular reflection: a ray going down at
+    # theta meets the bottom (tilted up by alpha) at theta + alpha and leaves it at
+    # theta + 2 alpha to the horizontal; the flat surface keeps that angle. So the n-th
+    # reflection, at either boundary, grazes at theta_0 + n alpha
+    env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0],
+                                  bathymetry=([0.0, 5000.0], [100.0, 60.0]))
+    fan = trace_fan(env, 30.0, [8.0], 5000.0, max_bounces=100)
+    alpha = np.degrees(np.arctan(40.0 / 5000.0))
+    g = fan.grazing_angle.values[0]
+    n = np.arange(1, g.size + 1)
+    assert g.size >= 10
+    # the integrator's 1e-6 m local tolerance and 1000 m direction scale: ~1e-9 rad
+    np.testing.assert_allclose(g, 8.0 + n * alpha, atol=1e-6)
+    np.testing.assert_array_equal(fan.reflection_boundary.values[0], n % 2)
