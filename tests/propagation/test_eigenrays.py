@@ -44,36 +44,35 @@ def test_isovelocity_against_images(zs, zr, r):
     c, depth = 1500.0, 100.0
     env = Environment.from_arrays([0.0, depth], [c, c])
     e = eigenrays(env, zs, [r], [zr], max_reflections=3)
-    ref = _images(zs, zr, r, depth, 3)
-    assert e.sizes["path"] == len(ref)
-    # equal times (symmetric geometry) may come in any order: sort by (time, launch angle)
-    ref = sorted(ref, key=lambda x: (round(x[0] / c, 9), x[1]))
-    e = e.isel(path=np.lexsort((e.launch_angle.values, np.round(e.travel_time.values, 9))))
+    _assert_matches_images(e, _images(zs, zr, r, depth, 3), c)
+    assert np.all(e.caustics.values == 0)
+    np.testing.assert_allclose(e.phase.values, np.pi * e.surface_reflections.values)
+
+
+def _assert_matches_images(e, ref, c):
+    """Eigenrays against the image paths (slant range, launch and arrival angles, counts)."""
+    assert e.sizes["path"] == len(ref) > 0
+    # equal times (symmetric geometry, merging pairs) come in any order: sort both by
+    # time, launch angle and counts
+    ref = sorted(ref, key=lambda x: (round(x[0] / c, 9), round(x[1], 6), x[3], x[4]))
+    key = (e.bottom_reflections.values, e.surface_reflections.values,
+           np.round(e.launch_angle.values, 6), np.round(e.travel_time.values, 9))
+    e = e.isel(path=np.lexsort(key))
     slant = np.array([x[0] for x in ref])
     # Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
     # ch. 2 (images at 2nD +- zs): travel time R/c; the closed forms are exact, so only
     # rounding (~1e-15) and the 1 micrometre depth tolerance of the root (time error
     # < 1e-6 m / c) remain: 1e-9 relative
     np.testing.assert_allclose(e.travel_time.values, slant / c, rtol=1e-9)
+    # angles: roots to 1 um in depth, kinks on a boundary bisected to 1e-14 rad
     np.testing.assert_allclose(e.launch_angle.values, [x[1] for x in ref], atol=1e-7)
     np.testing.assert_allclose(e.arrival_angle.values, [x[2] for x in ref], atol=1e-7)
     np.testing.assert_array_equal(e.surface_reflections.values, [x[3] for x in ref])
     np.testing.assert_array_equal(e.bottom_reflections.values, [x[4] for x in ref])
-    # spherical spreading 20 log10 R in isovelocity (Jensen et al. 2011, ch. 3)
+    # spherical spreading 20 log10 R in isovelocity (Jensen et al. 2011, ch. 3); at 1e7 m
+    # 1e-8 dB is ~2e-9 relative in R
     np.testing.assert_allclose(e.spreading_loss.values, 20 * np.log10(slant), atol=1e-8)
-    assert np.all(e.caustics.values == 0)
-    np.testing.assert_allclose(e.phase.values, np.pi * e.surface_reflections.values)
     assert np.all(np.abs(e.depth_miss.values) < 1e-6)
-
-
-def _sorted_arrivals(e):
-    key = (e.bottom_reflections.values, e.surface_reflections.values,
-           np.round(e.launch_angle.values, 6), np.round(e.travel_time.values, 9))
-    return e.isel(path=np.lexsort(key))
-
-
-def _sorted_images(ref):
-    return sorted(ref, key=lambda x: (round(x[0] / 1500.0, 9), round(x[1], 6), x[3], x[4]))
 
 
 _INSIDE = 1e-9  # m: how far inside the water a boundary source or receiver is counted
@@ -96,22 +95,7 @@ def test_source_or_receiver_on_the_surface_or_bottom_against_images(zs, zr, r):
     def inside(z):
         return _INSIDE if z == 0.0 else (depth - _INSIDE if z == depth else z)
 
-    ref = _sorted_images(_images(zs, zr, r, depth, 3, inside(zs), inside(zr)))
-    assert e.sizes["path"] == len(ref) > 0
-    e = _sorted_arrivals(e)
-    slant = np.array([x[0] for x in ref])
-    # Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
-    # ch. 2 (images at 2nD +- zs): travel time R/c, 1e-9 relative as in the test above
-    np.testing.assert_allclose(e.travel_time.values, slant / c, rtol=1e-9)
-    # angles: the kink on the boundary is bisected to 1e-14 rad (6e-13 deg)
-    np.testing.assert_allclose(e.launch_angle.values, [x[1] for x in ref], atol=1e-7)
-    np.testing.assert_allclose(e.arrival_angle.values, [x[2] for x in ref], atol=1e-7)
-    np.testing.assert_array_equal(e.surface_reflections.values, [x[3] for x in ref])
-    np.testing.assert_array_equal(e.bottom_reflections.values, [x[4] for x in ref])
-    # spherical spreading 20 log10 R (Jensen et al. 2011, ch. 3); at 1e7 m the slant
-    # range differs from r by < 1e-6 relative and 1e-8 dB is ~2e-9 relative in R
-    np.testing.assert_allclose(e.spreading_loss.values, 20 * np.log10(slant), atol=1e-8)
-    assert np.all(np.abs(e.depth_miss.values) < 1e-6)
+    _assert_matches_images(e, _images(zs, zr, r, depth, 3, inside(zs), inside(zr)), c)
 
 
 @pytest.mark.parametrize("zr, expected", [(0.0, 0.0), (100.0, 2.0)])
