@@ -1,11 +1,12 @@
-"""Codes and limits shared by every ray solver: point kinds, end reasons, safety limits.
+"""Codes and limits shared by every ray solver: point kinds, end reasons, reflection
+boundaries, eigenray path kinds, safety limits.
 
 One place for the integers the compiled kernels write and the Datasets document (numba
 reads module-level ``int`` / ``float`` constants as compile-time constants, so the kernels
 import them from here instead of keeping copies in step by comments).
 
-The codes are part of the files the package writes (``point_kind``, ``end_reason``): never
-renumber them. numba's on-disk cache keys a kernel on its own source file, not on this
+The codes are part of the files the package writes (``point_kind``, ``end_reason``,
+``reflection_boundary``, ``path_kind``): never renumber them. numba's on-disk cache keys a kernel on its own source file, not on this
 one: after changing a limit used by a kernel (``RIDE_*``, ``MAX_STEPS``) clear the cache
 (``seaprofile._jitcache.user_cache_dir()``) or touch the kernel modules.
 """
@@ -20,9 +21,10 @@ __all__ = [
     "MAX_STEPS",
     "MAX_STORED_POINTS",
     "MEMORY_LIMIT",
-    "POINT_KINDS",
     "PADDING",
     "PATH_KINDS",
+    "POINT_KINDS",
+    "REFLECTION_BOUNDARIES",
     "check_memory",
 ]
 
@@ -70,9 +72,12 @@ AT_BOTTOM = 1
 #: reflection_boundary code -> meaning (padding, -1: :data:`NO_REFLECTION_MEANING`).
 REFLECTION_BOUNDARIES = {AT_SURFACE: "surface", AT_BOTTOM: "bottom"}
 NO_REFLECTION_MEANING = "no_reflection"
-#: Reflections a sampled fan keeps per ray at first; a fan with more is traced again with
-#: room for all of them (its count is known after the first pass).
-FIRST_REFLECTIONS_KEPT = 16
+#: Reflections a sampled fan keeps per ray at first (at most max_bounces + 1, so with the
+#: default limit never too few); a fan with more is traced again with room for all of them
+#: (their count is known after the first pass).
+FIRST_REFLECTIONS_KEPT = 128
+#: Bytes per kept reflection: range, grazing angle (2 x 8) and boundary (1).
+REFLECTION_BYTES = 17
 
 # --- path kinds: which boundaries an eigenray met (from its reflection counts) ---------
 #: path_kind code -> meaning; the code is (surface reflections > 0) + 2 (bottom ones > 0).

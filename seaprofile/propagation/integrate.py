@@ -58,7 +58,7 @@ from .codes import FAN_POINT_BYTES, check_memory
 from ._integrate_kernels import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
                                  _trace_rays)
 from .codes import (DEFAULT_MAX_BOUNCES, FIRST_REFLECTIONS_KEPT, MAX_STEPS, NO_POINT,
-                    NO_REFLECTION, STEP_LIMIT)
+                    NO_REFLECTION, REFLECTION_BYTES, STEP_LIMIT)
 from .rayfan import check_fan_args, rayfan_dataset
 from .section import Section
 
@@ -117,7 +117,7 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
             buffer = int(min(4 * buffer, max_points))
         if np.any(again & ~full):
             room = int(nrefl[again].max())
-            check_memory(todo.size * float(room) * 17, "max_bounces",
+            check_memory(todo.size * float(room) * REFLECTION_BYTES, "max_bounces",
                          f"{todo.size} rays x {room} reflections", "lower max_bounces")
     width = max(1, int(stats_all[:, 0].max())) if n else 1
     result = {}

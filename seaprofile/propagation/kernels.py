@@ -55,7 +55,7 @@ import numpy as np
 from .._validate import SeaprofileError
 from ._arcs import _fan_kernel
 from .codes import (FIRST_REFLECTIONS_KEPT, MAX_STEPS, NO_POINT, NO_REFLECTION, RANGE_SAMPLE,
-                    check_memory)
+                    REFLECTION_BYTES, check_memory)
 from .codes import MAX_STORED_POINTS  # a module global here, so tests can lower it
 
 __all__ = ["fan_paths", "fan_samples", "trace_layers"]
@@ -177,13 +177,15 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
     """Each ray sampled at the given ranges (m); NaN after the ray ended."""
     rmax = float(ranges[-1])
     room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)
+    nray = np.size(angles_deg)
+    check_memory(nray * float(room) * REFLECTION_BYTES, "angles",
+                 f"{nray} rays x {room} reflections", "trace fewer angles at a time")
     out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges,
                        reflections=room)
     need = _reflections_needed(out)
     if need > room:  # a few long rays: trace again with room for every reflection
-        check_memory(np.size(angles_deg) * float(need) * 17, "max_bounces",
-                     f"{np.size(angles_deg)} rays x {need} reflections",
-                     "lower max_bounces")
+        check_memory(nray * float(need) * REFLECTION_BYTES, "max_bounces",
+                     f"{nray} rays x {need} reflections", "lower max_bounces")
         out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges,
                            reflections=need)
     else:

@@ -131,11 +131,16 @@ def test_both_solvers_fill_the_same_ray_record_in_a_layered_profile():
 
 @pytest.mark.parametrize("range_step", [None, 400.0])
 @pytest.mark.parametrize("solver", ["exact", "integrated"])
-def test_reflections_of_the_ray_record_against_images(solver, range_step):
+def test_reflections_of_the_ray_record_against_images(solver, range_step, monkeypatch):
     # isovelocity water 100 m deep, source 30 m, ray launched 20 degrees up: the method of
     # images (Jensen et al. 2011, ch. 2) puts the reflections at r = (30 + 100 k) /
     # tan(20 deg), alternately at the surface and the bottom, all grazing at 20 degrees.
-    # 40 of them in 11 km, more than the first room kept per ray (FIRST_REFLECTIONS_KEPT)
+    # 40 of them in 11 km, more than the first room kept per ray here (lowered to 16)
+    from seaprofile.propagation import codes, integrate, kernels
+
+    monkeypatch.setattr(kernels, "FIRST_REFLECTIONS_KEPT", 16)
+    monkeypatch.setattr(integrate, "FIRST_REFLECTIONS_KEPT", 16)
+    assert codes.FIRST_REFLECTIONS_KEPT >= 16
     env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0])
     trace = trace_fan if solver == "exact" else trace_fan_integrated
     fan = trace(env, 30.0, [-20.0, 0.0], 11000.0, range_step=range_step, max_bounces=100)
