@@ -87,7 +87,7 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
     medium = tuple(np.ascontiguousarray(a, dtype=np.float64)
                    for a in (coef, ref, edges, depth, bathy_r, bathy_z))
     todo = np.arange(n)
-    rows = [None] * n
+    rounds = []  # (rays finished in the round, their point and reflection rows)
     stats_all = np.zeros((n, 7), dtype=np.int64)
     room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)  # reflections kept per ray
     while todo.size:
@@ -106,12 +106,10 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
         full = (stats[:, 5] == STEP_LIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
         nrefl = stats[:, 1] + stats[:, 2]
         again = full | (nrefl > room)
-        for local, ray in enumerate(todo):
-            if not again[local]:
-                cnt = stats[local, 0]
-                rows[ray] = ([o[local, :cnt] for o in out] + [kinds[local, :cnt]]
-                             + [f[local, :nrefl[local]] for f in refl])
-                stats_all[ray] = stats[local]
+        done = ~again
+        # rows beyond each ray's count keep their fill (NaN / -1): copied as they are
+        rounds.append((todo[done], [a[done] for a in out + [kinds] + refl]))
+        stats_all[todo[done]] = stats[done]
         todo = todo[again]
         if np.any(full):
             buffer = int(min(4 * buffer, max_points))
@@ -130,9 +128,9 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
                        (NO_REFLECTION, np.int8) if name == "reflection_boundary" else
                        (np.nan, np.float64))
         arr = np.full((n, widths[kk]), fill, dtype=dtype)
-        for ray in range(n):
-            v = rows[ray][kk]
-            arr[ray, : v.size] = v
+        for rays, rows in rounds:  # a few rounds (the buffer grows 4x each), not rays
+            w = min(widths[kk], rows[kk].shape[1])
+            arr[rays, :w] = rows[kk][:, :w]
         result[name] = arr
     for kk, name in enumerate(("point_count", "surface_reflections", "bottom_reflections",
                                "turning_points", "caustics", "end_reason", "steps")):

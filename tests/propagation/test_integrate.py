@@ -445,3 +445,18 @@ def test_grazing_return_on_a_sloping_bottom_stays_in_the_water():
     ok = np.isfinite(z)
     assert np.all(z[ok] >= 0.0)
     assert np.all(z[ok] <= np.interp(r[ok], *bathy) + 1e-9)
+
+
+def test_point_buffer_growth_gives_the_same_record():
+    # rays that outgrow the first point buffer are traced again with a 4x larger one; the
+    # record assembled from the rounds must equal one traced with room enough at once
+    from seaprofile.propagation.integrate import _medium_of, _trace_arrays
+
+    env = environment_from_section(Section([0.0, 20000.0], Z, np.vstack([C, C + 1.0])),
+                                   bathymetry=([0.0, 20000.0], [4000.0, 3000.0]))
+    angles = [-30.0, -5.0, 0.0, 2.0, 25.0]
+    small = _trace_arrays(*_medium_of(env), 800.0, angles, 20000.0, first_buffer=16)
+    large = _trace_arrays(*_medium_of(env), 800.0, angles, 20000.0, first_buffer=100000)
+    assert small["point_count"].max() > 4 * 16  # at least two growth rounds happened
+    for name, value in large.items():
+        np.testing.assert_array_equal(small[name], value, err_msg=name)
