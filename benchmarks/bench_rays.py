@@ -5,6 +5,8 @@ Scenario: Munk (1974) canonical profile sampled at 500 layers (0-5000 m), flat b
 
 * fan: 10,000 rays, -45..45 degrees (kernel only, and the full ``trace_fan`` Dataset
   sampled every 1 km); throughput in layer crossings (kernel steps) per second;
+* a bare compiled arc kernel on the same fan (:func:`bare_fan`: range and time only, no
+  record), measured in the same run: the fan kernel and Dataset should stay within 2x;
 * eigenrays: 100 ranges (1-100 km) x 10 receiver depths (100-4900 m), up to 3 reflections;
 * baseline measured in the same run: scipy ``solve_ivp`` (DOP853, rtol 1e-10, which is
   needed to come within ~0.1 m of the exact depth at 100 km; RK45 at rtol 1e-8 is off by
@@ -34,6 +36,70 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 def munk(z):
     eta = 2.0 * (z - 1300.0) / 1300.0
     return 1500.0 * (1.0 + 0.00737 * (eta + np.exp(-eta) - 1.0))
+
+
+@numba.njit(cache=True, parallel=True, fastmath={"contract", "arcp"})
+def bare_fan(zn, cn, gn, tl, zs, thetas, rmax, max_bounces, out_r, out_t):
+    """The bare arc kernel: each ray follows only range and travel time, layer by layer.
+
+    Same closed forms as the ray engine (Jensen et al. 2011, ch. 3: circular arcs in
+    linear layers, p = cos(theta)/c), none of its bookkeeping: no stored points or
+    samples, no dynamic ray, no grazing rules, no counts; the ray stops at the first layer
+    end beyond ``rmax`` or after more than ``max_bounces`` reflections. Layer gradients
+    ``gn`` and vertical slowness integrals ``tl`` are precomputed, as the engine does. The
+    baseline that the full kernel and the RayFan Dataset are measured against.
+    """
+    n = zn.size - 1
+    for j in numba.prange(thetas.size):
+        i = min(max(np.searchsorted(zn, zs, side="right") - 1, 0), n - 1)
+        c = cn[i] + gn[i] * (zs - zn[i])
+        p = np.cos(thetas[j]) / c
+        sa = abs(np.sin(thetas[j]))
+        d = 1 if thetas[j] >= 0.0 else -1
+        z = zs
+        r = 0.0
+        t = 0.0
+        bounces = 0
+        while r < rmax and bounces <= max_bounces:
+            g = gn[i] * d
+            zb = zn[i + 1] if d > 0 else zn[i]
+            cb = cn[i + 1] if d > 0 else cn[i]
+            dz = abs(zb - z)
+            turn = p * cb >= 1.0
+            if turn:
+                cb = 1.0 / p
+                dz = (cb - c) / g
+                sb = 0.0
+            else:
+                sb = np.sqrt(max(1.0 - (p * cb) * (p * cb), 0.0))
+            if sa + sb > 0.0:
+                k = dz * (c + cb) / (sa + sb)
+                r += p * k
+                q1 = p * p * k / (1.0 + sb)
+                y = g * q1
+                t += q1 * (np.log1p(y) / y if abs(y) > 1e-12 else 1.0)
+                if turn or z != zn[i + (1 if d < 0 else 0)]:
+                    x = g * dz / c  # a part of the layer: its own slowness integral
+                    t += dz / c * (np.log1p(x) / x if abs(x) > 1e-12 else 1.0)
+                else:
+                    t += tl[i]
+            else:
+                r = rmax  # horizontal in an isovelocity layer
+            z = zb if not turn else z + d * dz
+            c = cb
+            sa = sb
+            if turn:
+                d = -d
+            elif d > 0 and i == n - 1:
+                d = -1
+                bounces += 1
+            elif d < 0 and i == 0:
+                d = 1
+                bounces += 1
+            else:
+                i += d
+        out_r[j] = r
+        out_t[j] = t
 
 
 def best(fn, repeat=5):
@@ -81,11 +147,21 @@ def main():
     zr = np.linspace(100.0, 4900.0, 10)
     eigenrays(env, zs, rr[:2], zr[:2])
 
+    th = np.radians(angles)
+    gn, tl = kernels._gradients(zn, cn), kernels._layer_times(zn, cn)
+    bare_r, bare_t = np.empty(angles.size), np.empty(angles.size)
+
+    def bare():
+        bare_fan(zn, cn, gn, tl, zs, th, rmax, 100, bare_r, bare_t)
+
+    bare_fan(zn, cn, gn, tl, zs, th[:8], rmax, 100, bare_r[:8], bare_t[:8])
+    t_bare, _ = best(bare)
     t_kernel, out = best(lambda: kernels.trace_layers(zn, cn, zs, angles, rmax, 100))
     steps = int(out["steps"].sum())
     nthreads = numba.get_num_threads()
     numba.set_num_threads(1)
     t_kernel_1, _ = best(lambda: kernels.trace_layers(zn, cn, zs, angles, rmax, 100), repeat=3)
+    t_bare_1, _ = best(bare, repeat=3)
     numba.set_num_threads(nthreads)
     t_fan, fan = best(lambda: trace_fan(env, zs, angles, rmax, range_step=1000.0), repeat=3)
     t_eig, eig = best(lambda: eigenrays(env, zs, rr, zr, max_reflections=3), repeat=3)
@@ -115,6 +191,11 @@ def main():
         "scenario": {"profile": "Munk 1974 canonical", "layers": int(zn.size - 1),
                      "source_depth_m": zs, "max_range_m": rmax, "bottom_depth_m": 5000.0,
                      "fan_rays": int(angles.size), "fan_angles_deg": [-45.0, 45.0]},
+        "bare_arc_kernel_s": t_bare,
+        "fan_kernel_over_bare": t_kernel / t_bare,
+        "bare_arc_kernel_1thread_s": t_bare_1,
+        "fan_kernel_over_bare_1thread": t_kernel_1 / t_bare_1,
+        "fan_dataset_over_bare": t_fan / t_bare,
         "fan_kernel_s": t_kernel,
         "fan_dataset_1km_samples_s": t_fan,
         "fan_layer_crossings": steps,
@@ -125,7 +206,7 @@ def main():
         "fan_end_reasons": {str(k): int(np.sum(out["end_reason"] == k)) for k in range(4)},
         "eigenrays_s": t_eig,
         "eigenray_receivers": int(rr.size * zr.size),
-        "eigenray_arrivals": int(eig.sizes["arrival"]),
+        "eigenray_paths": int(eig.sizes["path"]),
         "eigenray_max_depth_miss_m": float(np.abs(eig.depth_miss).max()),
         "baseline_solve_ivp_per_ray_s": t_base_per_ray,
         "exact_per_ray_s_same_rays": t_ours_per_ray,
@@ -136,14 +217,18 @@ def main():
         "baseline_rk45_rtol1e-8_per_ray_s": t_rk45_per_ray,
         "baseline_rk45_depth_difference_m": depth_diff_rk45,
         "speedup_same_rays_vs_rk45": t_rk45_per_ray / t_ours_per_ray,
-        "targets": {"fan_s": 0.5, "eigenrays_s": 2.0},
+        "targets": {"fan_s": 0.5, "eigenrays_s": 2.0, "fan_over_bare": 2.0},
     }
     rows = [
         ("fan kernel, 10k rays, 100 km", f"{t_kernel:.3f} s", "target <= 0.5 s"),
         ("fan kernel, 1 thread", f"{t_kernel_1:.3f} s", f"{steps / t_kernel_1 / 1e6:.1f} M crossings/s"),
-        ("fan Dataset, 1 km samples", f"{t_fan:.3f} s", ""),
+        ("fan Dataset, 1 km samples", f"{t_fan:.3f} s", f"x{t_fan / t_bare:.2f} the bare kernel"),
+        ("bare arc kernel (range, time only)", f"{t_bare:.3f} s",
+         f"fan kernel x{t_kernel / t_bare:.2f}, target <= 2"),
+        ("bare arc kernel, 1 thread", f"{t_bare_1:.3f} s",
+         f"fan kernel x{t_kernel_1 / t_bare_1:.2f} (1 thread each)"),
         ("layer crossings", f"{steps:,}", f"{steps / t_kernel / 1e6:.1f} M/s"),
-        ("eigenrays 100 x 10 receivers", f"{t_eig:.3f} s", f"{eig.sizes['arrival']} arrivals, "
+        ("eigenrays 100 x 10 receivers", f"{t_eig:.3f} s", f"{eig.sizes['path']} paths, "
                                                             "target <= 2 s"),
         ("solve_ivp DOP853 rtol 1e-10 per ray", f"{t_base_per_ray * 1e3:.1f} ms",
          f"exact {t_ours_per_ray * 1e6:.1f} us/ray, x{t_base_per_ray / t_ours_per_ray:.0f}"),

@@ -56,7 +56,7 @@ def path_kind(surface_reflections, bottom_reflections):
 
 
 def _receivers(arrivals):
-    """Flat list of (range m, depth m, range index, depth index) of an Arrivals Dataset."""
+    """Flat list of (range m, depth m, range index, depth index) of a PathTable Dataset (eigenrays)."""
     rr = np.atleast_1d(np.asarray(arrivals["receiver_range"].values, dtype=float))
     zr = np.atleast_1d(np.asarray(arrivals["receiver_depth"].values, dtype=float))
     return [(rr[i], zr[j], i, j) for i in range(rr.size) for j in range(zr.size)]
@@ -92,7 +92,7 @@ def _check(arrivals):
             "receiver_range_index", "receiver_depth_index")
     missing = [n for n in need if n not in getattr(arrivals, "variables", {})]
     if missing:
-        raise SeaprofileError(f"arrivals must be an Arrivals Dataset from eigenrays(); missing {missing}")
+        raise SeaprofileError(f"arrivals must be a PathTable Dataset from eigenrays(); missing {missing}")
 
 
 def _range_text(r_m):

@@ -12,24 +12,16 @@ import numba
 import numpy as np
 from numba import prange
 
-# point kinds (see rays.POINT_KINDS)
-_START, _CROSS, _TURN, _SURF, _BOT, _SAMPLE, _END = 0, 1, 2, 3, 4, 5, 6
-# end reasons (see rays.END_REASONS)
-_REACHED, _ABSORBED, _LEFT, _STEPLIMIT = 0, 1, 2, 3
-MAX_STEPS = 20_000_000
+# point kinds, end reasons, the grazing rule (see there) and the step limit
+from .codes import (ABSORBED, AT_BOTTOM, AT_SURFACE, BOTTOM_REFLECTION, END, LAYER_CROSSING,
+                    RANGE_REACHED, RANGE_SAMPLE, RIDE_DEPTH, RIDE_SINE, START, STEP_LIMIT,
+                    SURFACE_REFLECTION, TURNING_POINT)
+
 # value-safe fast-math: fused multiply-add and reciprocal only (no NaN/inf assumptions)
 _FM = {"contract", "arcp"}
 # Sines below 0.01 at the end of a piece come from the Snell increment, larger ones from
 # 1 - (p c)^2 (whose rounding error, ~1e-16 / s, is then below 1e-14).
 _SMALL_SINE2 = 1e-4
-# A ray trapped at a sound-speed minimum node, or against the surface / bottom by a layer
-# that bends it straight back, so flat that it would never move more than this (m) away
-# from it, runs along it (the eigenray depth tolerance, 1 micrometre). Without this a
-# near-horizontal ray there is traced as ~1e6 tiny arcs or bounces per km.
-_RIDE_DEPTH = 1e-6
-# ... and only when its sine is below this: setting it to 0 changes cos(theta) / c by at
-# most 5e-11 relative (Snell's invariant stays exact to that).
-_RIDE_SINE = 1e-5
 
 
 @numba.njit(cache=True, inline="always", fastmath=_FM)
@@ -92,6 +84,15 @@ def _sin_from_cos(cosv):
     return np.sqrt(x)
 
 
+@numba.njit(cache=True, inline="always")
+def _store_reflection(rf_r, rf_a, rf_k, m, r, sa, cosv, boundary):
+    """Reflection number m (from 0) of the ray: range, grazing angle (degrees), boundary."""
+    if m < rf_r.size:
+        rf_r[m] = r
+        rf_a[m] = np.degrees(np.arctan2(sa, cosv))
+        rf_k[m] = boundary
+
+
 @numba.njit(cache=True)
 def _start_direction(zn, gn, j, n):
     """Direction of a horizontal ray at node j: +1 down, -1 up, 0 stays (local minimum)."""
@@ -104,8 +105,15 @@ def _start_direction(zn, gn, j, n):
 
 @numba.njit(cache=True, fastmath=_FM)
 def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
-               s_z, s_t, s_a, s_q, s_cnt, p_r, p_z, p_t, p_a, p_k, max_steps):
+               s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k,
+               rf_r, rf_a, rf_k, max_steps):
     """Trace one ray exactly; write samples at ``samp_r`` and (up to len(p_r)) path points.
+
+    Per sample (``s_*``, length of ``samp_r`` or 0) and per path point (``p_*``): depth,
+    time, angle (degrees), sound speed, the dynamic-ray q and P; path points also range and
+    kind; ``s_cnt`` (0 rows, or one per sample) the counts of reflections, turning points
+    and caustics so far; per reflection (up to len(rf_r)) its range, grazing angle and
+    boundary (``REFLECTION_BOUNDARIES``).
 
     Returns (npoints, surface, bottom, turning, caustics, end_reason, steps).
     """
@@ -138,7 +146,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
     nb = 0
     nt = 0
     nc = 0
-    reason = _REACHED
+    reason = RANGE_REACHED
     # layer and direction
     jl = np.searchsorted(zn, zs, side="left")  # first node >= zs
     at_node = jl <= n and zn[jl] == zs
@@ -170,13 +178,18 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
         p_z[npts] = z
         p_t[npts] = 0.0
         p_a[npts] = np.degrees(theta)
-        p_k[npts] = _START
+        p_c[npts] = c
+        p_q[npts] = 0.0
+        p_p[npts] = pp
+        p_k[npts] = START
     npts += 1
     while k < nsamp and samp_r[k] <= 0.0:
         s_z[k] = z
         s_t[k] = 0.0
         s_a[k] = np.degrees(theta)
         s_q[k] = 0.0
+        s_c[k] = c
+        s_p[k] = pp
         if want_cnt:
             s_cnt[k, 0] = 0
             s_cnt[k, 1] = 0
@@ -188,7 +201,7 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
     while True:
         steps += 1
         if steps > max_steps:
-            reason = _STEPLIMIT
+            reason = STEP_LIMIT
             break
         if d == 0:
             # horizontal straight travel along a node or in an isovelocity layer
@@ -198,6 +211,8 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 s_t[k] = t + dr / c
                 s_a[k] = 0.0
                 s_q[k] = q + pp * c * dr
+                s_c[k] = c
+                s_p[k] = pp
                 if want_cnt:
                     s_cnt[k, 0] = ns
                     s_cnt[k, 1] = nb
@@ -213,9 +228,12 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 p_z[npts] = z
                 p_t[npts] = t
                 p_a[npts] = 0.0
-                p_k[npts] = _END
+                p_c[npts] = c
+                p_q[npts] = q
+                p_p[npts] = pp
+                p_k[npts] = END
             npts += 1
-            reason = _REACHED
+            reason = RANGE_REACHED
             break
         g = gn[i]
         gm = g * d
@@ -280,6 +298,8 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             s_t[k] = t + dt2
             s_a[k] = d * np.degrees(np.arctan2(sk, p * ck))
             s_q[k] = q + pp * kk2
+            s_c[k] = ck
+            s_p[k] = pp
             if want_cnt:
                 qk = q + pp * kk2
                 extra = 0
@@ -318,9 +338,12 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 p_z[npts] = z
                 p_t[npts] = t
                 p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
-                p_k[npts] = _END
+                p_c[npts] = c
+                p_q[npts] = q
+                p_p[npts] = pp
+                p_k[npts] = END
             npts += 1
-            reason = _REACHED
+            reason = RANGE_REACHED
             break
         # advance to the end of the piece
         qn = q + pp * kk
@@ -338,14 +361,14 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
         z = z + d * dz
         c = ce
         sa = sb
-        kind = _CROSS
+        kind = LAYER_CROSSING
         stop = False
         on_node = not turning
         if turning:
             nt += 1
             d = -d
             sa = 0.0
-            kind = _TURN
+            kind = TURNING_POINT
         else:
             z = zb
             c = cb
@@ -353,9 +376,10 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             if d > 0 and i == n - 1:
                 nb += 1
                 d = -1
-                kind = _BOT
-                if (gn[n - 1] < 0.0 and sa < _RIDE_SINE
-                        and c * sa * sa < -2.0 * gn[n - 1] * _RIDE_DEPTH):
+                kind = BOTTOM_REFLECTION
+                _store_reflection(rf_r, rf_a, rf_k, ns + nb - 1, r, sa, p * c, AT_BOTTOM)
+                if (gn[n - 1] < 0.0 and sa < RIDE_SINE
+                        and c * sa * sa < -2.0 * gn[n - 1] * RIDE_DEPTH):
                     sa = 0.0
                 if sa > 0.0:
                     pp += q * 2.0 * gn[n - 1] * p2 / sa
@@ -368,9 +392,10 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             elif d < 0 and i == 0:
                 ns += 1
                 d = 1
-                kind = _SURF
-                if (gn[0] > 0.0 and sa < _RIDE_SINE
-                        and c * sa * sa < 2.0 * gn[0] * _RIDE_DEPTH):
+                kind = SURFACE_REFLECTION
+                _store_reflection(rf_r, rf_a, rf_k, ns + nb - 1, r, sa, p * c, AT_SURFACE)
+                if (gn[0] > 0.0 and sa < RIDE_SINE
+                        and c * sa * sa < 2.0 * gn[0] * RIDE_DEPTH):
                     sa = 0.0
                 if sa > 0.0:
                     pp -= q * 2.0 * gn[0] * p2 / sa
@@ -382,10 +407,10 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 j = i + 1 if d > 0 else i
                 if sa > 0.0 and gn[j - 1] < 0.0 < gn[j]:
                     # a sound-speed minimum: the ray oscillates about the node, rising
-                    # and sinking c s^2 / (2 |g|) at most; below _RIDE_DEPTH it is a ray
+                    # and sinking c s^2 / (2 |g|) at most; below RIDE_DEPTH it is a ray
                     # along the node (else ~1e6 tiny arcs per km)
                     gmin = min(-gn[j - 1], gn[j])
-                    if sa < _RIDE_SINE and c * sa * sa < 2.0 * gmin * _RIDE_DEPTH:
+                    if sa < RIDE_SINE and c * sa * sa < 2.0 * gmin * RIDE_DEPTH:
                         sa = 0.0
                 if sa > 0.0:
                     pp -= q * (gn[j] - gn[j - 1]) * p2 / sa
@@ -404,22 +429,27 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             p_z[npts] = z
             p_t[npts] = t
             p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
+            p_c[npts] = c
+            p_q[npts] = q
+            p_p[npts] = pp
             p_k[npts] = kind
         npts += 1
         if stop:
-            reason = _ABSORBED
+            reason = ABSORBED
             break
     return npts, ns, nb, nt, nc, reason, steps
 
 
 @numba.njit(cache=True, parallel=True)
 def _fan_kernel(zn, cn, gn, tl, zs, thetas, rmax, max_bounces, samp_r,
-                S_z, S_t, S_a, S_q, S_cnt, P_r, P_z, P_t, P_a, P_k, out_int, max_steps):
+                S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p, P_k,
+                RF_r, RF_a, RF_k, out_int, max_steps):
     nray = thetas.size
     for j in prange(nray):
         cnt = S_cnt[j]
         res = _trace_ray(zn, cn, gn, tl, zs, thetas[j], rmax, max_bounces, samp_r,
-                         S_z[j], S_t[j], S_a[j], S_q[j], cnt,
-                         P_r[j], P_z[j], P_t[j], P_a[j], P_k[j], max_steps)
+                         S_z[j], S_t[j], S_a[j], S_q[j], S_c[j], S_p[j], cnt,
+                         P_r[j], P_z[j], P_t[j], P_a[j], P_c[j], P_q[j], P_p[j], P_k[j],
+                         RF_r[j], RF_a[j], RF_k[j], max_steps)
         for m in range(7):
             out_int[j, m] = res[m]

@@ -17,12 +17,12 @@ from ._arcs import _trace_ray
 
 
 @numba.njit(cache=True)
-def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt, e_r, e_k,
-          max_steps):
+def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p, s_cnt,
+          e_r, e_k, max_steps):
     """Trace one ray (launch angle x, rad) to range r; returns (depth, dz/dtheta0, count)."""
     s_z[0] = np.nan
-    _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt,
-               e_r, e_r, e_r, e_r, e_k, max_steps)
+    _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p, s_cnt,
+               e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k, max_steps)
     sgn = 1.0 if (s_cnt[0, 0] + s_cnt[0, 1]) % 2 == 0 else -1.0
     cosr = np.cos(np.radians(s_a[0]))
     deriv = sgn * s_q[0] / cosr if cosr > 0.0 else 0.0
@@ -31,9 +31,14 @@ def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt, e
 
 @numba.njit(cache=True, parallel=True)
 def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max_refl,
-                   sp_th, sp_z, max_steps):
+                   sp_th, sp_z, sp_th_far, max_steps):
     """Between neighbouring fan rays, locate a fold (dz/dtheta0 = 0 inside one family) or a
-    kink (a surface / bottom reflection at the receiver range) and its depth."""
+    kink (a surface / bottom reflection at the receiver range) and its depth.
+
+    ``sp_th`` is the launch angle on the side of ray a, ``sp_th_far`` on the side of ray
+    a + 1: the same angle for a fold, the two ends of the final bisection interval of a
+    kink (the rays that reflect just after and just before the receiver range).
+    """
     nray, nr = Z.shape
     zr_min = zr.min()
     zr_max = zr.max()
@@ -45,6 +50,8 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
         s_t = np.empty(1)
         s_a = np.empty(1)
         s_q = np.empty(1)
+        s_c = np.empty(1)
+        s_p = np.empty(1)
         s_cnt = np.zeros((1, 4), dtype=np.int32)
         e_r = np.empty(0)
         e_k = np.empty(0, dtype=np.int8)
@@ -87,7 +94,7 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                     if not (lo < x < hi):
                         x = 0.5 * (lo + hi)
                     zx, dx, nx = _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t,
-                                       s_a, s_q, s_cnt, e_r, e_k, max_steps)
+                                       s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
                     if zx != zx or nx != na:
                         break
                     if (dx > 0.0) == (dlo > 0.0):
@@ -107,19 +114,22 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                 if zx == zx:
                     sp_th[a, k] = x
                     sp_z[a, k] = zx
+                    sp_th_far[a, k] = x
             elif abs(na - nb_) == 1:
                 surface = CNT[a, k, 0] != CNT[a + 1, k, 0]
                 # only needed when a receiver lies between the kink and both neighbours
-                if surface and not zr_min < min(za, zb):
+                # (or on a neighbour that lies on the boundary itself: a receiver on the
+                # surface or the bottom next to a ray launched along it)
+                if surface and not zr_min <= min(za, zb):
                     continue
-                if (not surface) and not zr_max > max(za, zb):
+                if (not surface) and not zr_max >= max(za, zb):
                     continue
                 lo = th[a]
                 hi = th[a + 1]
                 for it in range(45):
                     x = 0.5 * (lo + hi)
                     zx, dx, nx = _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t,
-                                       s_a, s_q, s_cnt, e_r, e_k, max_steps)
+                                       s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
                     if nx == na:
                         lo = x
                     else:
@@ -129,18 +139,30 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                 # depth on the family-a side of the boundary: 0 or the bottom for a true
                 # reflection kink, the grazing depth when the ray just touches the boundary
                 zx, dx, nx = _eval(zn, cn, gn, tl, zs, lo, r, max_refl, samp, s_z, s_t,
-                                   s_a, s_q, s_cnt, e_r, e_k, max_steps)
+                                   s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
                 if zx == zx:
                     sp_th[a, k] = lo
                     sp_z[a, k] = zx
+                    sp_th_far[a, k] = hi
 
 
 @numba.njit(cache=True)
-def _pair_changes(za, zb, zsp, zt, out):
-    """Sign changes of the miss on [a, a+1] split at a special point: out[0..2] flags."""
+def _pair_changes(za, zb, zsp, zt, out, on_boundary, tol):
+    """Sign changes of the miss on [a, a+1] split at a special point: out[0..2] flags.
+
+    ``on_boundary``: the receiver lies on the surface or the bottom, where the depth never
+    changes sign. There a special point within ``tol`` of the receiver depth is a kink whose
+    boundary ray reflects exactly at the receiver: it counts on both of its sides (the
+    incident and the reflected path, see :mod:`.eigenrays`).
+    """
     out[0] = 0
     out[1] = 0
     out[2] = 0
+    if on_boundary:
+        if zsp == zsp and abs(zsp - zt) <= tol:
+            out[1] = 1
+            out[2] = 1
+        return
     if zsp == zsp:
         if (za - zt < 0.0) != (zsp - zt < 0.0):
             out[1] = 1
@@ -151,13 +173,14 @@ def _pair_changes(za, zb, zsp, zt, out):
 
 
 @numba.njit(cache=True, parallel=True)
-def _brackets(Z, sp_z, zr, offsets, fill, counts, bk, bj, ba, bs):
+def _brackets(Z, sp_z, zr, bottom, tol, offsets, fill, counts, bk, bj, ba, bs):
     """Count (fill=False) or list (fill=True) the brackets of every receiver."""
     nray, nr = Z.shape
     nd = zr.size
     for k in prange(nr):
         flags = np.zeros(3, dtype=np.int64)
         for jd in range(nd):
+            on_boundary = zr[jd] <= 0.0 or zr[jd] >= bottom
             m = offsets[k, jd]
             c = 0
             for a in range(nray - 1):
@@ -165,7 +188,7 @@ def _brackets(Z, sp_z, zr, offsets, fill, counts, bk, bj, ba, bs):
                 zb = Z[a + 1, k]
                 if not (za == za and zb == zb):
                     continue
-                _pair_changes(za, zb, sp_z[a, k], zr[jd], flags)
+                _pair_changes(za, zb, sp_z[a, k], zr[jd], flags, on_boundary, tol)
                 for sub in range(3):
                     if flags[sub]:
                         if fill:
@@ -178,8 +201,8 @@ def _brackets(Z, sp_z, zr, offsets, fill, counts, bk, bj, ba, bs):
 
 
 @numba.njit(cache=True, parallel=True)
-def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, max_refl, ftol,
-            out_f, out_i, max_steps):
+def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, bj, ba, bs,
+            max_refl, ftol, out_f, out_i, max_steps):
     nb = bk.size
     for b in prange(nb):
         k = bk[b]
@@ -193,6 +216,8 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, 
         s_t = np.empty(1)
         s_a = np.empty(1)
         s_q = np.empty(1)
+        s_c = np.empty(1)
+        s_p = np.empty(1)
         s_cnt = np.zeros((1, 4), dtype=np.int32)
         e_r = np.empty(0)
         e_k = np.empty(0, dtype=np.int8)
@@ -204,7 +229,7 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, 
             hi = sp_th[a, k]
             fhi = sp_z[a, k] - zt
         elif bs[b] == 2:
-            lo = sp_th[a, k]
+            lo = sp_th_far[a, k]
             flo = sp_z[a, k] - zt
         if fhi != flo:
             x = lo - flo * (hi - lo) / (fhi - flo)
@@ -212,12 +237,18 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, 
             x = 0.5 * (lo + hi)
         if not (lo <= x <= hi):
             x = 0.5 * (lo + hi)
+        # a special point that is itself on the receiver (a kink reflecting exactly at a
+        # receiver on the surface or the bottom) is the root: start there
+        if bs[b] == 1 and abs(fhi) <= ftol:
+            x = hi
+        elif bs[b] == 2 and abs(flo) <= ftol:
+            x = lo
         ok = 0
         f = np.nan
         for it in range(80):
             s_z[0] = np.nan
-            _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt,
-                       e_r, e_r, e_r, e_r, e_k, max_steps)
+            _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p,
+                       s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k, max_steps)
             f = s_z[0] - zt
             if f != f:
                 # absorbed before the receiver: shrink towards the valid end points
@@ -242,8 +273,9 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, ranges, zr, bk, bj, ba, bs, 
                 x = xn
                 ok = 1
                 s_z[0] = np.nan
-                _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_cnt,
-                           e_r, e_r, e_r, e_r, e_k, max_steps)
+                _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c,
+                           s_p, s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k,
+                           max_steps)
                 f = s_z[0] - zt
                 # a collapsed bracket is a root only if the miss is small (not a jump)
                 if not abs(f) < 1e3 * ftol:

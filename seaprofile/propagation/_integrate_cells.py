@@ -12,11 +12,10 @@ from __future__ import annotations
 
 import numba
 
+from .codes import RIDE_DEPTH, RIDE_SINE  # the exact solver's riding rule
 from .section import _cell_eval, _find_interval
 
 _NUDGE = 1e-7  # m: a point this far along the ray decides which cell it enters
-_RIDE_DEPTH = 1e-6  # m, and
-_RIDE_SINE = 1e-5  # the exact solver's riding rule (kernels._RIDE_DEPTH, _RIDE_SINE)
 
 
 @numba.njit(cache=True)
@@ -68,25 +67,25 @@ def _trapped(coef, ref, depth, i, j, r, z, dbot, slope, sine=0.0):
     flat bottom where the water on both sides bends it back (or not at all): a sound-speed
     minimum in depth, or a boundary with the speed rising away from it. ``j``: the layer
     the ray is in. With ``sine`` > 0 (|sin theta|), also require that the ray would not
-    move more than ``_RIDE_DEPTH`` away (c s^2 / (2 |c_z|)) and that s < ``_RIDE_SINE``,
-    the exact solver's rule (kernels._RIDE_DEPTH)."""
+    move more than ``RIDE_DEPTH`` away (c s^2 / (2 |c_z|)) and that s < ``RIDE_SINE``,
+    the exact solver's rule (codes.RIDE_DEPTH)."""
     on_surface = z <= 0.0
     on_bottom = z >= dbot and slope == 0.0
     k = _find_interval(depth, z) - 1
     on_node = k >= 0 and depth[k] == z
     if not (on_surface or on_bottom or on_node):
         return False
-    if sine >= _RIDE_SINE:
+    if sine >= RIDE_SINE:
         return False
     if not on_surface:
         above = k if on_node else j
         c, _, cz, _, _ = _cell_eval(coef, ref, depth, i, above, r, z)
-        if cz > 0.0 or c * sine * sine > -2.0 * cz * _RIDE_DEPTH:
+        if cz > 0.0 or c * sine * sine > -2.0 * cz * RIDE_DEPTH:
             return False  # bent up into the layer above, or would go too far into it
     if not on_bottom:
         below = k + 1 if on_node else j
         c, _, cz, _, _ = _cell_eval(coef, ref, depth, i, below, r, z)
-        if cz < 0.0 or c * sine * sine > 2.0 * cz * _RIDE_DEPTH:
+        if cz < 0.0 or c * sine * sine > 2.0 * cz * RIDE_DEPTH:
             return False  # bent down into the layer below, or would go too far into it
     return True
 

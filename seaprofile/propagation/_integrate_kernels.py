@@ -14,8 +14,11 @@ import math
 import numba
 import numpy as np
 
-from ._integrate_cells import (_RIDE_SINE, _bottom_at, _g, _interface_dynamic, _locate,
+from ._integrate_cells import (_bottom_at, _g, _interface_dynamic, _locate,
                                _reflect_dynamic, _rhs, _root, _start_layer, _trapped)
+from .codes import (ABSORBED, AT_BOTTOM, AT_SURFACE, BOTTOM_REFLECTION, END, LAYER_CROSSING, LEFT_DOMAIN,  # noqa: F401
+                    MAX_STEPS, RANGE_REACHED, RANGE_SAMPLE, RIDE_SINE, START, STEP_LIMIT,
+                    SURFACE_REFLECTION, TURNING_POINT)
 from .section import _cell_eval, _find_interval
 
 # --------------------------------------------------------------------------------------
@@ -50,10 +53,6 @@ _DP_P = np.array(
     ]
 )
 
-# point kinds and end reasons: the codes of seaprofile.propagation.rays (POINT_KINDS,
-# END_REASONS), repeated here as plain integers for the compiled code
-_K_START, _K_CROSS, _K_TURN, _K_SURF, _K_BOT, _K_SAMPLE, _K_END = 0, 1, 2, 3, 4, 5, 6
-_REACHED, _ABSORBED, _LEFT, _STEPLIMIT = 0, 1, 2, 3
 
 # boundaries of a cell searched on every step
 _B_TOP, _B_NODE, _B_SEABED, _B_RHI, _B_RLO, _B_TURN = 0, 1, 2, 3, 4, 5
@@ -63,16 +62,16 @@ _R_FACE, _R_MAX, _R_SAMPLE = 0, 1, 2
 _SAMPLES = 8  # sub-intervals of a step searched for a boundary crossing
 # a ray whose |sin(theta)| is below this on a node or a flat boundary that bends it straight
 # back runs along it (rounding level; the exact solver uses a 1 micrometre excursion,
-# kernels._RIDE_DEPTH)
+# codes.RIDE_DEPTH)
 _GRAZING = float(np.sqrt(8.0 * np.finfo(np.float64).eps))
 _RIDE_STEP = 50.0  # m: longest step of a ray running along a node or a boundary
-MAX_STEPS = 20_000_000  # safety stop per ray (trial steps)
 
 
 @numba.njit(cache=True)
 def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_step, tol,
                max_step, dir_scale, max_bounces, max_steps,
-               out_r, out_z, out_t, out_a, out_q, out_k, stats):
+               out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, rf_r, rf_a, rf_k,
+               stats):
     """Trace one ray. Fills the point rows (full path, or samples every ``range_step`` m
     when it is > 0) and stats = (points, surface, bottom, turning, caustics, end, steps)."""
     npts = out_r.shape[0]
@@ -108,7 +107,9 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
     out_t[0] = 0.0
     out_a[0] = math.degrees(theta0)
     out_q[0] = 0.0
-    out_k[0] = _K_SAMPLE if sampled else _K_START
+    out_c[0] = c0
+    out_p[0] = y[6]
+    out_k[0] = RANGE_SAMPLE if sampled else START
     count = 1
     next_sample = 1
     n_surf = 0
@@ -122,7 +123,7 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
     while code < 0:
         steps += 1
         if steps > max_steps:
-            code = _STEPLIMIT
+            code = STEP_LIMIT
             break
         c = 1.0 / f[4]
         # ---- one Dormand-Prince step of length h, all stages in cell (i, j) -----------
@@ -151,9 +152,17 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                 e *= dir_scale * c
             elif m == 4:
                 e *= c
-            if e > err:
-                err = e
+            if e > err or e != e:
+                err = e  # a NaN component makes the estimate NaN (never skipped)
+            if err != err:
+                break
         err /= tol
+        if err != err:
+            # no error estimate (NaN): a stage went where the cell's polynomials extend to
+            # nonsense (a long step into a short range interval of a spline section);
+            # reject and shrink, never accept it
+            h *= 0.2
+            continue
         if err > 1.0 and h > 1e-6:
             h *= max(0.2, 0.9 * err ** -0.2)
             continue
@@ -239,7 +248,7 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                     if x <= best:
                         best = x
                         which = w
-        kind = _K_SAMPLE
+        kind = RANGE_SAMPLE
         if which < 0:
             for m in range(7):
                 y[m] = yn[m]
@@ -264,32 +273,32 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
             reflect = False
             if which == _B_TOP:
                 yt[1] = ztop
-                kind = _K_SURF if top_surface else _K_CROSS
+                kind = SURFACE_REFLECTION if top_surface else LAYER_CROSSING
                 reflect = top_surface
             elif which == _B_NODE:
                 yt[1] = zbot
-                kind = _K_CROSS
+                kind = LAYER_CROSSING
             elif which == _B_SEABED:
                 yt[1] = _bottom_at(br, bz, b, yt[0])[0]
-                kind = _K_BOT
+                kind = BOTTOM_REFLECTION
                 reflect = True
             elif which == _B_RHI:
                 yt[0] = rhi
-                kind = _K_CROSS
+                kind = LAYER_CROSSING
                 if hi_kind == _R_MAX:
-                    kind = _K_END
-                    code = _REACHED
+                    kind = END
+                    code = RANGE_REACHED
                 elif hi_kind == _R_SAMPLE:
-                    kind = _K_SAMPLE
+                    kind = RANGE_SAMPLE
                     next_sample += 1
                     if rhi >= max_range:
-                        code = _REACHED
+                        code = RANGE_REACHED
             elif which == _B_RLO:
                 yt[0] = rlo
-                kind = _K_CROSS
+                kind = LAYER_CROSSING
             else:
                 yt[3] = 0.0
-                kind = _K_TURN
+                kind = TURNING_POINT
                 n_turn += 1
                 # a turning point found (within ``tol``) above the surface or below a
                 # flat bottom is a grazing reflection: put it on the boundary, where the
@@ -318,6 +327,12 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                     nuz = 1.0 / nn
                     n_bot += 1
                 tn = tr * nur + tz * nuz
+                m_rf = n_surf + n_bot - 1
+                if m_rf < rf_r.shape[0]:
+                    # grazing angle: between the incident ray and the (local) boundary
+                    rf_r[m_rf] = yt[0]
+                    rf_a[m_rf] = math.degrees(math.asin(min(1.0, abs(tn))))
+                    rf_k[m_rf] = AT_SURFACE if which == _B_TOP else AT_BOTTOM
                 ur = tr - 2.0 * tn * nur
                 uz = tz - 2.0 * tn * nuz
                 yt[5], yt[6] = _reflect_dynamic(yt[5], yt[6], cb, gr, gz, tr, tz, ur, uz,
@@ -325,7 +340,7 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                 tr = ur
                 tz = uz
                 if n_surf + n_bot > max_bounces:
-                    code = _ABSORBED
+                    code = ABSORBED
             i2, j2, b2 = _locate(edges, depth, br, yt[0], yt[1], tr, tz)
             # the layer entered follows from the boundary crossed, not from the nudged
             # point: a grazing ray (|tz| * _NUDGE below the rounding of z) would otherwise
@@ -343,7 +358,7 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                 if not ride:
                     j2 = _start_layer(coef, ref, depth, i2, _find_interval(depth, yt[1]),
                                       yt[1], 0.0, dbot2, yt[0])
-            elif (not ride and abs(tz) < _RIDE_SINE
+            elif (not ride and abs(tz) < RIDE_SINE
                   and (which == _B_TOP or which == _B_NODE or which == _B_SEABED)):
                 # grazing a node or a boundary that bends it straight back: run along it
                 ride = _trapped(coef, ref, depth, i2, j2, yt[0], yt[1], dbot2, slope2,
@@ -370,7 +385,7 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                 y[m] = yt[m]
             _rhs(coef, ref, depth, i, j, y, f, ride)
         if y[2] < 0.0 and code < 0:
-            code = _LEFT  # turned back in range
+            code = LEFT_DOMAIN  # turned back in range
         # ---- bookkeeping -------------------------------------------------------------
         if y[5] > 0.0:
             if qsign < 0:
@@ -380,19 +395,21 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
             if qsign > 0:
                 n_caus += 1
             qsign = -1
-        if sampled and kind != _K_SAMPLE:
+        if sampled and kind != RANGE_SAMPLE:
             pass  # only the range samples are kept
         elif sampled and which != _B_RHI:
             pass  # an ordinary step end
         else:
             if count >= npts:
-                code = _STEPLIMIT
+                code = STEP_LIMIT
                 break
             out_r[count] = y[0]
             out_z[count] = y[1]
             out_t[count] = y[4]
             out_a[count] = math.degrees(math.atan2(y[3], y[2]))
             out_q[count] = y[5]
+            out_c[count] = 1.0 / f[4]
+            out_p[count] = y[6]
             out_k[count] = kind
             count += 1
         h = hnext
@@ -408,9 +425,11 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
 @numba.njit(cache=True, parallel=True)
 def _trace_rays(coef, ref, edges, depth, br, bz, z0, angles, max_range, range_step, tol,
                 max_step, dir_scale, max_bounces, max_steps,
-                out_r, out_z, out_t, out_a, out_q, out_k, stats):
+                out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, rf_r, rf_a, rf_k,
+                stats):
     """Trace every ray (prange over rays); row n of each output is ray n."""
     for n in numba.prange(angles.shape[0]):
         _trace_one(coef, ref, edges, depth, br, bz, z0, angles[n], max_range, range_step,
                    tol, max_step, dir_scale, max_bounces, max_steps, out_r[n], out_z[n],
-                   out_t[n], out_a[n], out_q[n], out_k[n], stats[n])
+                   out_t[n], out_a[n], out_q[n], out_c[n], out_p[n], out_k[n], rf_r[n],
+                   rf_a[n], rf_k[n], stats[n])

@@ -34,6 +34,21 @@ of the 4922 arrivals a 0.005 degree fan finds (0.39 s -> 0.64 s); a 30 m source 
 surface duct (tests) needs it to find its ducted arrivals at all. Pass a denser
 ``angles`` when completeness matters more than time.
 
+Sources and receivers on the surface or the bottom (a seafloor target, a receiver at the
+surface): there the depth z(theta_0) at the receiver range only touches the receiver depth,
+at a kink where the boundary ray reflects exactly at the receiver, instead of crossing it.
+Such a kink within the depth tolerance is an eigenray, and it is returned **twice**, once
+from each side of the kink: the incident path (k reflections) and the reflected one (k + 1),
+with equal travel time, spreading loss and arrival angles of opposite sign. These are the
+two members of the merging image pair of the method of images (Jensen et al. 2011, ch. 2),
+i.e. the limit of a receiver just inside the water, so arrivals are continuous in the
+receiver depth. Their coherent sum gives the boundary's field: at the pressure-release
+surface the pair has phases 0 and pi and cancels (the pressure there is zero); at the
+bottom, taken as rigid here, it doubles. A source on a boundary is the same in reverse:
+launches of +theta and -theta join through an immediate reflection. A ray launched
+horizontally along a boundary from a source on it is found once from each side of the
+launch (the limit of a receiver just inside the water again).
+
 Amplitude: for a point source in a cylindrically symmetric medium the squared pressure
 relative to 1 m is 1 / (r |dz/dtheta_0|_r), so the geometric spreading loss is
 ``10 log10(r |q| / cos theta)`` dB (q: ray-tube width per radian of launch angle). In
@@ -47,13 +62,14 @@ phase belong to the loss computation, which knows the sediment.
 from __future__ import annotations
 
 import numpy as np
-import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
 from ._eigenray_kernels import _brackets, _find_specials, _refine
+from .codes import MAX_STEPS, check_memory
 from .environment import Environment
-from .kernels import MAX_STEPS, _gradients, _layer_times, trace_layers
+from .kernels import _gradients, _layer_times, trace_layers
+from .pathtable import path_table_dataset
 
 __all__ = ["eigenrays", "DEFAULT_FAN_SPACING"]
 
@@ -65,6 +81,9 @@ REFINE_SPLIT = 8
 REFINE_LEVELS = 3
 REFINE_MIN_SPACING = DEFAULT_FAN_SPACING / 64.0
 DEPTH_TOLERANCE = 1e-6  # m
+#: Bytes per (search ray, receiver range): depth, q, angle (3 x 8), counts (4 x 4), the
+#: sorted copies of them (40), three special-point arrays (3 x 8).
+SEARCH_BYTES = 104
 
 
 def _check(environment, source_depth, receiver_ranges, receiver_depths, max_reflections, angles):
@@ -82,9 +101,10 @@ def _check(environment, source_depth, receiver_ranges, receiver_depths, max_refl
             or np.any(zr > environment.bottom_depth)):
         raise SeaprofileError(
             f"receiver_depths must lie within 0..{environment.bottom_depth:g} m")
-    mr = int(max_reflections)
-    if mr < 0:
-        raise SeaprofileError("max_reflections must be >= 0")
+    mr = as_float_array("max_reflections", max_reflections)
+    if mr.ndim != 0 or not np.isfinite(mr) or mr < 0 or mr != np.floor(mr):
+        raise SeaprofileError("max_reflections must be one whole number >= 0")
+    mr = int(min(float(mr), 2**62))
     if angles is None:
         nfan = int(round(178.0 / DEFAULT_FAN_SPACING)) + 1
         a = np.linspace(-89.0, 89.0, nfan)
@@ -92,6 +112,11 @@ def _check(environment, source_depth, receiver_ranges, receiver_depths, max_refl
         a = np.sort(as_float_array("angles", angles).ravel())
         if a.size < 2 or not np.all(np.isfinite(a)) or np.any(np.abs(a) > 90):
             raise SeaprofileError("angles must be at least two launch angles within -90..90 degrees")
+    # the search fan at every receiver range (depth, q, angle, 4 counts, 3 special-point
+    # arrays), estimated before anything is allocated; refinement adds to it
+    check_memory(float(a.size) * rr.size * SEARCH_BYTES + 16.0 * rr.size * zr.size,
+                 "receiver_ranges", f"a search fan of {a.size} rays at {rr.size} ranges",
+                 "ask for fewer receiver ranges per call, or a sparser angles fan")
     return float(zs), rr, zr, mr, a
 
 
@@ -106,23 +131,42 @@ def _trace_search(zn, cn, zs, a, rs, order, max_refl):
     return out
 
 
-def _suspect_pairs(th, Z, Q, A, CNT):
+def _suspect_pairs(th, Z, Q, A, CNT, fan_reflections):
     """Neighbouring fan rays (pairs a, a+1) between which a root may hide at some range.
 
     Flagged where both rays reach the range and (i) their surface or bottom reflection
     counts differ (a kink, or a jump where a ray grazes a node above a layer that bends
     it down, e.g. the edge of a duct), or (ii) the depth changes between them by more than
     twice what their exact slopes dz/dtheta_0 (from q) allow: z(theta_0) is far from
-    linear there (a fold, a near-discontinuity).
+    linear there (a fold, a near-discontinuity); or (iii) one ray reaches the range and
+    the other was stopped before it (more than ``fan_reflections`` reflections) while the
+    one that arrives has fewer than ``fan_reflections``: the families in between, at the
+    limit, are missing from the fan (a coarse fan at a long range, where every family is
+    narrower than the fan spacing).
     """
-    valid = np.isfinite(Z[:-1]) & np.isfinite(Z[1:])
+    reached = np.isfinite(Z)
+    valid = reached[:-1] & reached[1:]
     fam = (CNT[:-1, :, 0] != CNT[1:, :, 0]) | (CNT[:-1, :, 1] != CNT[1:, :, 1])
-    sgn = np.where((CNT[..., 0] + CNT[..., 1]) % 2 == 0, 1.0, -1.0)
+    total = CNT[..., 0] + CNT[..., 1]
+    sgn = np.where(total % 2 == 0, 1.0, -1.0)
     with np.errstate(invalid="ignore", divide="ignore"):
         slope = np.abs(sgn * Q / np.cos(np.radians(A)))
         allowed = 2.0 * np.fmax(slope[:-1], slope[1:]) * np.diff(th)[:, None] + 1e-6
         jump = np.abs(Z[1:] - Z[:-1]) > allowed
-    return np.any(valid & (fam | jump), axis=1)
+    # counts are -1 where a ray did not reach the range: the max is the arriving ray's
+    edge = (reached[:-1] != reached[1:]) & (np.maximum(total[:-1], total[1:]) < fan_reflections)
+    return np.any((valid & (fam | jump)) | edge, axis=1)
+
+
+def _finest_spacing(bottom, max_range):
+    """Finest launch-angle spacing of the refinement, degrees.
+
+    REFINE_MIN_SPACING, or finer at long ranges: a ray family spans about one water depth
+    at the receiver range, i.e. about ``bottom / range`` rad of launch angle (exact in
+    isovelocity water near the horizontal), and the refinement must be able to put a few
+    rays inside it.
+    """
+    return min(REFINE_MIN_SPACING, float(np.degrees(bottom / max_range)) / REFINE_SPLIT)
 
 
 def _search_fan(zn, cn, zs, a, rs, order, max_refl, refine):
@@ -134,10 +178,13 @@ def _search_fan(zn, cn, zs, a, rs, order, max_refl, refine):
     if not refine:
         return a, Z, Q, A, CNT
     frac = np.arange(1, REFINE_SPLIT) / REFINE_SPLIT
-    for _ in range(REFINE_LEVELS):
+    finest = _finest_spacing(float(zn[-1]), float(rs[-1]))
+    levels = REFINE_LEVELS + int(np.ceil(np.log(REFINE_MIN_SPACING / finest)
+                                         / np.log(REFINE_SPLIT) - 1e-9))
+    for _ in range(levels):
         width = np.diff(a)
-        sel = np.nonzero(_suspect_pairs(np.radians(a), Z, Q, A, CNT)
-                         & (width > REFINE_MIN_SPACING))[0]
+        sel = np.nonzero(_suspect_pairs(np.radians(a), Z, Q, A, CNT, max_refl)
+                         & (width > finest))[0]
         if sel.size == 0:
             break
         new = (a[sel, None] + width[sel, None] * frac[None, :]).ravel()
@@ -162,7 +209,9 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     receiver_ranges : array_like
         Receiver ranges, m (> 0).
     receiver_depths : array_like
-        Receiver depths, m (0 .. bottom). Every range is combined with every depth.
+        Receiver depths, m (0 .. bottom, both included: see the module notes for what a
+        receiver on the surface or the bottom gets). Every range is combined with every
+        depth.
     max_reflections : int
         Largest number of surface + bottom reflections of an eigenray.
     angles : array_like, optional
@@ -177,13 +226,11 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     Returns
     -------
     xr.Dataset
-        Dimensions ``receiver_range``, ``receiver_depth`` (coordinates, m) and ``arrival``
-        (all arrivals, sorted by receiver then travel time). Per arrival:
-        ``receiver_range_index``, ``receiver_depth_index``, ``travel_time`` (s),
-        ``launch_angle``, ``arrival_angle`` (degrees, positive down),
-        ``surface_reflections``, ``bottom_reflections``, ``turning_points``, ``caustics``,
-        ``spreading_loss`` (dB re 1 m), ``phase`` (rad, unwrapped). Per receiver:
-        ``arrival_count``.
+        A PathTable (layout in :mod:`seaprofile.propagation.pathtable`): per path
+        (dimension ``path``, sorted by receiver then travel time) its kind, launch and
+        arrival angles (degrees, positive down), travel time (s), spreading loss (dB re
+        1 m), surface / bottom reflections, caustics, turning points, phase (rad), depth
+        miss (m) and receiver indices; ``path_count`` per receiver.
 
     Notes
     -----
@@ -195,12 +242,9 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     zs, rr, zr, mr, a = _check(environment, source_depth, receiver_ranges, receiver_depths,
                                max_reflections, angles)
     if environment.is_range_dependent:
-        try:
-            from .integrate import eigenrays_integrated
-        except ImportError as exc:
-            raise SeaprofileError(
-                "environment: eigenrays for range-dependent environments are not available") from exc
-        return eigenrays_integrated(environment, zs, rr, zr, max_reflections=mr, angles=a)
+        raise SeaprofileError(
+            "environment: eigenrays need a range-independent environment (flat bottom, no "
+            "section); trace a fan (trace_fan) through a range-dependent one")
 
     zn, cn = environment.layers()
     order = np.argsort(rr, kind="stable")
@@ -214,25 +258,31 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     th = np.radians(a)
     sp_th = np.full((a.size - 1, rr.size), np.nan)
     sp_z = np.full((a.size - 1, rr.size), np.nan)
-    _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, rr, zr, float(zn[-1]), mr + 1,
-                   sp_th, sp_z, MAX_STEPS)
+    sp_th_far = np.full((a.size - 1, rr.size), np.nan)
+    bottom = float(zn[-1])
+    _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, rr, zr, bottom, mr + 1,
+                   sp_th, sp_z, sp_th_far, MAX_STEPS)
     counts = np.zeros((rr.size, zr.size), dtype=np.int64)
     dummy = np.zeros(0, dtype=np.int64)
-    _brackets(Z, sp_z, zr, counts, False, counts, dummy, dummy, dummy, dummy)
+    _brackets(Z, sp_z, zr, bottom, DEPTH_TOLERANCE, counts, False, counts, dummy, dummy,
+              dummy, dummy)
     offsets = np.zeros_like(counts)
     flat = counts.ravel()
     offsets.ravel()[1:] = np.cumsum(flat)[:-1]
     total = int(flat.sum())
+    check_memory(total * 160.0, "receiver_depths",
+                 f"{total} eigenray brackets at {rr.size * zr.size} receivers",
+                 "ask for fewer receivers per call, or a smaller max_reflections")
     bk = np.empty(total, dtype=np.int64)
     bj = np.empty(total, dtype=np.int64)
     ba = np.empty(total, dtype=np.int64)
     bs = np.empty(total, dtype=np.int64)
-    _brackets(Z, sp_z, zr, offsets, True, np.zeros_like(counts), bk, bj, ba, bs)
+    _brackets(Z, sp_z, zr, bottom, DEPTH_TOLERANCE, offsets, True, np.zeros_like(counts),
+              bk, bj, ba, bs)
     out_f = np.full((total, 5), np.nan)
     out_i = np.zeros((total, 5), dtype=np.int64)
-    _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, rr, zr, bk, bj, ba, bs, mr + 1,
-            DEPTH_TOLERANCE,
-            out_f, out_i, MAX_STEPS)
+    _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, rr, zr, bk, bj, ba, bs,
+            mr + 1, DEPTH_TOLERANCE, out_f, out_i, MAX_STEPS)
     keep = (out_i[:, 0] == 1) & (out_i[:, 1] + out_i[:, 2] <= mr)
     bk, bj = bk[keep], bj[keep]
     out_f, out_i = out_f[keep], out_i[keep]
@@ -243,53 +293,16 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     with np.errstate(divide="ignore"):
         loss = 10.0 * np.log10(rng * np.abs(out_f[:, 3]) / cos_arr)
     phase = np.pi * out_i[:, 1] + 0.5 * np.pi * out_i[:, 4]
-    n_arr = np.zeros((rr.size, zr.size), dtype=np.int32)
-    np.add.at(n_arr, (bk, bj), 1)
-
-    def cnt(name, v, long):
-        return ("arrival", v.astype(np.int32), {"long_name": long, "units": "1"})
-
-    ds = xr.Dataset(
-        {
-            "receiver_range_index": cnt("", bk, "index of the receiver range"),
-            "receiver_depth_index": cnt("", bj, "index of the receiver depth"),
-            "travel_time": ("arrival", out_f[:, 1], _cf.attrs_for("travel_time")),
-            "launch_angle": ("arrival", out_f[:, 0], {
-                "long_name": "launch angle from horizontal, positive toward the bottom",
-                "units": "degree"}),
-            "arrival_angle": ("arrival", out_f[:, 2], {
-                "long_name": "ray angle at the receiver from horizontal, positive toward the bottom",
-                "units": "degree"}),
-            "surface_reflections": cnt("", out_i[:, 1], "number of surface reflections"),
-            "bottom_reflections": cnt("", out_i[:, 2], "number of bottom reflections"),
-            "turning_points": cnt("", out_i[:, 3], "number of refracted turning points"),
-            "caustics": cnt("", out_i[:, 4], "number of caustics passed"),
-            "spreading_loss": ("arrival", loss, {
-                "long_name": "geometric spreading loss of the eigenray (ray-tube area)",
-                "units": "dB", "reference": "re 1 m"}),
-            "phase": ("arrival", phase, {
-                "long_name": "phase shift: pi per surface reflection plus pi/2 per caustic",
-                "units": "rad"}),
-            "depth_miss": ("arrival", out_f[:, 4], {
-                "long_name": "depth of the eigenray at the receiver range minus receiver depth",
-                "units": "m"}),
-            "arrival_count": (("receiver_range", "receiver_depth"), n_arr,
-                              {"long_name": "number of eigenrays found", "units": "1"}),
-        },
-        coords={
-            "receiver_range": ("receiver_range", rr, _cf.attrs_for("range",
-                                                                   long_name="receiver range")),
-            "receiver_depth": ("receiver_depth", zr, _cf.attrs_for("depth",
-                                                                   long_name="receiver depth")),
-        },
-    )
     attrs = dict(environment.attrs or {})
     attrs.update(_cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs}))
     attrs = _cf.record_step(attrs, "eigenrays", source_depth_m=zs, max_reflections=mr,
                             fan_rays=int(n_fan), refined_rays=int(a.size - n_fan),
                             fan_min_deg=float(a[0]), fan_max_deg=float(a[-1]),
                             layers=int(zn.size - 1))
-    attrs.update(title="eigenrays", source_depth=zs, max_reflections=mr,
+    attrs.update(title="eigenray paths", source_depth=zs, max_reflections=mr,
                  bottom_depth=float(environment.bottom_depth), solver="exact_layered")
-    ds.attrs = attrs
-    return ds
+    return path_table_dataset(
+        rr, zr, bk, bj, launch_angle=out_f[:, 0], arrival_angle=out_f[:, 2],
+        travel_time=out_f[:, 1], spreading_loss=loss, surface_reflections=out_i[:, 1],
+        bottom_reflections=out_i[:, 2], caustics=out_i[:, 4], turning_points=out_i[:, 3],
+        phase=phase, depth_miss=out_f[:, 4], attrs=attrs)

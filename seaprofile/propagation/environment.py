@@ -271,13 +271,34 @@ class Environment:
     def from_section(cls, section, bottom_depth=None, *, bathymetry=None, bottom_type="sand"):
         """An Environment whose sound speed is a :class:`~seaprofile.propagation.Section`.
 
-        See :func:`seaprofile.propagation.section.environment_from_section` (bottom depth
-        m; bathymetry ``(ranges m, depths m)``).
-        """
-        from .section import environment_from_section
+        Parameters
+        ----------
+        section : Section
+            The range-dependent sound speed.
+        bottom_depth : float, optional
+            Flat bottom depth, m. Default: the bathymetry at range 0, else the deepest node.
+        bathymetry : (array_like, array_like), optional
+            ``(ranges, depths)`` in m, piecewise linear in range.
+        bottom_type : str
+            Bottom sediment name (carried for the loss computations).
 
-        return environment_from_section(section, bottom_depth, bathymetry=bathymetry,
-                                        bottom_type=bottom_type)
+        Returns
+        -------
+        Environment
+            Its own c(z) (``depth``, ``sound_speed``) is the section at range 0; ray
+            tracing uses the whole section (``environment.section``).
+        """
+        # the section module builds on this one, never the reverse (no import circle):
+        # a Section is recognised by what it provides
+        if not all(hasattr(section, k) for k in ("ranges", "depth", "sound_speed_at",
+                                                 "range_interpolation", "attrs", "_coef")):
+            raise SeaprofileError("section must be a seaprofile Section")
+        c0 = section.sound_speed_at(np.zeros_like(section.depth), section.depth)
+        attrs = _cf.record_step(dict(section.attrs), "environment_from_section",
+                                casts=int(section.ranges.size),
+                                range_interpolation=section.range_interpolation)
+        return cls(section.depth, c0, bottom_depth, bathymetry=bathymetry,
+                   bottom_type=bottom_type, section=section, attrs=attrs)
 
     @classmethod
     def from_profile(cls, profile, bottom_depth=None, *, thin_tolerance=None,

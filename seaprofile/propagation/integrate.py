@@ -53,9 +53,14 @@ from __future__ import annotations
 import numpy as np
 
 from .._validate import SeaprofileError
+from .codes import FAN_POINT_BYTES, check_memory
 # the compiled stepper; the tableau is re-exported for the tests
 from ._integrate_kernels import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
-                                 _STEPLIMIT, MAX_STEPS, _trace_rays)
+                                 _trace_rays)
+from .codes import (DEFAULT_MAX_BOUNCES, FIRST_REFLECTIONS_KEPT, MAX_STEPS, NO_POINT,
+                    NO_REFLECTION, REFLECTION_BYTES, STEP_LIMIT)
+from .rayfan import check_fan_args, rayfan_dataset
+from .section import Section
 
 
 # --------------------------------------------------------------------------------------
@@ -67,7 +72,8 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
                   first_buffer=512):
     """Trace rays on plain arrays (no validation); grows the point buffer when needed.
 
-    Returns a dict: range, depth, travel_time, angle, spreading (ray, point) NaN-padded,
+    Returns a dict: range, depth, travel_time, angle, tube_width (q), sound_speed,
+    tube_slowness (p) (ray, point) NaN-padded,
     point_kind (ray, point) -1-padded, and per ray point_count, surface_reflections,
     bottom_reflections, turning_points, caustics, end_reason, steps.
     """
@@ -81,33 +87,50 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
     medium = tuple(np.ascontiguousarray(a, dtype=np.float64)
                    for a in (coef, ref, edges, depth, bathy_r, bathy_z))
     todo = np.arange(n)
-    rows = [None] * n
+    rounds = []  # (rays finished in the round, their point and reflection rows)
     stats_all = np.zeros((n, 7), dtype=np.int64)
+    room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)  # reflections kept per ray
     while todo.size:
         m = todo.size
-        out = [np.full((m, buffer), np.nan) for _ in range(5)]
-        kinds = np.full((m, buffer), -1, dtype=np.int8)
+        check_memory(m * float(buffer) * FAN_POINT_BYTES, "range_step",
+                     f"keeping every integration point of {m} rays ({buffer} points each)",
+                     "give range_step to sample the rays, or trace fewer angles")
+        out = [np.full((m, buffer), np.nan) for _ in range(7)]
+        kinds = np.full((m, buffer), NO_POINT, dtype=np.int8)
+        refl = [np.full((m, room), np.nan), np.full((m, room), np.nan),
+                np.full((m, room), NO_REFLECTION, dtype=np.int8)]
         stats = np.zeros((m, 7), dtype=np.int64)
         _trace_rays(*medium, float(source_depth), theta[todo], float(max_range), step,
                     float(tolerance), float(max_step), float(direction_scale),
-                    int(max_bounces), int(MAX_STEPS), *out, kinds, stats)
-        full = (stats[:, 5] == _STEPLIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
-        for local, ray in enumerate(todo):
-            if not full[local]:
-                cnt = stats[local, 0]
-                rows[ray] = [o[local, :cnt] for o in out] + [kinds[local, :cnt]]
-                stats_all[ray] = stats[local]
-        todo = todo[full]
-        buffer = int(min(4 * buffer, max_points))
+                    int(max_bounces), int(MAX_STEPS), *out, kinds, *refl, stats)
+        full = (stats[:, 5] == STEP_LIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
+        nrefl = stats[:, 1] + stats[:, 2]
+        again = full | (nrefl > room)
+        done = ~again
+        # rows beyond each ray's count keep their fill (NaN / -1): copied as they are
+        rounds.append((todo[done], [a[done] for a in out + [kinds] + refl]))
+        stats_all[todo[done]] = stats[done]
+        todo = todo[again]
+        if np.any(full):
+            buffer = int(min(4 * buffer, max_points))
+        if np.any(again & ~full):
+            room = int(nrefl[again].max())
+            check_memory(todo.size * float(room) * REFLECTION_BYTES, "max_bounces",
+                         f"{todo.size} rays x {room} reflections", "lower max_bounces")
     width = max(1, int(stats_all[:, 0].max())) if n else 1
     result = {}
-    names = ("range", "depth", "travel_time", "angle", "spreading", "point_kind")
+    names = ("range", "depth", "travel_time", "angle", "tube_width", "sound_speed",
+             "tube_slowness", "point_kind", "reflection_range", "grazing_angle",
+             "reflection_boundary")
+    widths = (width,) * 8 + (int((stats_all[:, 1] + stats_all[:, 2]).max()) if n else 0,) * 3
     for kk, name in enumerate(names):
-        fill, dtype = (-1, np.int8) if name == "point_kind" else (np.nan, np.float64)
-        arr = np.full((n, width), fill, dtype=dtype)
-        for ray in range(n):
-            v = rows[ray][kk]
-            arr[ray, : v.size] = v
+        fill, dtype = ((NO_POINT, np.int8) if name == "point_kind" else
+                       (NO_REFLECTION, np.int8) if name == "reflection_boundary" else
+                       (np.nan, np.float64))
+        arr = np.full((n, widths[kk]), fill, dtype=dtype)
+        for rays, rows in rounds:  # a few rounds (the buffer grows 4x each), not rays
+            w = min(widths[kk], rows[kk].shape[1])
+            arr[rays, :w] = rows[kk][:, :w]
         result[name] = arr
     for kk, name in enumerate(("point_count", "surface_reflections", "bottom_reflections",
                                "turning_points", "caustics", "end_reason", "steps")):
@@ -117,8 +140,6 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
 
 def _medium_of(environment):
     """The compiled tables of an Environment: (coef, ref, edges, depth, bathy_r, bathy_z)."""
-    from .section import Section
-
     section = environment.section
     if section is None:
         section = Section([0.0], environment.depth, np.asarray(environment.sound_speed)[None, :],
@@ -131,8 +152,7 @@ def _medium_of(environment):
 
 
 def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_step=None,
-                         max_bounces=None, tolerance=1e-6, max_step=2000.0,
-                         include_spreading=False):
+                         max_bounces=None, tolerance=1e-6, max_step=2000.0):
     """Trace a fan of rays through a range-dependent environment by numerical integration.
 
     Parameters
@@ -155,21 +175,17 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
         reflection, cast range or bathymetry knot crossed, end).
     max_bounces : int, optional
         A ray ends ("absorbed") after more surface + bottom reflections than this
-        (default: that of :func:`seaprofile.propagation.rays.trace_fan`).
+        (default: :data:`seaprofile.propagation.codes.DEFAULT_MAX_BOUNCES`).
     tolerance : float
         Local error allowed per integration step, m: position error, c times the travel-time
         error and 1000 m times the error of the unit tangent (see the module notes). The
         global error grows roughly in proportion; measured values are in the tests.
     max_step : float
         Longest integration step (arc length), m.
-    include_spreading : bool
-        Add ``spreading`` (ray, point): the dynamic-ray q, distance between neighbouring
-        rays per radian of launch angle, m/rad (sign changes are caustics).
-
     Returns
     -------
     xr.Dataset
-        A RayFan with the layout of :func:`seaprofile.propagation.rays.rayfan_dataset`
+        A RayFan with the layout of :func:`seaprofile.propagation.rayfan.rayfan_dataset`
         (``solver="integrated"``). Rays that turn back in range end with ``left_domain``.
         Point kinds: crossings of depth nodes, cast ranges and bathymetry knots are
         ``layer_crossing``; plain integration-step ends are ``range_sample``; the angle
@@ -183,10 +199,8 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
     module docstring for the boundary handling, the dynamic-ray jump conditions and the
     error control. Valid for the ray (high-frequency) approximation only.
     """
-    from .rays import DEFAULT_MAX_BOUNCES, _check_fan_args, rayfan_dataset
-
     mb_in = DEFAULT_MAX_BOUNCES if max_bounces is None else max_bounces
-    zs, a, rmax, mb = _check_fan_args(environment, source_depth, angles, max_range,
+    zs, a, rmax, mb = check_fan_args(environment, source_depth, angles, max_range,
                                       range_step, mb_in)
     tol = float(tolerance)
     if not np.isfinite(tol) or tol <= 0:
@@ -202,6 +216,9 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
         out["surface_reflections"], out["bottom_reflections"], out["turning_points"],
         out["end_reason"], source_depth=zs, max_range=rmax, max_bounces=mb,
         environment=environment, solver="integrated", point_kind=out["point_kind"],
+        sound_speed=out["sound_speed"], tube_width=out["tube_width"],
+        tube_slowness=out["tube_slowness"], reflections=(
+            out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
         caustics=out["caustics"], range_step=range_step,
         step_parameters={
             "tolerance_m": tol,
@@ -211,9 +228,4 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
             "integration_steps": int(out["steps"].sum()),
         },
     )
-    if include_spreading:
-        ds["spreading"] = (("ray", "point"), out["spreading"], {
-            "long_name": "dynamic-ray spreading q: distance between neighbouring rays per "
-                         "radian of launch angle",
-            "units": "m rad-1"})
     return ds

@@ -52,13 +52,13 @@ from __future__ import annotations
 
 import numpy as np
 
-# the compiled kernels (re-exported: eigenrays.py and the tests use them from here)
-from ._arcs import (_RIDE_DEPTH, _RIDE_SINE, _SAMPLE, MAX_STEPS,  # noqa: F401
-                    _fan_kernel, _trace_ray)
+from .._validate import SeaprofileError
+from ._arcs import _fan_kernel
+from .codes import (FIRST_REFLECTIONS_KEPT, MAX_STEPS, NO_POINT, NO_REFLECTION, RANGE_SAMPLE,
+                    REFLECTION_BYTES, check_memory)
+from .codes import MAX_STORED_POINTS  # a module global here, so tests can lower it
 
 __all__ = ["fan_paths", "fan_samples", "trace_layers"]
-
-MAX_STORED_POINTS = 40_000_000  # per array (320 MB of float64)
 
 
 def _gradients(zn, cn):
@@ -76,7 +76,7 @@ def _layer_times(zn, cn):
 
 
 def trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=None, *,
-                 max_points=0, counts=False, max_steps=MAX_STEPS):
+                 max_points=0, counts=False, max_steps=MAX_STEPS, reflections=0):
     """Run the fan kernel; plain arrays in and out (no validation: callers validate).
 
     Parameters
@@ -97,6 +97,8 @@ def trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=None, *,
         Path points kept per ray (0: none).
     counts : bool
         Also return reflection/turning/caustic counts at each sample.
+    reflections : int
+        Reflections kept per ray (range, grazing angle, boundary; 0: none).
 
     Returns
     -------
@@ -113,21 +115,27 @@ def trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=None, *,
     S_t = np.full((nray, ns), np.nan)
     S_a = np.full((nray, ns), np.nan)
     S_q = np.full((nray, ns), np.nan)
+    S_c = np.full((nray, ns), np.nan)
+    S_p = np.full((nray, ns), np.nan)
     S_cnt = np.full((nray, ns if counts else 0, 4), -1, dtype=np.int32)
     mp = int(max_points)
-    P_r = np.full((nray, mp), np.nan)
-    P_z = np.full((nray, mp), np.nan)
-    P_t = np.full((nray, mp), np.nan)
-    P_a = np.full((nray, mp), np.nan)
-    P_k = np.full((nray, mp), -1, dtype=np.int8)
+    P_r, P_z, P_t, P_a, P_c, P_q, P_p = (np.full((nray, mp), np.nan) for _ in range(7))
+    P_k = np.full((nray, mp), NO_POINT, dtype=np.int8)
+    nrf = int(reflections)
+    RF_r = np.full((nray, nrf), np.nan)
+    RF_a = np.full((nray, nrf), np.nan)
+    RF_k = np.full((nray, nrf), NO_REFLECTION, dtype=np.int8)
     out_int = np.zeros((nray, 7), dtype=np.int64)
-    _fan_kernel(zn, cn, gn, _layer_times(zn, cn), float(zs), th, float(rmax), int(max_bounces), samp,
-                S_z, S_t, S_a, S_q, S_cnt, P_r, P_z, P_t, P_a, P_k, out_int, int(max_steps))
+    _fan_kernel(zn, cn, gn, _layer_times(zn, cn), float(zs), th, float(rmax), int(max_bounces),
+                samp, S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p,
+                P_k, RF_r, RF_a, RF_k, out_int, int(max_steps))
     return {
         "sample_depth": S_z, "sample_time": S_t, "sample_angle": S_a, "sample_q": S_q,
+        "sample_sound_speed": S_c, "sample_p": S_p,
         "sample_counts": S_cnt if counts else None,
         "path_range": P_r, "path_depth": P_z, "path_time": P_t, "path_angle": P_a,
-        "path_kind": P_k,
+        "path_sound_speed": P_c, "path_q": P_q, "path_p": P_p, "path_kind": P_k,
+        "reflection_range": RF_r, "grazing_angle": RF_a, "reflection_boundary": RF_k,
         "points": out_int[:, 0], "surface_reflections": out_int[:, 1],
         "bottom_reflections": out_int[:, 2], "turning_points": out_int[:, 3],
         "caustics": out_int[:, 4], "end_reason": out_int[:, 5].astype(np.int8),
@@ -137,7 +145,13 @@ def trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=None, *,
 
 def _fan_common(out):
     return {k: out[k] for k in ("surface_reflections", "bottom_reflections", "turning_points",
-                                 "caustics", "end_reason")}
+                                 "caustics", "end_reason", "reflection_range", "grazing_angle",
+                                 "reflection_boundary")}
+
+
+def _reflections_needed(out):
+    total = out["surface_reflections"] + out["bottom_reflections"]
+    return int(total.max()) if total.size else 0
 
 
 def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
@@ -145,15 +159,16 @@ def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
     first = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=0)
     mp = int(first["points"].max()) if first["points"].size else 1
     if mp * first["points"].size > MAX_STORED_POINTS:
-        from .._validate import SeaprofileError
-
         raise SeaprofileError(
             f"range_step: keeping every event point needs {mp} points x "
-            f"{first['points'].size} rays; give range_step to sample the rays instead")
-    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=mp)
+            f"{first['points'].size} rays (about {mp * first['points'].size * 57 / 1e9:.3g} GB);"
+            f" give range_step to sample the rays instead")
+    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=mp,
+                       reflections=_reflections_needed(first))
     res = _fan_common(out)
     res.update(range=out["path_range"], depth=out["path_depth"], travel_time=out["path_time"],
-               angle=out["path_angle"], point_kind=out["path_kind"],
+               angle=out["path_angle"], sound_speed=out["path_sound_speed"],
+               tube_width=out["path_q"], tube_slowness=out["path_p"], point_kind=out["path_kind"],
                point_count=np.minimum(out["points"], mp), steps=out["steps"])
     return res
 
@@ -161,14 +176,29 @@ def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
 def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
     """Each ray sampled at the given ranges (m); NaN after the ray ended."""
     rmax = float(ranges[-1])
-    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges)
+    room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)
+    nray = np.size(angles_deg)
+    check_memory(nray * float(room) * REFLECTION_BYTES, "angles",
+                 f"{nray} rays x {room} reflections", "trace fewer angles at a time")
+    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges,
+                       reflections=room)
+    need = _reflections_needed(out)
+    if need > room:  # a few long rays: trace again with room for every reflection
+        check_memory(nray * float(need) * REFLECTION_BYTES, "max_bounces",
+                     f"{nray} rays x {need} reflections", "lower max_bounces")
+        out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges,
+                           reflections=need)
+    else:
+        for k in ("reflection_range", "grazing_angle", "reflection_boundary"):
+            out[k] = out[k][:, :need]
     nray = out["sample_depth"].shape[0]
     rr = np.broadcast_to(np.asarray(ranges, dtype=np.float64), (nray, len(ranges))).copy()
     valid = np.isfinite(out["sample_depth"])
     rr[~valid] = np.nan
-    kind = np.where(valid, _SAMPLE, -1).astype(np.int8)
+    kind = np.where(valid, RANGE_SAMPLE, NO_POINT).astype(np.int8)
     res = _fan_common(out)
     res.update(range=rr, depth=out["sample_depth"], travel_time=out["sample_time"],
-               angle=out["sample_angle"], point_kind=kind,
+               angle=out["sample_angle"], sound_speed=out["sample_sound_speed"],
+               tube_width=out["sample_q"], tube_slowness=out["sample_p"], point_kind=kind,
                point_count=valid.sum(axis=1).astype(np.int32), steps=out["steps"])
     return res

@@ -1,217 +1,20 @@
-"""Ray fans: many rays from one source, as one ``RayFan`` Dataset.
+"""Ray fans: many rays from one source, as one ``RayFan`` Dataset (:mod:`.rayfan`).
 
-RayFan layout (shared by the exact range-independent tracer here and the numerical
-range-dependent integrator in :mod:`seaprofile.propagation.integrate`; build it with
-:func:`rayfan_dataset` so both stay identical):
-
-* dimensions ``ray`` and ``point``;
-* ``range``, ``depth`` (m), ``travel_time`` (s), ``angle`` (degrees from horizontal,
-  positive down) on ``(ray, point)``, NaN after the ray's last point;
-* ``point_kind`` (int8, ``(ray, point)``): what happened at the point (start, layer
-  crossing, turning point, surface / bottom reflection, range sample, end), -1 as padding
-  (``no_point``, listed in ``flag_values``; no ``_FillValue``, so the variable reads back
-  from netCDF as int8);
-* ``point_count`` (int32, ``ray``): number of valid points;
-* coordinate ``launch_angle`` (degrees, ``ray``);
-* ``surface_reflections``, ``bottom_reflections``, ``turning_points``, ``caustics``
-  (int32, ``ray``): counts along the whole ray;
-* ``end_reason`` (int8, ``ray``) with ``flag_values`` / ``flag_meanings``
-  (:data:`END_REASONS`);
-* attributes: ``source_depth`` (m), ``max_range`` (m), ``max_bounces``, ``bottom_depth``
-  (m), ``solver`` (``"exact_layered"`` or ``"integrated"``), ``range_step`` (m, or absent
-  when every event point is kept), the global attributes of ``_cf.base_attrs`` and the
-  provenance of the environment plus this step.
+:func:`trace_fan` checks the arguments and dispatches: range-independent environments go
+to the exact layered solver (:mod:`.kernels`), range-dependent ones to the integrator
+(:mod:`.integrate`). Both fill the same record, built in :mod:`.rayfan`; the codes of
+``point_kind`` and ``end_reason`` are in :mod:`.codes`.
 """
 
 from __future__ import annotations
 
 import numpy as np
-import xarray as xr
 
-from .. import _cf
-from .._validate import SeaprofileError, as_float_array
+from . import integrate, kernels
+from .codes import DEFAULT_MAX_BOUNCES
+from .rayfan import check_fan_args, rayfan_dataset
 
-__all__ = ["END_REASONS", "POINT_KINDS", "rayfan_dataset", "trace_fan"]
-
-#: end_reason codes.
-END_REASONS = {
-    0: "range_reached",
-    1: "absorbed",  # more than max_bounces surface + bottom reflections
-    2: "left_domain",  # e.g. turned back in range or left through a boundary
-    3: "step_limit_reached",  # safety stop of the stepping loop
-}
-
-#: point_kind codes.
-POINT_KINDS = {
-    0: "start",
-    1: "layer_crossing",
-    2: "turning_point",
-    3: "surface_reflection",
-    4: "bottom_reflection",
-    5: "range_sample",
-    6: "end",
-}
-
-#: point_kind code -1: no point (padding after the ray's last point).
-PADDING = "no_point"
-
-DEFAULT_MAX_BOUNCES = 100
-
-
-def _flag_attrs(codes, long_name):
-    return {
-        "long_name": long_name,
-        "flag_values": np.array(sorted(codes), dtype=np.int8),
-        "flag_meanings": " ".join(codes[k] for k in sorted(codes)),
-    }
-
-
-def rayfan_dataset(
-    range_,
-    depth,
-    travel_time,
-    angle,
-    point_count,
-    launch_angle,
-    surface_reflections,
-    bottom_reflections,
-    turning_points,
-    end_reason,
-    *,
-    source_depth,
-    max_range,
-    max_bounces,
-    environment,
-    solver,
-    point_kind=None,
-    caustics=None,
-    range_step=None,
-    step_parameters=None,
-):
-    """Assemble a RayFan Dataset from plain arrays (layout in the module docstring).
-
-    Parameters
-    ----------
-    range_, depth, travel_time, angle : ndarray (ray, point)
-        Range (m), depth (m), one-way travel time (s), ray angle (degrees from horizontal,
-        positive down); NaN as padding.
-    point_count : ndarray (ray,)
-        Valid points per ray.
-    launch_angle : ndarray (ray,)
-        Launch angles, degrees, positive down.
-    surface_reflections, bottom_reflections, turning_points : ndarray (ray,)
-        Counts along each ray.
-    end_reason : ndarray (ray,)
-        Codes of :data:`END_REASONS`.
-    source_depth, max_range : float
-        m.
-    max_bounces : int
-        Reflection limit used.
-    environment : Environment
-        The environment traced (for provenance and the bottom depth).
-    solver : str
-        ``"exact_layered"`` or ``"integrated"``.
-    point_kind : ndarray (ray, point), optional
-        Codes of :data:`POINT_KINDS`; -1 padding.
-    caustics : ndarray (ray,), optional
-        Caustic count along each ray.
-    range_step : float, optional
-        Resampling step, m, when the points are range samples.
-    step_parameters : dict, optional
-        Extra parameters recorded in the provenance step.
-    """
-    nray, npt = np.shape(depth)
-    dims = ("ray", "point")
-    zero = np.zeros(nray, dtype=np.int32)
-    data = {
-        "range": (dims, np.asarray(range_, dtype=np.float64), _cf.attrs_for("range")),
-        "depth": (dims, np.asarray(depth, dtype=np.float64), _cf.attrs_for("depth")),
-        "travel_time": (dims, np.asarray(travel_time, dtype=np.float64), _cf.attrs_for("travel_time")),
-        "angle": (dims, np.asarray(angle, dtype=np.float64), {
-            "long_name": "ray angle from horizontal, positive toward the bottom",
-            "units": "degree"}),
-        "point_count": ("ray", np.asarray(point_count, dtype=np.int32),
-                        {"long_name": "number of valid points along the ray", "units": "1"}),
-        "surface_reflections": ("ray", np.asarray(surface_reflections, dtype=np.int32),
-                                {"long_name": "number of surface reflections", "units": "1"}),
-        "bottom_reflections": ("ray", np.asarray(bottom_reflections, dtype=np.int32),
-                               {"long_name": "number of bottom reflections", "units": "1"}),
-        "turning_points": ("ray", np.asarray(turning_points, dtype=np.int32),
-                           {"long_name": "number of refracted turning points", "units": "1"}),
-        "caustics": ("ray", np.asarray(zero if caustics is None else caustics, dtype=np.int32),
-                     {"long_name": "number of caustics passed (ray-tube width changes sign)",
-                      "units": "1"}),
-        "end_reason": ("ray", np.asarray(end_reason, dtype=np.int8),
-                       _flag_attrs(END_REASONS, "how the ray ended")),
-    }
-    if point_kind is None:
-        point_kind = np.where(np.isfinite(np.asarray(depth)), 5, -1)
-    # -1 (padding) is an ordinary documented code, not a _FillValue: a declared fill value
-    # makes netCDF readers mask it and hand back float32 with NaN, so that a RayFan would
-    # not round-trip in dtype
-    data["point_kind"] = (dims, np.asarray(point_kind, dtype=np.int8),
-                          _flag_attrs({-1: PADDING, **POINT_KINDS},
-                                      "what happens at the path point"))
-    coords = {
-        "launch_angle": ("ray", np.asarray(launch_angle, dtype=np.float64), {
-            "long_name": "launch angle from horizontal, positive toward the bottom",
-            "units": "degree"}),
-    }
-    attrs = dict(getattr(environment, "attrs", None) or _cf.base_attrs())
-    attrs.update(_cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs}))
-    params = dict(source_depth_m=float(source_depth), max_range_m=float(max_range),
-                  max_bounces=int(max_bounces), solver=solver, rays=int(nray))
-    if range_step is not None:
-        params["range_step_m"] = float(range_step)
-    params.update(step_parameters or {})
-    attrs = _cf.record_step(attrs, "trace_fan", **params)
-    attrs.update(
-        title="ray fan",
-        source_depth=float(source_depth),
-        max_range=float(max_range),
-        max_bounces=int(max_bounces),
-        bottom_depth=float(environment.bottom_depth),
-        bottom_type=str(environment.bottom_type),
-        solver=solver,
-    )
-    if range_step is not None:
-        attrs["range_step"] = float(range_step)
-    ds = xr.Dataset(data, coords=coords, attrs=attrs)
-    # integer variables are written without a fill value (xarray would otherwise decode
-    # them to floats): their codes are complete, padding included
-    for name in ("point_kind", "point_count", "surface_reflections", "bottom_reflections",
-                 "turning_points", "caustics", "end_reason"):
-        ds[name].encoding["_FillValue"] = None
-    return ds
-
-
-def _check_fan_args(environment, source_depth, angles, max_range, range_step, max_bounces):
-    from .environment import Environment
-
-    if not isinstance(environment, Environment):
-        raise SeaprofileError("environment must be a seaprofile Environment")
-    zs = as_float_array("source_depth", source_depth)
-    if zs.ndim != 0 or not np.isfinite(zs):
-        raise SeaprofileError("source_depth must be one finite number (m)")
-    zs = float(zs)
-    bottom0 = float(environment.bottom_at(0.0))
-    if not 0.0 <= zs <= bottom0:
-        raise SeaprofileError(
-            f"source_depth {zs:g} m is outside the water column 0..{bottom0:g} m")
-    a = as_float_array("angles", angles).ravel()
-    if a.size == 0 or not np.all(np.isfinite(a)) or np.any(np.abs(a) > 90):
-        raise SeaprofileError("angles must be finite launch angles within -90..90 degrees")
-    rmax = as_float_array("max_range", max_range)
-    if rmax.ndim != 0 or not np.isfinite(rmax) or rmax <= 0:
-        raise SeaprofileError("max_range must be one positive number (m)")
-    if range_step is not None:
-        rs = float(as_float_array("range_step", range_step))
-        if not np.isfinite(rs) or rs <= 0:
-            raise SeaprofileError("range_step must be a positive number (m)")
-    mb = int(max_bounces)
-    if mb < 0:
-        raise SeaprofileError("max_bounces must be >= 0")
-    return zs, a, float(rmax), mb
+__all__ = ["trace_fan"]
 
 
 def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
@@ -240,7 +43,7 @@ def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
     Returns
     -------
     xr.Dataset
-        RayFan (layout in :mod:`seaprofile.propagation.rays`).
+        RayFan (layout in :mod:`seaprofile.propagation.rayfan`).
 
     Notes
     -----
@@ -249,15 +52,11 @@ def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
     Schmidt, Computational Ocean Acoustics, 2nd ed., Springer 2011, ch. 3). The closed
     forms are in :mod:`seaprofile.propagation.kernels`.
     """
-    zs, a, rmax, mb = _check_fan_args(environment, source_depth, angles, max_range,
+    zs, a, rmax, mb = check_fan_args(environment, source_depth, angles, max_range,
                                       range_step, max_bounces)
     if environment.is_range_dependent:
-        from .integrate import trace_fan_integrated
-
-        return trace_fan_integrated(environment, zs, a, rmax, range_step=range_step,
-                                    max_bounces=mb)
-    from . import kernels
-
+        return integrate.trace_fan_integrated(environment, zs, a, rmax, range_step=range_step,
+                                              max_bounces=mb)
     zn, cn = environment.layers()
     if range_step is None:
         out = kernels.fan_paths(zn, cn, zs, a, rmax, mb)
@@ -271,5 +70,7 @@ def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
         out["end_reason"], source_depth=zs, max_range=rmax, max_bounces=mb,
         environment=environment, solver="exact_layered", point_kind=out["point_kind"],
         caustics=out["caustics"], range_step=range_step,
-        step_parameters={"layers": int(zn.size - 1)},
+        step_parameters={"layers": int(zn.size - 1)}, sound_speed=out["sound_speed"],
+        tube_width=out["tube_width"], tube_slowness=out["tube_slowness"], reflections=(
+            out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
     )

@@ -40,6 +40,7 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
+from .environment import Environment
 
 __all__ = [
     "EARTH_MEAN_RADIUS",
@@ -501,30 +502,10 @@ range_ = range  # the builtin, shadowed by an argument name in gradient_at
 def environment_from_section(section, bottom_depth=None, *, bathymetry=None, bottom_type="sand"):
     """An :class:`~seaprofile.propagation.environment.Environment` carrying ``section``.
 
-    Parameters
-    ----------
-    section : Section
-        The range-dependent sound speed.
-    bottom_depth : float, optional
-        Flat bottom depth, m. Default: the bathymetry at range 0, else the deepest node.
-    bathymetry : (array_like, array_like), optional
-        ``(ranges, depths)`` in m, piecewise linear in range.
-    bottom_type : str
-        Bottom sediment name (carried for the loss computations).
-
-    Returns
-    -------
-    Environment
-        Its own c(z) (``depth``, ``sound_speed``) is the section at range 0; ray tracing
-        uses the whole section (``environment.section``).
+    Same as :meth:`Environment.from_section <seaprofile.propagation.environment.Environment.from_section>`
+    (bottom depth m; bathymetry ``(ranges m, depths m)``), which documents the parameters.
     """
-    from .environment import Environment
-
     if not isinstance(section, Section):
         raise SeaprofileError("section must be a seaprofile Section")
-    c0 = section.sound_speed_at(np.zeros_like(section.depth), section.depth)
-    attrs = _cf.record_step(dict(section.attrs), "environment_from_section",
-                            casts=int(section.ranges.size),
-                            range_interpolation=section.range_interpolation)
-    return Environment(section.depth, c0, bottom_depth, bathymetry=bathymetry,
-                       bottom_type=bottom_type, section=section, attrs=attrs)
+    return Environment.from_section(section, bottom_depth, bathymetry=bathymetry,
+                                    bottom_type=bottom_type)

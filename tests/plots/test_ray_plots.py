@@ -48,18 +48,18 @@ def fake_fan(nray=7, npt=5, max_range=10_000.0, bottom=200.0, seed=0):
 
 
 def fake_arrivals():
-    """An Arrivals-shaped Dataset: 2 ranges x 1 depth, one of each path kind at the first."""
+    """A PathTable-shaped Dataset (eigenrays output): 2 ranges x 1 depth, one of each path kind at the first."""
     return xr.Dataset(
         {
-            "receiver_range_index": ("arrival", np.array([0, 0, 0, 0, 1], np.int32)),
-            "receiver_depth_index": ("arrival", np.zeros(5, np.int32)),
-            "travel_time": ("arrival", np.array([6.67, 6.70, 6.75, 6.80, 13.4])),
-            "launch_angle": ("arrival", np.array([1.0, -3.0, 5.0, -7.0, 2.0])),
-            "arrival_angle": ("arrival", np.array([-1.0, 3.0, -5.0, 7.0, -2.0])),
-            "surface_reflections": ("arrival", np.array([0, 1, 0, 1, 0], np.int32)),
-            "bottom_reflections": ("arrival", np.array([0, 0, 1, 2, 0], np.int32)),
-            "turning_points": ("arrival", np.zeros(5, np.int32)),
-            "spreading_loss": ("arrival", np.array([80.0, 80.2, 80.5, 81.0, 86.0])),
+            "receiver_range_index": ("path", np.array([0, 0, 0, 0, 1], np.int32)),
+            "receiver_depth_index": ("path", np.zeros(5, np.int32)),
+            "travel_time": ("path", np.array([6.67, 6.70, 6.75, 6.80, 13.4])),
+            "launch_angle": ("path", np.array([1.0, -3.0, 5.0, -7.0, 2.0])),
+            "arrival_angle": ("path", np.array([-1.0, 3.0, -5.0, 7.0, -2.0])),
+            "surface_reflections": ("path", np.array([0, 1, 0, 1, 0], np.int32)),
+            "bottom_reflections": ("path", np.array([0, 0, 1, 2, 0], np.int32)),
+            "turning_points": ("path", np.zeros(5, np.int32)),
+            "spreading_loss": ("path", np.array([80.0, 80.2, 80.5, 81.0, 86.0])),
         },
         coords={"receiver_range": [10_000.0, 20_000.0], "receiver_depth": [100.0]},
         attrs={"source_depth": 50.0},
@@ -255,7 +255,7 @@ def test_arrivals_bad_receiver_and_quantity():
 
 
 def test_arrivals_empty_receiver_says_so():
-    ds = fake_arrivals().isel(arrival=slice(0, 4))  # nothing at the second range
+    ds = fake_arrivals().isel(path=slice(0, 4))  # nothing at the second range
     fig = plot_arrivals(ds, receiver=1)
     assert any(t.get_text() == "no arrivals found" for t in fig.axes[0].texts)
 
@@ -268,7 +268,7 @@ def test_arrivals_far_below_the_strongest_sit_on_the_floor():
     ds = fake_arrivals()
     loss = ds["spreading_loss"].values.copy()
     loss[1] = 200.0  # 120 dB weaker than the strongest arrival
-    ds["spreading_loss"] = ("arrival", loss)
+    ds["spreading_loss"] = ("path", loss)
     fig = plot_arrivals(ds, receiver=0)
     (ax,) = fig.axes
     y = np.concatenate([ln.get_ydata() for ln in ax.lines if ln.get_label() != "_leader"])

@@ -8,13 +8,22 @@ from seaprofile._validate import SeaprofileError
 from seaprofile.propagation import Environment, eigenrays, trace_fan
 
 
-def _images(zs, zr, r, depth, max_reflections):
-    """Method of images for an isovelocity layer (Jensen et al. 2011, ch. 2-3)."""
+def _images(zs, zr, r, depth, max_reflections, count_zs=None, count_zr=None):
+    """Method of images for an isovelocity layer (Jensen et al. 2011, ch. 2-3).
+
+    Reflections are counted as the boundary planes strictly between image and receiver;
+    ``count_zs`` / ``count_zr`` (default ``zs`` / ``zr``) are the depths used for that count
+    only: a source or receiver on the surface or the bottom is counted as the limit of one
+    just inside the water, where each image of a merging pair keeps its own reflection.
+    """
+    count_zs = zs if count_zs is None else count_zs
+    count_zr = zr if count_zr is None else count_zr
     out = []
     for n in range(-max_reflections - 1, max_reflections + 2):
         for sign in (1, -1):
             zi = 2 * n * depth + sign * zs
-            lo, hi = min(zi, zr), max(zi, zr)
+            zc = 2 * n * depth + sign * count_zs
+            lo, hi = min(zc, count_zr), max(zc, count_zr)
             ks = [k for k in range(int(np.floor(lo / depth)) - 1, int(np.ceil(hi / depth)) + 2)
                   if lo < k * depth < hi]
             if len(ks) > max_reflections:
@@ -35,26 +44,81 @@ def test_isovelocity_against_images(zs, zr, r):
     c, depth = 1500.0, 100.0
     env = Environment.from_arrays([0.0, depth], [c, c])
     e = eigenrays(env, zs, [r], [zr], max_reflections=3)
-    ref = _images(zs, zr, r, depth, 3)
-    assert e.sizes["arrival"] == len(ref)
-    # equal times (symmetric geometry) may come in any order: sort by (time, launch angle)
-    ref = sorted(ref, key=lambda x: (round(x[0] / c, 9), x[1]))
-    e = e.isel(arrival=np.lexsort((e.launch_angle.values, np.round(e.travel_time.values, 9))))
+    _assert_matches_images(e, _images(zs, zr, r, depth, 3), c)
+    assert np.all(e.caustics.values == 0)
+    np.testing.assert_allclose(e.phase.values, np.pi * e.surface_reflections.values)
+
+
+def _assert_matches_images(e, ref, c):
+    """Eigenrays against the image paths (slant range, launch and arrival angles, counts)."""
+    assert e.sizes["path"] == len(ref) > 0
+    # equal times (symmetric geometry, merging pairs) come in any order: sort both by
+    # time, launch angle and counts
+    ref = sorted(ref, key=lambda x: (round(x[0] / c, 9), round(x[1], 6), x[3], x[4]))
+    key = (e.bottom_reflections.values, e.surface_reflections.values,
+           np.round(e.launch_angle.values, 6), np.round(e.travel_time.values, 9))
+    e = e.isel(path=np.lexsort(key))
     slant = np.array([x[0] for x in ref])
     # Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
     # ch. 2 (images at 2nD +- zs): travel time R/c; the closed forms are exact, so only
     # rounding (~1e-15) and the 1 micrometre depth tolerance of the root (time error
     # < 1e-6 m / c) remain: 1e-9 relative
     np.testing.assert_allclose(e.travel_time.values, slant / c, rtol=1e-9)
+    # angles: roots to 1 um in depth, kinks on a boundary bisected to 1e-14 rad
     np.testing.assert_allclose(e.launch_angle.values, [x[1] for x in ref], atol=1e-7)
     np.testing.assert_allclose(e.arrival_angle.values, [x[2] for x in ref], atol=1e-7)
     np.testing.assert_array_equal(e.surface_reflections.values, [x[3] for x in ref])
     np.testing.assert_array_equal(e.bottom_reflections.values, [x[4] for x in ref])
-    # spherical spreading 20 log10 R in isovelocity (Jensen et al. 2011, ch. 3)
+    # spherical spreading 20 log10 R in isovelocity (Jensen et al. 2011, ch. 3); at 1e7 m
+    # 1e-8 dB is ~2e-9 relative in R
     np.testing.assert_allclose(e.spreading_loss.values, 20 * np.log10(slant), atol=1e-8)
-    assert np.all(e.caustics.values == 0)
-    np.testing.assert_allclose(e.phase.values, np.pi * e.surface_reflections.values)
     assert np.all(np.abs(e.depth_miss.values) < 1e-6)
+
+
+_INSIDE = 1e-9  # m: how far inside the water a boundary source or receiver is counted
+
+
+@pytest.mark.parametrize("zs, zr, r", [
+    (30.0, 0.0, 1000.0), (30.0, 100.0, 1000.0), (70.0, 0.0, 25000.0), (70.0, 100.0, 25000.0),
+    (0.0, 40.0, 1000.0), (100.0, 40.0, 1000.0), (0.0, 100.0, 3000.0), (0.0, 0.0, 1000.0),
+    (100.0, 100.0, 1000.0),
+    # a huge range: every family is far narrower than the 0.05 degree search fan
+    (50.0, 20.0, 1e7), (50.0, 0.0, 1e7), (50.0, 100.0, 1e7),
+])
+def test_source_or_receiver_on_the_surface_or_bottom_against_images(zs, zr, r):
+    # a seafloor target or a receiver at the surface is a normal case (tracker defect: no
+    # path was found to a receiver exactly at depth 0 or at the bottom depth)
+    c, depth = 1500.0, 100.0
+    env = Environment.from_arrays([0.0, depth], [c, c])
+    e = eigenrays(env, zs, [r], [zr], max_reflections=3)
+
+    def inside(z):
+        return _INSIDE if z == 0.0 else (depth - _INSIDE if z == depth else z)
+
+    _assert_matches_images(e, _images(zs, zr, r, depth, 3, inside(zs), inside(zr)), c)
+
+
+@pytest.mark.parametrize("zr, expected", [(0.0, 0.0), (100.0, 2.0)])
+def test_merged_paths_at_a_boundary_receiver_sum_to_the_boundary_field(zr, expected):
+    # a receiver on a boundary gets both members of each merging image pair (equal time and
+    # loss, one reflection apart). Their coherent sum is the field there: zero at the
+    # pressure-release surface (reflection coefficient -1; Jensen et al. 2011, ch. 1-2,
+    # Lloyd's mirror) and twice one path at the bottom, which eigenrays treats as rigid
+    # (coefficient +1)
+    env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0])
+    e = eigenrays(env, 30.0, [2000.0], [zr], max_reflections=3)
+    amp = 10.0 ** (-e.spreading_loss.values / 20.0) * np.exp(1j * e.phase.values)
+    t = np.round(e.travel_time.values, 9)
+    pairs = 0
+    for tk in np.unique(t):
+        group = amp[t == tk]
+        if group.size != 2:
+            continue  # the partner has one reflection more than allowed
+        pairs += 1
+        # rounding of the loss (1e-8 dB) and phase: 1e-9 of one path's amplitude
+        np.testing.assert_allclose(abs(group.sum()), expected * abs(group[0]),
+                                   atol=1e-9 * abs(group[0]))
+    assert pairs >= 3
 
 
 def _munk(z):
@@ -76,7 +140,7 @@ def test_travel_time_reciprocity(munk_env):
     fan = np.linspace(-40.0, 40.0, 4001)
     a = eigenrays(munk_env, 800.0, [42000.0], [2700.0], max_reflections=2, angles=fan)
     b = eigenrays(munk_env, 2700.0, [42000.0], [800.0], max_reflections=2, angles=fan)
-    assert a.sizes["arrival"] == b.sizes["arrival"] > 3
+    assert a.sizes["path"] == b.sizes["path"] > 3
     np.testing.assert_allclose(np.sort(a.travel_time.values), np.sort(b.travel_time.values),
                                rtol=1e-10)
     np.testing.assert_allclose(np.sort(a.launch_angle.values), np.sort(-b.arrival_angle.values),
@@ -90,9 +154,9 @@ def test_spreading_matches_neighbouring_rays(munk_env):
     # the depth at the receiver range between neighbouring rays
     r = 37000.0
     e = eigenrays(munk_env, 1000.0, [r], [1800.0], max_reflections=1)
-    assert e.sizes["arrival"] >= 2
+    assert e.sizes["path"] >= 2
     d = 1e-5
-    for i in range(e.sizes["arrival"]):
+    for i in range(e.sizes["path"]):
         th = float(e.launch_angle[i])
         fan = trace_fan(munk_env, 1000.0, [th - d, th + d], r, range_step=r)
         if fan.surface_reflections[0] != fan.surface_reflections[1] or \
@@ -109,8 +173,18 @@ def test_spreading_matches_neighbouring_rays(munk_env):
 def test_layout_and_netcdf_round_trip(tmp_path, munk_env):
     e = eigenrays(munk_env, 1000.0, [10000.0, 20000.0, 30000.0], [500.0, 1500.0],
                   max_reflections=2)
-    assert set(e.dims) == {"arrival", "receiver_range", "receiver_depth"}
-    assert int(e.arrival_count.sum()) == e.sizes["arrival"]
+    assert set(e.dims) == {"path", "receiver_range", "receiver_depth"}
+    # the PathTable record: our own names, in the documented order (pathtable.py)
+    assert list(e.data_vars) == [
+        "path_kind", "launch_angle", "arrival_angle", "travel_time", "spreading_loss",
+        "surface_reflections", "bottom_reflections", "caustics", "turning_points", "phase",
+        "depth_miss", "receiver_range_index", "receiver_depth_index", "path_count"]
+    kind = (e.surface_reflections.values > 0) + 2 * (e.bottom_reflections.values > 0)
+    np.testing.assert_array_equal(e.path_kind.values, kind)
+    assert e.path_kind.dtype == np.int8 and set(kind) == {0, 1, 2, 3}
+    assert e.path_kind.attrs["flag_meanings"].split() == [
+        "refracted", "surface_reflected", "bottom_reflected", "surface_and_bottom_reflected"]
+    assert int(e.path_count.sum()) == e.sizes["path"]
     assert e.travel_time.attrs["units"] == "s" and e.spreading_loss.attrs["units"] == "dB"
     assert "caution" in e.attrs and "eigenrays" in e.attrs["processing_steps"]
     # sorted by receiver, then time
@@ -208,6 +282,6 @@ def test_refinement_can_be_switched_off_and_is_recorded():
     env = _duct_env()
     plain = eigenrays(env, 30.0, [6000.0], [20.0], refine=False)
     refined = eigenrays(env, 30.0, [6000.0], [20.0])
-    assert refined.sizes["arrival"] > plain.sizes["arrival"]
+    assert refined.sizes["path"] > plain.sizes["path"]
     assert '"refined_rays": 0' in plain.attrs["processing_steps"]
     assert '"refined_rays": 0' not in refined.attrs["processing_steps"]

@@ -245,10 +245,9 @@ def test_range_dependent_goes_to_integrator(monkeypatch):
         return "integrated"
 
     fake.trace_fan_integrated = trace_fan_integrated
-    monkeypatch.setitem(sys.modules, "seaprofile.propagation.integrate", fake)
-    import seaprofile.propagation as prop
-
-    monkeypatch.setattr(prop, "integrate", fake, raising=False)
+    # rays.py imports the integrator module once, at the top (no import circle any more)
+    rays_module = sys.modules["seaprofile.propagation.rays"]
+    monkeypatch.setattr(rays_module, "integrate", fake)
     env = Environment.from_arrays([0, 100], [1500, 1500], bathymetry=([0, 1000], [80, 100]))
     assert trace_fan(env, 10.0, [1.0], 500.0) == "integrated"
     assert calls["source_depth"] == 10.0
@@ -344,14 +343,14 @@ def test_grazing_rays_near_the_bottom_are_continuous_in_launch_angle():
     big = np.abs(angles) >= 1e-3
     np.testing.assert_allclose(nb[big], expect[big], atol=1.0)
     # below ~4e-4 deg a reflected ray would never rise 1 micrometre (c s^2 / (2 |g|)) above
-    # the bottom: it grazes it once and runs along it (kernels._RIDE_DEPTH)
+    # the bottom: it grazes it once and runs along it (codes.RIDE_DEPTH)
     assert np.all(nb[np.abs(angles) < 4e-4] <= 1)
 
 
 def test_rays_within_a_micrometre_of_a_speed_minimum_run_along_it():
     # sharp minimum (|g| = 1 1/s): at 1e-5 deg the ray would rise and sink
     # c sin^2 / (2 |g|) ~ 2e-11 m about the node in ~1e7 arcs over 3 km; it runs along the
-    # node instead (kernels._RIDE_DEPTH = 1 micrometre). At 0.5 deg (excursion ~0.06 m) it
+    # node instead (codes.RIDE_DEPTH = 1 micrometre). At 0.5 deg (excursion ~0.06 m) it
     # oscillates as usual.
     env = Environment.from_arrays([0.0, 1.0, 2.0, 3.0, 4.0], [1450.0, 1451.0, 1450.0, 1451.0, 1450.0])
     fan = trace_fan(env, 2.0, [1e-5, 0.5], 3000.0, max_bounces=30)
