@@ -164,8 +164,7 @@ def write_netcdf(ds, path, *, overwrite=False):
             nc.setncatts(g)
             ids = [str(d["profile_id"].item()) if "profile_id" in d.coords else f"cast{i}"
                    for i, d in enumerate(items)]
-            pending = [_char_variable(nc, "profile_id", ids, {"cf_role": "profile_id",
-                                                              "long_name": "cast name"})]
+            pending = [_char_variable(nc, "profile_id", ids, _cf.attrs_for("profile_id"))]
             v = nc.createVariable("row_size", "i4", ("profile",))
             v.setncatts({"long_name": "number of samples in each profile",
                          "sample_dimension": "obs"})
@@ -420,8 +419,7 @@ def write_speed_table(profile, path, *, overwrite=False):
     c = np.asarray(profile["sound_speed"].values, dtype=np.float64)
     keep = np.isfinite(z) & np.isfinite(c)
     if "sound_speed_qc" in profile:
-        keep &= ~np.isin(profile["sound_speed_qc"].values, (_cf.PROBABLY_BAD, _cf.BAD,
-                                                            _cf.MISSING))
+        keep &= ~np.isin(profile["sound_speed_qc"].values, _cf.UNUSABLE_FLAGS)
     order = np.argsort(z[keep], kind="stable")
     z, c = z[keep][order], c[keep][order]
     if z.size == 0:
