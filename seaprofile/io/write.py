@@ -256,16 +256,7 @@ def write_product_json(obj, path, *, overwrite=False):
     ``{"format": "seaprofile", "format_version": 1, "caution": ..., "product": kind,
     "dataset": {"kind", "dimensions", "attributes", "coordinates", "variables"}}``;
     :func:`seaprofile.casts.write.dataset_from_dict` rebuilds the Dataset from
-    ``"dataset"``.
-
-    Parameters
-    ----------
-    obj : xarray.Dataset or xarray.DataArray
-        A registered product.
-    path : str or pathlib.Path
-        Output file.
-    overwrite : bool
-        Replace an existing file.
+    ``"dataset"``. The arguments are those of :func:`write_product_netcdf`.
     """
     ds, kind = _one(obj, "write_product_json")
     doc = {"format": "seaprofile", "format_version": 1, "caution": _cf.CAUTION,
