@@ -75,6 +75,11 @@ def test_kinds_are_found_by_attribute_or_layout(cast, profile, fan, arrivals):
     tagged = fan.copy()
     tagged.attrs["product"] = "ray_fan"
     assert product_kind(tagged) == "ray_fan"
+    # eigenrays along a dimension named ``path`` (the PathTable record), invented values
+    table = xr.Dataset({"travel_time": ("path", [1.0, 1.2]),
+                        "path_count": (("receiver_range", "receiver_depth"), [[2]])},
+                       coords={"receiver_range": [1500.0], "receiver_depth": [40.0]})
+    assert product_kind(table) == "arrivals"
 
 
 # --- round trips -----------------------------------------------------------------------

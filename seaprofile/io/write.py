@@ -16,8 +16,8 @@ Product kinds
 ``ray_fan``
     :func:`seaprofile.propagation.trace_fan` output (dimensions ``ray`` and ``point``).
 ``arrivals``
-    :func:`seaprofile.propagation.eigenrays` output (dimension ``arrival``, coordinates
-    ``receiver_range`` and ``receiver_depth``).
+    :func:`seaprofile.propagation.eigenrays` output (dimension ``arrival``, or ``path`` in
+    the PathTable record; coordinates ``receiver_range`` and ``receiver_depth``).
 
 Gridded products (ray fans, arrivals, and later loss fields and soundings) are written by
 :func:`write_product_netcdf` (netCDF-4 as the Dataset stands, with the global attributes
@@ -289,7 +289,9 @@ def _is_ray_fan(ds):
 
 
 def _is_arrivals(ds):
-    return "arrival" in ds.dims and {"receiver_range", "receiver_depth"} <= set(ds.coords)
+    # one entry per eigenray along ``arrival`` (or ``path``, the PathTable record's name)
+    return bool({"arrival", "path"} & set(ds.dims)) and \
+        {"receiver_range", "receiver_depth"} <= set(ds.coords)
 
 
 _CAST_WRITERS = {"netcdf": write_netcdf, "csv": write_csv, "json": write_json}
