@@ -10,10 +10,10 @@ from ._validate import InputFileError, OutsideValidityWarning, SeaprofileError
 from .seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
 from .seawater.depth import depth_from_pressure, pressure_from_depth
 from .casts.read import read_cast, read_casts, read_profile, read_profiles
-from .casts.write import write
 from .profile import build_profile, compare_profiles, extend_to
 from .layers import describe
 from .propagation import Environment, Section, eigenrays, trace_fan
+from .io.write import write
 
 __all__ = [
     "__version__",

@@ -13,9 +13,6 @@ import xarray as xr
 from .. import _cf
 from .._validate import SeaprofileError
 
-#: flags whose values the processing steps leave out (probably bad, bad, missing)
-EXCLUDED = (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING)
-
 
 def require_cast(cast, name="cast"):
     """Raise :class:`SeaprofileError` unless ``cast`` is a Cast (dimension ``sample``)."""

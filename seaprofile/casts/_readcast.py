@@ -124,18 +124,9 @@ def _check_needs(path, inst, data, salinity):
 
 def _derive(cast, inst, salinity, fall_rate):
     if "conductivity" in cast and "salinity" not in cast and "pressure" in cast:
-        from ..seawater.state import salinity_from_conductivity
+        from .process import add_salinity  # the one place salinity and its flags are computed
 
-        sal = np.asarray(salinity_from_conductivity(cast["conductivity"].values,
-                                                    cast["temperature"].values,
-                                                    cast["pressure"].values), dtype=np.float64)
-        qc = np.maximum.reduce([cast[f"{v}_qc"].values
-                                for v in ("conductivity", "temperature", "pressure")])
-        qc = np.where(np.isfinite(sal), qc, _cf.MISSING).astype(np.int8)
-        cast = add_variable(cast, "salinity", sal, qc, comment="computed from conductivity, "
-                            "temperature and pressure (PSS-78 via gsw.SP_from_C)")
-        cast.attrs["salinity_source"] = "computed from conductivity (PSS-78)"
-        cast.attrs = _cf.record_step(cast.attrs, "salinity_from_conductivity", method="PSS-78")
+        cast = add_salinity(cast)
     if inst == "xbt":
         sal = DEFAULT_SALINITY if salinity is None else salinity
         return complete_xbt_cast(cast, fall_rate=fall_rate, salinity=sal)
@@ -190,7 +181,7 @@ def _raw_profile(raw, path, lines=None):
         "latitude": ((), float(meta.pop("latitude", np.nan)), _cf.attrs_for("latitude")),
         "longitude": ((), float(meta.pop("longitude", np.nan)), _cf.attrs_for("longitude")),
         "time": ((), checked_time(meta.pop("time", None)), _cf.attrs_for("time")),
-        "profile_id": ((), name, {"cf_role": "profile_id", "long_name": "cast name"}),
+        "profile_id": ((), name, _cf.attrs_for("profile_id")),
     }
     extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS and k != "instrument"}
     attrs = _cf.base_attrs(featureType="profile", equation="measured", cast_name=name,

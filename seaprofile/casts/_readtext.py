@@ -494,8 +494,7 @@ def _text_profile(t):
     t0 = meta.pop("time", None)
     coords["time"] = ((), np.datetime64("NaT", "ns") if t0 is None else t0, _cf.attrs_for("time"))
     name = meta.pop("profile_id", meta.get("cast_name", file_stem(t.path)))
-    coords["profile_id"] = ((), str(name),
-                            {"cf_role": "profile_id", "long_name": "cast name"})
+    coords["profile_id"] = ((), str(name), _cf.attrs_for("profile_id"))
     data = {k: ("depth", v, a) for k, (v, a) in variables.items()}
     return xr.Dataset(data, coords=coords, attrs=meta)
 

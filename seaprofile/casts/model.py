@@ -109,7 +109,7 @@ def make_cast(
         "latitude": ((), float(latitude), _cf.attrs_for("latitude")),
         "longitude": ((), float(longitude), _cf.attrs_for("longitude")),
         "time": ((), t, _cf.attrs_for("time")),
-        "profile_id": ((), str(cast_name), {"cf_role": "profile_id", "long_name": "cast name"}),
+        "profile_id": ((), str(cast_name), _cf.attrs_for("profile_id")),
     }
     global_attrs = _cf.base_attrs(
         featureType="profile",

@@ -5,7 +5,9 @@ keeps an existing file unless ``overwrite=True``, and never modifies its input. 
 file is removed on any failure, on Ctrl-C (SIGINT) and on SIGTERM. Every netCDF open, read
 and write of the package holds :data:`NETCDF_LOCK` (the netCDF/HDF5 library must never be
 entered from two threads at once). :func:`refuse_input_as_output` keeps an output from
-replacing one of the inputs.
+replacing one of the inputs. :func:`write` (one entry for every product, Casts and
+Profiles as well as ray fans and arrivals) dispatches through the registry of
+:mod:`seaprofile.io.write`.
 
 Formats
 -------
@@ -69,34 +71,16 @@ def format_of(path):
     return max(matches)[1] if matches else None
 
 
-def write(ds, path, format=None, *, overwrite=False, protect=()):
-    """Write ``ds`` in the format named by ``format`` or found from the file extension.
+def write(obj, path, format=None, *, overwrite=False, protect=()):
+    """Write any product (Cast, Profile, ray fan, arrivals, ...): :func:`seaprofile.io.write.write`.
 
-    Parameters
-    ----------
-    ds : xarray.Dataset or list of xarray.Dataset
-        A Cast or Profile (a list for netCDF and JSON collections).
-    path : str or pathlib.Path
-        Output file.
-    format : {"netcdf", "csv", "json", "table"}, optional
-        Default from the extension (``.nc``, ``.csv``, ``.json``, ``.speed.txt``).
-    overwrite : bool
-        Replace an existing file.
-    protect : iterable of str or pathlib.Path
-        Input files that ``path`` must not be (:func:`refuse_input_as_output`).
+    Kept here so that ``seaprofile.casts.write.write`` goes on working; the product
+    registry lives in :mod:`seaprofile.io.write` (imported on the first call, as that
+    module builds on the writers of this one).
     """
-    path = Path(path)
-    refuse_input_as_output(protect, [path])
-    if format is None:
-        format = format_of(path)
-        if format is None:
-            raise SeaprofileError(f"format: cannot tell the format from {path.name!r}; "
-                                  f"give one of {', '.join(FORMATS)}")
-    writers = {"netcdf": write_netcdf, "csv": write_csv, "json": write_json,
-               "table": write_speed_table}
-    if format not in writers:
-        raise SeaprofileError(f"format must be one of {', '.join(writers)}, got {format!r}")
-    return writers[format](ds, path, overwrite=overwrite)
+    from ..io.write import write as write_product
+
+    return write_product(obj, path, format, overwrite=overwrite, protect=protect)
 
 
 def _as_list(ds):
@@ -164,8 +148,7 @@ def write_netcdf(ds, path, *, overwrite=False):
             nc.setncatts(g)
             ids = [str(d["profile_id"].item()) if "profile_id" in d.coords else f"cast{i}"
                    for i, d in enumerate(items)]
-            pending = [_char_variable(nc, "profile_id", ids, {"cf_role": "profile_id",
-                                                              "long_name": "cast name"})]
+            pending = [_char_variable(nc, "profile_id", ids, _cf.attrs_for("profile_id"))]
             v = nc.createVariable("row_size", "i4", ("profile",))
             v.setncatts({"long_name": "number of samples in each profile",
                          "sample_dimension": "obs"})
@@ -324,26 +307,27 @@ def write_csv(ds, path, *, overwrite=False):
 def dataset_to_dict(ds):
     """A Cast or Profile as a JSON-ready dict (the ``dataset`` entry of a seaprofile JSON)."""
     dim = _dim(ds)
-
-    def var(da):
-        values = da.values
-        if values.dtype.kind == "M":
-            vals = [_iso(t) for t in np.atleast_1d(values)]
-            vals = vals if da.ndim else vals[0]
-        elif values.dtype.kind == "f":
-            vals = np.where(np.isfinite(values), values, None).tolist()
-        else:
-            vals = values.tolist()
-        return {"dims": list(da.dims), "dtype": values.dtype.str.lstrip("<>|"),
-                "attributes": _jsonable_attrs(da.attrs), "values": vals}
-
     return {
         "kind": "cast" if dim == "sample" else "profile",
         "dimension": dim,
         "attributes": _jsonable_attrs(ds.attrs),
-        "coordinates": {k: var(ds[k]) for k in ds.coords},
-        "variables": {k: var(ds[k]) for k in ds.data_vars},
+        "coordinates": {k: _variable_dict(ds[k]) for k in ds.coords},
+        "variables": {k: _variable_dict(ds[k]) for k in ds.data_vars},
     }
+
+
+def _variable_dict(da):
+    """One variable as JSON-ready ``{"dims", "dtype", "attributes", "values"}`` (NaN as None)."""
+    values = da.values
+    if values.dtype.kind == "M":
+        vals = [_iso(t) for t in np.atleast_1d(values)]
+        vals = vals if da.ndim else vals[0]
+    elif values.dtype.kind == "f":
+        vals = np.where(np.isfinite(values), values, None).tolist()
+    else:
+        vals = values.tolist()
+    return {"dims": list(da.dims), "dtype": values.dtype.str.lstrip("<>|"),
+            "attributes": _jsonable_attrs(da.attrs), "values": vals}
 
 
 def dataset_from_dict(d):
@@ -420,8 +404,7 @@ def write_speed_table(profile, path, *, overwrite=False):
     c = np.asarray(profile["sound_speed"].values, dtype=np.float64)
     keep = np.isfinite(z) & np.isfinite(c)
     if "sound_speed_qc" in profile:
-        keep &= ~np.isin(profile["sound_speed_qc"].values, (_cf.PROBABLY_BAD, _cf.BAD,
-                                                            _cf.MISSING))
+        keep &= ~np.isin(profile["sound_speed_qc"].values, _cf.UNUSABLE_FLAGS)
     order = np.argsort(z[keep], kind="stable")
     z, c = z[keep][order], c[keep][order]
     if z.size == 0:

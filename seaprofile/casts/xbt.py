@@ -8,6 +8,8 @@ Both choices are recorded in the Cast's attributes and provenance.
 
 from __future__ import annotations
 
+import functools
+
 import numba
 import numpy as np
 import xarray as xr
@@ -15,7 +17,7 @@ import xarray as xr
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
 from .._validate import is_lazy, warn_outside
-from ..seawater._apply import run_loop
+from ..seawater._apply import pointwise, run_loop
 from ._common import with_variable
 
 __all__ = [
@@ -140,12 +142,9 @@ def fall_depth(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
     a, b, name, ref = resolve_fall_rate(fall_rate)
     if not is_lazy(elapsed_time):
         depth_from_elapsed_time(elapsed_time.values[:0], fall_rate)  # validation only
-    out = xr.apply_ufunc(
-        _fall_depth, elapsed_time, a, b, dask="parallelized", output_dtypes=[np.float64]
-    )
-    return out.rename("depth").assign_attrs(
-        _cf.attrs_for("depth", comment=f"from elapsed time with fall rate {name}: {ref}")
-    )
+    return pointwise(functools.partial(_fall_depth, a=a, b=b), [("elapsed_time", elapsed_time)],
+                     name="depth", attrs=_cf.attrs_for(
+                         "depth", comment=f"from elapsed time with fall rate {name}: {ref}"))
 
 
 def assumed_salinity(depth, salinity=DEFAULT_SALINITY):

@@ -8,6 +8,7 @@ from pathlib import Path
 from ..casts.write import atomic_write
 from ..casts._atomic import NETCDF_LOCK as _NETCDF_LOCK
 from .errors import ArgumentError, MemoryLimitError
+from .write import write
 
 __all__ = ["FIGURE_FORMATS", "MEMORY_LIMIT", "NETCDF_LOCK", "BYTES_PER_BIN", "BYTES_PER_RAY_SAMPLE",
            "check_figure_path", "check_memory", "check_output", "fan_bytes", "format_bytes",
@@ -165,7 +166,10 @@ def check_figure_path(path, *, overwrite=False, inputs=(), argument="path"):
 
 
 def write_netcdf(ds, path, *, overwrite=False):
-    """Write ``ds`` (any Dataset) to netCDF-4 atomically (temporary file, then rename).
+    """Write a product (e.g. a RayFan) to netCDF-4 through the one :func:`seaprofile.write`.
+
+    Atomic (temporary file, then rename); the product kind picks the layout
+    (:data:`seaprofile.io.write.PRODUCTS`).
 
     Parameters
     ----------
@@ -176,8 +180,7 @@ def write_netcdf(ds, path, *, overwrite=False):
     overwrite : bool
         Replace an existing file.
     """
-    with NETCDF_LOCK:
-        return atomic_write(path, overwrite, lambda tmp: ds.to_netcdf(tmp, format="NETCDF4"))
+    return write(ds, path, "netcdf", overwrite=overwrite)
 
 
 def save_figure(fig, path, *, overwrite=False, dpi=150):

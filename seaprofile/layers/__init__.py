@@ -34,9 +34,8 @@ from .mixed import (
     mixed_layer_depth_density,
     sonic_layer_depth,
 )
-# BAD_FLAGS was a module-level name of the former single module; _estimated_top is used by
-# seaprofile.plots.profile. Both stay importable from seaprofile.layers.
-from .summary import BAD_FLAGS, _estimated_top, describe, describe_dataset  # noqa: F401
+# _estimated_top is used by seaprofile.plots.profile, which imports it from here
+from .summary import _estimated_top, describe, describe_dataset  # noqa: F401
 
 __all__ = [
     "mixed_layer_depth",

@@ -300,8 +300,7 @@ def sonic_layer_depth(sound_speed, depth=None, *, tolerance=0.2, return_reached_
     if not tolerance >= 0:
         raise SeaprofileError(f"tolerance must be >= 0, got {tolerance!r}")
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
-    outputs = [("sonic_layer_depth", {"long_name": "sonic layer depth (near-surface sound "
-                                      "speed maximum)", "units": "m", "positive": "down"}),
+    outputs = [("sonic_layer_depth", _cf.attrs_for("sonic_layer_depth")),
                ("sonic_layer_sound_speed", _cf.attrs_for(
                    "sound_speed", long_name="sound speed at the sonic layer depth")),
                ("reached_end", _END_ATTRS)]

@@ -23,7 +23,7 @@ from .mixed import (
 
 __all__ = ["describe", "describe_dataset", "BAD_FLAGS"]
 
-BAD_FLAGS = (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING)
+BAD_FLAGS = _cf.UNUSABLE_FLAGS
 
 
 # name -> (units, long_name)
@@ -69,11 +69,11 @@ def _masked(profile, name, flags, include_estimated):
     if name not in profile:
         return None
     v = np.array(profile[name].values, dtype=np.float64, copy=True)
-    bad = set(BAD_FLAGS) | (set() if include_estimated else {_cf.ESTIMATED})
+    bad = _cf.UNUSABLE_FLAGS if include_estimated else _cf.NOT_MEASURED_FLAGS
     for f in flags:
         q = f"{f}_qc"
         if q in profile:
-            v[np.isin(np.asarray(profile[q].values), list(bad))] = np.nan
+            v[np.isin(np.asarray(profile[q].values), bad)] = np.nan
     return v
 
 

@@ -18,6 +18,7 @@ from __future__ import annotations
 import gsw
 import numpy as np
 
+from .. import _cf
 from .._validate import SeaprofileError, as_float_array, is_lazy
 from ._apply import columnwise, output_attrs, pointwise
 
@@ -29,28 +30,9 @@ __all__ = [
     "buoyancy_frequency_squared",
 ]
 
-_ATTRS = {
-    "absolute_salinity": {
-        "standard_name": "sea_water_absolute_salinity",
-        "long_name": "absolute salinity (TEOS-10)",
-        "units": "g kg-1",
-    },
-    "reference_salinity": {
-        "standard_name": "sea_water_reference_salinity",
-        "long_name": "reference salinity (TEOS-10; used when the position is unknown)",
-        "units": "g kg-1",
-    },
-    "potential_density_anomaly": {
-        "standard_name": "sea_water_sigma_theta",
-        "long_name": "potential density anomaly referenced to 0 dbar (sigma0, TEOS-10)",
-        "units": "kg m-3",
-    },
-    "buoyancy_frequency_squared": {
-        "standard_name": "square_of_brunt_vaisala_frequency_in_sea_water",
-        "long_name": "buoyancy frequency squared at pressure mid-points (TEOS-10)",
-        "units": "s-2",
-    },
-}
+_ATTRS = {k: _cf.attrs_for(k) for k in ("absolute_salinity", "reference_salinity",
+                                         "potential_density_anomaly",
+                                         "buoyancy_frequency_squared")}
 
 
 _REFERENCE = "IOC, SCOR & IAPSO (2010), TEOS-10 manual; gsw (McDougall & Barker 2011)"
