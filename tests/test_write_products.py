@@ -70,7 +70,7 @@ def _no_temporary_files(directory):
 
 def test_kinds_are_found_by_attribute_or_layout(cast, profile, fan, arrivals):
     assert [product_kind(d) for d in (cast, profile, fan, arrivals)] == [
-        "cast", "profile", "ray_fan", "arrivals"]
+        "cast", "profile", "ray_fan", "path_table"]
     assert product_kind([cast, cast]) == "cast"
     tagged = fan.copy()
     tagged.attrs["product"] = "ray_fan"
@@ -79,7 +79,7 @@ def test_kinds_are_found_by_attribute_or_layout(cast, profile, fan, arrivals):
     table = xr.Dataset({"travel_time": ("path", [1.0, 1.2]),
                         "path_count": (("receiver_range", "receiver_depth"), [[2]])},
                        coords={"receiver_range": [1500.0], "receiver_depth": [40.0]})
-    assert product_kind(table) == "arrivals"
+    assert product_kind(table) == "path_table"
 
 
 # --- round trips -----------------------------------------------------------------------
@@ -95,7 +95,7 @@ def test_gridded_product_netcdf_round_trip_and_provenance(tmp_path, name, reques
         back = back.load()
     _same_values(back, ds)
     xr.testing.assert_equal(back, ds)
-    kind = {"fan": "ray_fan", "arrivals": "arrivals"}[name]
+    kind = {"fan": "ray_fan", "arrivals": "path_table"}[name]
     assert back.attrs["product"] == kind
     assert back.attrs["caution"] == _cf.CAUTION
     assert back.attrs["seaprofile_version"] == seaprofile.__version__
@@ -110,7 +110,7 @@ def test_gridded_product_netcdf_round_trip_and_provenance(tmp_path, name, reques
 def test_arrivals_json_round_trip(tmp_path, arrivals):
     path = seaprofile.write(arrivals, tmp_path / "arrivals.json")
     doc = json.loads(path.read_text())
-    assert doc["product"] == "arrivals" and doc["caution"] == _cf.CAUTION
+    assert doc["product"] == "path_table" and doc["caution"] == _cf.CAUTION
     back = dataset_from_dict(doc["dataset"])
     _same_values(back, arrivals)
     assert back.attrs["processing_steps"] == arrivals.attrs["processing_steps"]

@@ -1,4 +1,4 @@
-"""One :func:`write` for every product: Casts, Profiles, ray fans, eigenray arrivals, ...
+"""One :func:`write` for every product: Casts, Profiles, ray fans, eigenray path tables, ...
 
 A small registry, :data:`PRODUCTS`, maps a product kind to how it is recognised and which
 writer each file format uses. :func:`write` finds the kind of what it is given (the
@@ -15,11 +15,11 @@ Product kinds
     the plain speed table. Recognised by their one dimension, ``sample`` or ``depth``.
 ``ray_fan``
     :func:`seaprofile.propagation.trace_fan` output (dimensions ``ray`` and ``point``).
-``arrivals``
+``path_table``
     :func:`seaprofile.propagation.eigenrays` output (dimension ``arrival``, or ``path`` in
     the PathTable record; coordinates ``receiver_range`` and ``receiver_depth``).
 
-Gridded products (ray fans, arrivals, and later loss fields and soundings) are written by
+Gridded products (ray fans, path tables, and later loss fields and soundings) are written by
 :func:`write_product_netcdf` (netCDF-4 as the Dataset stands, with the global attributes
 ``product``, ``Conventions``, ``caution``, ``seaprofile_version`` and a ``history`` line
 added: ``xr.open_dataset`` gives the values back) and :func:`write_product_json` (the
@@ -157,7 +157,7 @@ def write(obj, path, format=None, *, overwrite=False, protect=()):
     ----------
     obj : xarray.Dataset or xarray.DataArray, or a list of them
         A Cast, a Profile (a list of either for netCDF and JSON), a ray fan, eigenray
-        arrivals, or any kind registered in :data:`PRODUCTS`.
+        path table, or any kind registered in :data:`PRODUCTS`.
     path : str or pathlib.Path
         Output file.
     format : {"netcdf", "csv", "json", "table"}, optional
@@ -216,7 +216,7 @@ def _global_attrs(attrs, kind, writer):
 
 
 def write_product_netcdf(obj, path, *, overwrite=False):
-    """Write one gridded product (ray fan, arrivals, ...) to netCDF-4, atomically.
+    """Write one gridded product (ray fan, path table, ...) to netCDF-4, atomically.
 
     The variables, coordinates, dtypes and encodings are written as they stand (so that
     ``xr.open_dataset`` gives the same values back); the global attributes gain
@@ -288,9 +288,9 @@ def _is_ray_fan(ds):
     return {"ray", "point"} <= set(ds.dims) and {"range", "depth"} <= set(ds.variables)
 
 
-def _is_arrivals(ds):
-    # one entry per eigenray along ``arrival`` (or ``path``, the PathTable record's name)
-    return bool({"arrival", "path"} & set(ds.dims)) and \
+def _is_path_table(ds):
+    # one entry per eigenray along ``path`` (the PathTable record of eigenrays)
+    return "path" in ds.dims and \
         {"receiver_range", "receiver_depth"} <= set(ds.coords)
 
 
@@ -300,5 +300,5 @@ register_product("profile", description="profile", detect=_is_profile,
                  writers={**_CAST_WRITERS, "table": write_speed_table})
 _GRIDDED = {"netcdf": write_product_netcdf, "json": write_product_json}
 register_product("ray_fan", description="ray fan", detect=_is_ray_fan, writers=_GRIDDED)
-register_product("arrivals", description="set of eigenray arrivals", detect=_is_arrivals,
+register_product("path_table", description="eigenray paths (PathTable)", detect=_is_path_table,
                  writers=_GRIDDED)
