@@ -196,7 +196,8 @@ class Bathymetry:
         if isinstance(value, cls):
             return value
         if np.ndim(value) == 0:
-            return cls.flat(value)
+            return cls([0.0], [_number("bathymetry", "(a flat depth, m)", value,
+                                       positive=True)])
         try:
             r, z = value
         except (TypeError, ValueError) as exc:
