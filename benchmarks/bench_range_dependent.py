@@ -26,8 +26,9 @@ import time
 import numpy as np
 from scipy.integrate import solve_ivp
 
+from seaprofile.propagation import Environment
 from seaprofile.propagation.integrate import trace_fan_integrated
-from seaprofile.propagation.section import Section, environment_from_section
+from seaprofile.propagation.section import Section
 
 N_RAYS = 1000
 MAX_RANGE = 50_000.0
@@ -50,13 +51,13 @@ def scenario():
     sec = Section(ranges, depth, c)
     bathy_r = np.linspace(0.0, MAX_RANGE, 11)
     bathy_z = 4000.0 - 1400.0 * bathy_r / MAX_RANGE + 80.0 * np.sin(bathy_r / 3000.0)
-    return environment_from_section(sec, bathymetry=(bathy_r, bathy_z))
+    return Environment.from_section(sec, bathymetry=(bathy_r, bathy_z))
 
 
 def scipy_trace(env, angle_deg, max_bounces=100):
     """One ray with solve_ivp: events at the surface, bottom and max range; reflect, restart."""
     sec = env.section
-    br, bz = env.bathymetry
+    br, bz = env.bathymetry.ranges, env.bathymetry.depths
 
     def grad(r, z):
         c, cr, cz, crr, crz = sec.gradient_at(r, z)
@@ -121,7 +122,7 @@ def tolerance_table(env):
     sec = env.section
     c0 = sec.sound_speed[0]
     flat = Environment.from_arrays(sec.depth, c0, 4000.0)
-    same = environment_from_section(
+    same = Environment.from_section(
         Section(sec.ranges, sec.depth, np.repeat(c0[None, :], sec.ranges.size, axis=0)),
         4000.0)
     angles = np.linspace(-20.0, 20.0, 201)
@@ -196,7 +197,7 @@ def main():
     ]
     print(f"range-dependent fan: {N_RAYS} rays, {MAX_RANGE / 1000:.0f} km, "
           f"{env.section.ranges.size} casts, {env.section.depth.size} depth nodes, "
-          f"{len(env.bathymetry[0])} bathymetry points")
+          f"{env.bathymetry.ranges.size} bathymetry points")
     print(f"{'case':58s} {'time (s)':>10s} {'x fan':>8s}")
     for name, sec, ratio in rows:
         print(f"{name:58s} {sec:10.3f} {ratio:8.1f}")

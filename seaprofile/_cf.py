@@ -193,6 +193,15 @@ VARIABLES = {
                      "of launch angle",
         "units": "m rad-1",
     },
+    "tube_width": {
+        "long_name": "dynamic-ray q: distance between neighbouring rays per radian "
+                     "of launch angle (sign changes are caustics)",
+        "units": "m rad-1",
+    },
+    "tube_slowness": {"long_name": "dynamic-ray p: rate of change of q along the ray over c",
+                      "units": "s m-1 rad-1"},
+    "grazing_angle": {"long_name": "grazing angle of the reflection (between ray and boundary)",
+                      "units": "degree"},
     "receiver_range_index": {"long_name": "index of the receiver range", "units": "1"},
     "receiver_depth_index": {"long_name": "index of the receiver depth", "units": "1"},
     "spreading_loss": {

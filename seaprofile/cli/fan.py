@@ -144,7 +144,7 @@ def summarise(fan, env, description=""):
             "range_dependent": bool(env.is_range_dependent),
             "casts": 1 if env.section is None else int(env.section.ranges.size),
             "bottom_depth_at_source_m": float(env.bottom_at(0.0)),
-            "bottom": "bathymetry" if env.bathymetry is not None else "flat",
+            "bottom": "flat" if env.bathymetry.is_flat else "bathymetry",
         },
         "source_depth_m": float(fan.attrs.get("source_depth", np.nan)),
         "max_range_m": float(fan.attrs.get("max_range", np.nan)),

@@ -428,7 +428,6 @@ def load_environment(paths, *, bottom_depth=None, bathymetry=None,
     loaded : LoadedInput
     """
     from ..propagation.environment import Environment
-    from ..propagation.section import environment_from_section
 
     if bottom_depth is not None and (not np.isfinite(bottom_depth) or bottom_depth <= 0):
         raise ArgumentError("bottom_depth", f"must be below the surface (> 0 m), got "
@@ -440,7 +439,7 @@ def load_environment(paths, *, bottom_depth=None, bathymetry=None,
     if loaded.section is not None:
         if bottom_depth is None and bathy is None:
             bathy = _section_bottom(loaded)
-        env = environment_from_section(loaded.section, bottom_depth, bathymetry=bathy)
+        env = Environment.from_section(loaded.section, bottom_depth, bathymetry=bathy)
     else:
         if bottom_depth is None and bathy is None:
             bottom_depth = profile_bottom(loaded.profile)

@@ -164,7 +164,7 @@ def _bottom_line(environment, fan, rmax_m):
     r = np.linspace(0.0, rmax_m, 400)
     if environment is not None:
         if environment.bathymetry is not None:
-            br = np.asarray(environment.bathymetry[0], float)
+            br = np.asarray(environment.bathymetry.ranges, float)
             inside = br[(br > 0) & (br < rmax_m)]
             r = np.unique(np.concatenate([r, inside]))
         return r / 1000.0, np.asarray(environment.bottom_at(r), float)

@@ -1,23 +1,28 @@
-"""Acoustic propagation: environment, exact layered ray tracing, ray fans, eigenrays.
+"""Acoustic propagation: environment (field, surface, seabed, bathymetry), exact layered
+ray tracing, ray fans, eigenrays.
 
 Not for navigation on its own: verify results against the governing hydrographic standard,
 local regulations and licensed practice.
 """
 
 from .codes import END_REASONS, POINT_KINDS
-from .environment import Environment, thin_nodes
-from .section import Section, environment_from_section, great_circle_distance, track_ranges
+from .boundaries import Bathymetry, Seabed, Surface
+from .environment import Environment, LayeredSpeed, thin_nodes
+from .section import Section, great_circle_distance, track_ranges
 from .rayfan import rayfan_dataset
 from .integrate import trace_fan_integrated
 from .rays import trace_fan
 from .eigenrays import eigenrays
 
 __all__ = [
+    "Bathymetry",
     "END_REASONS",
     "Environment",
+    "LayeredSpeed",
     "POINT_KINDS",
+    "Seabed",
     "Section",
-    "environment_from_section",
+    "Surface",
     "great_circle_distance",
     "track_ranges",
     "trace_fan_integrated",

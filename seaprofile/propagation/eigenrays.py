@@ -300,7 +300,8 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
                             fan_min_deg=float(a[0]), fan_max_deg=float(a[-1]),
                             layers=int(zn.size - 1))
     attrs.update(title="eigenray paths", source_depth=zs, max_reflections=mr,
-                 bottom_depth=float(environment.bottom_depth), solver="exact_layered")
+                 bottom_depth=float(environment.bottom_depth), solver="exact_layered",
+                 **environment.provenance_attrs())
     return path_table_dataset(
         rr, zr, bk, bj, launch_angle=out_f[:, 0], arrival_angle=out_f[:, 2],
         travel_time=out_f[:, 1], spreading_loss=loss, surface_reflections=out_i[:, 1],

@@ -1,11 +1,23 @@
-"""The acoustic environment: sound speed c(z), sea surface, bottom depth or bathymetry.
+"""The acoustic environment: one sound-speed field, a Surface, a Seabed, a Bathymetry.
 
-An :class:`Environment` is what the ray engine traces through. For the range-independent
-engine the sound speed is **piecewise linear in depth between the nodes** ``depth`` /
-``sound_speed``, so inside each layer the sound-speed gradient is constant and every ray is
-an exact circular arc (see :mod:`seaprofile.propagation.kernels`). The surface (depth 0) is
-flat and pressure-release; the bottom is flat at ``bottom_depth`` or follows ``bathymetry``
-(piecewise linear in range; beyond the last point the last depth holds).
+An :class:`Environment` is what the ray engine traces through: a frozen value holding
+
+* ``speed``: the sound-speed field, either a :class:`LayeredSpeed` (c(z) nodes) or a
+  :class:`~seaprofile.propagation.section.Section` (c(r, z); a pure field that knows
+  nothing of Environment);
+* ``bathymetry``: a :class:`~seaprofile.propagation.boundaries.Bathymetry` (flat or
+  piecewise linear in range; beyond the last point the last depth holds);
+* ``surface``: a :class:`~seaprofile.propagation.boundaries.Surface` (flat, pressure
+  release);
+* ``seabed``: a :class:`~seaprofile.propagation.boundaries.Seabed` (fluid half-space) or
+  None (unknown; the ray tracers do not need it).
+
+Every constructor (``Environment(...)``, :meth:`Environment.from_arrays`,
+:meth:`~Environment.from_profile`, :meth:`~Environment.from_section`) ends in the same
+``__post_init__``, which derives the tracer's c(z) nodes ``depth`` / ``sound_speed`` (the
+field at range 0). For the range-independent engine the sound speed is **piecewise linear
+in depth between these nodes**, so inside each layer the gradient is constant and every ray
+is an exact circular arc (see :mod:`seaprofile.propagation.kernels`).
 
 Choices made here (documented so they can be relied on):
 
@@ -23,23 +35,23 @@ Choices made here (documented so they can be relied on):
   difference as the distance).
 
 The object is immutable (arrays are read-only); :meth:`Environment.replace` makes a changed
-copy. ``section`` is set by :class:`seaprofile.propagation.section.Section` for c(r, z);
-``None`` means range-independent.
+copy. ``section`` is the Section when the field is one, else None (range-independent c(z)).
 """
 
 from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
 
 import numba
 import numpy as np
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
+from .boundaries import Bathymetry, Seabed, Surface
+from .section import Section
 
-__all__ = ["Environment", "thin_nodes", "BAD_SOUND_SPEED_FLAGS"]
-
-#: Argo flags whose sound speeds are not used (probably bad, bad, missing). Flags 5
-#: (value changed) and 8 (estimated, e.g. a profile extended to the bottom) are kept.
-BAD_SOUND_SPEED_FLAGS = (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING)
+__all__ = ["Bathymetry", "Environment", "LayeredSpeed", "Seabed", "Surface", "thin_nodes"]
 
 
 @numba.njit(cache=True)
@@ -119,156 +131,200 @@ def _readonly(a):
     return a
 
 
-class Environment:
-    """Sound speed c(z) (or c(r, z) through ``section``), flat surface, bottom.
+def _check_nodes(depth, sound_speed):
+    """Validated float copies of c(z) nodes; messages name ``depth`` / ``sound_speed``."""
+    z = as_float_array("depth", depth).ravel()
+    c = as_float_array("sound_speed", sound_speed).ravel()
+    if z.size != c.size:
+        raise SeaprofileError(
+            f"depth and sound_speed must have the same length, got {z.size} and {c.size}"
+        )
+    if z.size < 2:
+        raise SeaprofileError(f"depth needs at least two nodes, got {z.size}")
+    if not np.all(np.isfinite(z)):
+        raise SeaprofileError("depth contains NaN or infinite values")
+    if not np.all(np.isfinite(c)):
+        raise SeaprofileError("sound_speed contains NaN or infinite values")
+    if np.any(c <= 0):
+        raise SeaprofileError("sound_speed must be positive (m/s)")
+    if np.any(np.diff(z) <= 0):
+        raise SeaprofileError("depth must be strictly increasing (m, positive down)")
+    if z[0] < 0:
+        raise SeaprofileError(f"depth must start at or below the surface (0 m), got {z[0]:g}")
+    return z, c
+
+
+@dataclass(frozen=True, eq=False)
+class LayeredSpeed:
+    """Range-independent sound speed c(z): nodes, piecewise linear in depth between them.
 
     Parameters
     ----------
     depth : array_like
-        Node depths, m, positive down, strictly increasing (at least two nodes). If the
-        first node is below 0 a node at 0 with the first speed is added; if the last node
-        is above the (deepest) bottom a node at the bottom with the last speed is added.
+        Node depths, m, positive down, finite, strictly increasing, >= 0 (at least two).
     sound_speed : array_like
-        Sound speed at the nodes, m/s; piecewise linear in depth between them.
-    bottom_depth : float, optional
-        Flat bottom depth, m (> 0). Default: the bathymetry depth at range 0 when
-        ``bathymetry`` is given, else the deepest node.
-    bathymetry : (array_like, array_like), optional
-        ``(ranges, depths)``: bottom depth (m) at ranges (m, strictly increasing),
-        piecewise linear; the end depths hold outside the given ranges.
-    bottom_type : str
-        Bottom sediment name, carried for the loss computations (default ``"sand"``).
-    section : Section, optional
-        Range-dependent sound speed (set by :class:`~seaprofile.propagation.section.Section`).
-    thin_tolerance : float, optional
-        Thin the nodes to this tolerance, m/s (see :func:`thin_nodes`). ``None``: keep all.
+        Sound speed at the nodes, m/s (finite, > 0).
+
+    Stored as read-only copies. :meth:`thinned` gives the thinned nodes (see
+    :func:`thin_nodes`).
+    """
+
+    depth: np.ndarray
+    sound_speed: np.ndarray
+
+    def __post_init__(self):
+        z, c = _check_nodes(self.depth, self.sound_speed)
+        object.__setattr__(self, "depth", _readonly(z))
+        object.__setattr__(self, "sound_speed", _readonly(c))
+
+    def thinned(self, tolerance):
+        """The fewest nodes within ``tolerance`` (m/s) of these (:func:`thin_nodes`)."""
+        return LayeredSpeed(*thin_nodes(self.depth, self.sound_speed, tolerance))
+
+    def sound_speed_at(self, depth):
+        """Sound speed at ``depth`` (m), m/s: linear between nodes, end values held."""
+        return np.interp(as_float_array("depth", depth), self.depth, self.sound_speed)
+
+
+@dataclass(frozen=True, eq=False, repr=False)
+class Environment:
+    """Sound-speed field, sea surface, seabed and bottom depth: what rays are traced in.
+
+    Parameters
+    ----------
+    speed : LayeredSpeed or Section
+        The sound-speed field: c(z) nodes, or c(r, z) of a
+        :class:`~seaprofile.propagation.section.Section`.
+    bathymetry : Bathymetry, float or (array_like, array_like)
+        Bottom depth: a :class:`Bathymetry`, a flat depth (m, > 0) or ``(ranges, depths)``
+        (m, m).
+    surface : Surface
+        The sea surface (default: smooth, pressure release).
+    seabed : Seabed or None
+        The fluid half-space below the bottom; None when unknown (the ray tracers do not
+        read it; the loss computations will). A sediment name string is not accepted.
     attrs : dict, optional
         Provenance attributes (``processing_steps``, ``history``, ``profile_id`` ...).
+
+    Attributes
+    ----------
+    depth, sound_speed : ndarray
+        The tracer's c(z) nodes (m, m/s; read-only): the field at range 0, extended to the
+        surface with the first speed and to the deepest bottom with the last speed.
 
     Raises
     ------
     SeaprofileError
-        Fewer than two nodes, NaN, non-increasing depths, bathymetry ranges not strictly
-        increasing, bottom at or above the surface; the message names the argument.
+        Bad nodes, bathymetry, surface or seabed; the message names the argument.
+
+    Notes
+    -----
+    Build it with :meth:`from_arrays`, :meth:`from_profile` or :meth:`from_section` (which
+    also thin nodes, take a ``bottom_depth`` and record provenance) or directly; all end in
+    the same validation and node derivation.
     """
 
-    __slots__ = (
-        "depth",
-        "sound_speed",
-        "bottom_depth",
-        "bathymetry",
-        "bottom_type",
-        "section",
-        "attrs",
-        "_frozen",
-    )
+    speed: object
+    bathymetry: Bathymetry
+    surface: Surface = field(default_factory=Surface)
+    seabed: Seabed | None = None
+    attrs: dict | None = None
+    depth: np.ndarray = field(init=False)
+    sound_speed: np.ndarray = field(init=False)
 
-    def __init__(
-        self,
-        depth,
-        sound_speed,
-        bottom_depth=None,
-        *,
-        bathymetry=None,
-        bottom_type="sand",
-        section=None,
-        thin_tolerance=None,
-        attrs=None,
-    ):
-        z = as_float_array("depth", depth).ravel()
-        c = as_float_array("sound_speed", sound_speed).ravel()
-        if z.size != c.size:
-            raise SeaprofileError(
-                f"depth and sound_speed must have the same length, got {z.size} and {c.size}"
-            )
-        if z.size < 2:
-            raise SeaprofileError(f"depth needs at least two nodes, got {z.size}")
-        if not np.all(np.isfinite(z)):
-            raise SeaprofileError("depth contains NaN or infinite values")
-        if not np.all(np.isfinite(c)):
-            raise SeaprofileError("sound_speed contains NaN or infinite values")
-        if np.any(c <= 0):
-            raise SeaprofileError("sound_speed must be positive (m/s)")
-        if np.any(np.diff(z) <= 0):
-            raise SeaprofileError("depth must be strictly increasing (m, positive down)")
-        if z[0] < 0:
-            raise SeaprofileError(f"depth must start at or below the surface (0 m), got {z[0]:g}")
-
-        bathy = None
-        if bathymetry is not None:
-            try:
-                br, bz = bathymetry
-            except (TypeError, ValueError) as exc:
-                raise SeaprofileError("bathymetry must be a pair (ranges, depths)") from exc
-            br = as_float_array("bathymetry", br).ravel()
-            bz = as_float_array("bathymetry", bz).ravel()
-            if br.size != bz.size or br.size < 1:
-                raise SeaprofileError("bathymetry ranges and depths must have one equal, non-zero length")
-            if not (np.all(np.isfinite(br)) and np.all(np.isfinite(bz))):
-                raise SeaprofileError("bathymetry contains NaN or infinite values")
-            if np.any(np.diff(br) <= 0):
-                raise SeaprofileError("bathymetry ranges must be strictly increasing (m)")
-            if np.any(bz <= 0):
-                raise SeaprofileError("bathymetry depths must be below the surface (> 0 m)")
-            bathy = (_readonly(br), _readonly(bz))
-
-        if bottom_depth is None:
-            if bathy is not None:
-                bottom = float(np.interp(0.0, bathy[0], bathy[1]))
-            else:
-                bottom = float(z[-1])
+    def __post_init__(self):
+        speed = self.speed
+        if isinstance(speed, LayeredSpeed):
+            z, c = speed.depth, speed.sound_speed
+        elif isinstance(speed, Section):
+            c0 = speed.sound_speed_at(np.zeros_like(speed.depth), speed.depth)
+            z, c = _check_nodes(speed.depth, c0)
         else:
-            try:
-                bottom = float(bottom_depth)
-            except (TypeError, ValueError) as exc:
-                raise SeaprofileError(f"bottom_depth must be a number (m), got {bottom_depth!r}") from exc
-        if not np.isfinite(bottom) or bottom <= 0:
-            raise SeaprofileError(f"bottom_depth must be below the surface (> 0 m), got {bottom_depth!r}")
-        if bathy is not None and np.all(bathy[1] == bathy[1][0]):
-            if bottom_depth is not None and bottom != float(bathy[1][0]):
-                raise SeaprofileError(
-                    f"bottom_depth {bottom:g} m contradicts the flat bathymetry at {bathy[1][0]:g} m"
-                )
-            bottom = float(bathy[1][0])
-
-        steps_attrs = dict(attrs) if attrs else _cf.base_attrs()
-        n_in = z.size
-        if thin_tolerance is not None:
-            z, c = thin_nodes(z, c, thin_tolerance)
-            steps_attrs = _cf.record_step(
-                steps_attrs, "thin_nodes", tolerance_m_s=float(thin_tolerance),
-                nodes_in=int(n_in), nodes_kept=int(z.size),
-            )
+            raise SeaprofileError(
+                f"speed must be a LayeredSpeed or a Section, got {type(speed).__name__}")
+        bathy = Bathymetry.coerce(self.bathymetry)
+        if not isinstance(self.surface, Surface):
+            raise SeaprofileError(f"surface must be a Surface, got {self.surface!r}")
+        if isinstance(self.seabed, str):
+            raise SeaprofileError(
+                f"seabed must be a Seabed or None, got the name {self.seabed!r}: no table of "
+                "named sediments is built in; give Seabed(sound_speed=..., density=..., "
+                "attenuation=..., name=...) with the values of the site")
+        if self.seabed is not None and not isinstance(self.seabed, Seabed):
+            raise SeaprofileError(f"seabed must be a Seabed or None, got {self.seabed!r}")
         if z[0] > 0:
             z = np.concatenate([[0.0], z])
             c = np.concatenate([[c[0]], c])
-        deepest = max(bottom, float(bathy[1].max()) if bathy is not None else bottom)
+        deepest = bathy.deepest
         if z[-1] < deepest:
             z = np.concatenate([z, [deepest]])
             c = np.concatenate([c, [c[-1]]])
-
+        object.__setattr__(self, "bathymetry", bathy)
+        object.__setattr__(self, "attrs", dict(self.attrs) if self.attrs else _cf.base_attrs())
         object.__setattr__(self, "depth", _readonly(z))
         object.__setattr__(self, "sound_speed", _readonly(c))
-        object.__setattr__(self, "bottom_depth", bottom)
-        object.__setattr__(self, "bathymetry", bathy)
-        object.__setattr__(self, "bottom_type", str(bottom_type))
-        object.__setattr__(self, "section", section)
-        object.__setattr__(self, "attrs", steps_attrs)
-        object.__setattr__(self, "_frozen", True)
-
-    def __setattr__(self, name, value):
-        raise AttributeError("Environment is immutable; use .replace(...)")
 
     # -- constructors ------------------------------------------------------------------
     @classmethod
-    def from_arrays(cls, depth, sound_speed, bottom_depth=None, *, bathymetry=None,
-                    thin_tolerance=None, bottom_type="sand"):
-        """Environment from node arrays (see the class for the parameters and units)."""
-        return cls(depth, sound_speed, bottom_depth, bathymetry=bathymetry,
-                   thin_tolerance=thin_tolerance, bottom_type=bottom_type)
+    def _assemble(cls, speed, bottom_depth, bathymetry, surface, seabed, thin_tolerance,
+                  attrs):
+        """The one path of the classmethods: bottom, thinning, provenance, then ``cls``."""
+        if bottom_depth is not None:
+            try:
+                bottom = float(bottom_depth)
+            except (TypeError, ValueError) as exc:
+                raise SeaprofileError(
+                    f"bottom_depth must be a number (m), got {bottom_depth!r}") from exc
+            if not np.isfinite(bottom) or bottom <= 0:
+                raise SeaprofileError(
+                    f"bottom_depth must be below the surface (> 0 m), got {bottom_depth!r}")
+        if bathymetry is not None:
+            bathy = Bathymetry.coerce(bathymetry)
+            at0 = float(bathy.depth_at(0.0))
+            if bottom_depth is not None and bottom != at0:
+                raise SeaprofileError(
+                    f"bottom_depth {bottom:g} m contradicts the bathymetry at range 0 "
+                    f"({at0:g} m); give one of them")
+        else:
+            bathy = Bathymetry.flat(float(speed.depth[-1]) if bottom_depth is None else bottom)
+        attrs = dict(attrs) if attrs else _cf.base_attrs()
+        if thin_tolerance is not None:
+            n_in = speed.depth.size
+            speed = speed.thinned(thin_tolerance)
+            attrs = _cf.record_step(
+                attrs, "thin_nodes", tolerance_m_s=float(thin_tolerance),
+                nodes_in=int(n_in), nodes_kept=int(speed.depth.size),
+            )
+        return cls(speed, bathy, Surface() if surface is None else surface, seabed, attrs)
 
     @classmethod
-    def from_section(cls, section, bottom_depth=None, *, bathymetry=None, bottom_type="sand"):
+    def from_arrays(cls, depth, sound_speed, bottom_depth=None, *, bathymetry=None,
+                    thin_tolerance=None, surface=None, seabed=None):
+        """Environment from c(z) node arrays.
+
+        Parameters
+        ----------
+        depth, sound_speed : array_like
+            Node depths (m, strictly increasing, >= 0) and sound speeds (m/s).
+        bottom_depth : float, optional
+            Flat bottom depth, m (> 0). Default: the bathymetry at range 0 when
+            ``bathymetry`` is given (which must agree with ``bottom_depth`` at range 0 when
+            both are given), else the deepest node.
+        bathymetry : Bathymetry or (array_like, array_like), optional
+            Bottom depth (m) at ranges (m), piecewise linear.
+        thin_tolerance : float, optional
+            Thin the nodes to this tolerance, m/s (see :func:`thin_nodes`). None: keep all.
+        surface : Surface, optional
+            Default: smooth pressure release.
+        seabed : Seabed, optional
+            The fluid half-space below the bottom; default None (unknown).
+        """
+        return cls._assemble(LayeredSpeed(depth, sound_speed), bottom_depth, bathymetry,
+                             surface, seabed, thin_tolerance, None)
+
+    @classmethod
+    def from_section(cls, section, bottom_depth=None, *, bathymetry=None, surface=None,
+                     seabed=None):
         """An Environment whose sound speed is a :class:`~seaprofile.propagation.Section`.
 
         Parameters
@@ -277,32 +333,27 @@ class Environment:
             The range-dependent sound speed.
         bottom_depth : float, optional
             Flat bottom depth, m. Default: the bathymetry at range 0, else the deepest node.
-        bathymetry : (array_like, array_like), optional
-            ``(ranges, depths)`` in m, piecewise linear in range.
-        bottom_type : str
-            Bottom sediment name (carried for the loss computations).
+        bathymetry : Bathymetry or (array_like, array_like), optional
+            Bottom depth (m) at ranges (m), piecewise linear in range.
+        surface, seabed
+            As for :meth:`from_arrays`.
 
         Returns
         -------
         Environment
-            Its own c(z) (``depth``, ``sound_speed``) is the section at range 0; ray
+            Its c(z) nodes (``depth``, ``sound_speed``) are the section at range 0; ray
             tracing uses the whole section (``environment.section``).
         """
-        # the section module builds on this one, never the reverse (no import circle):
-        # a Section is recognised by what it provides
-        if not all(hasattr(section, k) for k in ("ranges", "depth", "sound_speed_at",
-                                                 "range_interpolation", "attrs", "_coef")):
+        if not isinstance(section, Section):
             raise SeaprofileError("section must be a seaprofile Section")
-        c0 = section.sound_speed_at(np.zeros_like(section.depth), section.depth)
         attrs = _cf.record_step(dict(section.attrs), "environment_from_section",
                                 casts=int(section.ranges.size),
                                 range_interpolation=section.range_interpolation)
-        return cls(section.depth, c0, bottom_depth, bathymetry=bathymetry,
-                   bottom_type=bottom_type, section=section, attrs=attrs)
+        return cls._assemble(section, bottom_depth, bathymetry, surface, seabed, None, attrs)
 
     @classmethod
     def from_profile(cls, profile, bottom_depth=None, *, thin_tolerance=None,
-                     bathymetry=None, bottom_type="sand"):
+                     bathymetry=None, surface=None, seabed=None):
         """Environment from a Profile Dataset (or any mapping with ``depth``, ``sound_speed``).
 
         Parameters
@@ -310,13 +361,14 @@ class Environment:
         profile : xr.Dataset or mapping
             ``profile["depth"]`` (m) and ``profile["sound_speed"]`` (m/s); if
             ``sound_speed_qc`` is present, nodes flagged 3 (probably bad), 4 (bad) or
-            9 (missing) are left out; NaN speeds are left out.
+            9 (missing) (:data:`seaprofile._cf.UNUSABLE_FLAGS`) are left out; NaN speeds
+            are left out.
         bottom_depth : float, optional
             Bottom depth, m. Default: the deepest usable node.
         thin_tolerance : float, optional
             Thin the nodes to this tolerance, m/s.
-        bathymetry, bottom_type
-            As for the class.
+        bathymetry, surface, seabed
+            As for :meth:`from_arrays`.
         """
         try:
             z = as_float_array("profile['depth']", np.asarray(profile["depth"])).ravel()
@@ -331,7 +383,7 @@ class Environment:
         except TypeError:
             qc = None
         if qc is not None and qc.size == c.size:
-            use &= ~np.isin(qc, BAD_SOUND_SPEED_FLAGS)
+            use &= ~np.isin(qc, _cf.UNUSABLE_FLAGS)
         if use.sum() < 2:
             raise SeaprofileError("profile has fewer than two usable sound-speed nodes")
         attrs = dict(getattr(profile, "attrs", {}) or {}) or _cf.base_attrs()
@@ -344,27 +396,29 @@ class Environment:
             pid = None
         if pid:
             attrs["profile_id"] = pid
-        return cls(z[use], c[use], bottom_depth, bathymetry=bathymetry,
-                   thin_tolerance=thin_tolerance, bottom_type=bottom_type, attrs=attrs)
+        return cls._assemble(LayeredSpeed(z[use], c[use]), bottom_depth, bathymetry, surface,
+                             seabed, thin_tolerance, attrs)
 
     def replace(self, **changes):
-        """A copy with some constructor arguments changed (``section=...``, ``bottom_depth=...``)."""
-        args = dict(depth=self.depth, sound_speed=self.sound_speed,
-                    bottom_depth=self.bottom_depth, bathymetry=self.bathymetry,
-                    bottom_type=self.bottom_type, section=self.section, attrs=self.attrs)
-        args.update(changes)
-        return Environment(args.pop("depth"), args.pop("sound_speed"), args.pop("bottom_depth"), **args)
+        """A copy with some of ``speed``, ``bathymetry``, ``surface``, ``seabed``, ``attrs``
+        changed (validated again)."""
+        return dataclasses.replace(self, **changes)
 
     # -- properties --------------------------------------------------------------------
     @property
+    def section(self):
+        """The Section when the sound-speed field is one, else None."""
+        return self.speed if isinstance(self.speed, Section) else None
+
+    @property
+    def bottom_depth(self):
+        """Bottom depth at range 0, m."""
+        return float(self.bathymetry.depth_at(0.0))
+
+    @property
     def is_range_dependent(self):
-        """True when a section is attached or the bathymetry is not flat."""
-        if self.section is not None:
-            return True
-        if self.bathymetry is not None:
-            d = self.bathymetry[1]
-            return bool(np.any(d != d[0]))
-        return False
+        """True when the field is a Section or the bathymetry is not flat."""
+        return self.section is not None or not self.bathymetry.is_flat
 
     @property
     def gradient(self):
@@ -377,10 +431,7 @@ class Environment:
 
     def bottom_at(self, ranges):
         """Bottom depth (m) at ``ranges`` (m)."""
-        r = as_float_array("ranges", ranges)
-        if self.bathymetry is None:
-            return np.full(r.shape, self.bottom_depth)
-        return np.interp(r, self.bathymetry[0], self.bathymetry[1])
+        return self.bathymetry.depth_at(ranges)
 
     def layers(self):
         """Node depths and speeds cut at the flat bottom: the tracer's layer grid.
@@ -397,8 +448,14 @@ class Environment:
         cc = np.concatenate([c[inside], [float(np.interp(d, z, c))]])
         return zc, cc
 
+    def provenance_attrs(self):
+        """Flat attributes recording the surface, the seabed and a bathymetry summary."""
+        return {**self.surface.to_attrs(), **Seabed.attrs_of(self.seabed),
+                **self.bathymetry.to_attrs()}
+
     def __repr__(self):
         kind = "range-dependent" if self.is_range_dependent else "range-independent"
+        seabed = "seabed unknown" if self.seabed is None else f"seabed {self.seabed.name!r}"
         return (f"<Environment {kind}: {self.depth.size} nodes 0..{self.depth[-1]:g} m, "
                 f"c {self.sound_speed.min():.2f}..{self.sound_speed.max():.2f} m/s, "
-                f"bottom {self.bottom_depth:g} m ({self.bottom_type})>")
+                f"bottom {self.bottom_depth:g} m, {seabed}>")

@@ -144,11 +144,9 @@ def _medium_of(environment):
     if section is None:
         section = Section([0.0], environment.depth, np.asarray(environment.sound_speed)[None, :],
                           range_interpolation="linear")
-    if environment.bathymetry is not None:
-        br, bz = environment.bathymetry
-    else:
-        br, bz = np.array([0.0]), np.array([float(environment.bottom_depth)])
-    return section._coef, section._ref, section._edges, section.depth, br, bz
+    bathymetry = environment.bathymetry
+    return (section._coef, section._ref, section._edges, section.depth, bathymetry.ranges,
+            bathymetry.depths)
 
 
 def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_step=None,
@@ -161,8 +159,7 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
         Sound speed c(r, z) from ``environment.section`` (a
         :class:`~seaprofile.propagation.section.Section`; else the range-independent c(z)
         of the environment), flat pressure-release surface, bottom from
-        ``environment.bathymetry`` (piecewise linear in range; m) or the flat
-        ``bottom_depth`` (m).
+        ``environment.bathymetry`` (a Bathymetry: flat or piecewise linear in range; m).
     source_depth : float
         Source depth, m (0 .. bottom at range 0), at range 0.
     angles : array_like

@@ -24,10 +24,13 @@ numerical range-dependent integrator, :mod:`.integrate`; build it with
   (int32, ``ray``): counts along the whole ray;
 * ``end_reason`` (int8, ``ray``) with ``flag_values`` / ``flag_meanings``
   (:data:`END_REASONS`);
-* attributes: ``source_depth`` (m), ``max_range`` (m), ``max_bounces``, ``bottom_depth``
-  (m), ``solver`` (``"exact_layered"`` or ``"integrated"``), ``range_step`` (m, or absent
-  when every event point is kept), the global attributes of ``_cf.base_attrs`` and the
-  provenance of the environment plus this step.
+* attributes: ``product="ray_fan"``, ``source_depth`` (m), ``max_range`` (m),
+  ``max_bounces``, ``bottom_depth`` (m, at range 0), ``solver`` (``"exact_layered"`` or
+  ``"integrated"``), ``range_step`` (m, or absent when every event point is kept), the
+  environment (``surface_*``, ``seabed_*``, ``bathymetry_*``:
+  :meth:`Environment.provenance_attrs <.environment.Environment.provenance_attrs>`; read
+  back with ``Surface.from_attrs`` / ``Seabed.from_attrs``), the global attributes of
+  ``_cf.base_attrs`` and the provenance of the environment plus this step.
 """
 
 from __future__ import annotations
@@ -125,34 +128,24 @@ def rayfan_dataset(
         "range": (dims, np.asarray(range_, dtype=np.float64), _cf.attrs_for("range")),
         "depth": (dims, np.asarray(depth, dtype=np.float64), _cf.attrs_for("depth")),
         "travel_time": (dims, np.asarray(travel_time, dtype=np.float64), _cf.attrs_for("travel_time")),
-        "angle": (dims, np.asarray(angle, dtype=np.float64), {
-            "long_name": "ray angle from horizontal, positive toward the bottom",
-            "units": "degree"}),
+        "angle": (dims, np.asarray(angle, dtype=np.float64), _cf.attrs_for("angle")),
         "point_count": ("ray", np.asarray(point_count, dtype=np.int32),
-                        {"long_name": "number of valid points along the ray", "units": "1"}),
+                        _cf.attrs_for("point_count")),
         "surface_reflections": ("ray", np.asarray(surface_reflections, dtype=np.int32),
-                                {"long_name": "number of surface reflections", "units": "1"}),
+                                _cf.attrs_for("surface_reflections")),
         "bottom_reflections": ("ray", np.asarray(bottom_reflections, dtype=np.int32),
-                               {"long_name": "number of bottom reflections", "units": "1"}),
+                               _cf.attrs_for("bottom_reflections")),
         "turning_points": ("ray", np.asarray(turning_points, dtype=np.int32),
-                           {"long_name": "number of refracted turning points", "units": "1"}),
+                           _cf.attrs_for("turning_points")),
         "caustics": ("ray", np.asarray(zero if caustics is None else caustics, dtype=np.int32),
-                     {"long_name": "number of caustics passed (ray-tube width changes sign)",
-                      "units": "1"}),
+                     _cf.attrs_for("caustics")),
         "end_reason": ("ray", np.asarray(end_reason, dtype=np.int8),
                        _flag_attrs(END_REASONS, "how the ray ended")),
     }
-    for name, v, attrs in (
-            ("sound_speed", sound_speed, _cf.attrs_for("sound_speed")),
-            ("tube_width", tube_width, {
-                "long_name": "dynamic-ray q: distance between neighbouring rays per radian "
-                             "of launch angle (sign changes are caustics)",
-                "units": "m rad-1"}),
-            ("tube_slowness", tube_slowness, {
-                "long_name": "dynamic-ray p: rate of change of q along the ray over c",
-                "units": "s m-1 rad-1"})):
+    for name, v in (("sound_speed", sound_speed), ("tube_width", tube_width),
+                    ("tube_slowness", tube_slowness)):
         v = np.full((nray, npt), np.nan) if v is None else np.asarray(v, dtype=np.float64)
-        data[name] = (dims, v, attrs)
+        data[name] = (dims, v, _cf.attrs_for(name))
     if reflections is None:
         reflections = (np.full((nray, 0), NO_REFLECTION, dtype=np.int8),
                        np.full((nray, 0), np.nan), np.full((nray, 0), np.nan))
@@ -162,9 +155,8 @@ def rayfan_dataset(
         "boundary of the reflection"))
     data["reflection_range"] = (rdims, np.asarray(reflections[1], dtype=np.float64),
                                 _cf.attrs_for("range", long_name="range of the reflection"))
-    data["grazing_angle"] = (rdims, np.asarray(reflections[2], dtype=np.float64), {
-        "long_name": "grazing angle of the reflection (between ray and boundary)",
-        "units": "degree"})
+    data["grazing_angle"] = (rdims, np.asarray(reflections[2], dtype=np.float64),
+                             _cf.attrs_for("grazing_angle"))
     if point_kind is None:
         point_kind = np.where(np.isfinite(np.asarray(depth)), RANGE_SAMPLE, NO_POINT)
     # -1 (padding) is an ordinary documented code, not a _FillValue: a declared fill value
@@ -174,9 +166,8 @@ def rayfan_dataset(
                           _flag_attrs({NO_POINT: PADDING, **POINT_KINDS},
                                       "what happens at the path point"))
     coords = {
-        "launch_angle": ("ray", np.asarray(launch_angle, dtype=np.float64), {
-            "long_name": "launch angle from horizontal, positive toward the bottom",
-            "units": "degree"}),
+        "launch_angle": ("ray", np.asarray(launch_angle, dtype=np.float64),
+                         _cf.attrs_for("launch_angle")),
     }
     attrs = dict(getattr(environment, "attrs", None) or _cf.base_attrs())
     attrs.update(_cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs}))
@@ -188,12 +179,13 @@ def rayfan_dataset(
     attrs = _cf.record_step(attrs, "trace_fan", **params)
     attrs.update(
         title="ray fan",
+        product="ray_fan",
         source_depth=float(source_depth),
         max_range=float(max_range),
         max_bounces=int(max_bounces),
         bottom_depth=float(environment.bottom_depth),
-        bottom_type=str(environment.bottom_type),
         solver=solver,
+        **environment.provenance_attrs(),
     )
     if range_step is not None:
         attrs["range_step"] = float(range_step)

@@ -30,6 +30,9 @@ of the IUGG mean Earth radius R1 = 6 371 008.8 m (Moritz 2000, "Geodetic Referen
 cast to cast along the track. The sphere differs from the WGS 84 ellipsoid by up to about
 0.5 % of the distance; that is well inside the uncertainty of where a sound-speed field is
 known between casts, but it is not survey-grade geodesy.
+
+A Section is a pure field: it knows nothing of the Environment (which takes one with
+:meth:`Environment.from_section <seaprofile.propagation.environment.Environment.from_section>`).
 """
 
 from __future__ import annotations
@@ -40,13 +43,11 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
-from .environment import Environment
 
 __all__ = [
     "EARTH_MEAN_RADIUS",
     "RANGE_INTERPOLATIONS",
     "Section",
-    "environment_from_section",
     "great_circle_distance",
     "track_ranges",
 ]
@@ -498,14 +499,3 @@ class Section:
 
 range_ = range  # the builtin, shadowed by an argument name in gradient_at
 
-
-def environment_from_section(section, bottom_depth=None, *, bathymetry=None, bottom_type="sand"):
-    """An :class:`~seaprofile.propagation.environment.Environment` carrying ``section``.
-
-    Same as :meth:`Environment.from_section <seaprofile.propagation.environment.Environment.from_section>`
-    (bottom depth m; bathymetry ``(ranges m, depths m)``), which documents the parameters.
-    """
-    if not isinstance(section, Section):
-        raise SeaprofileError("section must be a seaprofile Section")
-    return Environment.from_section(section, bottom_depth, bathymetry=bathymetry,
-                                    bottom_type=bottom_type)

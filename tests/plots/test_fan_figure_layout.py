@@ -13,7 +13,7 @@ from seaprofile.casts.read import read_casts
 from seaprofile.plots.rays import ANGLE_CMAP, REFLECTION_MAP, boundary_reflections, plot_fan
 from seaprofile.propagation import Environment, trace_fan
 from seaprofile.profile import build_profile
-from seaprofile.propagation.section import Section, environment_from_section
+from seaprofile.propagation.section import Section
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_casts"
 
@@ -46,7 +46,7 @@ def section_fan():
     # a shelf section: every ray is reflected many times over 30 km in 200 m of water
     sec = Section([0.0, 10_000.0, 20_000.0], [0.0, 40.0, 200.0],
                   [[1512, 1500, 1497], [1510, 1499, 1497], [1508, 1498, 1497]])
-    env = environment_from_section(sec, 200.0)
+    env = Environment.from_section(sec, 200.0)
     return env, trace_fan(env, 30.0, np.linspace(-10, 10, 31), 30_000.0)
 
 

@@ -15,7 +15,7 @@ from seaprofile.plots.arrivals import PATH_KINDS, path_kind, plot_arrivals
 from seaprofile.plots.rays import (MAX_REFLECTION_BINS, boundary_reflections, plot_fan,
                                    ray_segments, reflection_bins)
 from seaprofile.propagation import Environment, trace_fan
-from seaprofile.propagation.section import Section, environment_from_section
+from seaprofile.propagation.section import Section
 
 
 # --- fakes with the documented layouts ----------------------------------------------------
@@ -188,7 +188,7 @@ def test_ten_thousand_rays_form_one_collection():
 def test_section_casts_marked_and_profiles_drawn():
     sec = Section([0.0, 4000.0, 8000.0], [0.0, 100.0, 200.0],
                   [[1500, 1490, 1495], [1502, 1491, 1495], [1504, 1492, 1495]])
-    env = environment_from_section(sec, 200.0)
+    env = Environment.from_section(sec, 200.0)
     fig = plot_fan(fake_fan(), env)
     (prof,) = [a for a in fig.axes if a.get_xlabel() == "sound speed (m/s)"]
     assert len([ln for ln in prof.lines if len(ln.get_xdata()) == 3]) == 3

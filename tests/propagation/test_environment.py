@@ -8,7 +8,7 @@ from hypothesis import strategies as st
 
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
-from seaprofile.propagation import Environment, thin_nodes
+from seaprofile.propagation import Environment, Section, thin_nodes
 
 
 def test_extends_to_surface_and_bottom_with_constant_speed():
@@ -65,7 +65,8 @@ def test_bathymetry_range_dependence():
     assert slope.is_range_dependent and slope.bottom_depth == 80.0
     assert slope.depth[-1] == 120.0  # nodes reach the deepest bottom
     np.testing.assert_allclose(slope.bottom_at([500.0, 5000.0]), [100.0, 120.0])
-    assert Environment.from_arrays([0, 100], [1500, 1500]).replace(section=object()).is_range_dependent
+    uniform = Section([0.0], [0.0, 100.0], [[1500.0, 1500.0]])
+    assert Environment.from_arrays([0, 100], [1500, 1500]).replace(speed=uniform).is_range_dependent
 
 
 def test_from_profile_skips_bad_flags_and_nan():

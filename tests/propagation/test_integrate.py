@@ -11,7 +11,7 @@ from seaprofile.propagation import integrate
 from seaprofile.propagation.environment import Environment
 from seaprofile.propagation.integrate import trace_fan_integrated
 from seaprofile.propagation.rays import trace_fan
-from seaprofile.propagation.section import Section, environment_from_section
+from seaprofile.propagation.section import Section
 
 # a layered deep-water profile (Munk 1974 canonical form, sampled on 41 nodes)
 Z = np.linspace(0.0, 4000.0, 41)
@@ -26,7 +26,7 @@ def _ends(fan, name):
 
 def _isovelocity(bathymetry, c=1500.0, bottom=None):
     sec = Section([0.0], [0.0, 5000.0], [[c, c]])
-    return environment_from_section(sec, bottom, bathymetry=bathymetry)
+    return Environment.from_section(sec, bottom, bathymetry=bathymetry)
 
 
 def test_tableau_is_the_scipy_dormand_prince_pair():
@@ -40,7 +40,7 @@ def test_tableau_is_the_scipy_dormand_prince_pair():
 def test_identical_casts_reproduce_the_exact_layered_solver():
     exact_env = Environment.from_arrays(Z, C, 4000.0)
     sec = Section([0.0, 15000.0, 30000.0, 50000.0], Z, np.repeat(C[None], 4, axis=0))
-    env = environment_from_section(sec, 4000.0)
+    env = Environment.from_section(sec, 4000.0)
     angles = np.linspace(-15.0, 15.0, 31)
     exact = trace_fan(exact_env, 1000.0, angles, 50000.0)
     fan = trace_fan(env, 1000.0, angles, 50000.0)  # dispatches to the integrator
@@ -59,7 +59,7 @@ def test_identical_casts_reproduce_the_exact_layered_solver():
 
 def test_identical_casts_sampled_in_range_match_the_exact_samples():
     exact_env = Environment.from_arrays(Z, C, 4000.0)
-    env = environment_from_section(Section([0.0, 20000.0], Z, np.vstack([C, C])), 4000.0)
+    env = Environment.from_section(Section([0.0, 20000.0], Z, np.vstack([C, C])), 4000.0)
     angles = np.array([-12.0, -4.0, 0.0, 3.0, 9.0])
     exact = trace_fan(exact_env, 300.0, angles, 30000.0, range_step=2500.0)
     fan = trace_fan(env, 300.0, angles, 30000.0, range_step=2500.0)
@@ -73,7 +73,7 @@ def test_identical_casts_sampled_in_range_match_the_exact_samples():
 def test_snell_invariant_along_integrated_rays():
     # Snell's law in a range-independent medium: cos(theta)/c(z) is constant along a ray
     # (Jensen et al. 2011, Computational Ocean Acoustics, 2nd ed., ch. 3)
-    env = environment_from_section(
+    env = Environment.from_section(
         Section([0.0, 25000.0], Z, np.vstack([C, C]), range_interpolation="spline"), 4000.0)
     angles = np.linspace(-12.0, 12.0, 13)
     fan = trace_fan_integrated(env, 800.0, angles, 40000.0, tolerance=1e-8)
@@ -149,7 +149,7 @@ def test_spreading_in_a_linear_gradient_matches_the_circular_arc_solution():
     # width per radian is q = -dR/dtheta0|_z sin(theta); dR/dtheta0 by central differences
     # of this closed form.
     c0, g = 1480.0, 0.05
-    env = environment_from_section(Section([0.0], [0.0, 5000.0], [[c0, c0 + g * 5000.0]]),
+    env = Environment.from_section(Section([0.0], [0.0, 5000.0], [[c0, c0 + g * 5000.0]]),
                                    5000.0)
     zs = 300.0
     cs = c0 + g * zs
@@ -186,7 +186,7 @@ def test_spreading_matches_neighbouring_rays_in_a_range_dependent_section():
     rng = np.random.default_rng(3)
     casts = C[None, :] + rng.normal(0, 1.5, (4, Z.size)).cumsum(axis=1) * 0.2
     sec = Section([0.0, 10000.0, 22000.0, 35000.0], Z, casts)
-    env = environment_from_section(sec, bathymetry=([0.0, 15000.0, 30000.0],
+    env = Environment.from_section(sec, bathymetry=([0.0, 15000.0, 30000.0],
                                                     [3500.0, 2600.0, 3000.0]))
     step = 1000.0
     d = 1e-5
@@ -218,7 +218,7 @@ def test_range_dependent_ray_matches_scipy_solve_ivp():
     sec = Section([0.0, 8000.0, 20000.0], [0.0, 5000.0],
                   [[1490.0, 1560.0], [1500.0, 1555.0], [1485.0, 1570.0]],
                   range_interpolation="spline")
-    env = environment_from_section(sec, 5000.0)
+    env = Environment.from_section(sec, 5000.0)
     zs, a, rmax = 2500.0, 4.0, 20000.0
     fan = trace_fan_integrated(env, zs, [a], rmax)
 
@@ -249,7 +249,7 @@ def test_range_dependent_ray_matches_scipy_solve_ivp():
 def test_events_land_exactly_on_boundaries():
     sec = Section([0.0, 9000.0, 21000.0], Z, np.vstack([C, C + 2.0, C - 1.0]))
     bathy = ([0.0, 12000.0, 30000.0], [3800.0, 2500.0, 3200.0])
-    env = environment_from_section(sec, bathymetry=bathy)
+    env = Environment.from_section(sec, bathymetry=bathy)
     fan = trace_fan_integrated(env, 50.0, np.linspace(-25, 25, 21), 30000.0)
     kind = fan["point_kind"].values
     r = fan["range"].values
@@ -299,7 +299,7 @@ def test_random_sections_stay_in_the_water_and_finish(seed, source, angles):
                   range_interpolation=["pchip", "spline", "linear"][seed % 3])
     br = np.array([0.0, 5000.0, 12000.0, 20000.0])
     bz = rng.uniform(300.0, 3900.0, 4)
-    env = environment_from_section(sec, bathymetry=(br, bz))
+    env = Environment.from_section(sec, bathymetry=(br, bz))
     zs = source * bz[0]
     fan = trace_fan_integrated(env, zs, angles, 20000.0, max_bounces=60)
     assert not np.any(fan.end_reason.values == 3)
@@ -353,7 +353,7 @@ def test_ray_riding_a_speed_minimum_leaves_it_where_the_minimum_ends():
     z = np.array([0.0, 100.0, 200.0])
     casts = np.array([[1510.0, 1500.0, 1510.0], [1495.0, 1500.0, 1510.0]])
     sec = Section([0.0, 2000.0], z, casts, range_interpolation="linear")
-    env = environment_from_section(sec, 200.0)
+    env = Environment.from_section(sec, 200.0)
     fan = trace_fan_integrated(env, 100.0, [0.0], 6000.0)
     assert int(fan.end_reason[0]) == 0
     n = int(fan.point_count[0])
@@ -400,7 +400,7 @@ def test_grazing_returns_to_the_surface_or_bottom_stay_in_the_water(thickness, s
     bottom = float(nodes[-1])
     zs = _NEAR_BOUNDARY[where](bottom)
     exact_env = Environment.from_arrays(nodes, cn)
-    env = environment_from_section(Section([0.0, 5000.0], nodes, np.vstack([cn, cn])), bottom)
+    env = Environment.from_section(Section([0.0, 5000.0], nodes, np.vstack([cn, cn])), bottom)
     for tolerance in (1e-6, 1e-9):
         fan = trace_fan_integrated(env, zs, [angle], 20000.0, max_bounces=2000,
                                    tolerance=tolerance)
@@ -437,7 +437,7 @@ def test_grazing_return_on_a_sloping_bottom_stays_in_the_water():
     cn = np.array([1500.0, 1495.0, 1530.0])
     sec = Section([0.0, 5000.0], nodes, np.vstack([cn, cn]))
     bathy = (np.array([0.0, 8000.0, 20000.0]), np.array([300.0, 299.0, 300.5]))
-    env = environment_from_section(sec, bathymetry=bathy)
+    env = Environment.from_section(sec, bathymetry=bathy)
     fan = trace_fan_integrated(env, 0.0, [0.0, 1e-12, -1e-7], 20000.0, max_bounces=200)
     assert np.all(fan.end_reason.values == 0)
     z = fan["depth"].values
@@ -452,7 +452,7 @@ def test_point_buffer_growth_gives_the_same_record():
     # record assembled from the rounds must equal one traced with room enough at once
     from seaprofile.propagation.integrate import _medium_of, _trace_arrays
 
-    env = environment_from_section(Section([0.0, 20000.0], Z, np.vstack([C, C + 1.0])),
+    env = Environment.from_section(Section([0.0, 20000.0], Z, np.vstack([C, C + 1.0])),
                                    bathymetry=([0.0, 20000.0], [4000.0, 3000.0]))
     angles = [-30.0, -5.0, 0.0, 2.0, 25.0]
     small = _trace_arrays(*_medium_of(env), 800.0, angles, 20000.0, first_buffer=16)

@@ -8,10 +8,10 @@ from hypothesis import strategies as st
 from scipy.interpolate import CubicSpline, PchipInterpolator
 
 from seaprofile._validate import SeaprofileError
+from seaprofile.propagation import Environment
 from seaprofile.propagation.section import (
     EARTH_MEAN_RADIUS,
     Section,
-    environment_from_section,
     great_circle_distance,
     track_ranges,
 )
@@ -180,10 +180,10 @@ def test_errors_name_the_argument():
 
 def test_environment_from_section():
     sec = Section(R3 + 5000.0, DEPTH, C3)
-    env = environment_from_section(sec, bathymetry=([0.0, 30000.0], [2500.0, 1500.0]))
+    env = Environment.from_section(sec, bathymetry=([0.0, 30000.0], [2500.0, 1500.0]))
     assert env.section is sec
     assert env.is_range_dependent
     assert env.bottom_depth == 2500.0
     np.testing.assert_allclose(env.sound_speed_at(DEPTH), C3[0])
     with pytest.raises(SeaprofileError, match="section"):
-        environment_from_section("not a section")
+        Environment.from_section("not a section")
