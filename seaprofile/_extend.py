@@ -15,7 +15,8 @@ import xarray as xr
 
 from . import _cf
 from ._validate import SeaprofileError
-from .casts._common import cast_latitude
+from .io.errors import ArgumentError
+from .casts._common import cast_latitude, usable_sound_speed
 from .casts._qc_tests import GLOBAL_RANGE, MAX_OCEAN_DEPTH, SOUND_SPEED_RANGE
 from .casts.binning import _equation_sound_speed as equation_sound_speed
 from .casts.binning import check_bin_count, check_step
@@ -34,7 +35,8 @@ def _is_bottom(value):
 
 
 def check_bottom_depth(value, name="bottom_depth"):
-    """``value`` as a sea-floor depth in m, or :class:`SeaprofileError` naming ``name``.
+    """``value`` as a sea-floor depth in m, or :class:`~seaprofile.io.ArgumentError`
+    naming ``name``.
 
     Parameters
     ----------
@@ -42,17 +44,17 @@ def check_bottom_depth(value, name="bottom_depth"):
         Depth, m: finite, > 0 and at most
         :data:`seaprofile.casts.qc.MAX_OCEAN_DEPTH` (12000 m, deeper than any ocean).
     name : str
-        The argument (or command-line option) the message names.
+        The argument the error names (its ``argument`` attribute).
     """
     try:
         bottom = float(value)
     except (TypeError, ValueError):
-        raise SeaprofileError(f"{name} must be a sea-floor depth in m, got {value!r}") from None
+        raise ArgumentError(name, f"must be a sea-floor depth in m, got {value!r}") from None
     if not np.isfinite(bottom) or bottom <= 0:
-        raise SeaprofileError(f"{name} must be a sea-floor depth > 0 m, got {value!r}")
+        raise ArgumentError(name, f"must be a sea-floor depth > 0 m, got {value!r}")
     if bottom > MAX_OCEAN_DEPTH:
-        raise SeaprofileError(
-            f"{name} {bottom:g} m is deeper than any ocean (at most {MAX_OCEAN_DEPTH:g} m)")
+        raise ArgumentError(
+            name, f"{bottom:g} m is deeper than any ocean (at most {MAX_OCEAN_DEPTH:g} m)")
     return bottom
 
 
@@ -62,17 +64,22 @@ def cast_bottom_depth(ds):
 
     Raises
     ------
-    SeaprofileError
-        When there is none (or it is not a depth within 0..12000 m): ``extend_to="bottom"``
-        then has nothing to extend to, and says so rather than doing nothing.
+    seaprofile.io.ArgumentError
+        Naming ``extend_to`` when there is none (or it is not a depth within 0..12000 m):
+        ``extend_to="bottom"`` then has nothing to extend to, and says so rather than
+        doing nothing.
     """
     value = ds.attrs.get("bottom_depth")
     name = ds.attrs.get("cast_name", "the cast")
     if value is None or (isinstance(value, str) and not value.strip()):
-        raise SeaprofileError(
-            f"extend_to='bottom': {name} has no bottom_depth metadata; give the sea-floor "
+        raise ArgumentError(
+            "extend_to", f"'bottom': {name} has no bottom_depth metadata; give the sea-floor "
             "depth in m instead")
-    return check_bottom_depth(value, f"extend_to='bottom' ({name}'s bottom_depth)")
+    try:
+        return check_bottom_depth(value, "extend_to")
+    except ArgumentError as exc:
+        raise ArgumentError("extend_to", f"'bottom': {name}'s bottom_depth metadata "
+                            f"{exc.reason}") from None
 
 
 #: a constant-T/S extension longer than both of these (m, fraction of the cast) warns
@@ -85,10 +92,7 @@ class LongExtensionWarning(UserWarning):
 
 
 def _last_good(profile):
-    c = profile["sound_speed"].values
-    f = profile["sound_speed_qc"].values
-    ok = _cf.usable(c, f)
-    idx = np.flatnonzero(ok)
+    idx = np.flatnonzero(usable_sound_speed(profile))
     if idx.size == 0:
         raise SeaprofileError("profile has no usable sound speed to extend from")
     return int(idx[-1])
@@ -207,9 +211,9 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
             how = ("the last measured sound speed plus the pressure change of "
                    "chen_millero1977 at constant temperature and salinity")
     else:
-        raise SeaprofileError(
-            "profile has no temperature and salinity to extend with; give reference="
-        )
+        raise ArgumentError(
+            "reference", "the profile has no temperature and salinity to extend it below "
+            "its last usable level; give a deeper reference profile")
     if "sound_speed" not in values:
         values["sound_speed"] = equation_sound_speed(
             profile, equation, values["temperature"], values["salinity"], p_new, z_new)

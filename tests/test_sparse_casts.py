@@ -5,6 +5,8 @@ casts must come out of the chain with their measured levels intact, no interior 
 and interpolated levels flagged 8 (estimated).
 """
 
+import warnings
+
 import gsw
 import numpy as np
 import pytest
@@ -12,6 +14,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from seaprofile import _cf
+from seaprofile.casts.binning import LargeGapWarning
 from seaprofile.casts.model import make_cast
 from seaprofile.profile import build_profile, describe_assumptions
 
@@ -163,12 +166,15 @@ def test_dense_constant_speed_probe_is_not_condemned():
 @settings(max_examples=30, deadline=None)
 @given(st.lists(st.floats(0.2, 60.0), min_size=1, max_size=40), st.floats(0.0, 5.0))
 def test_any_spacing_gives_a_profile_without_holes(gaps, first):
-    # invariant: whatever the spacing, no interior holes, depths increasing, isolated
-    # samples kept at their own depth with their own value, the rest flagged 1 or 8
+    # invariant: whatever the spacing, filling every gap (max_gap=None) leaves no interior
+    # holes, depths increasing, isolated samples kept at their own depth with their own
+    # value, the rest flagged 1 or 8
     z = first + np.concatenate(([0.0], np.cumsum(gaps)))
     c = munk(z)
     cast = make_cast(depth=z, measured_sound_speed=c, instrument="svp", latitude=LAT)
-    prof = build_profile(cast)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", LargeGapWarning)
+        prof = build_profile(cast, max_gap=None)
     depth, speed = prof["depth"].values, prof["sound_speed"].values
     assert np.isfinite(speed).all() and (np.diff(depth) > 0).all()
     assert set(np.unique(prof["sound_speed_qc"].values)) <= {_cf.GOOD, _cf.ESTIMATED}

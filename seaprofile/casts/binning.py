@@ -9,6 +9,8 @@ equation or taken from a sound-speed probe. The steps before them are in
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import xarray as xr
 
@@ -16,6 +18,8 @@ from .. import _cf
 from .._validate import SeaprofileError
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
+from ..io.errors import ArgumentError, MemoryLimitError
+from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
 from ._common import (
     cast_latitude,
     position,
@@ -25,44 +29,48 @@ from ._common import (
 )
 from .flags import worst_flag
 
-__all__ = ["bin_cast", "fill_gaps", "add_sound_speed"]
+__all__ = ["bin_cast", "fill_gaps", "add_sound_speed", "LargeGapWarning"]
 
 #: variables a Cast may hold that :func:`bin_cast` averages (or converts, for the axis pair)
 _BINNED = ("pressure", "depth", "temperature", "salinity", "measured_sound_speed")
 
 
-#: most bins one Profile may have (an error beyond: a tiny bin would allocate gigabytes)
-MAX_BINS = 2_000_000
 #: a sample farther than this many bins from the nearest usable sample on each side keeps
 #: its own level instead of being binned (our choice: at least one empty bin on each side)
 SPARSE_SPACING = 2.0
 
-
-def check_bin_count(count, step, span, name="step"):
-    """Raise :class:`SeaprofileError` naming ``name`` when ``count`` bins exceed
-    :data:`MAX_BINS`; the message says the memory they would need (``step`` and ``span``
-    in m or dbar)."""
-    if count > MAX_BINS:
-        need = count * _BYTES_PER_BIN
-        raise SeaprofileError(
-            f"{name}: a bin size of {step:g} over {span:g} m needs {count:.3g} bins, about "
-            f"{need / 1e9:.3g} GB of memory; at most {MAX_BINS:,} bins are made: use a larger "
-            f"{name}")
+#: most bins one Profile may have: the one memory model of :mod:`seaprofile.io`
+#: (:data:`~seaprofile.io.MEMORY_LIMIT` / :data:`~seaprofile.io.outputs.BYTES_PER_BIN`),
+#: the same the command line checks before reading any cast
+MAX_BINS = MEMORY_LIMIT // BYTES_PER_BIN
 
 
-# float64 values and int8 flags of about six variables, counts, and working copies
-_BYTES_PER_BIN = 3 * (6 * 9 + 4 + 16)
+def check_bin_count(count, step, span, name="step", unit="m"):
+    """Raise :class:`~seaprofile.io.MemoryLimitError` naming ``name`` when ``count`` bins
+    would need more than :data:`~seaprofile.io.MEMORY_LIMIT` (:data:`MAX_BINS` bins).
+
+    The estimate is :func:`seaprofile.io.profile_bytes` -- the one the command line uses
+    up front -- so a bin size accepted there is accepted here. ``step`` and ``span`` are in
+    ``unit`` (m for depth bins, dbar for pressure bins).
+    """
+    bins = float(count) if np.isfinite(count) else np.inf
+    requested = bins * BYTES_PER_BIN
+    if requested > MEMORY_LIMIT:
+        raise MemoryLimitError(
+            name, f"a bin size of {step:g} {unit} over {span:g} {unit} needs {bins:.3g} bins, "
+            f"about {format_bytes(requested)}, more than the {format_bytes(MEMORY_LIMIT)} of "
+            f"memory allowed (at most {MAX_BINS:,} bins); use a larger bin size", min(requested, 2.0**62), MEMORY_LIMIT)
 
 
-def check_step(step, name="step"):
-    """``step`` as a float, or :class:`SeaprofileError` naming ``name`` unless it is a
-    finite number > 0."""
+def check_step(step, name="step", unit="m"):
+    """``step`` as a float, or :class:`~seaprofile.io.ArgumentError` naming ``name``
+    unless it is a finite number > 0 (``unit``: m, or dbar for pressure bins)."""
     try:
         value = float(step)
     except (TypeError, ValueError):
-        raise SeaprofileError(f"{name} must be a bin size in m, got {step!r}") from None
+        raise ArgumentError(name, f"must be a bin size in {unit}, got {step!r}") from None
     if not (np.isfinite(value) and value > 0):
-        raise SeaprofileError(f"{name} must be a finite bin size > 0 m, got {step!r}")
+        raise ArgumentError(name, f"must be a finite bin size > 0 {unit}, got {step!r}")
     return value
 
 
@@ -133,7 +141,8 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
     require_cast(cast)
     if axis not in ("depth", "pressure"):
         raise SeaprofileError(f"axis must be 'depth' or 'pressure', got {axis!r}")
-    step = check_step(step, argument)
+    unit = "m" if axis == "depth" else "dbar"
+    step = check_step(step, argument, unit)
     other = "pressure" if axis == "depth" else "depth"
     for v in (axis, other):
         if v not in cast.data_vars:
@@ -145,7 +154,7 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
 
     x = cast[axis].values.astype(np.float64)
     xflag = cast[f"{axis}_qc"].values
-    placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument)
+    placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument, unit)
     levels = placed & _isolated(x, placed, float(sparse_spacing) * step)
     binned = placed & ~levels
     nb = centres.size
@@ -176,7 +185,10 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
     nl = int(levels.sum())
     depth = np.concatenate([depth, cast["depth"].values[levels]])
     pressure = np.concatenate([pressure, cast["pressure"].values[levels]])
-    pair_flag = np.concatenate([axis_flag, cast[f"{other}_qc"].values[levels]])
+    # the pressure column's flags: a kept level has the cast's own pressure_qc (on
+    # either axis); a bin has its axis samples' flags (pressure bins: their pressure_qc;
+    # depth bins: the depth_qc of the depths the pressure was converted from)
+    pair_flag = np.concatenate([axis_flag, cast["pressure_qc"].values[levels]])
     if no_pressure:
         pair_flag[:] = _cf.MISSING
     counts = np.concatenate([counts, np.ones(nl, np.int64)])
@@ -260,7 +272,7 @@ def _keep_rows(position, counts, nb, step):
     return rows[np.argsort(position[rows], kind="stable")]
 
 
-def _bin_numbers(x, flags, step, axis, argument="step"):
+def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
     """Which samples go into a bin, the bin (from 0) of each, and the bin centres.
 
     A sample is placed when its axis value ``x`` is finite, not flagged 3, 4 or 9 and not
@@ -274,7 +286,7 @@ def _bin_numbers(x, flags, step, axis, argument="step"):
     lo, hi = float(x[placed].min()), float(x[placed].max())
     with np.errstate(over="ignore", invalid="ignore"):
         count = np.floor(hi / step + 0.5) - np.floor(lo / step + 0.5) + 1
-    check_bin_count(count if np.isfinite(count) else np.inf, step, hi - lo, argument)
+    check_bin_count(count if np.isfinite(count) else np.inf, step, hi - lo, argument, unit)
     k = np.zeros(x.size, np.int64)
     k[placed] = np.floor(x[placed] / step + 0.5).astype(np.int64)
     kmin = int(k[placed].min())
@@ -308,6 +320,26 @@ def _profile_vars(profile):
                         "sound_speed") if v in profile.data_vars]
 
 
+#: m: the smallest gap :func:`fill_gaps` leaves unfilled with ``max_gap="auto"`` (our
+#: choice: a few bins of a dense cast, well under a seasonal thermocline)
+AUTO_GAP_FLOOR = 5.0
+#: with ``max_gap="auto"``, a gap is filled up to this many times the spacing of the
+#: measured levels next to it (our choice: sparse bottle and float casts stay joined)
+AUTO_GAP_SPACINGS = 3.0
+#: m: a gap wider than this, filled or left, warns (:class:`LargeGapWarning`);
+#: common practice, no source
+LARGE_GAP = 20.0
+
+
+class LargeGapWarning(UserWarning):
+    """A Profile has a gap without data wider than :data:`LARGE_GAP` (20 m), filled by a
+    straight line or left missing."""
+
+
+def _gap_spans(text_gaps):
+    return ", ".join(f"{a:g}-{b:g} m" for a, b in sorted(text_gaps)) or "none"
+
+
 def fill_gaps(profile, max_gap=5.0):
     """Interpolate linearly in depth across empty levels inside a Profile, flagged 8.
 
@@ -322,30 +354,52 @@ def fill_gaps(profile, max_gap=5.0):
     ----------
     profile : xarray.Dataset
         A Profile (not modified).
-    max_gap : float or None
+    max_gap : float, "auto" or None
         m: the largest gap filled, measured as the depth span of the missing levels
-        (distance between the levels with data on either side, less one bin). None: fill
-        every interior gap, whatever its length, so the Profile has no interior holes
-        (what :func:`seaprofile.profile.build_profile` does). Gaps at the top or bottom
-        of the profile are never filled.
+        (distance between the levels with data on either side, less one bin).
+        ``"auto"`` (what :func:`seaprofile.profile.build_profile` uses by default): a gap
+        is filled when it is at most ``max(AUTO_GAP_FLOOR, AUTO_GAP_SPACINGS * spacing)``
+        (5 m, or 3 times ``spacing``), ``spacing`` being the larger of the distances
+        between the measured levels on either side of the gap and their next measured
+        neighbours (a gap with no such neighbour on either side -- a two-level profile --
+        is filled): a bottle or float cast stays joined, while lost data in a dense cast
+        stays missing. None: fill every interior gap, whatever its length. Gaps at the
+        top or bottom of the profile are never filled.
 
     Returns
     -------
     xarray.Dataset
-        A new Profile; filled values are flagged 8 and keep ``samples_per_bin`` 0. The
-        step records ``filled`` (per variable) and ``largest_gap`` (m, the widest depth
-        span between two levels with data that was filled across).
+        A new Profile; filled values are flagged 8 and keep ``samples_per_bin`` 0; gaps
+        left are NaN, flagged 9. Attributes: ``largest_gap`` (m, the widest distance
+        between two levels with data around a gap, filled or not; 0 with no gap),
+        ``filled_gaps`` and ``unfilled_gaps`` (text, ``"100-400 m, ..."``: the levels
+        with data around each gap, any variable; ``"none"``). The step records them
+        and ``filled`` (per variable). A gap wider than :data:`LARGE_GAP` warns
+        (:class:`LargeGapWarning`).
+
+    Notes
+    -----
+    Ray tracing (:meth:`seaprofile.propagation.Environment.from_profile`) leaves out the
+    missing levels, so across an unfilled gap its sound speed is still a straight line
+    between the levels on either side: the gap is reported, in these attributes, the
+    warning and :func:`seaprofile.profile.describe_assumptions`, for the user to judge.
     """
     require_profile(profile)
-    if max_gap is not None:
-        max_gap = float(max_gap)
+    auto = isinstance(max_gap, str) and max_gap == "auto"
+    if max_gap is not None and not auto:
+        try:
+            max_gap = float(max_gap)
+        except (TypeError, ValueError):
+            raise ArgumentError("max_gap", f"must be a depth >= 0 m, 'auto' or None, got "
+                                f"{max_gap!r}") from None
         if not max_gap >= 0:
-            raise SeaprofileError(f"max_gap must be >= 0 m or None, got {max_gap}")
+            raise ArgumentError("max_gap", f"must be a depth >= 0 m, 'auto' or None, got "
+                                f"{max_gap}")
     z = profile["depth"].values.astype(np.float64)
     step = profile.attrs.get("bin_size")
     step = float(step) if step else (float(np.median(np.diff(z))) if z.size > 1 else 0.0)
     out = profile.copy()
-    filled, widest = {}, 0.0
+    filled, widest, done, left = {}, 0.0, set(), set()
     for var in _profile_vars(profile):
         v = profile[var].values.astype(np.float64)
         good = np.isfinite(v)
@@ -356,11 +410,26 @@ def fill_gaps(profile, max_gap=5.0):
         j = np.flatnonzero(~good)
         j = j[(j > iv[0]) & (j < iv[-1])]
         pos = np.searchsorted(iv, j)
-        width = z[iv[pos]] - z[iv[pos - 1]]
-        if max_gap is not None:
+        top, bottom = z[iv[pos - 1]], z[iv[pos]]
+        width = bottom - top
+        if auto:
+            zi = z[iv]
+            spacing = np.diff(zi)  # spacing[k]: level k to level k + 1
+            above = np.where(pos >= 2, spacing[np.maximum(pos - 2, 0)], np.nan)
+            below = np.where(pos + 1 < iv.size, spacing[np.minimum(pos, spacing.size - 1)],
+                             np.nan)
+            near = np.fmax(above, below)
+            limit = np.where(np.isfinite(near),
+                             np.maximum(AUTO_GAP_FLOOR, AUTO_GAP_SPACINGS * near), np.inf)
+            keep = width - step <= limit + 1e-9
+        elif max_gap is not None:
             keep = width - step <= max_gap + 1e-9 * max(1.0, abs(max_gap))
-            j, width = j[keep], width[keep]
+        else:
+            keep = np.ones(j.size, bool)
         widest = max(widest, float(width.max()) if width.size else 0.0)
+        done.update(zip(top[keep].tolist(), bottom[keep].tolist()))
+        left.update(zip(top[~keep].tolist(), bottom[~keep].tolist()))
+        j = j[keep]
         new = v.copy()
         new[j] = np.interp(z[j], z[iv], v[iv])
         flags = profile[f"{var}_qc"].values.copy()
@@ -368,8 +437,20 @@ def fill_gaps(profile, max_gap=5.0):
         out.variables[var].data = new  # the copy's own Variables: the input is untouched
         out.variables[f"{var}_qc"].data = flags.astype(np.int8)
         filled[var] = int(j.size)
-    out.attrs = _cf.record_step(profile.attrs, "fill_gaps", max_gap=max_gap, filled=filled,
-                                largest_gap=widest, method="linear in depth")
+    attrs = dict(largest_gap=widest, filled_gaps=_gap_spans(done),
+                 unfilled_gaps=_gap_spans(left))
+    out.attrs = _cf.record_step(profile.attrs, "fill_gaps",
+                                max_gap="auto" if auto else max_gap, filled=filled,
+                                method="linear in depth", **attrs)
+    out.attrs.update(attrs)
+    large = sorted(g for g in done | left if g[1] - g[0] > LARGE_GAP)
+    if large:
+        name = profile.attrs.get("cast_name", "the profile")
+        kinds = [("filled with a straight line", done), ("left missing (flag 9)", left)]
+        said = "; ".join(f"{_gap_spans([g for g in large if g in gaps])} {how}"
+                         for how, gaps in kinds if any(g in gaps for g in large))
+        warnings.warn(f"{name} has no data over {said}: check the cast before using its "
+                      "profile there", LargeGapWarning, stacklevel=2)
     return out
 
 
