@@ -342,7 +342,7 @@ def short_assumptions(profile):
         words.append(f"gaps left ({a['unfilled_gaps']})")
     if a.get("extension_method") not in (None, ""):
         ref = a.get("extension_reference")
-        below = a.get("cast_max_depth")
+        below = a.get("join_depth", a.get("cast_max_depth"))
         words.append("extended" + (f" below {float(below):.0f} m" if below is not None else "")
                      + (f" from {ref}" if ref not in (None, "", "none") else " at constant T/S"
                         if "constant" in str(a["extension_method"]) else ""))
@@ -404,7 +404,8 @@ def assumptions(profile):
     if a.get("extension") not in (None, ""):
         out.append(f"extended: {_text(a['extension'])}")
     elif a.get("extension_method") not in (None, ""):
-        out.append(f"extended from {_text(a.get('cast_max_depth', '?'))} m to "
+        start = a.get("join_depth", a.get("cast_max_depth", "?"))
+        out.append(f"extended from {_text(start)} m to "
                    f"{_text(a.get('bottom_depth', '?'))} m with {_text(a['extension_method'])}")
     else:
         steps = [st for st in _cf.steps_of(a) if st.get("step") == "extend_to"]
@@ -414,7 +415,7 @@ def assumptions(profile):
                 out.append(f"not extended: {_text(st['skipped'])}")
             elif st.get("added_levels", 1) or st.get("replaced_bins", 1):  # else: nothing added
                 ref = f" {_text(st['reference'])}" if st.get("reference") else ""
-                start = a.get("cast_max_depth")
+                start = a.get("join_depth", a.get("cast_max_depth"))
                 start = f" from {_text(start)} m" if start is not None else ""
                 out.append(f"extended{start} to {_text(st.get('bottom_depth', '?'))} m by "
                            f"{_text(st.get('method', 'an unrecorded method'))}{ref}")

@@ -268,8 +268,11 @@ def describe_assumptions(profile):
         parts.append(f"no data over {a['unfilled_gaps']}, left missing (flag 9; ray "
                      "tracing joins the levels on either side with a straight line)")
     if a.get("extension_method"):
-        parts.append(f"extended {a.get('cast_max_depth', 0):.0f}-{a.get('bottom_depth', 0):.0f}"
+        start = float(a.get("join_depth", a.get("cast_max_depth", 0)))
+        parts.append(f"extended {start:.0f}-{float(a.get('bottom_depth', 0)):.0f}"
                      f" m with {a['extension_method']} (flag 8)")
+    if a.get("data_below_bottom") not in (None, "", "none"):
+        parts.append(str(a["data_below_bottom"]))
     return "; ".join(parts) if parts else "none"
 
 
