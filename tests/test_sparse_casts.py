@@ -16,6 +16,7 @@ from hypothesis import strategies as st
 from seaprofile import _cf
 from seaprofile.casts.binning import LargeGapWarning
 from seaprofile.casts.model import make_cast
+from seaprofile.casts.qc import qc_summary
 from seaprofile.profile import build_profile, describe_assumptions
 
 LAT, LON = 30.0, -40.0
@@ -154,13 +155,27 @@ def test_constant_temperature_salinity_planning_profile(n):
 
 
 def test_dense_constant_speed_probe_is_not_condemned():
-    # a speed-only probe in an isovelocity tank or well-mixed water reporting one value
+    # a speed-only probe in well-mixed water: temperature and salinity constant, sound
+    # speed rising only by the pressure term, 1.630e-2 m/s per m (Mackenzie 1981,
+    # J. Acoust. Soc. Am. 70, 807-812, linear depth coefficient) -- not a stuck sensor
     z = np.arange(1.0, 60.0, 0.5)
+    c = 1480.0 + 1.630e-2 * z
+    cast = make_cast(depth=z, measured_sound_speed=c, instrument="svp", latitude=LAT)
+    prof = build_profile(cast)
+    assert (prof["sound_speed_qc"].values == _cf.GOOD).all()
+
+
+def test_dense_stuck_speed_probe_is_flagged():
+    # hundreds of samples of one value over 149 m: even well-mixed water would have
+    # changed by ~2.4 m/s through the pressure term (Mackenzie 1981, 1.630e-2 m/s per m),
+    # so the Argo stuck-value test (doi:10.13155/33951, test 13) flags them bad (4) and
+    # no level of the profile is usable
+    z = np.arange(1.0, 150.0, 0.5)
     cast = make_cast(depth=z, measured_sound_speed=np.full(z.size, 1480.0),
                      instrument="svp", latitude=LAT)
     prof = build_profile(cast)
-    assert (prof["sound_speed_qc"].values == _cf.GOOD).all()
-    assert np.all(prof["sound_speed"].values == 1480.0)
+    assert qc_summary(prof)["stuck_value"]["measured_sound_speed"] == z.size
+    assert not _cf.usable(prof["sound_speed"].values, prof["sound_speed_qc"].values).any()
 
 
 @settings(max_examples=30, deadline=None)
