@@ -106,7 +106,11 @@ def test_speed_only_probe_keeps_measured_levels(spacing, first):
 def test_a_real_spike_on_a_sparse_cast_is_flagged_and_reported():
     z = np.arange(2.0, 1000.0, 10.0)
     t = thermocline_t(z)
-    t[30] += 8.0  # 302 m: beyond the Argo threshold of 6 degC above 500 dbar
+    # Wong et al., Argo Quality Control Manual for CTD and Trajectory Data,
+    # doi:10.13155/33951, real-time test 9 (spike): temperature threshold 6 degC above
+    # 500 dbar; a spike of 8 degC at 302 m exceeds it by 2 degC, far beyond the smooth
+    # thermocline's own curvature between bottles 10 m apart
+    t[30] += 8.0
     cast = make_cast(depth=z, temperature=t, salinity=thermocline_s(z), latitude=LAT,
                      longitude=LON)
     prof = build_profile(cast)

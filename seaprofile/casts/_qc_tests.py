@@ -208,9 +208,13 @@ def spike(ds, variables=None, thresholds=None):
 
     The test compares each value with its adjacent usable values, whatever their spacing,
     and its test value is the distance by which V2 lies *outside* the range of V1 and V3:
-    zero on any monotone stretch, however steep. A real gradient therefore never fails,
-    on a 24 Hz CTD record or on bottles 50 m apart alike; only a value standing out
-    beyond both neighbours by more than the depth-dependent threshold does.
+    zero on any monotone stretch, however steep. A real gradient on a monotone stretch
+    therefore never fails, on a 24 Hz CTD record or on bottles 50 m apart alike; only a
+    value standing out beyond both neighbours by more than the depth-dependent threshold
+    does. That includes a real extremum: a subsurface temperature maximum or minimum
+    caught by a single bottle between two widely spaced ones can stand out by more than
+    the threshold and be flagged, although it is real water -- on sparse casts a spike
+    flag at an extremum deserves a look before the value is discarded.
     """
     return _single(_spike)(ds, variables=variables, thresholds=thresholds)
 
