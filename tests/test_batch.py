@@ -206,16 +206,17 @@ def test_half_known_position_still_diagnosed():
 
 
 def test_speed_only_errors_are_not_all_blamed_on_the_reference(tmp_path):
-    # a speed-only cast with extend_to="bottom" and no bottom metadata: the error is about
-    # extend_to, not --reference (the old retry called every such error a missing reference)
+    # a speed-only cast with no position, extended: the depth-to-pressure conversion below
+    # it needs a latitude, and the error says so (the old retry called every error of a
+    # speed-only extension a missing --reference)
     from seaprofile.casts.model import make_cast
 
     z = np.arange(1.0, 100.0)
     cast = make_cast(depth=z, measured_sound_speed=1500.0 + 0.016 * z, instrument="svp",
-                     latitude=30.0, longitude=-40.0, cast_name="invented-svp")
+                     cast_name="invented-svp")
     path = tmp_path / "svp.csv"
     write(cast, path, format="csv")
-    (res,) = build_files([path], extend_to="bottom")
-    assert not res.ok and res.error_argument == "extend_to"
     (res,) = build_files([path], extend_to=500.0)
+    assert not res.ok and res.error_argument == "latitude"
+    (res,) = build_files([path], extend_to=500.0, latitude=30.0)
     assert not res.ok and res.error_argument == "reference"
