@@ -15,7 +15,8 @@ import xarray as xr
 
 from . import _cf
 from ._validate import SeaprofileError
-from .casts._common import cast_latitude
+from .io.errors import ArgumentError
+from .casts._common import cast_latitude, usable_sound_speed
 from .casts._qc_tests import GLOBAL_RANGE, MAX_OCEAN_DEPTH, SOUND_SPEED_RANGE
 from .casts.binning import _equation_sound_speed as equation_sound_speed
 from .casts.binning import check_bin_count, check_step
@@ -34,7 +35,8 @@ def _is_bottom(value):
 
 
 def check_bottom_depth(value, name="bottom_depth"):
-    """``value`` as a sea-floor depth in m, or :class:`SeaprofileError` naming ``name``.
+    """``value`` as a sea-floor depth in m, or :class:`~seaprofile.io.ArgumentError`
+    naming ``name``.
 
     Parameters
     ----------
@@ -42,17 +44,17 @@ def check_bottom_depth(value, name="bottom_depth"):
         Depth, m: finite, > 0 and at most
         :data:`seaprofile.casts.qc.MAX_OCEAN_DEPTH` (12000 m, deeper than any ocean).
     name : str
-        The argument (or command-line option) the message names.
+        The argument the error names (its ``argument`` attribute).
     """
     try:
         bottom = float(value)
     except (TypeError, ValueError):
-        raise SeaprofileError(f"{name} must be a sea-floor depth in m, got {value!r}") from None
+        raise ArgumentError(name, f"must be a sea-floor depth in m, got {value!r}") from None
     if not np.isfinite(bottom) or bottom <= 0:
-        raise SeaprofileError(f"{name} must be a sea-floor depth > 0 m, got {value!r}")
+        raise ArgumentError(name, f"must be a sea-floor depth > 0 m, got {value!r}")
     if bottom > MAX_OCEAN_DEPTH:
-        raise SeaprofileError(
-            f"{name} {bottom:g} m is deeper than any ocean (at most {MAX_OCEAN_DEPTH:g} m)")
+        raise ArgumentError(
+            name, f"{bottom:g} m is deeper than any ocean (at most {MAX_OCEAN_DEPTH:g} m)")
     return bottom
 
 
@@ -62,17 +64,22 @@ def cast_bottom_depth(ds):
 
     Raises
     ------
-    SeaprofileError
-        When there is none (or it is not a depth within 0..12000 m): ``extend_to="bottom"``
-        then has nothing to extend to, and says so rather than doing nothing.
+    seaprofile.io.ArgumentError
+        Naming ``extend_to`` when there is none (or it is not a depth within 0..12000 m):
+        ``extend_to="bottom"`` then has nothing to extend to, and says so rather than
+        doing nothing.
     """
     value = ds.attrs.get("bottom_depth")
     name = ds.attrs.get("cast_name", "the cast")
     if value is None or (isinstance(value, str) and not value.strip()):
-        raise SeaprofileError(
-            f"extend_to='bottom': {name} has no bottom_depth metadata; give the sea-floor "
+        raise ArgumentError(
+            "extend_to", f"'bottom': {name} has no bottom_depth metadata; give the sea-floor "
             "depth in m instead")
-    return check_bottom_depth(value, f"extend_to='bottom' ({name}'s bottom_depth)")
+    try:
+        return check_bottom_depth(value, "extend_to")
+    except ArgumentError as exc:
+        raise ArgumentError("extend_to", f"'bottom': {name}'s bottom_depth metadata "
+                            f"{exc.reason}") from None
 
 
 #: a constant-T/S extension longer than both of these (m, fraction of the cast) warns
@@ -85,10 +92,7 @@ class LongExtensionWarning(UserWarning):
 
 
 def _last_good(profile):
-    c = profile["sound_speed"].values
-    f = profile["sound_speed_qc"].values
-    ok = _cf.usable(c, f)
-    idx = np.flatnonzero(ok)
+    idx = np.flatnonzero(usable_sound_speed(profile))
     if idx.size == 0:
         raise SeaprofileError("profile has no usable sound speed to extend from")
     return int(idx[-1])
@@ -102,13 +106,15 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
     - with ``reference`` (a deeper Profile): its water *as measured*. Temperature is the
       reference's, plus the cast's offset from it at the join, fading linearly to zero
       over ``join_blend`` m below the join (so the profile is continuous there and is the
-      reference's own water below); salinity likewise, except when the cast's salinity
-      was assumed or replaced everywhere (an expendable probe): then the reference's
-      measured salinity is used as it is, with no offset, since an assumed value says
-      nothing about the water. Sound speed is recomputed with the Profile's equation.
-      When either lacks temperature/salinity (or the sound speed was measured), the
-      reference sound speed is used the same way, its offset at the join fading over
-      ``join_blend``. The offsets at the join are recorded (``extension_join``); or
+      reference's own water below); salinity likewise, an assumed salinity included (a
+      jump to the reference's salinity would be a step in sound speed at the join).
+      Sound speed is recomputed with the Profile's equation. When either lacks
+      temperature/salinity (or the sound speed was measured), the reference sound speed
+      is used the same way. The fade never makes a sound-speed minimum of its own (a
+      false channel axis at the join): a cast slower than the reference at the join keeps
+      its offset down to the reference's sound-speed minimum below the join and fades
+      below it; a faster one fades from the join and ends at that minimum at the latest.
+      The offsets at the join and where they fade are recorded (``extension_join``); or
     - without a reference: temperature and salinity held at their last usable values, so
       only pressure changes the sound speed (recomputed with the same equation; for a
       measured profile, the pressure change by Chen & Millero 1977 is added to the last
@@ -141,8 +147,13 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
         A new Profile. Existing bins below the last usable one (missing or bad) are
         replaced, new bins appended; their values are flagged 8 and ``samples_per_bin`` is
         0. ``cast_max_depth`` keeps the deepest measured bin; ``bottom_depth``,
-        ``extension_method``, ``extension_reference``, ``extension_join`` and
-        ``assumptions`` (:func:`describe_assumptions`) are added.
+        ``join_depth`` (m, the deepest usable level, where the extension starts: above
+        ``cast_max_depth`` when the deepest bins are bad), ``extension_method``,
+        ``extension_reference``, ``extension_join`` and ``assumptions``
+        (:func:`describe_assumptions`) are added. When ``bottom_depth`` is not below the
+        deepest usable level nothing is added, but ``bottom_depth``, ``assumptions`` and
+        ``data_below_bottom`` (a note when the data go deeper than the sea floor given,
+        else ``"none"``) are recorded.
     """
     if "sound_speed" not in profile.data_vars:
         raise SeaprofileError("profile has no sound_speed: run add_sound_speed first")
@@ -159,9 +170,18 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
     if "cast_max_depth" not in attrs:
         measured = np.flatnonzero(counts > 0) if counts is not None else [last]
         attrs["cast_max_depth"] = float(z[measured[-1]] if len(measured) else z_last)
+    from .profile import describe_assumptions
+
     if bottom <= z_last:
         out = profile.copy()
-        out.attrs = _cf.record_step(attrs, "extend_to", bottom_depth=bottom, added_levels=0)
+        note = "none"
+        if bottom < z_last:
+            note = (f"the data reach {z_last:g} m, below the sea-floor depth given "
+                    f"({bottom:g} m): check the depth or the sea floor")
+        out.attrs = _cf.record_step(attrs, "extend_to", bottom_depth=bottom, added_levels=0,
+                                    data_below_bottom=note)
+        out.attrs.update(bottom_depth=bottom, data_below_bottom=note)
+        out.attrs["assumptions"] = describe_assumptions(out)
         return out
     if step is None:
         step = profile.attrs.get("bin_size", np.median(np.diff(z)) if z.size > 1 else 1.0)
@@ -207,18 +227,16 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
             how = ("the last measured sound speed plus the pressure change of "
                    "chen_millero1977 at constant temperature and salinity")
     else:
-        raise SeaprofileError(
-            "profile has no temperature and salinity to extend with; give reference="
-        )
+        raise ArgumentError(
+            "reference", "the profile has no temperature and salinity to extend it below "
+            "its last usable level; give a deeper reference profile")
     if "sound_speed" not in values:
         values["sound_speed"] = equation_sound_speed(
             profile, equation, values["temperature"], values["salinity"], p_new, z_new)
     out = _assemble(profile, attrs, last, z_new, values, bottom, how, reference)
-    out.attrs.update(extension_method=how, extension_join=join,
+    out.attrs.update(extension_method=how, extension_join=join, join_depth=float(z_last),
                      extension_reference="none" if reference is None else
                      str(reference.attrs.get("cast_name", "given")))
-    from .profile import describe_assumptions
-
     out.attrs["assumptions"] = describe_assumptions(out)
     return out
 
@@ -228,6 +246,41 @@ def _taper(z_new, z_last, blend):
     if blend <= 0:
         return np.zeros(z_new.size)
     return np.clip(1.0 - (z_new - z_last) / blend, 0.0, 1.0)
+
+
+def _join_weight(profile, reference, z_new, z_last, last, blend):
+    """Weight (1 at the join, 0 deep) of the cast's offset from ``reference``, chosen so
+    that the fade makes no sound-speed minimum of its own, and a note saying where.
+
+    The fading offset adds a gradient of the sign opposite to the cast's sound-speed offset
+    at the join. Above the reference's sound-speed minimum below the join (its channel
+    axis, where the reference's speed falls with depth) only a negative added gradient is
+    harmless, below it only a positive one; so a cast slower than the reference at the
+    join keeps its offset down to the reference's minimum and fades below it, and a
+    faster one fades from the join and at the latest at that minimum. Without a minimum
+    below the join (the reference's speed rising there) the fade starts at the join.
+    """
+    fade = _taper(z_new, z_last, blend)
+    if blend <= 0 or "sound_speed" not in reference.data_vars:
+        return fade, ""
+    zr, cr = _usable_reference(reference, "sound_speed")
+    below = (zr >= z_last) & (zr <= z_new[-1])
+    if not below.any():
+        return fade, ""
+    k = int(np.argmin(np.where(below, cr, np.inf)))
+    z_axis = float(zr[k])
+    c_ref_join = float(np.interp(z_last, zr, cr))
+    offset = float(profile["sound_speed"].values[last]) - c_ref_join
+    if z_axis <= z_last + 1e-9 or offset == 0:
+        return fade, ""
+    if offset < 0:
+        note = (f"held down to the reference's sound-speed minimum at {z_axis:g} m, then "
+                f"fading to zero over {blend:g} m")
+        return _taper(z_new, z_axis, blend), note
+    length = min(blend, z_axis - z_last)
+    return _taper(z_new, z_last, length), (
+        f"fading over {length:g} m, to end at the reference's sound-speed minimum at "
+        f"{z_axis:g} m" if length < blend else "")
 
 
 def _from_reference(profile, reference, z_new, z_last, last, has_ts, blend):
@@ -241,9 +294,9 @@ def _from_reference(profile, reference, z_new, z_last, last, has_ts, blend):
             f"{z_new[-1]:g} m"
         )
     name = str(reference.attrs.get("cast_name", "given"))
-    fade = _taper(z_new, z_last, blend)
-    fading = (f"fading to zero over {blend:g} m below the join" if blend > 0
-              else "not carried below the join")
+    fade, where = _join_weight(profile, reference, z_new, z_last, last, blend)
+    fading = where or (f"fading to zero over {blend:g} m below the join" if blend > 0
+                       else "not carried below the join")
     assumed = (str(profile.attrs.get("salinity_assumed", "")).lower() == "yes"
                or "everywhere" in str(profile.attrs.get("salinity_replaced", "")))
     out, notes = {}, []
@@ -251,13 +304,12 @@ def _from_reference(profile, reference, z_new, z_last, last, has_ts, blend):
     if has_ts and ref_ts and profile.attrs.get("equation") != "measured":
         for v, unit in (("temperature", " degC"), ("salinity", "")):
             zv, r = _usable_reference(reference, v)
-            if v == "salinity" and assumed:
-                out[v] = np.interp(z_new, zv, r)
-                notes.append("salinity the reference's as measured (the cast's was assumed)")
-                continue
+            # the offset fades for an assumed salinity too: a step to the reference's
+            # value at the join would be a step in sound speed there (a false minimum)
             offset = float(profile[v].values[last]) - np.interp(z_last, zv, r)
             out[v] = np.interp(z_new, zv, r) + offset * fade
-            notes.append(f"{v} offset {offset:+.3g}{unit} {fading}")
+            notes.append(f"{v} offset {offset:+.3g}{unit} {fading}"
+                         + (" (the cast's was assumed)" if v == "salinity" and assumed else ""))
         how = f"reference {name}: its measured temperature and salinity"
     else:
         if "sound_speed" not in reference.data_vars:

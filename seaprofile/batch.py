@@ -16,15 +16,15 @@ import numpy as np
 from . import _cf
 from ._validate import InputFileError, SeaprofileError
 from .casts import qc as _qc
+from .casts._common import usable_sound_speed
 from .casts.read import read_casts
 from .casts.write import FORMATS, write
-from .io import NETCDF_LOCK, ArgumentError, check_memory, is_same_file, profile_bytes
+from .io import NETCDF_LOCK, ArgumentError, is_same_file
 from .io.loading import _is_netcdf, load_profile, read_as_profiles
 from .io.options import (SCHEDULERS, check_build_options, check_read_options,
                          check_replacement_salinity, check_scheduler)
 from .layers import describe
-from .layers.summary import BAD_FLAGS
-from .profile import build_profile
+from .profile import build_profile, interpolated_levels
 
 __all__ = ["BuildResult", "assumptions", "build_files", "flags_by_test", "short_assumptions",
            "load_profile", "read_as_profiles", "summary_row", "usable_bins"]
@@ -82,49 +82,22 @@ class BuildResult:
 
 
 def usable_bins(profile):
-    """Number of bins with a finite sound speed not flagged 3, 4 or 9 (in it, T or S).
+    """Number of levels with a usable sound speed: finite and not flagged 3, 4 or 9
+    (:func:`seaprofile.casts._common.usable_sound_speed`; a computed sound speed carries
+    the worst flag of its temperature, salinity and pressure).
 
     Parameters
     ----------
     profile : xarray.Dataset
-        A Profile (``sound_speed`` m/s and its ``<var>_qc`` flags).
+        A Profile (``sound_speed`` m/s and its ``sound_speed_qc`` flags).
     """
-    ok = np.isfinite(np.asarray(profile["sound_speed"].values, dtype=np.float64))
-    for name in ("sound_speed_qc", "temperature_qc", "salinity_qc"):
-        if name in profile:
-            ok &= ~np.isin(np.asarray(profile[name].values), BAD_FLAGS)
-    return int(ok.sum())
-
-
-def _cast_span(cast, extend_to):
-    """Deepest depth, m, a cast's profile can reach (for the memory estimate)."""
-    spans = [0.0]
-    for name, scale in (("depth", 1.0), ("pressure", 1.0), ("elapsed_time", 10.0)):
-        if name in cast:  # 1 dbar is about 1 m; expendable probes fall < 10 m/s
-            v = np.asarray(cast[name].values, dtype=np.float64)
-            v = v[np.isfinite(v)]
-            if v.size:
-                spans.append(float(v.max()) * scale)
-    if extend_to is not None:
-        spans.append(float(extend_to))
-    return max(spans)
+    return int(usable_sound_speed(profile).sum())
 
 
 def _build_profile(cast, options):
-    """build_profile, with an extension that needs a reference named as ``reference``."""
-    check_memory("bin_size", profile_bytes(_cast_span(cast, options.get("extend_to")),
-                                           options["bin_size"]),
-                 f"bins of {options['bin_size']:g} m for cast {cast.attrs.get('cast_name', '')}")
-    try:
-        return build_profile(cast, **options)
-    except SeaprofileError:
-        if options.get("extend_to") is None or options.get("reference") is not None:
-            raise
-        plain = build_profile(cast, **dict(options, extend_to=None))
-        if "temperature" in plain and "salinity" in plain:
-            raise
-        raise ArgumentError("reference", "the cast has no temperature and salinity to extend "
-                            "it below its last sample; give a deeper reference profile") from None
+    """build_profile; an error about one argument (bin size, latitude, reference) is an
+    :class:`~seaprofile.io.ArgumentError` naming it, raised by the step that found it."""
+    return build_profile(cast, **options)
 
 
 def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth,
@@ -362,15 +335,14 @@ def short_assumptions(profile):
         words.append(f"salinity replaced ({str(a['salinity_replaced']).split(':')[0]})")
     if a.get("fall_rate") not in (None, ""):
         words.append(f"fall rate {a['fall_rate']}")
-    if "samples_per_bin" in profile and "sound_speed_qc" in profile:
-        inside = profile["depth"].values <= float(a.get("cast_max_depth", np.inf))
-        filled = inside & (profile["samples_per_bin"].values == 0) & (
-            profile["sound_speed_qc"].values == _cf.ESTIMATED)
-        if filled.any():
-            words.append(f"{int(filled.sum())} levels interpolated")
+    filled, _ = interpolated_levels(profile)
+    if filled:
+        words.append(f"{filled} levels interpolated")
+    if a.get("unfilled_gaps") not in (None, "", "none"):
+        words.append(f"gaps left ({a['unfilled_gaps']})")
     if a.get("extension_method") not in (None, ""):
         ref = a.get("extension_reference")
-        below = a.get("cast_max_depth")
+        below = a.get("join_depth", a.get("cast_max_depth"))
         words.append("extended" + (f" below {float(below):.0f} m" if below is not None else "")
                      + (f" from {ref}" if ref not in (None, "", "none") else " at constant T/S"
                         if "constant" in str(a["extension_method"]) else ""))
@@ -424,10 +396,16 @@ def assumptions(profile):
         coefficients = a.get("fall_rate_coefficients")
         out.append(f"fall rate {_text(a['fall_rate'])}"
                    + (f" ({_text(coefficients)})" if coefficients not in (None, "") else ""))
+    filled, inside = interpolated_levels(profile)
+    if filled:
+        out.append(f"{filled} of {inside} levels interpolated linearly in depth")
+    if a.get("unfilled_gaps") not in (None, "", "none"):
+        out.append(f"no data over {_text(a['unfilled_gaps'])}, left missing")
     if a.get("extension") not in (None, ""):
         out.append(f"extended: {_text(a['extension'])}")
     elif a.get("extension_method") not in (None, ""):
-        out.append(f"extended from {_text(a.get('cast_max_depth', '?'))} m to "
+        start = a.get("join_depth", a.get("cast_max_depth", "?"))
+        out.append(f"extended from {_text(start)} m to "
                    f"{_text(a.get('bottom_depth', '?'))} m with {_text(a['extension_method'])}")
     else:
         steps = [st for st in _cf.steps_of(a) if st.get("step") == "extend_to"]
@@ -437,7 +415,7 @@ def assumptions(profile):
                 out.append(f"not extended: {_text(st['skipped'])}")
             elif st.get("added_levels", 1) or st.get("replaced_bins", 1):  # else: nothing added
                 ref = f" {_text(st['reference'])}" if st.get("reference") else ""
-                start = a.get("cast_max_depth")
+                start = a.get("join_depth", a.get("cast_max_depth"))
                 start = f" from {_text(start)} m" if start is not None else ""
                 out.append(f"extended{start} to {_text(st.get('bottom_depth', '?'))} m by "
                            f"{_text(st.get('method', 'an unrecorded method'))}{ref}")

@@ -23,6 +23,8 @@ from ._extend import (
     extend_to,
 )
 from .casts import binning as _b
+from .casts.binning import LargeGapWarning
+from .casts._common import usable_sound_speed
 from .casts import process as _p
 from .casts import qc as _qc
 from .casts.despike import despike as _despike
@@ -32,6 +34,7 @@ _extend = extend_to  # build_profile's argument of the same name hides the funct
 # extend_to, cast_bottom_depth, check_bottom_depth, JOIN_BLEND and LongExtensionWarning are
 # defined in the private module _extend.py: this is their public home
 __all__ = ["build_profile", "extend_to", "compare_profiles", "describe_assumptions",
+           "interpolated_levels", "LargeGapWarning",
            "cast_bottom_depth", "check_bottom_depth", "CAST_TESTS", "PROFILE_TESTS",
            "JOIN_BLEND", "LongExtensionWarning"]
 
@@ -44,7 +47,7 @@ PROFILE_TESTS = ("sound_speed_range",)
 
 def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=None,
                   depth_method="unesco1983", extend_to=None, reference=None,
-                  direction="down", qc=True, max_gap=None, replacement_salinity=None,
+                  direction="down", qc=True, max_gap="auto", replacement_salinity=None,
                   replace_salinity="bad", join_blend=JOIN_BLEND):
     """Process a Cast into a sound-speed Profile.
 
@@ -68,8 +71,11 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
        test run after it; for ``"all"`` before quality control);
     10. :func:`~seaprofile.casts.binning.bin_cast`: bins where the cast is denser than
         the bins, its own levels where it is sparser;
-    11. :func:`~seaprofile.casts.binning.fill_gaps`: every interior level without data
-        (by default) interpolated linearly in depth and flagged 8;
+    11. :func:`~seaprofile.casts.binning.fill_gaps`: interior levels without data
+        interpolated linearly in depth and flagged 8 -- by default only across gaps of
+        at most 5 m or 3 times the spacing of the measured levels beside them, so a
+        bottle or float cast stays joined and lost data in a dense cast stay missing
+        (NaN, flag 9); gaps wider than 20 m warn (``LargeGapWarning``);
     12. :func:`~seaprofile.casts.binning.add_sound_speed`;
     13. :func:`~seaprofile.casts.qc.run_qc` with :data:`PROFILE_TESTS` (if ``qc``);
     14. :func:`extend_to` when ``extend_to`` is given (skipped, and recorded as skipped,
@@ -107,9 +113,14 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     direction : {"down", "up", "both"}
     qc : bool
         Run the quality-control tests.
-    max_gap : float, optional
-        m: leave gaps without data longer than this missing (NaN, flag 9). Default None:
-        fill every interior gap, so the Profile has no holes.
+    max_gap : float, "auto" or None
+        m: leave gaps without data longer than this missing (NaN, flag 9). Default
+        ``"auto"``: at most ``max(5 m, 3 x the spacing of the measured levels on either
+        side)`` (:func:`~seaprofile.casts.binning.fill_gaps`). None: fill every interior
+        gap, however long. The Profile records ``largest_gap`` (m), ``filled_gaps`` and
+        ``unfilled_gaps``, and :func:`describe_assumptions` names the gaps left. Ray
+        tracing leaves the missing levels out, i.e. joins the levels on either side of an
+        unfilled gap with a straight line: the gap is reported, not hidden.
     replacement_salinity : float or (array_like, array_like), optional
         Salinity to use where the salinity channel failed: a practical salinity, or a
         profile ``(depths_m, salinities)`` (linear in depth, constant beyond its ends).
@@ -177,7 +188,7 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     if qc:
         prof = _qc.run_qc(prof, PROFILE_TESTS)
     if bottom is not None:
-        if _usable(prof):
+        if usable_sound_speed(prof).any():
             prof = _extend(prof, bottom, reference=reference, join_blend=join_blend)
         else:  # nothing to extend from: keep the flagged profile, say why
             prof.attrs = _cf.record_step(prof.attrs, "extend_to", bottom_depth=bottom,
@@ -200,10 +211,27 @@ def _speed_only_without_position(cast, latitude):
     return lat is None or not np.isfinite(float(lat.values))
 
 
-def _usable(profile):
-    c = profile["sound_speed"].values
-    f = profile["sound_speed_qc"].values
-    return bool(_cf.usable(c, f).any())
+def interpolated_levels(profile):
+    """How many levels of a Profile were interpolated between measured ones.
+
+    Parameters
+    ----------
+    profile : xarray.Dataset
+        A Profile (``samples_per_bin``, ``sound_speed_qc``; ``cast_max_depth`` in m).
+
+    Returns
+    -------
+    (int, int)
+        The levels down to ``cast_max_depth`` with no sample and a sound speed flagged 8
+        (estimated), and all the levels down to ``cast_max_depth``; ``(0, 0)`` without
+        the variables needed.
+    """
+    if "samples_per_bin" not in profile or "sound_speed_qc" not in profile:
+        return 0, 0
+    inside = profile["depth"].values <= float(profile.attrs.get("cast_max_depth", np.inf))
+    filled = inside & (profile["samples_per_bin"].values == 0) & (
+        profile["sound_speed_qc"].values == _cf.ESTIMATED)
+    return int(filled.sum()), int(inside.sum())
 
 
 def describe_assumptions(profile):
@@ -232,17 +260,19 @@ def describe_assumptions(profile):
     if a.get("fall_rate"):
         coeff = a.get("fall_rate_coefficients", "")
         parts.append(f"fall rate {a['fall_rate']}" + (f" ({coeff})" if coeff else ""))
-    if "samples_per_bin" in profile and "sound_speed_qc" in profile:
-        z = profile["depth"].values
-        inside = z <= float(a.get("cast_max_depth", np.inf))
-        filled = inside & (profile["samples_per_bin"].values == 0) & (
-            profile["sound_speed_qc"].values == _cf.ESTIMATED)
-        if filled.any():
-            parts.append(f"{int(filled.sum())} of {int(inside.sum())} levels interpolated "
-                         "linearly in depth between measured ones (flag 8)")
+    filled, inside = interpolated_levels(profile)
+    if filled:
+        parts.append(f"{filled} of {inside} levels interpolated linearly in depth between "
+                     "measured ones (flag 8)")
+    if a.get("unfilled_gaps") not in (None, "", "none"):
+        parts.append(f"no data over {a['unfilled_gaps']}, left missing (flag 9; ray "
+                     "tracing joins the levels on either side with a straight line)")
     if a.get("extension_method"):
-        parts.append(f"extended {a.get('cast_max_depth', 0):.0f}-{a.get('bottom_depth', 0):.0f}"
+        start = float(a.get("join_depth", a.get("cast_max_depth", 0)))
+        parts.append(f"extended {start:.0f}-{float(a.get('bottom_depth', 0)):.0f}"
                      f" m with {a['extension_method']} (flag 8)")
+    if a.get("data_below_bottom") not in (None, "", "none"):
+        parts.append(str(a["data_below_bottom"]))
     return "; ".join(parts) if parts else "none"
 
 
@@ -263,10 +293,9 @@ def compare_profiles(a, b):
         ``max_abs_difference_depth`` (m).
     """
     def usable(p):
-        c = p["sound_speed"].values.astype(np.float64)
-        f = p["sound_speed_qc"].values if "sound_speed_qc" in p else np.zeros(c.size, np.int8)
-        ok = _cf.usable(c, f)
-        return p["depth"].values.astype(np.float64)[ok], c[ok]
+        ok = usable_sound_speed(p)
+        return (p["depth"].values.astype(np.float64)[ok],
+                p["sound_speed"].values.astype(np.float64)[ok])
 
     for name, p in (("a", a), ("b", b)):
         if not isinstance(p, xr.Dataset) or "sound_speed" not in p:

@@ -203,3 +203,20 @@ def test_half_known_position_still_diagnosed():
     d = describe(half)
     assert d["mixed_layer_depth_density"] is not None
     assert float(half["latitude"]) == float(p["latitude"])  # the input is not modified
+
+
+def test_speed_only_errors_are_not_all_blamed_on_the_reference(tmp_path):
+    # a speed-only cast with no position, extended: the depth-to-pressure conversion below
+    # it needs a latitude, and the error says so (the old retry called every error of a
+    # speed-only extension a missing --reference)
+    from seaprofile.casts.model import make_cast
+
+    z = np.arange(1.0, 100.0)
+    cast = make_cast(depth=z, measured_sound_speed=1500.0 + 0.016 * z, instrument="svp",
+                     cast_name="invented-svp")
+    path = tmp_path / "svp.csv"
+    write(cast, path, format="csv")
+    (res,) = build_files([path], extend_to=500.0)
+    assert not res.ok and res.error_argument == "latitude"
+    (res,) = build_files([path], extend_to=500.0, latitude=30.0)
+    assert not res.ok and res.error_argument == "reference"

@@ -301,3 +301,162 @@ def test_salinity_from_a_failed_conductivity_is_not_binned(tmp_path, path):
     # water once the glitch is left out; with it the mean would be 34.5 - 0.015 / 4
     assert prof["salinity"].sel(depth=30.0).item() == pytest.approx(34.5, abs=1e-9)
     assert prof["temperature"].sel(depth=30.0).item() == pytest.approx(20.0, abs=1e-9)
+
+
+# --- gaps without data (review finding 1) ----------------------------------------------
+def dense_cast_with_a_hole(top=100.0, bottom=400.0):
+    """Invented 0.5 m CTD cast to 600 m with no data from ``top`` to ``bottom`` m."""
+    z = np.arange(1.0, 600.0, 0.5)
+    z = z[(z < top) | (z > bottom)]
+    t = 4.0 + 14.0 * np.exp(-z / 150.0)
+    s = 35.0 - 0.4 * np.exp(-z / 150.0)
+    return make_cast(depth=z, temperature=t, salinity=s, latitude=LAT, longitude=LON,
+                     cast_name="invented-hole")
+
+
+def test_data_loss_in_a_dense_cast_stays_missing_and_is_reported():
+    import warnings
+
+    from seaprofile.casts.binning import LargeGapWarning
+    from seaprofile.propagation.environment import Environment
+
+    with pytest.warns(LargeGapWarning, match="left missing"):
+        prof = build_profile(dense_cast_with_a_hole())
+    z, c, f = (prof[v].values for v in ("depth", "sound_speed", "sound_speed_qc"))
+    hole = (z > 101.0) & (z < 399.0)
+    assert hole.sum() > 250
+    assert np.isnan(c[hole]).all() and (f[hole] == _cf.MISSING).all()
+    assert not (f == _cf.ESTIMATED).any()  # nothing invented
+    # the levels with data around it: the 1 m bins at about 100 and 400 m
+    assert 298.0 <= prof.attrs["largest_gap"] <= 302.0
+    assert prof.attrs["filled_gaps"] == "none"
+    assert prof.attrs["unfilled_gaps"].endswith(" m") and "-" in prof.attrs["unfilled_gaps"]
+    assert "left missing (flag 9" in prof.attrs["assumptions"]
+    # rays leave the missing levels out (documented: the gap is reported, not hidden)
+    env = Environment.from_profile(prof)
+    assert env is not None
+    # the explicit override fills everything, flagged 8, and still warns
+    with pytest.warns(LargeGapWarning, match="straight line"):
+        full = build_profile(dense_cast_with_a_hole(), max_gap=None)
+    assert np.isfinite(full["sound_speed"].values).all()
+    assert (full["sound_speed_qc"].values[hole] == _cf.ESTIMATED).all()
+    assert full.attrs["unfilled_gaps"] == "none"
+    # a short loss (3 m) in the same dense cast is filled without a warning
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", LargeGapWarning)
+        small = build_profile(dense_cast_with_a_hole(200.0, 203.0))
+    assert np.isfinite(small["sound_speed"].values).all()
+    assert small.attrs["unfilled_gaps"] == "none"
+
+
+def test_bottle_cast_stays_joined_with_the_default_gap_rule():
+    z = np.arange(5.0, 500.0, 50.0)  # bottles 50 m apart: 3 x 50 m > each 49 m gap
+    cast = make_cast(depth=z, temperature=4.0 + 14.0 * np.exp(-z / 150.0),
+                     salinity=35.0 - 0.4 * np.exp(-z / 150.0), latitude=LAT, longitude=LON)
+    with pytest.warns(UserWarning):
+        prof = build_profile(cast)
+    assert np.isfinite(prof["sound_speed"].values).all()
+    assert prof.attrs["unfilled_gaps"] == "none"
+    assert prof.attrs["largest_gap"] == pytest.approx(50.0)
+
+
+def test_max_gap_checked_naming_it():
+    from seaprofile.io import ArgumentError
+
+    for bad in (-1.0, "wide", np.nan):
+        with pytest.raises(ArgumentError) as err:
+            build_profile(ctd_cast(), max_gap=bad)
+        assert err.value.argument == "max_gap"
+
+
+# --- the join to a reference (finding 2) -----------------------------------------------
+def test_join_to_a_reference_keeps_the_references_channel_axis():
+    from pathlib import Path
+
+    from seaprofile import read_cast
+    from seaprofile.layers import describe
+
+    demo = Path(__file__).resolve().parents[1] / "demo_casts"
+    ref = build_profile(read_cast(demo / "deep_ocean_ctd.csv"))
+    xbt = build_profile(read_cast(demo / "xbt_drop.csv"), extend_to=3000.0, reference=ref)
+    # the reference's own axis, independently: the depth of its least usable sound speed
+    ok = _cf.usable(ref["sound_speed"].values, ref["sound_speed_qc"].values)
+    axis = ref["depth"].values[ok][np.argmin(ref["sound_speed"].values[ok])]
+    assert xbt.attrs["join_depth"] < axis  # the probe ends above the axis
+    # within a few metres (3 m: three 1 m bins; common practice, no source)
+    assert abs(describe(xbt)["channel_axis_depth"] - axis) <= 3.0
+    # no step at the join: the largest change between 1 m levels near it stays that of
+    # the water around it (under 0.05 m/s per m here; before the fix 0.21 m/s)
+    z, c = xbt["depth"].values, xbt["sound_speed"].values
+    near = (z > xbt.attrs["join_depth"] - 5) & (z < xbt.attrs["join_depth"] + 5)
+    assert np.abs(np.diff(c[near])).max() < 0.05
+
+
+# --- the join depth (finding 6) --------------------------------------------------------
+def test_assumptions_name_the_real_join_depth():
+    cast = ctd_cast()
+    prof = build_profile(cast)
+    # the deepest 20 bins bad: the extension starts above cast_max_depth
+    f = prof["sound_speed_qc"].values.copy()
+    f[-20:] = _cf.BAD
+    prof["sound_speed_qc"].values[:] = f
+    join = float(prof["depth"].values[-21])
+    out = extend_to(prof, 500.0)
+    assert out.attrs["join_depth"] == join
+    assert out.attrs["cast_max_depth"] > join
+    assert f"extended {join:.0f}-500 m" in out.attrs["assumptions"]
+
+
+def test_bottom_above_the_data_is_recorded():
+    prof = build_profile(ctd_cast())
+    out = extend_to(prof, 200.0)
+    assert out.attrs["bottom_depth"] == 200.0
+    assert "below the sea-floor depth given (200 m)" in out.attrs["data_below_bottom"]
+    assert out.attrs["data_below_bottom"] in out.attrs["assumptions"]
+    assert out.sizes["depth"] == prof.sizes["depth"]
+
+
+# --- errors naming their argument (finding 3) ------------------------------------------
+def test_errors_name_the_argument():
+    from seaprofile.io import ArgumentError
+
+    cast = ctd_cast()
+    with pytest.raises(ArgumentError) as err:
+        build_profile(cast, bin_size=0.0)
+    assert err.value.argument == "bin_size" and "bin_size" not in err.value.reason
+    nowhere = cast.assign_coords(latitude=np.nan)
+    with pytest.raises(ArgumentError) as err:
+        build_profile(nowhere)
+    assert err.value.argument == "latitude" and "latitude" not in err.value.reason.split(":")[0]
+    with pytest.raises(ArgumentError) as err:
+        build_profile(cast, extend_to=-3.0)
+    assert err.value.argument == "extend_to"
+    with pytest.raises(ArgumentError) as err:
+        build_profile(cast, extend_to="bottom")
+    assert err.value.argument == "extend_to"
+    speed = make_cast(depth=np.arange(1.0, 100.0), measured_sound_speed=1500 + 0.01 * np.arange(
+        1.0, 100.0), instrument="svp", latitude=LAT)
+    with pytest.raises(ArgumentError) as err:
+        build_profile(speed, extend_to=500.0)
+    assert err.value.argument == "reference"
+
+
+# --- one helper for interpolated levels (finding 8) ------------------------------------
+def test_interpolated_levels_counted_once_for_every_text():
+    from seaprofile.batch import assumptions, short_assumptions, usable_bins
+    from seaprofile.profile import interpolated_levels
+
+    z = np.arange(5.0, 300.0, 25.0)
+    cast = make_cast(depth=z, temperature=4.0 + 14.0 * np.exp(-z / 150.0),
+                     salinity=35.0 - 0.4 * np.exp(-z / 150.0), latitude=LAT, longitude=LON)
+    with pytest.warns(UserWarning):
+        prof = build_profile(cast)
+    n, total = interpolated_levels(prof)
+    assert n == int((prof["samples_per_bin"].values == 0).sum()) and total == prof.sizes["depth"]
+    assert f"{n} of {total} levels interpolated" in prof.attrs["assumptions"]
+    assert f"{n} levels interpolated" in short_assumptions(prof)
+    bare = prof.copy()
+    del bare.attrs["assumptions"]
+    assert f"{n} of {total} levels interpolated" in "; ".join(assumptions(bare))
+    ok = _cf.usable(prof["sound_speed"].values, prof["sound_speed_qc"].values)
+    assert usable_bins(prof) == int(ok.sum())

@@ -5,6 +5,8 @@ casts must come out of the chain with their measured levels intact, no interior 
 and interpolated levels flagged 8 (estimated).
 """
 
+import warnings
+
 import gsw
 import numpy as np
 import pytest
@@ -12,7 +14,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from seaprofile import _cf
+from seaprofile.casts.binning import LargeGapWarning
 from seaprofile.casts.model import make_cast
+from seaprofile.casts.qc import qc_summary
 from seaprofile.profile import build_profile, describe_assumptions
 
 LAT, LON = 30.0, -40.0
@@ -102,7 +106,11 @@ def test_speed_only_probe_keeps_measured_levels(spacing, first):
 def test_a_real_spike_on_a_sparse_cast_is_flagged_and_reported():
     z = np.arange(2.0, 1000.0, 10.0)
     t = thermocline_t(z)
-    t[30] += 8.0  # 302 m: beyond the Argo threshold of 6 degC above 500 dbar
+    # Wong et al., Argo Quality Control Manual for CTD and Trajectory Data,
+    # doi:10.13155/33951, real-time test 9 (spike): temperature threshold 6 degC above
+    # 500 dbar; a spike of 8 degC at 302 m exceeds it by 2 degC, far beyond the smooth
+    # thermocline's own curvature between bottles 10 m apart
+    t[30] += 8.0
     cast = make_cast(depth=z, temperature=t, salinity=thermocline_s(z), latitude=LAT,
                      longitude=LON)
     prof = build_profile(cast)
@@ -151,24 +159,41 @@ def test_constant_temperature_salinity_planning_profile(n):
 
 
 def test_dense_constant_speed_probe_is_not_condemned():
-    # a speed-only probe in an isovelocity tank or well-mixed water reporting one value
+    # a speed-only probe in well-mixed water: temperature and salinity constant, sound
+    # speed rising only by the pressure term, 1.630e-2 m/s per m (Mackenzie 1981,
+    # J. Acoust. Soc. Am. 70, 807-812, linear depth coefficient) -- not a stuck sensor
     z = np.arange(1.0, 60.0, 0.5)
+    c = 1480.0 + 1.630e-2 * z
+    cast = make_cast(depth=z, measured_sound_speed=c, instrument="svp", latitude=LAT)
+    prof = build_profile(cast)
+    assert (prof["sound_speed_qc"].values == _cf.GOOD).all()
+
+
+def test_dense_stuck_speed_probe_is_flagged():
+    # hundreds of samples of one value over 149 m: even well-mixed water would have
+    # changed by ~2.4 m/s through the pressure term (Mackenzie 1981, 1.630e-2 m/s per m),
+    # so the Argo stuck-value test (doi:10.13155/33951, test 13) flags them bad (4) and
+    # no level of the profile is usable
+    z = np.arange(1.0, 150.0, 0.5)
     cast = make_cast(depth=z, measured_sound_speed=np.full(z.size, 1480.0),
                      instrument="svp", latitude=LAT)
     prof = build_profile(cast)
-    assert (prof["sound_speed_qc"].values == _cf.GOOD).all()
-    assert np.all(prof["sound_speed"].values == 1480.0)
+    assert qc_summary(prof)["stuck_value"]["measured_sound_speed"] == z.size
+    assert not _cf.usable(prof["sound_speed"].values, prof["sound_speed_qc"].values).any()
 
 
 @settings(max_examples=30, deadline=None)
 @given(st.lists(st.floats(0.2, 60.0), min_size=1, max_size=40), st.floats(0.0, 5.0))
 def test_any_spacing_gives_a_profile_without_holes(gaps, first):
-    # invariant: whatever the spacing, no interior holes, depths increasing, isolated
-    # samples kept at their own depth with their own value, the rest flagged 1 or 8
+    # invariant: whatever the spacing, filling every gap (max_gap=None) leaves no interior
+    # holes, depths increasing, isolated samples kept at their own depth with their own
+    # value, the rest flagged 1 or 8
     z = first + np.concatenate(([0.0], np.cumsum(gaps)))
     c = munk(z)
     cast = make_cast(depth=z, measured_sound_speed=c, instrument="svp", latitude=LAT)
-    prof = build_profile(cast)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", LargeGapWarning)
+        prof = build_profile(cast, max_gap=None)
     depth, speed = prof["depth"].values, prof["sound_speed"].values
     assert np.isfinite(speed).all() and (np.diff(depth) > 0).all()
     assert set(np.unique(prof["sound_speed_qc"].values)) <= {_cf.GOOD, _cf.ESTIMATED}

@@ -12,6 +12,7 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError
+from ..io.errors import ArgumentError
 
 
 def require_cast(cast, name="cast"):
@@ -49,19 +50,41 @@ def cast_latitude(ds, latitude):
 
     Raises
     ------
-    SeaprofileError
-        When the latitude is unknown (NaN) or outside -90..90.
+    seaprofile.io.ArgumentError
+        Naming ``latitude`` when the latitude is unknown (NaN) or outside -90..90.
     """
     if latitude is None:
         latitude = scalar_coordinate(ds, "latitude")
-    lat = float(latitude)
+    try:
+        lat = float(latitude)
+    except (TypeError, ValueError):
+        raise ArgumentError("latitude", f"must be degrees north, got {latitude!r}") from None
     if not np.isfinite(lat):
-        raise SeaprofileError(
-            "latitude is unknown: the cast has no position; give latitude (degrees north)"
-        )
+        raise ArgumentError(
+            "latitude", "unknown: the cast has no position; give the latitude (degrees north)")
     if abs(lat) > 90.0:
-        raise SeaprofileError(f"latitude must lie within -90..90 degrees, got {lat:g}")
+        raise ArgumentError("latitude", f"must lie within -90..90 degrees, got {lat:g}")
     return lat
+
+
+def usable_sound_speed(profile):
+    """Where a Profile's sound speed may be used: finite and not flagged 3, 4 or 9
+    (:func:`seaprofile._cf.usable` on ``sound_speed`` and ``sound_speed_qc``).
+
+    Parameters
+    ----------
+    profile : xarray.Dataset
+        A Profile with ``sound_speed`` (m/s) and, optionally, ``sound_speed_qc``.
+
+    Returns
+    -------
+    numpy.ndarray of bool
+        One value per depth level.
+    """
+    c = np.asarray(profile["sound_speed"].values, np.float64)
+    f = (profile["sound_speed_qc"].values if "sound_speed_qc" in profile
+         else np.zeros(c.size, np.int8))
+    return _cf.usable(c, f)
 
 
 def exceeds_earlier(q):

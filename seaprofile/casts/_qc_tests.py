@@ -44,6 +44,13 @@ SOUND_SPEED_RANGE = (1400.0, 1700.0)
 #: fewest usable values for the whole-profile stuck-value test (common practice, no
 #: source): two or three identical values are a normal planning input, not a stuck sensor
 STUCK_MIN_VALUES = 10
+#: m (or dbar): a sound-speed probe is tested for a stuck value only when its usable
+#: values span at least this depth (common practice, no source): in still, well-mixed
+#: water the pressure term alone raises sound speed by about 0.016 m/s per m
+#: (Mackenzie 1981, J. Acoust. Soc. Am. 70, 807-812, depth coefficient 1.630e-2), i.e.
+#: 0.3 m/s over 20 m, so one value repeated over a longer span is a stuck sensor; shorter
+#: speed-only casts and two- or three-node planning profiles are spared
+STUCK_MIN_SPAN = 20.0
 
 
 # --- helpers ---------------------------------------------------------------------------
@@ -201,9 +208,13 @@ def spike(ds, variables=None, thresholds=None):
 
     The test compares each value with its adjacent usable values, whatever their spacing,
     and its test value is the distance by which V2 lies *outside* the range of V1 and V3:
-    zero on any monotone stretch, however steep. A real gradient therefore never fails,
-    on a 24 Hz CTD record or on bottles 50 m apart alike; only a value standing out
-    beyond both neighbours by more than the depth-dependent threshold does.
+    zero on any monotone stretch, however steep. A real gradient on a monotone stretch
+    therefore never fails, on a 24 Hz CTD record or on bottles 50 m apart alike; only a
+    value standing out beyond both neighbours by more than the depth-dependent threshold
+    does. That includes a real extremum: a subsurface temperature maximum or minimum
+    caught by a single bottle between two widely spaced ones can stand out by more than
+    the threshold and be flagged, although it is real water -- on sparse casts a spike
+    flag at an extremum deserves a look before the value is discarded.
     """
     return _single(_spike)(ds, variables=variables, thresholds=thresholds)
 
@@ -239,7 +250,8 @@ def _gradient(w, variables=None, thresholds=None):
     w.apply(_neighbour_test(w, variables, thresholds, "gradient"), "gradient")
 
 
-def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES):
+def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES,
+                min_span=STUCK_MIN_SPAN):
     """Flag a sensor that reports one value throughout.
 
     Parameters
@@ -247,10 +259,12 @@ def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES
     ds : xarray.Dataset
         A Cast or a Profile.
     variables : sequence of str, optional
-        Default temperature, salinity and conductivity (those present), the variables of
-        Argo's test. Measured sound speed is left out by default: a constant sound speed
-        is a normal isovelocity planning input (e.g. 1500 m/s at 0 and 100 m); name it here
-        to test a sound-speed probe.
+        Default temperature, salinity and conductivity -- the variables of Argo's test --
+        and measured sound speed (those present). Measured sound speed is tested only
+        with at least ``min_values`` usable values spanning at least ``min_span``: a
+        constant sound speed at two or three nodes is a normal isovelocity planning input
+        (e.g. 1500 m/s at 0 and 100 m), while hundreds of samples of one value over tens
+        of metres are a stuck probe (the pressure term alone changes sound speed there).
     run_length : int, optional
         Also flag as probably bad (3) every run of at least ``run_length`` consecutive
         usable samples with identical values. Off by default: well-mixed water recorded at
@@ -260,6 +274,10 @@ def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES
         :data:`STUCK_MIN_VALUES`, 10; common practice, no source): a short profile --
         two or three planning nodes, a few bottles in well-mixed water -- repeats a value
         legitimately, and is not tested.
+    min_span : float
+        m (dbar when the Dataset has no depth): the smallest vertical span of the usable
+        values for measured sound speed to be tested (default :data:`STUCK_MIN_SPAN`,
+        20; common practice, no source).
 
     Returns
     -------
@@ -272,18 +290,32 @@ def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES
     Argo QC manual (doi:10.13155/33951), real-time test 13 "stuck value".
     """
     return _single(_stuck_value)(ds, variables=variables, run_length=run_length,
-                                 min_values=min_values)
+                                 min_values=min_values, min_span=min_span)
 
 
-def _stuck_value(w, variables=None, run_length=None, min_values=STUCK_MIN_VALUES):
-    default = ("temperature", "salinity", "conductivity")
+def _vertical_span(ds, idx):
+    """Vertical span, m (dbar without depth), of the levels ``idx``; 0 when unknown."""
+    for name in ("depth", "pressure"):
+        if name in ds.variables:
+            x = ds[name].values.astype(np.float64)[idx]
+            x = x[np.isfinite(x)]
+            if x.size:
+                return float(x.max() - x.min())
+    return 0.0
+
+
+def _stuck_value(w, variables=None, run_length=None, min_values=STUCK_MIN_VALUES,
+                 min_span=STUCK_MIN_SPAN):
+    default = ("temperature", "salinity", "conductivity", "measured_sound_speed")
     hits, runs = {}, {}
     for var in _present(w.ds, variables, default):
         values, ok = w.usable(var)
         idx = np.flatnonzero(ok)
         v = values[idx]
         whole = np.zeros(values.size, bool)
-        if idx.size >= max(2, int(min_values)) and np.all(v == v[0]):
+        spans = (var != "measured_sound_speed"
+                 or (idx.size and _vertical_span(w.ds, idx) >= float(min_span)))
+        if idx.size >= max(2, int(min_values)) and spans and np.all(v == v[0]):
             whole[idx] = True
         hits[var] = whole
         if run_length is not None and idx.size >= 2:

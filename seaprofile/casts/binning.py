@@ -1,8 +1,8 @@
 """Binning a Cast into a Profile, filling short gaps, and the Profile's sound speed.
 
 :func:`bin_cast` averages the usable samples of a Cast into regular depth (or pressure)
-bins -- the Profile; :func:`fill_gaps` interpolates across short runs of empty bins
-(flagged 8, estimated); :func:`add_sound_speed` adds sound speed, computed by a published
+bins -- the Profile; :func:`fill_gaps` (in :mod:`seaprofile.casts.gaps`) interpolates
+across short runs of empty bins (flagged 8, estimated); :func:`add_sound_speed` adds sound speed, computed by a published
 equation or taken from a sound-speed probe. The steps before them are in
 :mod:`seaprofile.casts.process`. Inputs are never modified; each step records itself with :func:`seaprofile._cf.record_step`.
 """
@@ -16,6 +16,8 @@ from .. import _cf
 from .._validate import SeaprofileError
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
+from ..io.errors import ArgumentError, MemoryLimitError
+from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
 from ._common import (
     cast_latitude,
     position,
@@ -24,45 +26,57 @@ from ._common import (
     with_variable,
 )
 from .flags import worst_flag
+from .gaps import (  # fill_gaps and its settings: public here too
+    AUTO_GAP_FLOOR,
+    AUTO_GAP_SPACINGS,
+    LARGE_GAP,
+    LargeGapWarning,
+    fill_gaps,
+)
 
-__all__ = ["bin_cast", "fill_gaps", "add_sound_speed"]
+__all__ = ["bin_cast", "fill_gaps", "add_sound_speed", "LargeGapWarning", "AUTO_GAP_FLOOR",
+           "AUTO_GAP_SPACINGS", "LARGE_GAP", "MAX_BINS", "check_bin_count", "check_step"]
 
 #: variables a Cast may hold that :func:`bin_cast` averages (or converts, for the axis pair)
 _BINNED = ("pressure", "depth", "temperature", "salinity", "measured_sound_speed")
 
 
-#: most bins one Profile may have (an error beyond: a tiny bin would allocate gigabytes)
-MAX_BINS = 2_000_000
 #: a sample farther than this many bins from the nearest usable sample on each side keeps
 #: its own level instead of being binned (our choice: at least one empty bin on each side)
 SPARSE_SPACING = 2.0
 
-
-def check_bin_count(count, step, span, name="step"):
-    """Raise :class:`SeaprofileError` naming ``name`` when ``count`` bins exceed
-    :data:`MAX_BINS`; the message says the memory they would need (``step`` and ``span``
-    in m or dbar)."""
-    if count > MAX_BINS:
-        need = count * _BYTES_PER_BIN
-        raise SeaprofileError(
-            f"{name}: a bin size of {step:g} over {span:g} m needs {count:.3g} bins, about "
-            f"{need / 1e9:.3g} GB of memory; at most {MAX_BINS:,} bins are made: use a larger "
-            f"{name}")
+#: most bins one Profile may have: the one memory model of :mod:`seaprofile.io`
+#: (:data:`~seaprofile.io.MEMORY_LIMIT` / :data:`~seaprofile.io.outputs.BYTES_PER_BIN`),
+#: the same the command line checks before reading any cast
+MAX_BINS = MEMORY_LIMIT // BYTES_PER_BIN
 
 
-# float64 values and int8 flags of about six variables, counts, and working copies
-_BYTES_PER_BIN = 3 * (6 * 9 + 4 + 16)
+def check_bin_count(count, step, span, name="step", unit="m"):
+    """Raise :class:`~seaprofile.io.MemoryLimitError` naming ``name`` when ``count`` bins
+    would need more than :data:`~seaprofile.io.MEMORY_LIMIT` (:data:`MAX_BINS` bins).
+
+    The estimate is :func:`seaprofile.io.profile_bytes` -- the one the command line uses
+    up front -- so a bin size accepted there is accepted here. ``step`` and ``span`` are in
+    ``unit`` (m for depth bins, dbar for pressure bins).
+    """
+    bins = float(count) if np.isfinite(count) else np.inf
+    requested = bins * BYTES_PER_BIN
+    if requested > MEMORY_LIMIT:
+        raise MemoryLimitError(
+            name, f"a bin size of {step:g} {unit} over {span:g} {unit} needs {bins:.3g} bins, "
+            f"about {format_bytes(requested)}, more than the {format_bytes(MEMORY_LIMIT)} of "
+            f"memory allowed (at most {MAX_BINS:,} bins); use a larger bin size", min(requested, 2.0**62), MEMORY_LIMIT)
 
 
-def check_step(step, name="step"):
-    """``step`` as a float, or :class:`SeaprofileError` naming ``name`` unless it is a
-    finite number > 0."""
+def check_step(step, name="step", unit="m"):
+    """``step`` as a float, or :class:`~seaprofile.io.ArgumentError` naming ``name``
+    unless it is a finite number > 0 (``unit``: m, or dbar for pressure bins)."""
     try:
         value = float(step)
     except (TypeError, ValueError):
-        raise SeaprofileError(f"{name} must be a bin size in m, got {step!r}") from None
+        raise ArgumentError(name, f"must be a bin size in {unit}, got {step!r}") from None
     if not (np.isfinite(value) and value > 0):
-        raise SeaprofileError(f"{name} must be a finite bin size > 0 m, got {step!r}")
+        raise ArgumentError(name, f"must be a finite bin size > 0 {unit}, got {step!r}")
     return value
 
 
@@ -133,7 +147,8 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
     require_cast(cast)
     if axis not in ("depth", "pressure"):
         raise SeaprofileError(f"axis must be 'depth' or 'pressure', got {axis!r}")
-    step = check_step(step, argument)
+    unit = "m" if axis == "depth" else "dbar"
+    step = check_step(step, argument, unit)
     other = "pressure" if axis == "depth" else "depth"
     for v in (axis, other):
         if v not in cast.data_vars:
@@ -145,7 +160,7 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
 
     x = cast[axis].values.astype(np.float64)
     xflag = cast[f"{axis}_qc"].values
-    placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument)
+    placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument, unit)
     levels = placed & _isolated(x, placed, float(sparse_spacing) * step)
     binned = placed & ~levels
     nb = centres.size
@@ -176,7 +191,10 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
     nl = int(levels.sum())
     depth = np.concatenate([depth, cast["depth"].values[levels]])
     pressure = np.concatenate([pressure, cast["pressure"].values[levels]])
-    pair_flag = np.concatenate([axis_flag, cast[f"{other}_qc"].values[levels]])
+    # the pressure column's flags: a kept level has the cast's own pressure_qc (on
+    # either axis); a bin has its axis samples' flags (pressure bins: their pressure_qc;
+    # depth bins: the depth_qc of the depths the pressure was converted from)
+    pair_flag = np.concatenate([axis_flag, cast["pressure_qc"].values[levels]])
     if no_pressure:
         pair_flag[:] = _cf.MISSING
     counts = np.concatenate([counts, np.ones(nl, np.int64)])
@@ -260,7 +278,7 @@ def _keep_rows(position, counts, nb, step):
     return rows[np.argsort(position[rows], kind="stable")]
 
 
-def _bin_numbers(x, flags, step, axis, argument="step"):
+def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
     """Which samples go into a bin, the bin (from 0) of each, and the bin centres.
 
     A sample is placed when its axis value ``x`` is finite, not flagged 3, 4 or 9 and not
@@ -274,7 +292,7 @@ def _bin_numbers(x, flags, step, axis, argument="step"):
     lo, hi = float(x[placed].min()), float(x[placed].max())
     with np.errstate(over="ignore", invalid="ignore"):
         count = np.floor(hi / step + 0.5) - np.floor(lo / step + 0.5) + 1
-    check_bin_count(count if np.isfinite(count) else np.inf, step, hi - lo, argument)
+    check_bin_count(count if np.isfinite(count) else np.inf, step, hi - lo, argument, unit)
     k = np.zeros(x.size, np.int64)
     k[placed] = np.floor(x[placed] / step + 0.5).astype(np.int64)
     kmin = int(k[placed].min())
@@ -301,76 +319,6 @@ def _bin_means(cast, var, placed, idx, nb):
     bflag = _highest_flag(idx, use, fl, nb)
     bflag[n == 0] = _cf.MISSING
     return mean, bflag
-
-
-def _profile_vars(profile):
-    return [v for v in ("temperature", "salinity", "pressure", "measured_sound_speed",
-                        "sound_speed") if v in profile.data_vars]
-
-
-def fill_gaps(profile, max_gap=5.0):
-    """Interpolate linearly in depth across empty levels inside a Profile, flagged 8.
-
-    Every variable -- temperature and salinity, or the measured sound speed of a probe --
-    is interpolated linearly in depth between the nearest levels with a usable value above
-    and below; sound speed is then computed from the interpolated temperature and
-    salinity by :func:`add_sound_speed` (so the pressure term is exact at every level),
-    and a probe's measured sound speed is interpolated itself. Levels with data are never
-    changed.
-
-    Parameters
-    ----------
-    profile : xarray.Dataset
-        A Profile (not modified).
-    max_gap : float or None
-        m: the largest gap filled, measured as the depth span of the missing levels
-        (distance between the levels with data on either side, less one bin). None: fill
-        every interior gap, whatever its length, so the Profile has no interior holes
-        (what :func:`seaprofile.profile.build_profile` does). Gaps at the top or bottom
-        of the profile are never filled.
-
-    Returns
-    -------
-    xarray.Dataset
-        A new Profile; filled values are flagged 8 and keep ``samples_per_bin`` 0. The
-        step records ``filled`` (per variable) and ``largest_gap`` (m, the widest depth
-        span between two levels with data that was filled across).
-    """
-    require_profile(profile)
-    if max_gap is not None:
-        max_gap = float(max_gap)
-        if not max_gap >= 0:
-            raise SeaprofileError(f"max_gap must be >= 0 m or None, got {max_gap}")
-    z = profile["depth"].values.astype(np.float64)
-    step = profile.attrs.get("bin_size")
-    step = float(step) if step else (float(np.median(np.diff(z))) if z.size > 1 else 0.0)
-    out = profile.copy()
-    filled, widest = {}, 0.0
-    for var in _profile_vars(profile):
-        v = profile[var].values.astype(np.float64)
-        good = np.isfinite(v)
-        iv = np.flatnonzero(good)
-        if iv.size < 2:
-            filled[var] = 0
-            continue
-        j = np.flatnonzero(~good)
-        j = j[(j > iv[0]) & (j < iv[-1])]
-        pos = np.searchsorted(iv, j)
-        width = z[iv[pos]] - z[iv[pos - 1]]
-        if max_gap is not None:
-            keep = width - step <= max_gap + 1e-9 * max(1.0, abs(max_gap))
-            j, width = j[keep], width[keep]
-        widest = max(widest, float(width.max()) if width.size else 0.0)
-        new = v.copy()
-        new[j] = np.interp(z[j], z[iv], v[iv])
-        flags = profile[f"{var}_qc"].values.copy()
-        flags[j] = _cf.ESTIMATED
-        out.variables[var].data = new  # the copy's own Variables: the input is untouched
-        out.variables[f"{var}_qc"].data = flags.astype(np.int8)
-        filled[var] = int(j.size)
-    out.attrs = _cf.record_step(profile.attrs, "fill_gaps", max_gap=max_gap, filled=filled,
-                                largest_gap=widest, method="linear in depth")
-    return out
 
 
 def add_sound_speed(profile, equation="chen_millero1977", *, prefer_measured=True):

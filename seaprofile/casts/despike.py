@@ -13,6 +13,7 @@ import numpy as np
 
 from .. import _cf
 from .._validate import SeaprofileError
+from ..io.errors import ArgumentError
 from ._common import require_cast, vertical
 from .flags import pass_on_failed, raise_flags
 
@@ -71,6 +72,20 @@ def _running_median(x, half):
     return out
 
 
+def _positive(name, value, what, whole=False):
+    """``value`` as a finite number > 0 (an int when ``whole``), else an
+    :class:`~seaprofile.io.ArgumentError` naming ``name``."""
+    if isinstance(value, bool):
+        raise ArgumentError(name, f"must be {what}, got {value!r}")
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise ArgumentError(name, f"must be {what}, got {value!r}") from None
+    if not (np.isfinite(number) and number > 0) or (whole and number != int(number)):
+        raise ArgumentError(name, f"must be {what}, got {value!r}")
+    return int(number) if whole else number
+
+
 def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
             max_span=DESPIKE_MAX_SPAN):
     """Flag spikes as bad (4) with a running median and median absolute deviation.
@@ -125,12 +140,13 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
     doi:10.13155/33951, real-time test 9.
     """
     require_cast(cast)
-    window = int(window)
-    if window < 3:
-        raise SeaprofileError(f"window must be at least 3 samples, got {window}")
-    max_span = float(max_span)
-    if not max_span > 0:
-        raise SeaprofileError(f"max_span must be a positive span (dbar or m), got {max_span}")
+    window = _positive("window", window, "an odd whole number of samples >= 3", whole=True)
+    if window < 3 or window % 2 == 0:
+        raise ArgumentError("window", f"must be an odd whole number of samples >= 3, got "
+                            f"{window}")
+    threshold = _positive("threshold", threshold, "a number of robust standard deviations "
+                          "> 0")
+    max_span = _positive("max_span", max_span, "a vertical span > 0 (dbar or m)")
     half = window // 2
     floor = DESPIKE_FLOOR if floor is None else {**DESPIKE_FLOOR, **floor}
     if variables is None:

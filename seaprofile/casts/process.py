@@ -340,13 +340,13 @@ def add_depth(cast, latitude=None, method="unesco1983"):
     if "pressure" in cast.data_vars:
         with np.errstate(over="ignore", invalid="ignore"):  # wild values: flagged by QC
             z = depth_from_pressure(cast["pressure"].values, lat, method)
-        out = with_variable(cast, "sample", "depth", z, cast["pressure_qc"].values,
+        out = with_variable(cast, "sample", "depth", z, cast["pressure_qc"].values.copy(),
                             comment=f"from pressure, method {method}")
         src = "pressure"
     elif "depth" in cast.data_vars:
         with np.errstate(over="ignore", invalid="ignore"):
             p = pressure_from_depth(cast["depth"].values, lat, method)
-        out = with_variable(cast, "sample", "pressure", p, cast["depth_qc"].values,
+        out = with_variable(cast, "sample", "pressure", p, cast["depth_qc"].values.copy(),
                             comment=f"from depth, method {method}")
         src = "depth"
     else:

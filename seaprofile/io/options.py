@@ -11,7 +11,7 @@ import re
 
 from ..casts._qc_tests import MAX_OCEAN_DEPTH
 from .errors import ArgumentError
-from .outputs import check_memory, profile_bytes
+from ..casts.binning import check_bin_count
 
 __all__ = ["FULL_OCEAN_DEPTH", "SCHEDULERS", "check_build_options", "check_read_options",
            "check_replacement_salinity", "check_scheduler", "parse_pairs"]
@@ -176,8 +176,8 @@ def check_build_options(*, bin_size=1.0, extend_to=None, equation=None, depth_me
             raise ArgumentError("extend_to", f"{depth:g} m is deeper than any ocean (at most "
                                 f"{MAX_OCEAN_DEPTH:g} m)")
         deepest = max(deepest, depth)
-    check_memory("bin_size", profile_bytes(deepest, size),
-                 f"bins of {size:g} m ({deepest / size:,.0f} bins down to {deepest:g} m)")
+    # the same check, constant and message binning applies to each cast
+    check_bin_count(deepest / size + 1.0, size, deepest, "bin_size")
     if equation is not None:
         from ..seawater.soundspeed import EQUATIONS
 

@@ -121,3 +121,58 @@ def test_bin_size_is_validated_and_capped():
     # 1e-6 m bins over 5000 m would be 5e9 bins: refused, saying the memory needed
     with pytest.raises(SeaprofileError, match=r"bin_size: .*GB of memory"):
         bin_cast(cast, 1e-6, argument="bin_size")
+
+
+def test_pressure_bins_keep_the_casts_own_pressure_flags_at_kept_levels():
+    import pytest
+
+    # sparse bottles binned on pressure: each keeps its level; its pressure flag must be
+    # the cast's pressure_qc, not depth_qc
+    p = np.array([5.0, 50.0, 100.0, 200.0])
+    cast = add_depth(make_cast(pressure=p, temperature=[20.0, 15.0, 10.0, 8.0],
+                               salinity=[35.0, 35.1, 35.2, 35.3], latitude=30.0))
+    cast = cast.assign(pressure_qc=("sample", np.array([1, 2, 1, 2], np.int8)),
+                       depth_qc=("sample", np.array([5, 5, 5, 5], np.int8)))
+    prof = bin_cast(cast, 1.0, "pressure")
+    kept = prof["samples_per_bin"].values > 0
+    assert prof["pressure_qc"].values[kept].tolist() == [1, 2, 1, 2]
+    # the bin-count message gives the pressure bins in dbar
+    from seaprofile.io import ArgumentError
+
+    with pytest.raises(ArgumentError) as err:
+        bin_cast(cast, 1e-9, "pressure", argument="bin_size")
+    assert err.value.argument == "bin_size" and "dbar" in err.value.reason
+    assert " m " not in err.value.reason
+
+
+def test_one_memory_model_up_front_and_in_binning():
+    import pytest
+    from hypothesis import given, settings, strategies as st
+
+    from seaprofile import io
+    from seaprofile.casts.binning import MAX_BINS, check_bin_count
+    from seaprofile.io.options import FULL_OCEAN_DEPTH, check_build_options
+
+    # `build --bin 0.002` passes the up-front check: it must pass binning's too
+    check_build_options(bin_size=0.002)
+    check_bin_count(FULL_OCEAN_DEPTH / 0.002 + 1, 0.002, FULL_OCEAN_DEPTH, "bin_size")
+    assert MAX_BINS == io.MEMORY_LIMIT // io.outputs.BYTES_PER_BIN
+
+    @settings(max_examples=50, deadline=None)
+    @given(st.floats(1e-5, 1e-2))
+    def same_answer(size):
+        def refused(check):
+            try:
+                check()
+            except io.MemoryLimitError:
+                return True
+            return False
+
+        up_front = refused(lambda: check_build_options(bin_size=size))
+        binning = refused(lambda: check_bin_count(FULL_OCEAN_DEPTH / size + 1, size,
+                                                  FULL_OCEAN_DEPTH, "bin_size"))
+        assert up_front == binning
+
+    same_answer()
+    with pytest.raises(io.MemoryLimitError):
+        check_bin_count(MAX_BINS + 1, 1e-4, 2000.0, "bin_size")

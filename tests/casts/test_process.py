@@ -217,3 +217,25 @@ def test_despike_passes_a_bad_conductivity_on_to_its_salinity():
     assert out["salinity_qc"].values[100] == 4
     assert np.count_nonzero(out["salinity_qc"].values == 4) == 1
     assert _cf.steps_of(out.attrs)[-1]["bad_input"] == {"salinity": 1}
+
+
+def test_despike_checks_threshold_and_window_naming_them():
+    from seaprofile.io import ArgumentError
+
+    p = np.linspace(0.0, 100.0, 200)
+    cast = make_cast(pressure=p, temperature=10.0 + 0.01 * p)
+    for name, bad in (("threshold", 0.0), ("threshold", -1.0), ("threshold", np.nan),
+                      ("threshold", "five"), ("window", 4), ("window", 1), ("window", 2.5),
+                      ("window", "wide"), ("max_span", 0.0)):
+        with pytest.raises(ArgumentError) as err:
+            despike(cast, **{name: bad})
+        assert err.value.argument == name
+
+
+def test_add_depth_gives_the_new_coordinate_its_own_flags():
+    # depth's flags start as a copy of pressure's: raising one later never changes the other
+    cast = make_cast(pressure=np.linspace(0.0, 100.0, 5), temperature=np.full(5, 10.0),
+                     latitude=30.0)
+    out = pr.add_depth(cast)
+    out["depth_qc"].values[:] = 4
+    assert (out["pressure_qc"].values == 0).all()

@@ -252,11 +252,17 @@ def test_stuck_value_spares_short_and_speed_only_profiles():
         assert (out["temperature_qc"].values == 0).all()
     cast = make_cast(pressure=np.linspace(0, 100, 10), temperature=np.full(10, 10.0))
     assert (qc.stuck_value(cast)["temperature_qc"].values == 4).all()
-    # a constant measured sound speed is an isovelocity input: tested only when named
+    # a constant measured sound speed at a few nodes is an isovelocity planning input
+    nodes = make_cast(pressure=[0.0, 50.0, 100.0], measured_sound_speed=np.full(3, 1500.0))
+    assert (qc.run_qc(nodes)["measured_sound_speed_qc"].values == 1).all()
+    # ... and a short speed-only cast (under qc.STUCK_MIN_SPAN, 20 m) is spared too
+    short = make_cast(pressure=np.linspace(0, 10, 50), measured_sound_speed=np.full(50, 1500.0))
+    assert (qc.run_qc(short)["measured_sound_speed_qc"].values == 1).all()
+    # but fifty samples of one value over 100 dbar are a stuck probe: the pressure term
+    # alone raises sound speed by ~1.6 m/s there (Mackenzie 1981, J. Acoust. Soc. Am. 70,
+    # 807-812: 1.630e-2 m/s per m), so the default test flags them (4)
     svp = make_cast(pressure=np.linspace(0, 100, 50), measured_sound_speed=np.full(50, 1500.0))
-    assert (qc.run_qc(svp)["measured_sound_speed_qc"].values == 1).all()
-    named = qc.stuck_value(svp, variables=["measured_sound_speed"])
-    assert (named["measured_sound_speed_qc"].values == 4).all()
+    assert (qc.run_qc(svp)["measured_sound_speed_qc"].values == 4).all()
 
 
 def test_pressure_and_depth_range():

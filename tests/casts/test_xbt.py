@@ -170,7 +170,10 @@ def test_joined_to_a_reference_the_probe_follows_its_measured_water():
     assert a["salinity_source"] == "assumed constant 35"
     assert a["fall_rate_coefficients"] == "a=6.691 m/s, b=0.00225 m/s^2"
     assert a["extension_reference"] == "deep-reference"
-    assert "salinity the reference's as measured" in a["extension_join"]
+    # the assumed salinity's offset fades like the temperature's (no step in sound speed
+    # at the join), and the record says the cast's salinity was assumed
+    assert "salinity offset +0.557 fading" in a["extension_join"]
+    assert "(the cast's was assumed)" in a["extension_join"]
     line = a["assumptions"]
     for text in ("salinity assumed constant 35", "fall rate hanawa1995_t7 (a=6.691 m/s",
                  "reference deep-reference", "fading to zero over 100 m"):
