@@ -353,7 +353,12 @@ def test_bottle_cast_stays_joined_with_the_default_gap_rule():
     z = np.arange(5.0, 500.0, 50.0)  # bottles 50 m apart: 3 x 50 m > each 49 m gap
     cast = make_cast(depth=z, temperature=4.0 + 14.0 * np.exp(-z / 150.0),
                      salinity=35.0 - 0.4 * np.exp(-z / 150.0), latitude=LAT, longitude=LON)
-    with pytest.warns(UserWarning):
+    import warnings
+
+    from seaprofile.casts.binning import LargeGapWarning
+
+    with warnings.catch_warnings():  # the ordinary spacing of bottles: no gap warning
+        warnings.simplefilter("error", LargeGapWarning)
         prof = build_profile(cast)
     assert np.isfinite(prof["sound_speed"].values).all()
     assert prof.attrs["unfilled_gaps"] == "none"
@@ -449,8 +454,7 @@ def test_interpolated_levels_counted_once_for_every_text():
     z = np.arange(5.0, 300.0, 25.0)
     cast = make_cast(depth=z, temperature=4.0 + 14.0 * np.exp(-z / 150.0),
                      salinity=35.0 - 0.4 * np.exp(-z / 150.0), latitude=LAT, longitude=LON)
-    with pytest.warns(UserWarning):
-        prof = build_profile(cast)
+    prof = build_profile(cast)
     n, total = interpolated_levels(prof)
     assert n == int((prof["samples_per_bin"].values == 0).sum()) and total == prof.sizes["depth"]
     assert f"{n} of {total} levels interpolated" in prof.attrs["assumptions"]

@@ -31,7 +31,8 @@ AUTO_GAP_FLOOR = 5.0
 #: with ``max_gap="auto"``, a gap is filled up to this many times the spacing of the
 #: measured levels next to it (our choice: sparse bottle and float casts stay joined)
 AUTO_GAP_SPACINGS = 3.0
-#: m: a gap wider than this, filled or left, warns (:class:`LargeGapWarning`);
+#: m: a gap wider than this warns (:class:`LargeGapWarning`) when it is left missing, or
+#: when it was filled only because ``max_gap`` asked for it (not by the "auto" rule);
 #: common practice, no source
 LARGE_GAP = 20.0
 
@@ -148,7 +149,11 @@ def fill_gaps(profile, max_gap=5.0):
                                 max_gap="auto" if auto else max_gap, filled=filled,
                                 method="linear in depth", **attrs)
     out.attrs.update(attrs)
-    large = sorted(g for g in done | left if g[1] - g[0] > LARGE_GAP)
+    # a gap the "auto" rule filled is the ordinary spacing of a sparse cast (bottles,
+    # floats, planning nodes): no warning. Data loss left missing warns, and so does a wide
+    # gap filled only because the caller asked for it (max_gap given or None).
+    wide = left if auto else done | left
+    large = sorted(g for g in wide if g[1] - g[0] > LARGE_GAP)
     if large:
         name = profile.attrs.get("cast_name", "the profile")
         kinds = [("filled with a straight line", done), ("left missing (flag 9)", left)]
