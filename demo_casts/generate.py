@@ -207,8 +207,8 @@ def xbt_drop(out):
     temp = temp + rng.normal(0, 0.008, et.size)
     h = _header("VS31-X07", lat, lon, "2031-07-17T21:05:00Z", "xbt", 3350.0,
                 vessel="MV Quenby Star",
-                probe="T-7 class expendable probe (synthetic)",
-                fall_rate="hanawa1995_t7 (z = 6.691 t - 2.25e-3 t^2)",
+                probe="760 m rated expendable probe (synthetic)",
+                fall_rate="hanawa1995 (z = 6.691 t - 2.25e-3 t^2)",
                 comment="expendable probe drop from a ship of opportunity; no salinity")
     cols = [("elapsed time [s]", et, "{:.1f}"), ("temperature [degC]", temp, "{:.3f}")]
     _write(out / "xbt_drop.csv", _text(h, cols))

@@ -177,7 +177,7 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
 
 def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, columns=None,
                 units=None, instrument=None, latitude=None, longitude=None, salinity=None,
-                fall_rate="hanawa1995_t7", equation="chen_millero1977", bin_size=1.0,
+                fall_rate="hanawa1995", equation="chen_millero1977", bin_size=1.0,
                 extend_to=None, reference=None, replacement_salinity=None,
                 replace_salinity="bad", depth_method="unesco1983", scheduler=None,
                 protect=()):

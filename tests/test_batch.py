@@ -179,9 +179,9 @@ def test_assumptions_read_from_attributes():
 
     from seaprofile.batch import assumptions
 
-    p = xr.Dataset(attrs={"assumed_salinity": 35.0, "fall_rate": "hanawa1995_t7",
+    p = xr.Dataset(attrs={"assumed_salinity": 35.0, "fall_rate": "hanawa1995",
                           "extension": "constant temperature and salinity to 3000 m"})
-    assert assumptions(p) == ["salinity assumed 35", "fall rate hanawa1995_t7",
+    assert assumptions(p) == ["salinity assumed 35", "fall rate hanawa1995",
                               "extended: constant temperature and salinity to 3000 m"]
     assert assumptions(xr.Dataset()) == []
     # a Profile that carries its own one-line summary is taken at its word

@@ -72,7 +72,7 @@ def read_cast(path, *, columns=None, units=None, instrument=None, latitude=None,
         it only when given.
     fall_rate : str or (float, float)
         Expendable probes without a depth column: a key of
-        :data:`seaprofile.casts.xbt.FALL_RATES` (default ``"hanawa1995_t7"``) or ``(a, b)``.
+        :data:`seaprofile.casts.xbt.FALL_RATES` (default ``"hanawa1995"``) or ``(a, b)``.
     delimiter : str, optional
         Text files: ``","``, ``"\\t"``, ``";"`` or ``"whitespace"``; default: guessed from
         the header (or first) row: tab, else semicolon, else comma, else whitespace.

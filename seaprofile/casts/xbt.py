@@ -33,21 +33,23 @@ __all__ = [
 
 HANAWA1995 = (
     "K. Hanawa, P. Rual, R. Bailey, A. Sy & M. Szabados (1995), a new depth-time equation "
-    "for T-7, T-6 and T-4 expendable bathythermographs, Deep-Sea Res. I 42(8), 1423-1451; "
-    "also IOC Technical Series 42"
+    "for expendable bathythermographs, Deep-Sea Res. I 42(8), 1423-1451; also IOC "
+    "Technical Series 42"
 )
 
-#: name -> (a in m/s, b in m/s^2, reference); depth z = a t - b t^2
+#: name -> (a in m/s, b in m/s^2, reference); depth z = a t - b t^2. Named by the published
+#: coefficients and, where one equation serves several probes, by the probe's depth rating.
 FALL_RATES = {
-    # Hanawa et al. (1995), Deep-Sea Res. I 42, 1423-1451: one equation for T-4/T-6/T-7 class
-    "hanawa1995_t7": (6.691, 2.25e-3, HANAWA1995),
-    "hanawa1995_t6": (6.691, 2.25e-3, HANAWA1995),
-    "hanawa1995_t4": (6.691, 2.25e-3, HANAWA1995),
+    # Hanawa et al. (1995), Deep-Sea Res. I 42, 1423-1451: one equation for the shallow
+    # (460 m) and deep (760 m) rated probes of the common kind (ratings from memory)
+    "hanawa1995": (6.691, 2.25e-3, HANAWA1995),
+    "hanawa1995_460m": (6.691, 2.25e-3, HANAWA1995),
+    "hanawa1995_760m": (6.691, 2.25e-3, HANAWA1995),
     # from memory: the older manufacturer-style coefficients that the 1995 equation replaced;
     # not checked against a source, offered only to reproduce old processing.
     "legacy_pre1995": (6.472, 2.16e-3, "from memory: pre-1995 manufacturer-style coefficients"),
 }
-DEFAULT_FALL_RATE = "hanawa1995_t7"
+DEFAULT_FALL_RATE = "hanawa1995"
 DEFAULT_SALINITY = 35.0
 
 
@@ -104,7 +106,7 @@ def depth_from_elapsed_time(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
     elapsed_time : array_like
         Time since the probe hit the water, s. Negative times give NaN.
     fall_rate : str or (float, float)
-        A key of :data:`FALL_RATES` (default ``"hanawa1995_t7"``) or custom coefficients
+        A key of :data:`FALL_RATES` (default ``"hanawa1995"``) or custom coefficients
         ``(a, b)``: a in m/s, b in m/s^2.
 
     Returns
@@ -120,7 +122,7 @@ def depth_from_elapsed_time(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
     .. math:: z = a t - b t^2, \\quad a = 6.691\\ \\mathrm{m\\,s^{-1}},
               \\quad b = 2.25 \\times 10^{-3}\\ \\mathrm{m\\,s^{-2}}
 
-    for T-4, T-6 and T-7 class probes. The parabola turns over at ``t = a / (2 b)``
+    for the common 460 m and 760 m rated probes. The parabola turns over at ``t = a / (2 b)``
     (about 1487 s for these coefficients); later times give an
     :class:`~seaprofile.OutsideValidityWarning`. The fit itself is only as good as the
     probe's wire and depth rating; depth errors of a few percent are usual.

@@ -83,9 +83,9 @@ def add_building_options(p):
                    help="instrument kind (default: from the file)")
     g.add_argument("--salinity", type=float,
                    help="salinity assumed for casts without one (expendable probes: default 35)")
-    g.add_argument("--fall-rate", default="hanawa1995_t7",
+    g.add_argument("--fall-rate", default="hanawa1995",
                    help="expendable-probe fall rate: " + ", ".join(sorted(FALL_RATES))
-                   + " or A,B for depth = A t - B t^2 (m, s); default hanawa1995_t7")
+                   + " or A,B for depth = A t - B t^2 (m, s); default hanawa1995")
     b = p.add_argument_group("building profiles")
     b.add_argument("--equation", default="chen_millero1977", choices=sorted(EQUATIONS),
                    help="sound-speed equation (default chen_millero1977)")

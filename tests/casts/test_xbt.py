@@ -22,13 +22,13 @@ from seaprofile.casts.xbt import (
 
 def hanawa(t):
     # Hanawa et al. (1995), Deep-Sea Res. I 42, 1423-1451: z = 6.691 t - 2.25e-3 t^2
-    # (T-4/T-6/T-7 class probes), evaluated here independently of the package
+    # (460 m and 760 m rated probes), evaluated here independently of the package
     return 6.691 * t - 2.25e-3 * t * t
 
 
 def test_hanawa_coefficients_in_table():
     # Hanawa et al. (1995), Deep-Sea Res. I 42, 1423-1451: a = 6.691 m/s, b = 2.25e-3 m/s^2
-    for name in ("hanawa1995_t4", "hanawa1995_t6", "hanawa1995_t7"):
+    for name in ("hanawa1995", "hanawa1995_460m", "hanawa1995_760m"):
         a, b, ref = FALL_RATES[name]
         assert (a, b) == (6.691, 2.25e-3)
         assert "Deep-Sea Res. I 42" in ref
@@ -80,7 +80,7 @@ def test_xarray_wrapper_with_dask():
     z = fall_depth(t)
     assert z.chunks is not None
     np.testing.assert_allclose(z.compute().values, hanawa(t.values), atol=1e-9)
-    assert z.attrs["standard_name"] == "depth" and "hanawa1995_t7" in z.attrs["comment"]
+    assert z.attrs["standard_name"] == "depth" and "hanawa1995" in z.attrs["comment"]
 
 
 def test_assumed_salinity_constant_and_profile():
@@ -107,7 +107,7 @@ def test_complete_xbt_cast():
     assert np.all(cast["salinity_qc"].values == 0)
     assert cast.attrs["salinity_assumed"] == "yes"
     assert cast.attrs["salinity_source"] == "assumed constant 34.8"
-    assert cast.attrs["fall_rate"] == "hanawa1995_t7"
+    assert cast.attrs["fall_rate"] == "hanawa1995"
     # gsw.p_from_z (TEOS-10, McDougall & Barker 2011) and UNESCO 1983 both describe the
     # standard ocean; measured here: under 0.004 dbar above 2000 m (the depth tests bound
     # the two by 2e-4 of depth, 0.4 m at 2000 m; 0.01 dbar is far tighter and still holds)
@@ -175,6 +175,14 @@ def test_joined_to_a_reference_the_probe_follows_its_measured_water():
     assert "salinity offset +0.557 fading" in a["extension_join"]
     assert "(the cast's was assumed)" in a["extension_join"]
     line = a["assumptions"]
-    for text in ("salinity assumed constant 35", "fall rate hanawa1995_t7 (a=6.691 m/s",
+    for text in ("salinity assumed constant 35", "fall rate hanawa1995 (a=6.691 m/s",
                  "reference deep-reference", "fading to zero over 100 m"):
         assert text in line
+
+
+def test_fall_rate_names_are_coefficients_and_depth_ratings():
+    # our naming rule: the published equation (author + year), optionally its depth rating
+    import re
+
+    for name in FALL_RATES:
+        assert re.fullmatch(r"[a-z]+\d{4}(_\d+m)?|legacy_pre1995", name), name

@@ -100,7 +100,7 @@ def test_summary_shows_every_assumption(capsys):
     assert main(["build", str(DEMO / "xbt_drop.csv")]) == 0
     text = capsys.readouterr().out
     assert "assumptions" in text and "salinity assumed constant 35" in text
-    assert "hanawa1995_t7" in text
+    assert "hanawa1995" in text
 
 
 def test_diagnostics_error_is_reported_as_itself(monkeypatch, capsys):
@@ -166,6 +166,6 @@ def test_summary_table_keeps_assumptions_short(capsys):
                  "--reference", str(DEMO / "deep_ocean_ctd.csv")]) == 0
     out = capsys.readouterr().out
     row = next(line for line in out.splitlines() if line.startswith("xbt_drop.csv"))
-    assert "salinity assumed" in row and "fall rate hanawa1995_t7" in row
+    assert "salinity assumed" in row and "fall rate hanawa1995" in row
     assert "extended below" in row and "VS31-D01" in row
     assert len(row) < 220  # the full sentences live in the file and in --json
