@@ -61,9 +61,9 @@ def read_bathymetry(path):
         Missing or unreadable file, missing header, a bad number, a depth at or above the
         surface, or a repeated range; names the file, line and column.
     """
-    path = Path(path)
-    if not path.is_file():
-        raise InputFileError(path, "is a directory, not a file" if path.is_dir() else "no such file")
+    from ..casts.read import check_input_file  # here: casts imports io.errors at import
+
+    path = check_input_file(path)  # no such file, a directory, a named pipe, a device
     try:
         text = path.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as exc:

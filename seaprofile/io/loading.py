@@ -68,7 +68,14 @@ class LoadedInput:
 # --- what a file holds -----------------------------------------------------------------
 
 
+def _check_input_file(path):
+    from ..casts.read import check_input_file  # here: casts imports io.errors at import
+
+    return check_input_file(path)
+
+
 def _head(path):
+    _check_input_file(path)  # never open a named pipe (it would block) or a device
     try:
         with open(path, "rb") as f:
             return f.read(64)
@@ -270,10 +277,8 @@ def expand_paths(paths):
             if not inside:
                 raise InputFileError(p, "directory holds no cast or profile files")
             files.extend(inside)
-        elif not p.exists():
-            raise InputFileError(p, "no such file")
-        else:
-            files.append(p)
+        else:  # a regular file: no such file, a named pipe or a device is refused unopened
+            files.append(_check_input_file(p))
     if not files:
         raise ArgumentError("paths", "give a profile or cast file, or a directory of casts")
     return files
