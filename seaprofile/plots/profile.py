@@ -171,11 +171,19 @@ def _mark_flags(ax, v, z, q, lim, suffix=""):
 
 
 def _runs(z, sel):
-    """Depths of the flagged bins ``sel``, NaN between runs of neighbouring bins."""
+    """Top and bottom depth of each run of neighbouring flagged bins ``sel``, NaN between.
+
+    Each run spans its bins out to half a bin beyond its end bins: the band is as long as
+    the depth the filled bins cover, so scattered single filled bins of a dense cast show
+    as a faint haze and a sparse cast, interpolated nearly everywhere, as a full band.
+    """
     idx = np.flatnonzero(sel)
-    breaks = np.flatnonzero(np.diff(idx) > 1) + 1
-    zz = np.insert(z[idx].astype(float), breaks, np.nan)
-    return zz
+    first = idx[np.r_[True, np.diff(idx) > 1]]
+    last = idx[np.r_[np.diff(idx) > 1, True]]
+    zf = z.astype(float)
+    half = 0.5 * np.diff(zf).min() if zf.size > 1 else 0.5
+    return np.column_stack([zf[first] - half, zf[last] + half,
+                            np.full(first.size, np.nan)]).ravel()[:-1]
 
 
 def _measured_levels(profile, shown):
