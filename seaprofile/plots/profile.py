@@ -515,6 +515,11 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
                              _PANELS_HEIGHT_IN / height_in])
 
     place(width_in)
+    title, where = _title(profile)
+    heads = [fig.suptitle(title, fontsize=12, y=1.0 - 0.12 / height_in, va="top")]
+    if where:
+        heads.append(fig.text(0.5, 1.0 - 0.45 / height_in, where, ha="center", va="top",
+                              fontsize=9, color="0.25"))
     legend = fig.legend([hd for hd, _ in handles], [lab for _, lab in handles],
                         loc="upper left", ncol=ncol_legend, fontsize=7.5, frameon=False,
                         borderaxespad=0.0, bbox_to_anchor=(0.3 / width_in, top_text))
@@ -527,8 +532,12 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
     legend_in = legend_box.width / fig.dpi if handles else 0.0
     widths = [t.get_window_extent(renderer).width / fig.dpi for t in notes]
     if stacked:
-        # as wide as the panel with its labels, the legend or the summary, whichever is widest
-        width_in = max(width_in, 0.3 + legend_in + 0.15, 0.3 + max(widths, default=0) + 0.15)
+        # as wide as the panel with its labels, the legend, the summary or the title,
+        # whichever is widest
+        panel_in = max(ax.get_tightbbox(renderer).x1 for ax in axes) / fig.dpi
+        head_in = max(t.get_window_extent(renderer).width for t in heads) / fig.dpi
+        width_in = max(panel_in + 0.2, 0.3 + legend_in + 0.15,
+                       0.3 + max(widths, default=0) + 0.15, head_in + 0.3)
         place(width_in)
         legend.set_bbox_to_anchor((0.3 / width_in, top_text), transform=fig.transFigure)
         below = top_text - (legend_box.height / fig.dpi + 0.12) / height_in if handles \
@@ -548,11 +557,6 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
         for t, w in zip(notes, widths):
             t.set_x(x_in / width_in)
             x_in += w + gap
-    title, where = _title(profile)
-    fig.suptitle(title, fontsize=12, y=1.0 - 0.12 / height_in, va="top")
-    if where:
-        fig.text(0.5, 1.0 - 0.45 / height_in, where, ha="center", va="top", fontsize=9,
-                 color="0.25")
     fig.text(0.5, 0.06 / height_in, "Caution: " + _cf.CAUTION, ha="center", va="bottom",
              fontsize=7, color="0.3", wrap=True)
     thin_crowded_ticks(fig)
