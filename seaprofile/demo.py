@@ -113,7 +113,7 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
 
 
 def _figures(results, fig_dir):
-    # plain matplotlib Figures: the user's backend is never changed, pyplot never used
+    # plain matplotlib Figures: the backend of the user is never changed
     from .plots.profile import plot_profile
 
     fig_dir.mkdir(parents=True, exist_ok=True)
