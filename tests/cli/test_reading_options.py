@@ -8,7 +8,6 @@ from pathlib import Path
 import pytest
 
 import seaprofile.cli as cli
-import seaprofile.cli.plot as plot_cmd
 from seaprofile.cli._options import join_negative_values
 
 from _cli_helpers import DEMO, one_line_error
@@ -31,27 +30,13 @@ def test_every_reading_command_has_the_same_reading_options(capsys, command):
     assert "1=depth,2=sound_speed" in text  # mapping by 1-based position
 
 
-@pytest.fixture
-def figures(monkeypatch):
-    """The figures `plot` saves (the real save still runs)."""
-    kept = []
-    real = plot_cmd.save_figure
-
-    def keep(fig, path, **kw):
-        kept.append(fig)
-        return real(fig, path, **kw)
-
-    monkeypatch.setattr(plot_cmd, "save_figure", keep)
-    return kept
-
-
 def _deepest_drawn(fig):
     (line,) = [ln for ln in fig.axes[0].get_lines() if ln.get_label() == "temperature"]
     y = [v for v, x in zip(line.get_ydata(), line.get_xdata()) if x == x]
     return max(y)
 
 
-def test_expendable_probe_drawn_and_inspected_with_its_own_fall_rate(tmp_path, capsys, figures):
+def test_expendable_probe_drawn_and_inspected_with_its_own_fall_rate(tmp_path, capsys, drawn):
     xbt = DEMO / "xbt_drop.csv"  # synthetic; last sample at 118.2 s
     # Hanawa et al. (1995), Deep-Sea Res. I 42, T-7: z = 6.691 t - 2.25e-3 t^2 -> 759.4 m
     assert cli.main(["plot", str(xbt), "--out", str(tmp_path / "a.png")]) == 0
@@ -59,8 +44,8 @@ def test_expendable_probe_drawn_and_inspected_with_its_own_fall_rate(tmp_path, c
     assert cli.main(["plot", str(xbt), "--out", str(tmp_path / "b.png"),
                      "--fall-rate", "6.0,0"]) == 0
     # 1 m bins: the deepest bin holds the deepest sample (bin centre within 1 m)
-    assert abs(_deepest_drawn(figures[0]) - 759.4) <= 1.0
-    assert abs(_deepest_drawn(figures[1]) - 709.2) <= 1.0
+    assert abs(_deepest_drawn(drawn[0]) - 759.4) <= 1.0
+    assert abs(_deepest_drawn(drawn[1]) - 709.2) <= 1.0
     capsys.readouterr()
     assert cli.main(["inspect", str(xbt), "--fall-rate", "6.0,0", "--json"]) == 0
     assert abs(json.loads(capsys.readouterr().out)["harmonic_mean_to_depth"] - 709.2) <= 1.0
@@ -83,12 +68,12 @@ def test_salinity_and_instrument_reach_the_reader(capsys):
     assert speeds[0] - speeds[1] == pytest.approx((1.340 - 1.025e-2 * t0) * 5, abs=0.2)
 
 
-def test_columns_by_position(tmp_path, capsys, figures):
+def test_columns_by_position(tmp_path, capsys, drawn):
     bare = tmp_path / "plan.txt"
     bare.write_text("0 1500\n200 1490\n")  # an invented planning profile, no header
     assert cli.main(["plot", str(bare), "--out", str(tmp_path / "p.png"),
                      "--columns", "1=depth,2=sound_speed"]) == 0
-    assert len(figures) == 1 and "sound speed given directly" in figures[0]._suptitle.get_text()
+    assert len(drawn) == 1 and "sound speed given directly" in drawn[0]._suptitle.get_text()
     capsys.readouterr()
     assert cli.main(["plot", str(bare), "--out", str(tmp_path / "q.png"),
                      "--columns", "0=depth,2=sound_speed"]) == 2
@@ -132,7 +117,7 @@ def test_dpi_default_shows_a_whole_number(capsys):
     assert "(default 150)" in text and "150.0" not in text
 
 
-def test_upper_panel_deeper_than_the_profile_is_refused(tmp_path, capsys, figures):
+def test_upper_panel_deeper_than_the_profile_is_refused(tmp_path, capsys, drawn):
     cast = str(DEMO / "shelf_summer_ctd.csv")  # synthetic, 1..120 m
     assert cli.main(["plot", cast, "--out", str(tmp_path / "a.png"),
                      "--upper-panel", "99999"]) == 2
@@ -140,14 +125,14 @@ def test_upper_panel_deeper_than_the_profile_is_refused(tmp_path, capsys, figure
     assert "--upper-panel" in err and "deepest" in err
     assert not (tmp_path / "a.png").exists()
     assert cli.main(["plot", cast, "--out", str(tmp_path / "b.png"), "--upper-panel", "60"]) == 0
-    assert len(figures[0].axes) == 4
+    assert len(drawn[0].axes) == 4
 
 
-def test_duct_cutoff_same_in_inspect_and_the_figure(tmp_path, capsys, figures):
+def test_duct_cutoff_same_in_inspect_and_the_figure(tmp_path, capsys, drawn):
     cast = str(DEMO / "shelf_summer_ctd.csv")  # synthetic, with a surface duct
     assert cli.main(["inspect", cast]) == 0
     (line,) = [ln for ln in capsys.readouterr().out.splitlines() if "rule of thumb" in ln]
     printed = re.search(r"(\d+) Hz", line).group(1)
     assert cli.main(["plot", cast, "--out", str(tmp_path / "p.png")]) == 0
-    texts = "\n".join(t.get_text() for t in figures[0].texts)
+    texts = "\n".join(t.get_text() for t in drawn[0].texts)
     assert f"duct cut-off*: {printed} Hz" in texts
