@@ -8,6 +8,8 @@ Batches run one after another by default, or through dask when a scheduler is na
 
 from __future__ import annotations
 
+import os
+import uuid
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -20,7 +22,7 @@ from .casts._common import usable_sound_speed
 from .casts.read import read_casts
 from .casts.write import FORMATS, write
 from .io import NETCDF_LOCK, ArgumentError, is_same_file
-from .io.loading import _is_netcdf, load_profile, read_as_profiles
+from .io.loading import _is_netcdf, directory_files, load_profile, read_as_profiles
 from .io.options import (SCHEDULERS, check_build_options, check_read_options,
                          check_replacement_salinity, check_scheduler)
 from .layers import describe
@@ -67,6 +69,9 @@ class BuildResult:
     error_reason: str | None = None
     unusable: str | None = None
     diagnostics_error: str | None = None
+    #: (temporary file, output) pairs written by a dask worker, renamed into place by
+    #: :func:`build_files` once it has checked that no other cast claims the output
+    staged: list = field(default_factory=list, repr=False)
 
     @property
     def ok(self):
@@ -113,6 +118,8 @@ def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, 
 def _build_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth,
                 keep, used):
     results = []
+    if Path(path).is_dir():  # left by _expand_directories: it holds no cast file
+        directory_files(path)  # raises, naming the directory and the suffixes looked for
     try:
         if _is_netcdf(path):
             with NETCDF_LOCK:
@@ -136,7 +143,9 @@ def _build_file(path, read_options, build_options, out_dir, fmt, overwrite, bott
             res.profile = _build_profile(cast, options)
             res.diagnostics = _diagnostics(res, bottom)
             if out_dir is not None:
-                res.written.append(_write_one(res, path, out_dir, fmt, overwrite, keep, used))
+                target = _write_one(res, path, out_dir, fmt, overwrite, keep, used)
+                if target is not None:
+                    res.written.append(target)
         except (SeaprofileError, OSError) as exc:
             res.fail(exc)
         results.append(res)
@@ -154,7 +163,18 @@ def _diagnostics(res, bottom):
         return {"notes": [f"diagnostics failed: {exc}"]}
 
 
+def _clash(target, name):
+    return SeaprofileError(f"output {Path(target).name} was already written for another cast "
+                           f"of this batch (cast name {name!r}); rename one of the casts")
+
+
 def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
+    """Write the profile of ``res``; returns its output path (None while staged).
+
+    ``used`` is the set of outputs already claimed in a sequential batch; ``None`` means a
+    dask worker: the profile goes to a temporary name beside its output (recorded in
+    ``res.staged``) and :func:`_commit_staged` renames it in the main process.
+    """
     name = _safe_name(res.cast.attrs.get("cast_name") or Path(path).stem)
     target = Path(out_dir) / f"{name}{FORMATS[fmt][0]}"
     for source in keep:
@@ -163,16 +183,54 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
                                   "never written over (give another output directory)")
     if used is not None:
         if str(target) in used:  # two casts of one name in this batch
-            raise SeaprofileError(
-                f"output {target.name} was already written for another cast of "
-                f"this batch (cast name {name!r}); rename one of the casts")
+            raise _clash(target, name)
         used.add(str(target))
+        where = target
+    else:
+        if target.exists() and not overwrite:  # refused early; checked again at the rename
+            raise SeaprofileError(f"{target}: exists; pass overwrite=True (--overwrite) to "
+                                  "replace it")
+        where = target.with_name(f".{target.name}.{uuid.uuid4().hex}.staged{target.suffix}")
     if fmt == "netcdf":
         with NETCDF_LOCK:  # HDF5 is never entered from two threads at once
-            write(res.profile, target, fmt, overwrite=overwrite)
+            write(res.profile, where, fmt, overwrite=overwrite)
     else:
-        write(res.profile, target, fmt, overwrite=overwrite)
+        write(res.profile, where, fmt, overwrite=overwrite)
+    if used is None:
+        res.staged.append((str(where), str(target)))
+        return None
     return str(target)
+
+
+def _commit_staged(results, overwrite):
+    """Rename the files the dask workers staged, in the order of the results.
+
+    The first cast that claims an output keeps it; a later cast of the same name gets the
+    clash as its error and its file is removed, so ``--overwrite`` never lets one cast of
+    the batch replace another. Runs in the main process after every worker has finished.
+    """
+    claimed = set()
+    for r in results:
+        for tmp, target in r.staged:
+            try:
+                if target in claimed:
+                    raise _clash(target, r.cast.attrs.get("cast_name") or Path(target).stem)
+                if overwrite:
+                    os.replace(tmp, target)
+                else:
+                    try:
+                        os.link(tmp, target)  # fails if the output appeared meanwhile
+                    except FileExistsError:
+                        raise SeaprofileError(f"{target}: exists; pass overwrite=True "
+                                              "(--overwrite) to replace it") from None
+                claimed.add(target)
+                r.written.append(target)
+            except (SeaprofileError, OSError) as exc:
+                r.fail(exc)
+            finally:
+                if os.path.exists(tmp):
+                    os.remove(tmp)
+        r.staged = []
 
 
 def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, columns=None,
@@ -186,7 +244,10 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
     Parameters
     ----------
     paths : iterable of str or pathlib.Path
-        Cast files (text, netCDF or JSON; a netCDF collection holds several casts).
+        Cast files (text, netCDF or JSON; a netCDF collection holds several casts), or
+        directories: each stands for its cast files in name order
+        (:func:`seaprofile.io.loading.directory_files`; not its subdirectories). A
+        directory without cast files is reported as that entry's error.
     out_dir : str or pathlib.Path, optional
         Directory for the profiles (created if missing); nothing is written when None.
     format : {"netcdf", "csv", "json", "table"}
@@ -243,7 +304,7 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
                         depth_method=depth_method)
     check_scheduler(scheduler)
     check_replacement_salinity(replacement_salinity, replace_salinity)
-    paths = [str(p) for p in paths]
+    paths = _expand_directories(paths)
     keep = [*paths, *(str(p) for p in protect)]
     if out_dir is not None:
         for p in paths:
@@ -259,17 +320,31 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
     if scheduler is None:
         used = set()
         groups = [_build_one_file(p, *args, used) for p in paths]
-    else:  # parallel: collisions can only be found afterwards, and are reported
-        groups = _with_dask(paths, args, scheduler)
+        return [r for group in groups for r in group]
+    # parallel: the names come from the casts, known only once read; the workers write to
+    # temporary names and the outputs are claimed here, in the order of the inputs
+    groups = _with_dask(paths, args, scheduler)
     results = [r for group in groups for r in group]
-    seen = {}
-    for r in results:
-        for target in r.written:
-            if target in seen:
-                r.error = (f"{r.path}: output {target} collides with the one written for "
-                           f"{seen[target]} (same cast name); rename one of the casts")
-            seen.setdefault(target, r.path)
+    _commit_staged(results, overwrite)
     return results
+
+
+def _expand_directories(paths):
+    """``paths`` as strings, each directory replaced by its cast files in name order.
+
+    A directory holding no cast file stays as it is: reading it fails with that message,
+    as the result of that entry, and the rest of the batch carries on.
+    """
+    out = []
+    for p in paths:
+        if Path(p).is_dir():
+            try:
+                out.extend(str(f) for f in directory_files(p))
+                continue
+            except InputFileError:
+                pass
+        out.append(str(p))
+    return out
 
 
 def _with_dask(paths, args, scheduler):

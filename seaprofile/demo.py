@@ -113,11 +113,7 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
 
 
 def _figures(results, fig_dir):
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
+    # plain matplotlib Figures: the backend of the user is never changed
     from .plots.profile import plot_profile
 
     fig_dir.mkdir(parents=True, exist_ok=True)
@@ -128,24 +124,23 @@ def _figures(results, fig_dir):
             continue
         fig = plot_profile(r.profile, diagnostics=r.diagnostics, cast=r.cast)
         written.append(_save(fig, fig_dir / f"{stem}_profile.png"))
-        plt.close(fig)
         fan = _fan_figure(r, **FIGURE_CASTS[stem])
         if fan is not None:
             written.append(_save(fan, fig_dir / f"{stem}_fan.png"))
-            plt.close(fan)
     return written
 
 
 def _fan_figure(result, source_depth, angles, rays, max_range, shade):
     try:
-        from .plots.rays import plot_fan
+        from .plots.rays import fan_for_drawing, plot_fan
         from .propagation import Environment, trace_fan
     except ImportError:  # the ray engine is optional for the cast demo
         return None
     bottom = result.diagnostics.get("bottom_depth") or float(result.profile["depth"].max())
     env = Environment.from_profile(result.profile, bottom_depth=bottom, thin_tolerance=0.05)
     fan = trace_fan(env, source_depth, np.linspace(angles[0], angles[1], rays), max_range)
-    return plot_fan(fan, env, profile=result.profile, shade=shade)
+    # the rays drawn with fine samples along their arcs (the traced rays themselves)
+    return plot_fan(fan_for_drawing(fan, env), env, profile=result.profile, shade=shade)
 
 
 def _save(fig, path):

@@ -220,3 +220,65 @@ def test_speed_only_errors_are_not_all_blamed_on_the_reference(tmp_path):
     assert not res.ok and res.error_argument == "latitude"
     (res,) = build_files([path], extend_to=500.0, latitude=30.0)
     assert not res.ok and res.error_argument == "reference"
+
+
+def _same_name_casts(tmp_path):
+    """Two synthetic demo casts renamed to one cast name, in two files (a.csv, b.csv)."""
+    a, b = tmp_path / "a.csv", tmp_path / "b.csv"
+    a.write_text((DEMO / "shelf_summer_ctd.csv").read_text().replace(
+        "# cast_name: VS31-S04", "# cast_name: TWIN"))
+    b.write_text((DEMO / "shelf_winter_ctd.csv").read_text().replace(
+        "# cast_name: VS31-W02", "# cast_name: TWIN"))
+    assert "TWIN" in a.read_text() and "TWIN" in b.read_text()
+    return a, b
+
+
+@pytest.mark.parametrize("overwrite", [False, True])
+def test_dask_name_clash_keeps_the_first_cast_and_fails_the_second(tmp_path, overwrite):
+    pytest.importorskip("dask")
+    from seaprofile.casts.read import read_profile
+
+    a, b = _same_name_casts(tmp_path)
+    out = tmp_path / "out"
+    for _ in range(2 if overwrite else 1):  # with --overwrite a second run changes nothing
+        results = build_files([a, b], out_dir=out, overwrite=overwrite, scheduler="threads")
+        assert results[0].ok and results[0].written == [str(out / "TWIN.nc")]
+        assert not results[1].ok and results[1].written == []
+        assert "already written" in results[1].error and str(b) in results[1].error
+        # the file holds the first cast, as a sequential batch leaves it; no staged leftovers
+        assert Path(read_profile(out / "TWIN.nc").attrs["source_file"]).name == "a.csv"
+        assert sorted(p.name for p in out.iterdir()) == ["TWIN.nc"]
+
+
+def test_dask_existing_output_without_overwrite_is_that_casts_error(tmp_path):
+    pytest.importorskip("dask")
+    a, _ = _same_name_casts(tmp_path)
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "TWIN.nc").write_bytes(b"kept")
+    (res,) = build_files([a], out_dir=out, scheduler="threads")
+    assert not res.ok and "exists" in res.error
+    assert (out / "TWIN.nc").read_bytes() == b"kept"
+    assert sorted(p.name for p in out.iterdir()) == ["TWIN.nc"]
+
+
+def test_directories_stand_for_their_cast_files_in_name_order(tmp_path):
+    folder = tmp_path / "casts"
+    folder.mkdir()
+    for name in ("b_winter.csv", "a_summer.csv"):
+        src = "shelf_winter_ctd.csv" if "winter" in name else "shelf_summer_ctd.csv"
+        (folder / name).write_bytes((DEMO / src).read_bytes())
+    (folder / "README.md").write_text("notes, not a cast")
+    (folder / "sub").mkdir()
+    results = build_files([folder])
+    assert [Path(r.path).name for r in results] == ["a_summer.csv", "b_winter.csv"]
+    assert all(r.ok for r in results)
+
+
+def test_directory_without_cast_files_is_one_clear_error(tmp_path):
+    empty = tmp_path / "notes"
+    empty.mkdir()
+    (empty / "README.md").write_text("no casts here")
+    results = build_files([empty, DEMO / "shelf_summer_ctd.csv"])
+    assert not results[0].ok and results[1].ok
+    assert str(empty) in results[0].error and "no cast or profile files" in results[0].error

@@ -63,6 +63,32 @@ def test_bathymetry_bad_values_named_by_line_and_column(tmp_path):
         io.read_bathymetry(path)
 
 
+def test_bathymetry_negative_range_named_by_line_and_column(tmp_path):
+    path = tmp_path / "b.txt"
+    path.write_text("# invented track (synthetic)\nrange_km,depth_m\n0,100\n-0.5,90\n")
+    with pytest.raises(InputFileError, match="range") as err:
+        io.read_bathymetry(path)
+    assert (err.value.line, err.value.column) == (4, 1) and "b.txt" in str(err.value)
+
+
+def test_bathymetry_repeated_range_names_both_lines(tmp_path):
+    # 2 km and 2000 m are the same range once the header's units are applied
+    path = tmp_path / "b.txt"
+    path.write_text("range_m,depth_m\n2000,100\n0,80\n# note\n2000.0,90\n")
+    with pytest.raises(InputFileError, match="repeat") as err:
+        io.read_bathymetry(path)
+    assert (err.value.line, err.value.column) == (5, 1)
+    assert "line 2" in str(err.value) and "b.txt" in str(err.value)
+
+
+def test_bathymetry_points_in_any_order_come_back_sorted(tmp_path):
+    path = tmp_path / "b.txt"
+    path.write_text("range_km,depth_m\n3,50\n0,100\n1.5,70\n")
+    r, z = io.read_bathymetry(path)
+    np.testing.assert_array_equal(r, [0.0, 1500.0, 3000.0])
+    np.testing.assert_array_equal(z, [100.0, 70.0, 50.0])
+
+
 # --- loading ---------------------------------------------------------------------------
 
 

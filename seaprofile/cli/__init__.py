@@ -20,7 +20,8 @@ from ..io.errors import ArgumentError
 # Command modules, in the order --help lists them. Add a new command here.
 COMMANDS = ["demo", "build", "inspect", "plot", "speed", "fan", "paths"]
 
-EPILOG = f"Caution: {CAUTION}"
+EPILOG = ("A value that starts with a minus sign may also be written --option=VALUE "
+          f"(--latitude=-33.5).\n\nCaution: {CAUTION}")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -54,8 +55,12 @@ def build_parser():
 
 def main(argv=None):
     """Entry point of the ``seaprofile`` console script."""
+    from ._options import join_negative_values
+
     parser = build_parser()
-    args = parser.parse_args(argv)  # a usage error: one line, SystemExit(2)
+    argv = list(sys.argv[1:] if argv is None else argv)
+    # a usage error: one line, SystemExit(2)
+    args = parser.parse_args(join_negative_values(argv))
     if not getattr(args, "_run", None):
         parser.print_help()
         return 2

@@ -11,7 +11,7 @@ import re
 import numpy as np
 
 from .._validate import SeaprofileError
-from ..casts.xbt import FALL_RATES
+from ..casts.xbt import DEFAULT_FALL_RATE, FALL_RATES
 from ..io.options import check_read_options
 from ..seawater.depth import METHODS
 from ..seawater.soundspeed import EQUATIONS
@@ -50,42 +50,62 @@ def in_option_terms(message):
     return _KEYWORD_USE.sub(lambda m: OPTION_NAMES[m.group(1)], str(message))
 
 
-def allow_negative_values(parser):
-    """Let option values start with a minus sign and a digit (``--receiver -1km,20``).
+# a value argparse already reads as a number: plain negative integers and decimals
+_PLAIN_NEGATIVE = re.compile(r"^-\d+$|^-\d*\.\d+$")
+# a value starting with a minus sign and a digit (no option of ours starts with a digit)
+_NEGATIVE_VALUE = re.compile(r"^-\.?\d")
 
-    argparse takes ``-1km,20`` for an unknown option because only plain negative numbers
-    are recognised as values; no option of ours starts with a digit, so any
-    ``-<digit>...`` argument can safely be read as a value.
+
+def join_negative_values(argv):
+    """``argv`` with ``--option -1km,20`` written as ``--option=-1km,20``.
+
+    argparse reads plain negative numbers (``--angles -15 15``, ``--extend-to -5``) as
+    values, but takes ``-1km,20`` or ``-1e3`` for an unknown option. Written as
+    ``--option=VALUE`` (the form the argparse documentation gives for values that start
+    with a minus sign) they are values again, and the option's own check can refuse them
+    with its own message. Only a token right after a long option is joined; plain numbers
+    are left alone, so options taking two values (``--angles LOW HIGH``) are unaffected.
     """
-    if hasattr(parser, "_negative_number_matcher"):
-        parser._negative_number_matcher = re.compile(r"^-\.?\d")
-    return parser
+    out = []
+    for token in argv:
+        prev = out[-1] if out else ""
+        if (_NEGATIVE_VALUE.match(token) and not _PLAIN_NEGATIVE.match(token)
+                and prev.startswith("--") and len(prev) > 2 and "=" not in prev):
+            out[-1] = f"{prev}={token}"
+        else:
+            out.append(token)
+    return out
 
 
 # --- reading and building casts ----------------------------------------------------------
 
 
 def add_reading_options(p):
-    """``--columns``, ``--units``, ``--latitude``, ``--longitude``: how raw casts are read."""
+    """How raw casts are read, for every command that reads one (one list for all).
+
+    ``--columns``, ``--units``, ``--latitude``, ``--longitude``, ``--instrument``,
+    ``--salinity`` and ``--fall-rate``; :func:`reading_options` checks them.
+    """
     g = p.add_argument_group("reading raw casts")
-    g.add_argument("--columns", help="explicit column mapping, e.g. "
-                   "'temperature=temperature [degC],pressure=pressure [dbar]'")
+    g.add_argument("--columns", help="explicit column mapping, by header name or by 1-based "
+                   "position, e.g. 'temperature=temperature [degC],pressure=pressure [dbar]' "
+                   "or '1=depth,2=sound_speed'")
     g.add_argument("--units", help="unit overrides, e.g. pressure=MPa,temperature=degC")
     g.add_argument("--latitude", type=float, help="latitude, degrees north (overrides the file)")
     g.add_argument("--longitude", type=float, help="longitude, degrees east (overrides the file)")
+    g.add_argument("--instrument", choices=["ctd", "xbt", "svp"],
+                   help="instrument kind (default: from the file)")
+    g.add_argument("--salinity", type=float,
+                   help="salinity assumed for casts without one (expendable probes: default 35)")
+    g.add_argument("--fall-rate",
+                   help="expendable-probe fall rate: " + ", ".join(sorted(FALL_RATES))
+                   + f" or A,B for depth = A t - B t^2 (m, s); default {DEFAULT_FALL_RATE}")
     return g
 
 
 def add_building_options(p):
     """Reading options plus how a cast is built into a profile (the ``build`` command)."""
-    g = add_reading_options(p)
-    g.add_argument("--instrument", choices=["ctd", "xbt", "svp"],
-                   help="instrument kind (default: from the file)")
-    g.add_argument("--salinity", type=float,
-                   help="salinity assumed for casts without one (expendable probes: default 35)")
-    g.add_argument("--fall-rate", default="hanawa1995",
-                   help="expendable-probe fall rate: " + ", ".join(sorted(FALL_RATES))
-                   + " or A,B for depth = A t - B t^2 (m, s); default hanawa1995")
+    add_reading_options(p)
     b = p.add_argument_group("building profiles")
     b.add_argument("--equation", default="chen_millero1977", choices=sorted(EQUATIONS),
                    help="sound-speed equation (default chen_millero1977)")
@@ -148,7 +168,7 @@ def add_angle_options(p, prefix="", default=None, rays=None, what="launch angles
                    help=f"{what}: the lowest and the highest, degrees from horizontal, "
                         f"positive toward the bottom, strictly inside -90..90{tail}")
     p.add_argument(count, metavar="COUNT", default=rays,
-                   help=f"number of rays from LOW to HIGH, both included"
+                   help="number of rays from LOW to HIGH, both included"
                         + (f" (default {rays})" if rays else ""))
 
 
@@ -203,7 +223,6 @@ def add_ray_input_options(p, metavar, help_text):
     """What ``fan`` and ``paths`` share: the input, reading options and node thinning."""
     from ..io import DEFAULT_THIN_TOLERANCE
 
-    allow_negative_values(p)
     p.add_argument("profile", nargs="+", metavar=metavar, help=help_text)
     p.add_argument("--source-depth", required=True,
                    help="source depth, m (a 'km' suffix is accepted)")

@@ -15,6 +15,7 @@ from .._cf import CAUTION
 from ..batch import build_files, summary_row
 from ..casts.write import FORMATS
 from ..io import load_profile
+from ..io.loading import CAST_SUFFIXES
 from ..io.options import check_build_options, check_replacement_salinity, check_scheduler
 from ._common import parse_length, print_json, print_table
 from ._options import add_building_options, in_option_terms, option_name, reading_options
@@ -33,7 +34,10 @@ COLUMNS = ["file", "cast", "instrument", "depth_range_m", "samples", "flags",
 
 
 def add_arguments(p):
-    p.add_argument("casts", nargs="+", metavar="CAST", help="cast files (text, netCDF or JSON)")
+    p.add_argument("casts", nargs="+", metavar="CAST",
+                   help="cast files (text, netCDF or JSON), or directories: a directory stands "
+                   "for its files ending in " + ", ".join(CAST_SUFFIXES) + ", in name order "
+                   "(not its subdirectories)")
     add_building_options(p)
     p.add_argument("--extend-to", help="sea-floor depth, m, to extend every profile to (flagged "
                    "estimated); 'bottom' uses each file's bottom_depth metadata")

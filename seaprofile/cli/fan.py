@@ -108,9 +108,12 @@ def run(args):
         write_netcdf(fan, out_path, overwrite=args.overwrite)
         written.append(str(out_path))
     if plot_path is not None:
-        from ..plots.rays import plot_fan
+        from ..plots.rays import fan_for_drawing, plot_fan
 
-        fig = plot_fan(fan, env, shade=args.shade.replace("-", "_"), profile=loaded.profile)
+        # drawn from fine samples along every arc (the same rays; the file keeps what was
+        # asked for), so turning points are round rather than polygonal
+        fig = plot_fan(fan_for_drawing(fan, env), env, shade=args.shade.replace("-", "_"),
+                       profile=loaded.profile)
         save_figure(fig, plot_path, overwrite=args.overwrite)
         written.append(str(plot_path))
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 from ..layers import describe
 from ..io import load_profile, profile_bottom
 from .._validate import SeaprofileError
+from ..plots._numbers import cutoff_text
 from ._common import parse_length, print_json
 from ._options import add_reading_options, optional_length, reading_options
 
@@ -56,7 +57,7 @@ def run(args):
         if value is None:
             continue
         if key == "duct_cutoff_frequency" and isinstance(value, float):
-            text = f"{float(f'{value:.2g}'):g}"  # a rule of thumb: two figures at most
+            text = cutoff_text(value) or "nan"  # the same text as the figure's
             unit += " (rule of thumb)"
         else:
             text = f"{value:.2f}" if isinstance(value, float) else str(value)

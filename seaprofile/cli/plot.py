@@ -11,6 +11,8 @@ metres unless a 'km' suffix is given.
 
 from __future__ import annotations
 
+import numpy as np
+
 from .._cf import CAUTION
 from .._validate import SeaprofileError
 from ._common import parse_length, print_json
@@ -32,11 +34,12 @@ def add_arguments(p):
     p.add_argument("--bottom-depth", help="sea-floor depth, m, drawn and used for the depth "
                                           "excess (default: the one the file carries, if any)")
     p.add_argument("--upper-panel", default="auto", metavar="DEPTH",
-                   help="depth, m, of the extra panel of the upper ocean, or 'none' (default "
-                        "auto: 300 m for profiles deeper than 1500 m)")
+                   help="depth, m, of the extra panel of the upper ocean, above the deepest "
+                        "level of the profile, or 'none' (default auto: 300 m for profiles "
+                        "deeper than 1500 m)")
     add_reading_options(p)
-    p.add_argument("--dpi", type=float, default=150.0, help="resolution of a PNG, dots per "
-                                                            "inch (default %(default)s)")
+    p.add_argument("--dpi", type=float, default=150, help="resolution of a PNG, dots per "
+                                                          "inch (default %(default)s)")
     p.add_argument("--overwrite", action="store_true", help="replace an existing figure")
     p.add_argument("--json", action="store_true", help="print what was drawn as JSON")
 
@@ -51,6 +54,17 @@ def _upper_panel(text):
     if depth <= 0:
         raise SeaprofileError(f"--upper-panel must be a positive depth or 'none', got {text!r}")
     return depth
+
+
+def _check_upper_panel(zoom, text, profile):
+    """Refuse an upper-ocean panel that reaches below the deepest level of the profile."""
+    if not zoom:
+        return
+    deepest = float(np.nanmax(profile["depth"].values))
+    if zoom > deepest:
+        raise SeaprofileError(f"--upper-panel: {text!r} reaches below the deepest level of "
+                              f"the profile ({deepest:g} m); give a depth in (0, {deepest:g}] "
+                              "m or 'none'")
 
 
 def _pick(profiles, name, path):
@@ -99,6 +113,7 @@ def run(args):
         casts = read_casts(args.profile, **{k: v for k, v in options.items()
                                             if k in READ_OPTIONS})
         cast = casts[profiles.index(profile)] if len(casts) == len(profiles) else None
+    _check_upper_panel(zoom, args.upper_panel, profile)
     if bottom is None:
         bottom = profile_bottom(profile)
     fig = plot_profile(profile, cast=cast, zoom=zoom, bottom_depth=bottom)

@@ -51,15 +51,15 @@ def read_bathymetry(path):
     Returns
     -------
     ranges : numpy.ndarray
-        Range from the source, m, increasing.
+        Range from the source, m (>= 0), increasing; the points may be given in any order.
     depths : numpy.ndarray
         Bottom depth, m, positive down (> 0).
 
     Raises
     ------
     InputFileError
-        Missing or unreadable file, missing header, a bad number, a depth at or above the
-        surface, or a repeated range; names the file, line and column.
+        Missing or unreadable file, missing header, a bad number, a negative range, a depth
+        at or above the surface, or a repeated range; names the file, line and column.
     """
     from ..casts.read import check_input_file  # here: casts imports io.errors at import
 
@@ -70,6 +70,7 @@ def read_bathymetry(path):
         raise InputFileError(path, f"cannot read: {exc}") from None
     scale = None
     rows = []
+    first_line = {}  # range (m) -> the line that gave it
     for lineno, line in enumerate(text.splitlines(), start=1):
         s = line.strip()
         if not s or s.startswith("#"):
@@ -90,9 +91,16 @@ def read_bathymetry(path):
         r, z = values[0] * scale[0], values[1] * scale[1]
         if not (np.isfinite(r) and np.isfinite(z)):
             raise InputFileError(path, "range and depth must be finite", lineno)
+        if r < 0:
+            raise InputFileError(path, f"range must be at or beyond the source (>= 0 m), got "
+                                 f"{r:g} m", lineno, 1)
         if z <= 0:
             raise InputFileError(path, f"bottom depth must be below the surface (> 0 m), got "
                                  f"{z:g} m", lineno, 2)
+        if r in first_line:
+            raise InputFileError(path, f"range {r:g} m repeats the range of line "
+                                 f"{first_line[r]}; ranges must not repeat", lineno, 1)
+        first_line[r] = lineno
         rows.append((r, z))
     if scale is None:
         raise InputFileError(path, f"empty: expected a header ({_EXAMPLE}) and points")
@@ -100,6 +108,4 @@ def read_bathymetry(path):
         raise InputFileError(path, "no (range, depth) points after the header")
     arr = np.array(rows)
     arr = arr[np.argsort(arr[:, 0], kind="stable")]
-    if np.any(np.diff(arr[:, 0]) <= 0):
-        raise InputFileError(path, "ranges must not repeat")
     return arr[:, 0], arr[:, 1]

@@ -24,9 +24,9 @@ from .bathymetry import read_bathymetry
 from .errors import ArgumentError
 from .outputs import NETCDF_LOCK
 
-__all__ = ["DEFAULT_THIN_TOLERANCE", "READ_OPTIONS", "LoadedInput", "declared_kind",
-           "expand_paths", "load_environment", "load_input", "load_profile", "load_profiles",
-           "load_section", "read_as_profiles"]
+__all__ = ["CAST_SUFFIXES", "DEFAULT_THIN_TOLERANCE", "READ_OPTIONS", "LoadedInput",
+           "declared_kind", "directory_files", "expand_paths", "load_environment", "load_input",
+           "load_profile", "load_profiles", "load_section", "read_as_profiles"]
 
 #: keywords of :func:`seaprofile.casts.read.read_casts` accepted by the loaders; every
 #: other keyword goes to :func:`seaprofile.profile.build_profile`
@@ -255,8 +255,32 @@ def load_profile(path, **options):
 # --- several files ---------------------------------------------------------------------
 
 
+#: suffixes of the files a directory contributes (case ignored): the text, netCDF and JSON
+#: files the readers read; other files in a directory (notes, scripts) are left out
+CAST_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".asc", ".nc", ".json")
+
+
+def directory_files(directory):
+    """The cast or profile files of one directory, in name order (not its subdirectories).
+
+    Visible files whose suffix is one of :data:`CAST_SUFFIXES`.
+
+    Raises
+    ------
+    InputFileError
+        The directory holds no such file.
+    """
+    directory = Path(directory)
+    inside = sorted(q for q in directory.iterdir() if q.is_file() and not q.name.startswith(".")
+                    and q.suffix.lower() in CAST_SUFFIXES)
+    if not inside:
+        raise InputFileError(directory, "directory holds no cast or profile files (files "
+                             f"ending in {', '.join(CAST_SUFFIXES)})")
+    return inside
+
+
 def expand_paths(paths):
-    """Files named by ``paths`` (directories expanded to their visible files, sorted).
+    """Files named by ``paths`` (directories expanded by :func:`directory_files`).
 
     Parameters
     ----------
@@ -273,10 +297,7 @@ def expand_paths(paths):
     for p in paths:
         p = Path(p)
         if p.is_dir():
-            inside = sorted(q for q in p.iterdir() if q.is_file() and not q.name.startswith("."))
-            if not inside:
-                raise InputFileError(p, "directory holds no cast or profile files")
-            files.extend(inside)
+            files.extend(directory_files(p))
         else:  # a regular file: no such file, a named pipe or a device is refused unopened
             files.append(_check_input_file(p))
     if not files:

@@ -35,10 +35,10 @@ def parse_pairs(text, argument):
     argument : str
         Name used in messages (``"columns"`` or ``"units"``).
     """
-    from ..casts.columns import KIND
+    from ..casts.columns import ALIASES, KIND
 
     if isinstance(text, dict):
-        items = list(text.items())
+        items = [(str(k), v) for k, v in text.items()]
     else:
         items = []
         for item in str(text).split(","):
@@ -51,8 +51,13 @@ def parse_pairs(text, argument):
             items.append((key.strip(), value.strip()))
     out = {}
     for key, value in items:
-        if not key or not value:
+        if not key or not str(value).strip():
             raise ArgumentError(argument, f"empty variable or value in {key}={value}")
+        if argument == "columns" and key.lstrip("#").isdigit():  # 1-based position=variable
+            if int(key.lstrip("#")) < 1:
+                raise ArgumentError(argument, f"column positions start at 1, got {key!r}")
+            key, value = str(value).strip(), int(key.lstrip("#"))
+        key = ALIASES.get(key, key)
         if key not in KIND:
             raise ArgumentError(argument, f"unknown variable {key!r}; expected one of "
                                 f"{', '.join(KIND)}")

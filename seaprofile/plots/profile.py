@@ -27,6 +27,7 @@ from matplotlib.transforms import blended_transform_factory
 from .. import _cf
 from .._validate import SeaprofileError
 from ._layout import keep_texts_inside, thin_crowded_ticks
+from ._numbers import cutoff_text
 
 __all__ = ["plot_profile", "FLAG_MARKERS", "FLAG_WORDS", "PANEL_LABELS"]
 
@@ -43,19 +44,22 @@ _COLOURS = {
     "sound_speed": colormaps["cividis"](0.05),
     "raw": "0.72",  # background dots of the raw cast, light on purpose
 }
+_BAND = "0.45"  # the flag-8 band: mid grey, 4.7:1 on white (WCAG 2.1, 1.4.11)
 #: flag value -> (marker, face colour, legend label). Flags 3, 4 and 5 are marked on the
-#: value; flags 8 (estimated, inside the measured part) and 9 (missing) as a rug of ticks
-#: along the right edge of the panel, since their values are interpolated or absent.
+#: value; flag 8 (estimated, inside the measured part) as a thin band along the right edge
+#: of the panel over each run of filled bins, flag 9 (missing) as ticks there, since their
+#: values are interpolated or absent.
 FLAG_MARKERS = {
     _cf.PROBABLY_BAD: ("v", "none", f"flag 3: {FLAG_WORDS[_cf.PROBABLY_BAD]}"),
     _cf.BAD: ("X", INK, f"flag 4: {FLAG_WORDS[_cf.BAD]}"),
     _cf.CHANGED: ("D", "none", f"flag 5: {FLAG_WORDS[_cf.CHANGED]}"),
-    _cf.ESTIMATED: ("_", INK, f"flag 8: {FLAG_WORDS[_cf.ESTIMATED]} (filled bin, tick at the right edge)"),
+    _cf.ESTIMATED: ("None", _BAND, f"flag 8: {FLAG_WORDS[_cf.ESTIMATED]} (interpolated, "
+                    "band at the right edge)"),
     _cf.MISSING: ("x", INK, f"flag 9: {FLAG_WORDS[_cf.MISSING]} (tick at the right edge)"),
 }
 _ON_VALUE = (_cf.PROBABLY_BAD, _cf.BAD, _cf.CHANGED)
 _RUG = (_cf.ESTIMATED, _cf.MISSING)
-_NOT_DRAWN = (_cf.PROBABLY_BAD, _cf.BAD, _cf.MISSING)  # left out of the profile line
+_NOT_DRAWN = _cf.UNUSABLE_FLAGS  # left out of the profile line
 PANEL_LABELS = {
     "temperature": "Temperature (°C, ITS-90)",
     "salinity": "Salinity (PSS-78)",
@@ -69,6 +73,7 @@ _LINES = (
     ("secondary_channel_depth", "2nd channel", (0, (3, 1, 1, 1)), ("cividis", 0.45)),
     ("critical_depth_surface", "critical depth", (0, (1, 1)), ("magma", 0.0)),
 )
+MEASURED_LABEL = "measured level (bin with samples)"
 _ZOOM_WHEN_DEEPER = 1500.0  # m: add the upper-ocean panel below this depth
 _ZOOM_DEPTH = 300.0  # m shown in that panel
 _FEW_NODES = 40  # profiles with at most this many points show their nodes
@@ -144,7 +149,13 @@ def _mark_flags(ax, v, z, q, lim, suffix=""):
         for flag in _RUG:
             marker, face, label = FLAG_MARKERS[flag]
             sel = q == flag
-            if sel.any():
+            if not sel.any():
+                continue
+            if flag == _cf.ESTIMATED:  # one band per run of filled bins, NaN between runs
+                zz = _runs(z, sel)
+                ax.plot(np.full(zz.size, 0.985), zz, ls="-", lw=3.0, color=face,
+                        solid_capstyle="butt", transform=edge, zorder=4, label=label)
+            else:
                 ax.plot(np.full(sel.sum(), 0.985), z[sel], ls="none", marker=marker, ms=4,
                         mew=0.6, color=face, transform=edge, zorder=4, clip_on=True,
                         label=label)
@@ -159,12 +170,40 @@ def _mark_flags(ax, v, z, q, lim, suffix=""):
                     label="flagged, off scale (drawn at the edge)")
 
 
+def _runs(z, sel):
+    """Top and bottom depth of each run of neighbouring flagged bins ``sel``, NaN between.
+
+    Each run spans its bins out to half a bin beyond its end bins: the band is as long as
+    the depth the filled bins cover, so scattered single filled bins of a dense cast show
+    as a faint haze and a sparse cast, interpolated nearly everywhere, as a full band.
+    """
+    idx = np.flatnonzero(sel)
+    first = idx[np.r_[True, np.diff(idx) > 1]]
+    last = idx[np.r_[np.diff(idx) > 1, True]]
+    zf = z.astype(float)
+    half = 0.5 * np.diff(zf).min() if zf.size > 1 else 0.5
+    return np.column_stack([zf[first] - half, zf[last] + half,
+                            np.full(first.size, np.nan)]).ravel()[:-1]
+
+
+def _measured_levels(profile, shown):
+    """Bins holding samples, when few enough to mark one by one among filled bins."""
+    if "samples_per_bin" not in profile:
+        return None
+    measured = (np.asarray(profile["samples_per_bin"].values) > 0) & np.isfinite(shown)
+    if measured.all() or not measured.any() or measured.sum() > _FEW_NODES:
+        return None
+    return measured
+
+
 def _draw_variable(ax, profile, name, z, est_top, *, label, linestyle="-"):
     v = np.asarray(profile[name].values, dtype=float)
     q = _flags(profile, name)
     shown = np.where(np.isin(q, _NOT_DRAWN), np.nan, v)
     colour = _COLOURS[name]
-    nodes = dict(marker="o", ms=3.5) if np.isfinite(shown).sum() <= _FEW_NODES else {}
+    measured = _measured_levels(profile, shown)
+    few = measured is None and np.isfinite(shown).sum() <= _FEW_NODES
+    nodes = dict(marker="o", ms=3.5) if few else {}
     # a measured part of the profile, and below est_top the extension, dashed
     meas = np.ones(z.size, bool) if est_top is None else z <= est_top
     ax.plot(np.where(meas, shown, np.nan), z, color=colour, lw=1.3, ls=linestyle,
@@ -174,6 +213,9 @@ def _draw_variable(ax, profile, name, z, est_top, *, label, linestyle="-"):
         lo = last[-1] if last.size else 0
         ax.plot(shown[lo:], z[lo:], color=colour, lw=1.3, ls=(0, (5, 3)),
                 label=f"estimated (below {est_top:g} m)")
+    if measured is not None:  # the levels actually measured, among interpolated bins
+        ax.plot(v[measured], z[measured], ls="none", marker="o", ms=4.5, mfc="white",
+                mec=colour, mew=1.3, zorder=3, label=MEASURED_LABEL)
     est = (q == _cf.ESTIMATED) & meas  # filled bins inside the measured part only
     _mark_flags(ax, v, z, np.where((q == _cf.ESTIMATED) & ~est, _cf.GOOD, q),
                 _limits(profile, name))
@@ -223,7 +265,7 @@ def _summary(d):
     if d.get("surface_duct"):
         rows += [("surface duct", num("sonic_layer_depth", "{:.0f} m thick")),
                  ("in-layer gradient", num("in_layer_gradient", "{:+.3f} 1/s")),
-                 ("duct cut-off*", num("duct_cutoff_frequency", "{:.0f} Hz"))]
+                 ("duct cut-off*", _cutoff(d))]
     else:
         rows.append(("surface duct", "none"))
     rows += [("below-layer gradient", num("below_layer_gradient", "{:+.3f} 1/s")),
@@ -232,9 +274,14 @@ def _summary(d):
              ("depth excess", num("depth_excess_surface", "{:.0f} m")),
              (hm, num("harmonic_mean_sound_speed", "{:.1f} m/s"))]
     lines = [f"{k}: {v}" for k, v in rows if v is not None]
-    if d.get("surface_duct") and num("duct_cutoff_frequency", "{}"):
+    if d.get("surface_duct") and _cutoff(d):
         lines.append("* rule of thumb, order of magnitude")
     return lines
+
+
+def _cutoff(d):
+    text = cutoff_text(d.get("duct_cutoff_frequency"))
+    return None if text is None else f"{text} Hz"
 
 
 def _hlines(axes, diagnostics, label_ax, ylim, est_top=None):
@@ -294,7 +341,12 @@ def _title(profile):
             or _word(profile.attrs.get("profile_id")) or "(unnamed)")
     eq = _word(profile.attrs.get("equation"))
     if eq == "measured":
-        eq_text = " (measured by a sound-speed probe)"
+        # the instrument is named only when the file (or the user) declared it; a reader's
+        # guess from the columns is no claim about where the numbers came from
+        declared = _word(profile.attrs.get("instrument_source")) in ("file", "option")
+        eq_text = (" (measured by a sound-speed probe)"
+                   if declared and _word(profile.attrs.get("instrument")) == "svp"
+                   else " (sound speed given directly)")
     else:
         eq_text = f" (equation {eq})" if eq else ""
     where = []
@@ -341,7 +393,7 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
         One to three panels (one more with the upper-ocean panel) sharing an inverted
         depth axis. A plain Figure: the matplotlib backend is never changed.
     """
-    from ..layers import _estimated_top, describe
+    from ..layers.summary import _estimated_top, describe
 
     if not hasattr(profile, "dims") or "depth" not in profile.dims or \
             "sound_speed" not in profile:
@@ -364,7 +416,8 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
     width_in = _LEFT_IN + n_full * _PANEL_IN + (n_full - 1) * _GAP_IN + _LABELS_IN
     if zoom:
         width_in += _ZOOM_GAP_IN + _PANEL_IN + _LABELS_IN
-    width_in = max(width_in, _MIN_WIDTH_IN)
+    if n_full > 1 or zoom:
+        width_in = max(width_in, _MIN_WIDTH_IN)
     if fig is None:
         fig = Figure(figsize=(width_in, 9.0))
     else:
@@ -441,10 +494,16 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
             seen.update((lab, key))
             handles.append((hd, lab))
     summary = _summary(diagnostics)
-    ncol_summary = max(1, min(3, int((width_in * 0.5 - 0.1) // 2.5)))
+    # one panel: the legend and the summary stacked under it, the figure as narrow as the
+    # panel and its labels allow; several panels: the summary beside the legend
+    stacked = n_full == 1 and not zoom
+    ncol_summary = 1 if stacked else max(1, min(3, int((width_in * 0.5 - 0.1) // 2.5)))
     ncol_legend = 1 if width_in < 11 else 2
     per = math.ceil(len(summary) / ncol_summary) if summary else 0
-    rows = max(per, math.ceil(len(handles) / ncol_legend), 3)
+    if stacked:
+        rows = len(handles) + len(summary) + 1
+    else:
+        rows = max(per, math.ceil(len(handles) / ncol_legend), 3)
     bottom_in = 0.35 + rows * 0.165 + 0.45
     height_in = _TOP_IN + _PANELS_HEIGHT_IN + bottom_in
     top_text = (bottom_in - 0.35) / height_in
@@ -456,32 +515,48 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
                              _PANELS_HEIGHT_IN / height_in])
 
     place(width_in)
+    title, where = _title(profile)
+    heads = [fig.suptitle(title, fontsize=12, y=1.0 - 0.12 / height_in, va="top")]
+    if where:
+        heads.append(fig.text(0.5, 1.0 - 0.45 / height_in, where, ha="center", va="top",
+                              fontsize=9, color="0.25"))
     legend = fig.legend([hd for hd, _ in handles], [lab for _, lab in handles],
                         loc="upper left", ncol=ncol_legend, fontsize=7.5, frameon=False,
                         borderaxespad=0.0, bbox_to_anchor=(0.3 / width_in, top_text))
     chunks = [summary[i:i + per] for i in range(0, len(summary), per)] if per else []
     notes = [fig.text(0.5, top_text, "\n".join(chunk), ha="left", va="top", fontsize=8,
                       color="0.15", linespacing=1.45) for chunk in chunks]
-    # the summary starts right of the legend; the figure widens when both do not fit
     fig.draw_without_rendering()
     renderer = fig._get_renderer()
-    legend_in = legend.get_window_extent(renderer).width / fig.dpi if handles else 0.0
+    legend_box = legend.get_window_extent(renderer) if handles else None
+    legend_in = legend_box.width / fig.dpi if handles else 0.0
     widths = [t.get_window_extent(renderer).width / fig.dpi for t in notes]
-    x_in = max(0.5 * width_in, 0.3 + legend_in + 0.35)
-    need = x_in + sum(widths) + 0.3 * max(len(widths) - 1, 0) + 0.15
-    if need > width_in:
-        width_in = need
+    if stacked:
+        # as wide as the panel with its labels, the legend, the summary or the title,
+        # whichever is widest
+        panel_in = max(ax.get_tightbbox(renderer).x1 for ax in axes) / fig.dpi
+        head_in = max(t.get_window_extent(renderer).width for t in heads) / fig.dpi
+        width_in = max(panel_in + 0.2, 0.3 + legend_in + 0.15,
+                       0.3 + max(widths, default=0) + 0.15, head_in + 0.3)
         place(width_in)
         legend.set_bbox_to_anchor((0.3 / width_in, top_text), transform=fig.transFigure)
-    gap = min(max((width_in - 0.15 - x_in - sum(widths)) / max(len(widths) - 1, 1), 0.3), 1.2)
-    for t, w in zip(notes, widths):
-        t.set_x(x_in / width_in)
-        x_in += w + gap
-    title, where = _title(profile)
-    fig.suptitle(title, fontsize=12, y=1.0 - 0.12 / height_in, va="top")
-    if where:
-        fig.text(0.5, 1.0 - 0.45 / height_in, where, ha="center", va="top", fontsize=9,
-                 color="0.25")
+        below = top_text - (legend_box.height / fig.dpi + 0.12) / height_in if handles \
+            else top_text
+        for t in notes:
+            t.set_position((0.3 / width_in, below))
+    else:
+        # the summary starts right of the legend; the figure widens when both do not fit
+        x_in = max(0.5 * width_in, 0.3 + legend_in + 0.35)
+        need = x_in + sum(widths) + 0.3 * max(len(widths) - 1, 0) + 0.15
+        if need > width_in:
+            width_in = need
+            place(width_in)
+            legend.set_bbox_to_anchor((0.3 / width_in, top_text), transform=fig.transFigure)
+        gap = min(max((width_in - 0.15 - x_in - sum(widths)) / max(len(widths) - 1, 1), 0.3),
+                  1.2)
+        for t, w in zip(notes, widths):
+            t.set_x(x_in / width_in)
+            x_in += w + gap
     fig.text(0.5, 0.06 / height_in, "Caution: " + _cf.CAUTION, ha="center", va="bottom",
              fontsize=7, color="0.3", wrap=True)
     thin_crowded_ticks(fig)

@@ -22,7 +22,6 @@ import numpy as np
 from matplotlib.collections import LineCollection
 from matplotlib.colors import BoundaryNorm, ListedColormap
 from matplotlib.figure import Figure
-from matplotlib.lines import Line2D
 import matplotlib as mpl
 from matplotlib.ticker import MaxNLocator
 
@@ -30,7 +29,7 @@ from .._cf import CAUTION
 from .._validate import SeaprofileError
 from ._layout import keep_texts_inside, thin_crowded_ticks
 
-__all__ = ["plot_fan", "SHADES", "boundary_reflections", "reflection_bins"]
+__all__ = ["plot_fan", "SHADES", "boundary_reflections", "fan_for_drawing", "reflection_bins"]
 
 #: Ways of shading the rays.
 SHADES = ("launch_angle", "reflections")
@@ -48,6 +47,62 @@ ANGLE_CMAP = ListedColormap(mpl.colormaps["viridis"](np.linspace(0.0, 0.58, 256)
                             name="seaprofile_launch_angle")
 REFLECTION_MAP = ("plasma", 0.0, 0.62)
 MAX_REFLECTION_BINS = 9  # colour steps of the reflection colour bar, at most
+
+
+#: points per ray that :func:`fan_for_drawing` asks for, and the bound on all rays together
+DRAW_POINTS_PER_RAY = 2000
+DRAW_POINTS_TOTAL = 1_000_000
+MIN_DRAW_POINTS_PER_RAY = 100
+
+
+def fan_for_drawing(fan, environment):
+    """The rays of ``fan`` with points close enough along every arc to draw them smooth.
+
+    A RayFan keeps only its event points (start, layer crossings, turning points,
+    reflections) or range samples at the step the user chose. Drawn as straight segments
+    between those points, an arc over a few thinned layers looks like a polygon, most of
+    all at a deep turning point. This traces the same rays again through the same
+    environment with :func:`seaprofile.propagation.trace_fan` at a fine range step
+    (``max_range / DRAW_POINTS_PER_RAY``, coarser when the fan is large, so that all
+    rays together hold at most about ``DRAW_POINTS_TOTAL`` points) and merges those
+    samples with the points of ``fan`` in the order of travel time along each ray. The
+    physics is untouched: every point is a point of the traced ray.
+
+    Parameters
+    ----------
+    fan : xarray.Dataset
+        RayFan from :func:`~seaprofile.propagation.trace_fan` (attributes
+        ``source_depth`` m, ``max_range`` m, ``max_bounces``; ``launch_angle`` degrees).
+    environment : Environment
+        The environment ``fan`` was traced in.
+
+    Returns
+    -------
+    xarray.Dataset
+        ``fan`` with ``range`` and ``depth`` (m) and ``travel_time`` (s) on a longer
+        ``point`` dimension (NaN padded); other per-point variables are left out, the
+        per-ray variables and attributes are those of ``fan``.
+    """
+    from ..propagation import trace_fan
+
+    _check_fan(fan)
+    angles = np.asarray(fan["launch_angle"].values, dtype=float)
+    rmax = float(fan.attrs["max_range"])
+    per_ray = int(np.clip(DRAW_POINTS_TOTAL // max(angles.size, 1), MIN_DRAW_POINTS_PER_RAY,
+                          DRAW_POINTS_PER_RAY))
+    fine = trace_fan(environment, float(fan.attrs["source_depth"]), angles, rmax,
+                     range_step=rmax / per_ray,
+                     max_bounces=int(fan.attrs.get("max_bounces", 100)))
+    t = np.concatenate([fan["travel_time"].values, fine["travel_time"].values], axis=1)
+    order = np.argsort(np.where(np.isfinite(t), t, np.inf), axis=1, kind="stable")
+    merged = {}
+    for name in ("range", "depth", "travel_time"):
+        both = np.concatenate([fan[name].values, fine[name].values], axis=1)
+        both = np.take_along_axis(both, order, axis=1)
+        merged[name] = (("ray", "point"), np.where(np.isfinite(np.take_along_axis(
+            t, order, axis=1)), both, np.nan), fan[name].attrs)
+    per_point = [v for v in fan.data_vars if "point" in fan[v].dims]
+    return fan.drop_vars(per_point).drop_dims("point", errors="ignore").assign(merged)
 
 
 def caution_line(fig, text=None):

@@ -2,6 +2,8 @@
 
 import pytest
 
+import seaprofile.cli.plot as plot_cmd
+
 from _cli_helpers import DEMO, rewrite_cast
 
 
@@ -18,3 +20,17 @@ def unplaced_cast(tmp_path):
     """The demo summer shelf cast (synthetic) without latitude and longitude."""
     return rewrite_cast(DEMO / "shelf_summer_ctd.csv", tmp_path / "unplaced.csv",
                         drop=("latitude", "longitude"))
+
+
+@pytest.fixture
+def drawn(monkeypatch):
+    """The figures the `plot` command saves (the real save still runs)."""
+    figures = []
+    real = plot_cmd.save_figure
+
+    def keep(fig, path, **kw):
+        figures.append(fig)
+        return real(fig, path, **kw)
+
+    monkeypatch.setattr(plot_cmd, "save_figure", keep)
+    return figures

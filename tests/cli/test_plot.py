@@ -33,20 +33,6 @@ def speed_only(pid="VS31-P02", n=150):
         attrs=_cf.base_attrs(featureType="profile", cast_name=pid, equation="measured"))
 
 
-@pytest.fixture
-def drawn(monkeypatch):
-    """The figures the command saves (the real save still runs)."""
-    figures = []
-    real = plot_cmd.save_figure
-
-    def keep(fig, path, **kw):
-        figures.append(fig)
-        return real(fig, path, **kw)
-
-    monkeypatch.setattr(plot_cmd, "save_figure", keep)
-    return figures
-
-
 def _one_line_error(capsys):
     err = capsys.readouterr().err.strip()
     assert err.count("\n") == 0 and "error" in err and "Traceback" not in err
