@@ -236,7 +236,7 @@ def _commit_staged(results, overwrite):
 def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, columns=None,
                 units=None, instrument=None, latitude=None, longitude=None, salinity=None,
                 fall_rate="hanawa1995", equation="chen_millero1977", bin_size=1.0,
-                extend_to=None, reference=None, replacement_salinity=None,
+                extend_to=None, reference=None, max_gap="auto", replacement_salinity=None,
                 replace_salinity="bad", depth_method="unesco1983", scheduler=None,
                 protect=()):
     """Read, process, quality-control and write every cast in ``paths``.
@@ -267,6 +267,11 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
         that cast, reported with the others; the rest carry on).
     reference : xarray.Dataset, optional
         Deeper Profile that shapes the extension.
+    max_gap : "auto", float or None
+        Widest gap between measured levels, m, that is filled by linear interpolation
+        (flag 8); ``"auto"``: up to max(5 m, 3 x the spacing of the levels beside it), so
+        sparse casts stay joined and data loss in a dense cast stays missing; None: fill
+        every gap. See :func:`seaprofile.casts.gaps.fill_gaps`.
     replacement_salinity : float, optional
         Practical salinity put in place of a failed salinity channel (flag 8, recorded in
         each profile's ``salinity_replaced`` and ``assumptions`` attributes); see
@@ -313,6 +318,8 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
         Path(out_dir).mkdir(parents=True, exist_ok=True)
     build_options = dict(equation=equation, bin_size=float(bin_size), latitude=latitude,
                          extend_to=extend_to, reference=reference, depth_method=depth_method)
+    if max_gap != "auto":
+        build_options["max_gap"] = max_gap
     if replacement_salinity is not None:
         build_options.update(replacement_salinity=float(replacement_salinity),
                              replace_salinity=replace_salinity)

@@ -26,7 +26,7 @@ OPTION_NAMES = {
     "scheduler": "--scheduler", "format": "--format", "out_dir": "--out",
     "bottom_depth": "--bottom-depth", "thin_tolerance": "--thin-tolerance",
     "bathymetry": "--bathymetry", "range_step": "--range-step", "paths": "PROFILE",
-    "replacement_salinity": "--replace-salinity", "replace_salinity": "--replace-salinity-where",
+    "replacement_salinity": "--replace-salinity", "max_gap": "--max-gap", "replace_salinity": "--replace-salinity-where",
 }
 
 
@@ -112,6 +112,10 @@ def add_building_options(p):
     b.add_argument("--depth-method", default="unesco1983", choices=sorted(METHODS),
                    help="pressure-to-depth method (default unesco1983)")
     b.add_argument("--bin", type=float, default=1.0, help="bin size, m (default 1)")
+    b.add_argument("--max-gap", default="auto", metavar="METRES",
+                   help="widest gap between measured levels filled by interpolation (flag 8): "
+                   "'auto' (default: up to 5 m or 3 times the spacing of the levels beside "
+                   "it), a depth in m, or 'all'")
     b.add_argument("--replace-salinity", type=float, metavar="SALINITY",
                    help="practical salinity to use in place of a failed salinity channel "
                    "(flagged 8 'estimated' and stated in each profile's assumptions)")

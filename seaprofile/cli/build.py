@@ -12,6 +12,7 @@ from __future__ import annotations
 import sys
 
 from .._cf import CAUTION
+from .._validate import SeaprofileError
 from ..batch import build_files, summary_row
 from ..casts.write import FORMATS
 from ..io import load_profile
@@ -64,7 +65,7 @@ def run(args):
         args.casts, out_dir=args.out, format=args.format, overwrite=args.overwrite,
         equation=args.equation, bin_size=args.bin, depth_method=args.depth_method,
         extend_to=extend, scheduler=args.scheduler, reference=reference,
-        replacement_salinity=args.replace_salinity, replace_salinity=args.replace_salinity_where,
+        max_gap=_max_gap(args.max_gap), replacement_salinity=args.replace_salinity, replace_salinity=args.replace_salinity_where,
         protect=[args.reference] if args.reference else (), **read)
     failed = [r for r in results if not r.ok]
     for r in failed:
@@ -87,6 +88,18 @@ def error_line(result):
     if result.error_argument is not None:
         return f"{result.path}: {option_name(result.error_argument)}: {result.error_reason}"
     return in_option_terms(result.error)
+
+
+def _max_gap(text):
+    t = str(text).strip().lower()
+    if t == "auto":
+        return "auto"
+    if t == "all":
+        return None
+    value = parse_length(text, "--max-gap")
+    if value < 0:
+        raise SeaprofileError(f"--max-gap must be 'auto', 'all' or a depth >= 0 m, got {text!r}")
+    return value
 
 
 def _extend(text):

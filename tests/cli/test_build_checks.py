@@ -21,6 +21,7 @@ TWO = [str(DEMO / "shelf_summer_ctd.csv"), str(DEMO / "shelf_winter_ctd.csv")]
     ("--latitude", "95"), ("--longitude", "-200"), ("--salinity", "50"),
     ("--extend-to", "-5"), ("--extend-to", "deep"), ("--extend-to", "20000"),
     ("--scheduler", "bogus"), ("--replace-salinity", "60"), ("--replace-salinity", "nan"),
+    ("--max-gap", "-3"), ("--max-gap", "wide"),
 ])
 def test_bad_option_once_exit_2_before_any_file(tmp_path, capsys, option, value):
     out = tmp_path / "out"
@@ -169,3 +170,18 @@ def test_summary_table_keeps_assumptions_short(capsys):
     assert "salinity assumed" in row and "fall rate hanawa1995" in row
     assert "extended below" in row and "VS31-D01" in row
     assert len(row) < 220  # the full sentences live in the file and in --json
+
+
+def test_max_gap_reaches_the_profile(tmp_path, capsys):
+    # a dense cast (1 m) with its samples from 40 to 70 m lost (invented, synthetic)
+    z = [float(d) for d in range(1, 120) if not 40 <= d <= 70]
+    lossy = tmp_path / "lossy.csv"
+    lossy.write_text("# synthetic test cast\n# latitude: 44.0\n# longitude: -9.0\n"
+                     "depth [m],temperature [degC],salinity\n"
+                     + "".join(f"{d},{15 - 0.05 * d:.3f},35.0\n" for d in z))
+    for option, unfilled in (("auto", True), ("all", False), ("40", False), ("10", True)):
+        out = tmp_path / option
+        assert main(["build", str(lossy), "--max-gap", option, "--out", str(out)]) == 0
+        profile = xr.open_dataset(next(out.glob("*.nc")))
+        assert (profile.attrs["unfilled_gaps"] != "none") == unfilled, option
+    capsys.readouterr()
