@@ -27,8 +27,7 @@ from __future__ import annotations
 
 import os
 
-for _var in ("NUMBA_NUM_THREADS", "OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS",
-             "MKL_NUM_THREADS"):
+for _var in ("NUMBA_NUM_THREADS", "OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ[_var] = "1"
 
 import argparse  # noqa: E402
@@ -77,12 +76,14 @@ def synthetic_cast(rng, n):
     t_surface, t_deep = rng.uniform(12.0, 26.0), rng.uniform(2.0, 5.0)
     t_thermo = rng.uniform(6.0, 10.0)
     z = pressure
-    temperature = (t_deep + (t_thermo - t_deep) * np.exp(-z / 800.0)
-                   + (t_surface - t_thermo) * 0.5 * (1 - np.tanh((z - mixed) / 15.0)))
+    temperature = (
+        t_deep
+        + (t_thermo - t_deep) * np.exp(-z / 800.0)
+        + (t_surface - t_thermo) * 0.5 * (1 - np.tanh((z - mixed) / 15.0))
+    )
     temperature += rng.normal(0.0, 0.002, n)
     s_surface = rng.uniform(34.0, 36.5)
-    salinity = (34.9 + (s_surface - 34.9) * np.exp(-z / 400.0)
-                + rng.normal(0.0, 0.002, n))
+    salinity = 34.9 + (s_surface - 34.9) * np.exp(-z / 400.0) + rng.normal(0.0, 0.002, n)
     return pressure, temperature, salinity
 
 
@@ -106,9 +107,15 @@ def write_casts(directory, count, samples, seed):
         ]
         n_meta = len(meta)
         path = Path(directory) / f"bench_{k:04d}.csv"
-        np.savetxt(path, np.column_stack([p, t, s]), fmt=("%.2f", "%.4f", "%.4f"),
-                   delimiter=",", header="\n".join(f"# {m}" for m in meta)
-                   + "\npressure [dbar],temperature [degC],salinity", comments="")
+        np.savetxt(
+            path,
+            np.column_stack([p, t, s]),
+            fmt=("%.2f", "%.4f", "%.4f"),
+            delimiter=",",
+            header="\n".join(f"# {m}" for m in meta)
+            + "\npressure [dbar],temperature [degC],salinity",
+            comments="",
+        )
         paths.append(path)
     return paths, n_meta
 
@@ -160,8 +167,9 @@ def _floor_write(data, path):
     """The baseline write: the three columns, plain netCDF4, units only."""
     with netCDF4.Dataset(path, "w", format="NETCDF4") as nc:
         nc.createDimension("sample", data.shape[0])
-        for j, (name, units) in enumerate((("pressure", "dbar"), ("temperature", "degC"),
-                                           ("salinity", "1"))):
+        for j, (name, units) in enumerate(
+            (("pressure", "dbar"), ("temperature", "degC"), ("salinity", "1"))
+        ):
             v = nc.createVariable(name, "f8", ("sample",))
             v.units = units
             v[:] = data[:, j]
@@ -172,8 +180,12 @@ def main(argv=None):
     parser.add_argument("--count", type=int, default=1000, help="number of casts")
     parser.add_argument("--samples", type=int, default=5000, help="samples per cast")
     parser.add_argument("--seed", type=int, default=20310301)
-    parser.add_argument("--pin-cpu", type=int, default=None,
-                        help="pin the process to this CPU (default: one thread, not pinned)")
+    parser.add_argument(
+        "--pin-cpu",
+        type=int,
+        default=None,
+        help="pin the process to this CPU (default: one thread, not pinned)",
+    )
     parser.add_argument("--output", default=str(HERE / "results" / "casts.json"))
     args = parser.parse_args(argv)
     pinned = None
@@ -217,51 +229,80 @@ def main(argv=None):
     chain_csv = ("read", "build", "describe", "write_csv")
     floor = ("baseline_loadtxt", "baseline_netcdf_write")
     groups = [(s, (s,)) for s in STAGES] + [
-        ("chain_netcdf", chain_nc), ("chain_csv", chain_csv),
-        ("baseline_loadtxt", floor[:1]), ("baseline_netcdf_write", floor[1:]),
-        ("baseline_total", floor)]
+        ("chain_netcdf", chain_nc),
+        ("chain_csv", chain_csv),
+        ("baseline_loadtxt", floor[:1]),
+        ("baseline_netcdf_write", floor[1:]),
+        ("baseline_total", floor),
+    ]
     floor_cpu = float(total(floor, 1).sum())
     chain_cpu = float(total(chain_nc, 1).sum())
     rows = []
     for name, stages in groups:
         w, c = total(stages, 0), total(stages, 1)
-        rows.append({"stage": name, "cpu_s": float(c.sum()), "wall_s": float(w.sum()),
-                     "cpu_ms_per_cast": 1e3 * float(c.mean()),
-                     "cpu_median_ms": 1e3 * float(np.median(c)),
-                     "wall_ms_per_cast": 1e3 * float(w.mean()),
-                     "casts_per_cpu_s": n / float(c.sum()),
-                     "casts_per_wall_s": n / float(w.sum()),
-                     "share_of_chain": (float(c.sum()) / chain_cpu
-                                        if set(stages) <= set(chain_nc) and len(stages) == 1
-                                        else None),
-                     "ratio_to_baseline": float(c.sum()) / floor_cpu})
-    rows.append({"stage": "build_files_netcdf", "cpu_s": batch[1], "wall_s": batch[0],
-                 "cpu_ms_per_cast": 1e3 * batch[1] / n, "cpu_median_ms": None,
-                 "wall_ms_per_cast": 1e3 * batch[0] / n, "casts_per_cpu_s": n / batch[1],
-                 "casts_per_wall_s": n / batch[0], "share_of_chain": None,
-                 "ratio_to_baseline": batch[1] / floor_cpu})
+        rows.append(
+            {
+                "stage": name,
+                "cpu_s": float(c.sum()),
+                "wall_s": float(w.sum()),
+                "cpu_ms_per_cast": 1e3 * float(c.mean()),
+                "cpu_median_ms": 1e3 * float(np.median(c)),
+                "wall_ms_per_cast": 1e3 * float(w.mean()),
+                "casts_per_cpu_s": n / float(c.sum()),
+                "casts_per_wall_s": n / float(w.sum()),
+                "share_of_chain": (
+                    float(c.sum()) / chain_cpu
+                    if set(stages) <= set(chain_nc) and len(stages) == 1
+                    else None
+                ),
+                "ratio_to_baseline": float(c.sum()) / floor_cpu,
+            }
+        )
+    rows.append(
+        {
+            "stage": "build_files_netcdf",
+            "cpu_s": batch[1],
+            "wall_s": batch[0],
+            "cpu_ms_per_cast": 1e3 * batch[1] / n,
+            "cpu_median_ms": None,
+            "wall_ms_per_cast": 1e3 * batch[0] / n,
+            "casts_per_cpu_s": n / batch[1],
+            "casts_per_wall_s": n / batch[0],
+            "share_of_chain": None,
+            "ratio_to_baseline": batch[1] / floor_cpu,
+        }
+    )
 
     rate_nc = n / chain_cpu
-    print(f"{n} synthetic casts x {args.samples} samples, one thread"
-          + (f" pinned to CPU {pinned}" if pinned is not None else "")
-          + f"; {bins / n:.0f} bins/profile; files generated in {generate:.1f} s")
+    print(
+        f"{n} synthetic casts x {args.samples} samples, one thread"
+        + (f" pinned to CPU {pinned}" if pinned is not None else "")
+        + f"; {bins / n:.0f} bins/profile; files generated in {generate:.1f} s"
+    )
     print("cpu = time on the core (process time); wall = elapsed; x floor = cpu / baseline cpu")
-    print(f"{'stage':22s} {'cpu ms':>7s} {'median':>7s} {'wall ms':>8s} {'casts/s':>8s} "
-          f"{'(wall)':>7s} {'share':>6s} {'x floor':>8s}")
+    print(
+        f"{'stage':22s} {'cpu ms':>7s} {'median':>7s} {'wall ms':>8s} {'casts/s':>8s} "
+        f"{'(wall)':>7s} {'share':>6s} {'x floor':>8s}"
+    )
     for r in rows:
-        share = f"{100 * r['share_of_chain']:5.1f}%" if r["share_of_chain"] is not None \
-            else "     -"
+        share = (
+            f"{100 * r['share_of_chain']:5.1f}%" if r["share_of_chain"] is not None else "     -"
+        )
         med = f"{r['cpu_median_ms']:7.2f}" if r["cpu_median_ms"] is not None else "      -"
-        print(f"{r['stage']:22s} {r['cpu_ms_per_cast']:7.2f} {med} "
-              f"{r['wall_ms_per_cast']:8.2f} {r['casts_per_cpu_s']:8.1f} "
-              f"{r['casts_per_wall_s']:7.1f} {share} {r['ratio_to_baseline']:8.2f}")
+        print(
+            f"{r['stage']:22s} {r['cpu_ms_per_cast']:7.2f} {med} "
+            f"{r['wall_ms_per_cast']:8.2f} {r['casts_per_cpu_s']:8.1f} "
+            f"{r['casts_per_wall_s']:7.1f} {share} {r['ratio_to_baseline']:8.2f}"
+        )
     verdict = "meets" if rate_nc >= TARGET else "misses"
     load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
-    print(f"chain (netCDF output): {rate_nc:.1f} casts per CPU-second -> {verdict} the target "
-          f"of {TARGET:.0f} casts/s; {n / float(total(chain_nc, 0).sum()):.1f} casts per "
-          f"wall-second; {chain_cpu / floor_cpu:.1f} x the I/O floor; build_files: "
-          f"{n / batch[1]:.1f} casts per CPU-second, {failed} failed; {n_warnings} warnings; "
-          f"load average {load:.2f} on {os.cpu_count()} CPUs")
+    print(
+        f"chain (netCDF output): {rate_nc:.1f} casts per CPU-second -> {verdict} the target "
+        f"of {TARGET:.0f} casts/s; {n / float(total(chain_nc, 0).sum()):.1f} casts per "
+        f"wall-second; {chain_cpu / floor_cpu:.1f} x the I/O floor; build_files: "
+        f"{n / batch[1]:.1f} casts per CPU-second, {failed} failed; {n_warnings} warnings; "
+        f"load average {load:.2f} on {os.cpu_count()} CPUs"
+    )
 
     result = {
         "benchmark": "cast chain throughput (read -> build_profile -> describe -> write)",
@@ -270,7 +311,7 @@ def main(argv=None):
         "bins_per_profile": bins / n,
         "seed": args.seed,
         "timing": "per cast and stage: process_time (cpu) and perf_counter (wall), one "
-                  "process, one thread; baseline interleaved cast by cast",
+        "process, one thread; baseline interleaved cast by cast",
         "pinned_cpu": pinned,
         "baseline": "numpy.loadtxt of the same file + plain netCDF4 write of its 3 columns",
         "target_casts_per_s": TARGET,
@@ -284,13 +325,21 @@ def main(argv=None):
         "failed_in_build_files": failed,
         "warnings": n_warnings,
         "rows": rows,
-        "versions": {"seaprofile": __version__, "numpy": np.__version__,
-                     "numba": numba.__version__, "xarray": xr.__version__,
-                     "netCDF4": netCDF4.__version__, "hdf5": netCDF4.__hdf5libversion__,
-                     "python": platform.python_version()},
-        "machine": {"processor": platform.processor() or platform.machine(),
-                    "cpus": os.cpu_count(), "system": platform.system(),
-                    "load_average_1min": load},
+        "versions": {
+            "seaprofile": __version__,
+            "numpy": np.__version__,
+            "numba": numba.__version__,
+            "xarray": xr.__version__,
+            "netCDF4": netCDF4.__version__,
+            "hdf5": netCDF4.__hdf5libversion__,
+            "python": platform.python_version(),
+        },
+        "machine": {
+            "processor": platform.processor() or platform.machine(),
+            "cpus": os.cpu_count(),
+            "system": platform.system(),
+            "load_average_1min": load,
+        },
         "date": time.strftime("%Y-%m-%dT%H:%M:%S%z"),
     }
     out = Path(args.output)

@@ -88,8 +88,15 @@ def scipy_trace(env, angle_deg, max_bounces=100):
     s0 = 0.0
     bounces = 0
     while True:
-        sol = solve_ivp(rhs, (s0, s0 + 3 * MAX_RANGE), y, method="RK45", rtol=RTOL,
-                        atol=ATOL, events=(surface, bottom, end))
+        sol = solve_ivp(
+            rhs,
+            (s0, s0 + 3 * MAX_RANGE),
+            y,
+            method="RK45",
+            rtol=RTOL,
+            atol=ATOL,
+            events=(surface, bottom, end),
+        )
         y = sol.y[:, -1].copy()
         s0 = sol.t[-1]
         if sol.status != 1 or len(sol.t_events[2]):
@@ -123,8 +130,8 @@ def tolerance_table(env):
     c0 = sec.sound_speed[0]
     flat = Environment.from_arrays(sec.depth, c0, 4000.0)
     same = Environment.from_section(
-        Section(sec.ranges, sec.depth, np.repeat(c0[None, :], sec.ranges.size, axis=0)),
-        4000.0)
+        Section(sec.ranges, sec.depth, np.repeat(c0[None, :], sec.ranges.size, axis=0)), 4000.0
+    )
     angles = np.linspace(-20.0, 20.0, 201)
     exact = trace_fan(flat, SOURCE_DEPTH, angles, MAX_RANGE)
 
@@ -142,22 +149,34 @@ def tolerance_table(env):
         el = time.perf_counter() - t0
         zi, ti = ends(fan)
         steps = json.loads(fan.attrs["processing_steps"])[-1]["integration_steps"]
-        rows.append({"tolerance_m": tol,
-                     "max_rel_time_error": float(np.max(np.abs(ti - te) / te)),
-                     "max_depth_error_m": float(np.max(np.abs(zi - ze))),
-                     "same_counts": bool(
-                         np.array_equal(fan.surface_reflections, exact.surface_reflections)
-                         and np.array_equal(fan.bottom_reflections, exact.bottom_reflections)
-                         and np.array_equal(fan.caustics, exact.caustics)),
-                     "seconds": el, "steps": int(steps)})
-    print(f"error against the exact layered solver ({angles.size} rays, 50 km, identical "
-          "casts, flat bottom):")
-    print(f"{'tolerance (m)':>14s} {'max rel dt':>12s} {'max |dz| (m)':>13s} "
-          f"{'counts equal':>13s} {'steps':>9s} {'time (s)':>9s}")
+        rows.append(
+            {
+                "tolerance_m": tol,
+                "max_rel_time_error": float(np.max(np.abs(ti - te) / te)),
+                "max_depth_error_m": float(np.max(np.abs(zi - ze))),
+                "same_counts": bool(
+                    np.array_equal(fan.surface_reflections, exact.surface_reflections)
+                    and np.array_equal(fan.bottom_reflections, exact.bottom_reflections)
+                    and np.array_equal(fan.caustics, exact.caustics)
+                ),
+                "seconds": el,
+                "steps": int(steps),
+            }
+        )
+    print(
+        f"error against the exact layered solver ({angles.size} rays, 50 km, identical "
+        "casts, flat bottom):"
+    )
+    print(
+        f"{'tolerance (m)':>14s} {'max rel dt':>12s} {'max |dz| (m)':>13s} "
+        f"{'counts equal':>13s} {'steps':>9s} {'time (s)':>9s}"
+    )
     for r in rows:
-        print(f"{r['tolerance_m']:14.0e} {r['max_rel_time_error']:12.2e} "
-              f"{r['max_depth_error_m']:13.2e} {str(r['same_counts']):>13s} "
-              f"{r['steps']:9d} {r['seconds']:9.3f}")
+        print(
+            f"{r['tolerance_m']:14.0e} {r['max_rel_time_error']:12.2e} "
+            f"{r['max_depth_error_m']:13.2e} {str(r['same_counts']):>13s} "
+            f"{r['steps']:9d} {r['seconds']:9.3f}"
+        )
     return rows
 
 
@@ -184,29 +203,36 @@ def main():
     base = [scipy_trace(env, angles[k]) for k in pick]
     t_base = time.perf_counter() - t0
     t_base_scaled = t_base / N_BASELINE * N_RAYS
-    dz = [abs(b[0][1] - end_z[k]) if end_r[k] == MAX_RANGE else np.nan
-          for b, k in zip(base, pick)]
-    dt = [abs(b[0][4] - end_t[k]) if end_r[k] == MAX_RANGE else np.nan
-          for b, k in zip(base, pick)]
+    dz = [abs(b[0][1] - end_z[k]) if end_r[k] == MAX_RANGE else np.nan for b, k in zip(base, pick)]
+    dt = [abs(b[0][4] - end_t[k]) if end_r[k] == MAX_RANGE else np.nan for b, k in zip(base, pick)]
 
     rows = [
         ("numba integrator, 1000 rays (best of 3)", t_fan, 1.0),
         ("numba integrator, first call (compile or cache load)", compile_s, compile_s / t_fan),
-        (f"scipy solve_ivp, {N_BASELINE} rays scaled to {N_RAYS}", t_base_scaled,
-         t_base_scaled / t_fan),
+        (
+            f"scipy solve_ivp, {N_BASELINE} rays scaled to {N_RAYS}",
+            t_base_scaled,
+            t_base_scaled / t_fan,
+        ),
     ]
-    print(f"range-dependent fan: {N_RAYS} rays, {MAX_RANGE / 1000:.0f} km, "
-          f"{env.section.ranges.size} casts, {env.section.depth.size} depth nodes, "
-          f"{env.bathymetry.ranges.size} bathymetry points")
+    print(
+        f"range-dependent fan: {N_RAYS} rays, {MAX_RANGE / 1000:.0f} km, "
+        f"{env.section.ranges.size} casts, {env.section.depth.size} depth nodes, "
+        f"{env.bathymetry.ranges.size} bathymetry points"
+    )
     print(f"{'case':58s} {'time (s)':>10s} {'x fan':>8s}")
     for name, sec, ratio in rows:
         print(f"{name:58s} {sec:10.3f} {ratio:8.1f}")
     steps = json.loads(fan.attrs["processing_steps"])[-1]["integration_steps"]
     print(f"integration steps: {steps}; points kept: {int(n.sum())}")
-    print(f"end reasons: {np.bincount(fan.end_reason.values, minlength=4).tolist()} "
-          "(range_reached, absorbed, left_domain, step_limit)")
-    print(f"end-point agreement with scipy on {N_BASELINE} rays: max |dz| = "
-          f"{np.nanmax(dz):.2e} m, max |dt| = {np.nanmax(dt):.2e} s")
+    print(
+        f"end reasons: {np.bincount(fan.end_reason.values, minlength=4).tolist()} "
+        "(range_reached, absorbed, left_domain, step_limit)"
+    )
+    print(
+        f"end-point agreement with scipy on {N_BASELINE} rays: max |dz| = "
+        f"{np.nanmax(dz):.2e} m, max |dt| = {np.nanmax(dt):.2e} s"
+    )
     table = tolerance_table(env)
     target = 2.0
     print(f"target <= {target:.1f} s after compilation: {'met' if t_fan <= target else 'NOT met'}")
@@ -233,8 +259,9 @@ def main():
         "machine": platform.machine(),
         "cpu_count": os.cpu_count(),
     }
-    out = os.path.join(os.path.dirname(os.path.abspath(__file__)), "results",
-                       "range_dependent.json")
+    out = os.path.join(
+        os.path.dirname(os.path.abspath(__file__)), "results", "range_dependent.json"
+    )
     os.makedirs(os.path.dirname(out), exist_ok=True)
     fd, tmp = tempfile.mkstemp(dir=os.path.dirname(out), suffix=".tmp")
     with os.fdopen(fd, "w") as fh:

@@ -129,8 +129,15 @@ def scipy_ray(zn, cn, zs, theta_deg, rmax, method="DOP853", rtol=1e-10):
     th = np.radians(theta_deg)
     ev = lambda s, y: y[0] - rmax  # noqa: E731
     ev.terminal = True
-    sol = solve_ivp(rhs, (0.0, 3.0 * rmax), [0.0, zs, np.cos(th) / c0, np.sin(th) / c0],
-                    method=method, rtol=rtol, atol=rtol * 1e-3, events=ev)
+    sol = solve_ivp(
+        rhs,
+        (0.0, 3.0 * rmax),
+        [0.0, zs, np.cos(th) / c0, np.sin(th) / c0],
+        method=method,
+        rtol=rtol,
+        atol=rtol * 1e-3,
+        events=ev,
+    )
     return sol.y_events[0][0][1]
 
 
@@ -179,18 +186,29 @@ def main():
     depth_diff_rk45 = float(np.max(np.abs(chk["sample_depth"][:, 0] - np.array(zb_rk45))))
     ours_steps = chk["steps"].mean()
     many = np.repeat(base_angles, 500)
-    t_one, _ = best(lambda: kernels.trace_layers(zn, cn, zs, many, rmax, 100,
-                                                 samp_r=np.array([rmax])), repeat=5)
+    t_one, _ = best(
+        lambda: kernels.trace_layers(zn, cn, zs, many, rmax, 100, samp_r=np.array([rmax])), repeat=5
+    )
     t_ours_per_ray = t_one / many.size
     # fan rays are on average longer (reflections) than the baseline rays: compare per step
     base_fan_estimate = t_base_per_ray / ours_steps * steps
 
     res = {
-        "machine": {"python": platform.python_version(), "numba": numba.__version__,
-                    "threads": numba.get_num_threads(), "cpu_count": os.cpu_count()},
-        "scenario": {"profile": "Munk 1974 canonical", "layers": int(zn.size - 1),
-                     "source_depth_m": zs, "max_range_m": rmax, "bottom_depth_m": 5000.0,
-                     "fan_rays": int(angles.size), "fan_angles_deg": [-45.0, 45.0]},
+        "machine": {
+            "python": platform.python_version(),
+            "numba": numba.__version__,
+            "threads": numba.get_num_threads(),
+            "cpu_count": os.cpu_count(),
+        },
+        "scenario": {
+            "profile": "Munk 1974 canonical",
+            "layers": int(zn.size - 1),
+            "source_depth_m": zs,
+            "max_range_m": rmax,
+            "bottom_depth_m": 5000.0,
+            "fan_rays": int(angles.size),
+            "fan_angles_deg": [-45.0, 45.0],
+        },
         "bare_arc_kernel_s": t_bare,
         "fan_kernel_over_bare": t_kernel / t_bare,
         "bare_arc_kernel_1thread_s": t_bare_1,
@@ -221,24 +239,48 @@ def main():
     }
     rows = [
         ("fan kernel, 10k rays, 100 km", f"{t_kernel:.3f} s", "target <= 0.5 s"),
-        ("fan kernel, 1 thread", f"{t_kernel_1:.3f} s", f"{steps / t_kernel_1 / 1e6:.1f} M crossings/s"),
+        (
+            "fan kernel, 1 thread",
+            f"{t_kernel_1:.3f} s",
+            f"{steps / t_kernel_1 / 1e6:.1f} M crossings/s",
+        ),
         ("fan Dataset, 1 km samples", f"{t_fan:.3f} s", f"x{t_fan / t_bare:.2f} the bare kernel"),
-        ("bare arc kernel (range, time only)", f"{t_bare:.3f} s",
-         f"fan kernel x{t_kernel / t_bare:.2f}, target <= 2"),
-        ("bare arc kernel, 1 thread", f"{t_bare_1:.3f} s",
-         f"fan kernel x{t_kernel_1 / t_bare_1:.2f} (1 thread each)"),
+        (
+            "bare arc kernel (range, time only)",
+            f"{t_bare:.3f} s",
+            f"fan kernel x{t_kernel / t_bare:.2f}, target <= 2",
+        ),
+        (
+            "bare arc kernel, 1 thread",
+            f"{t_bare_1:.3f} s",
+            f"fan kernel x{t_kernel_1 / t_bare_1:.2f} (1 thread each)",
+        ),
         ("layer crossings", f"{steps:,}", f"{steps / t_kernel / 1e6:.1f} M/s"),
-        ("eigenrays 100 x 10 receivers", f"{t_eig:.3f} s", f"{eig.sizes['path']} paths, "
-                                                            "target <= 2 s"),
-        ("solve_ivp DOP853 rtol 1e-10 per ray", f"{t_base_per_ray * 1e3:.1f} ms",
-         f"exact {t_ours_per_ray * 1e6:.1f} us/ray, x{t_base_per_ray / t_ours_per_ray:.0f}"),
-        ("solve_ivp RK45 rtol 1e-8 per ray", f"{t_rk45_per_ray * 1e3:.1f} ms",
-         f"x{t_rk45_per_ray / t_ours_per_ray:.0f}, {depth_diff_rk45:.2f} m off at 100 km"),
-        ("baseline fan estimate", f"{base_fan_estimate:.1f} s",
-         f"x{base_fan_estimate / t_kernel:.0f} slower than the kernel"),
+        (
+            "eigenrays 100 x 10 receivers",
+            f"{t_eig:.3f} s",
+            f"{eig.sizes['path']} paths, target <= 2 s",
+        ),
+        (
+            "solve_ivp DOP853 rtol 1e-10 per ray",
+            f"{t_base_per_ray * 1e3:.1f} ms",
+            f"exact {t_ours_per_ray * 1e6:.1f} us/ray, x{t_base_per_ray / t_ours_per_ray:.0f}",
+        ),
+        (
+            "solve_ivp RK45 rtol 1e-8 per ray",
+            f"{t_rk45_per_ray * 1e3:.1f} ms",
+            f"x{t_rk45_per_ray / t_ours_per_ray:.0f}, {depth_diff_rk45:.2f} m off at 100 km",
+        ),
+        (
+            "baseline fan estimate",
+            f"{base_fan_estimate:.1f} s",
+            f"x{base_fan_estimate / t_kernel:.0f} slower than the kernel",
+        ),
         ("baseline vs exact depth at 100 km", f"{depth_diff:.2e} m", ""),
     ]
-    rows.append(("load average (other jobs)", f"{os.getloadavg()[0]:.2f}", f"{os.cpu_count()} cores"))
+    rows.append(
+        ("load average (other jobs)", f"{os.getloadavg()[0]:.2f}", f"{os.cpu_count()} cores")
+    )
     w = max(len(r[0]) for r in rows)
     print(f"{'case':<{w}}  {'value':>14}  note")
     for a, b, c in rows:

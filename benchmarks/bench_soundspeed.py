@@ -58,10 +58,14 @@ def main(argv=None):
     parser.add_argument("--points", type=int, default=10_000_000)
     parser.add_argument("--repeats", type=int, default=3)
     parser.add_argument("--output", default=os.path.join(HERE, "results", "soundspeed.json"))
-    parser.add_argument("--clock", choices=sorted(CLOCKS), default="wall",
-                        help="wall time (default), or the CPU time of this thread, which "
-                        "other work on a shared machine disturbs far less (every route "
-                        "here runs in the calling thread)")
+    parser.add_argument(
+        "--clock",
+        choices=sorted(CLOCKS),
+        default="wall",
+        help="wall time (default), or the CPU time of this thread, which "
+        "other work on a shared machine disturbs far less (every route "
+        "here runs in the calling thread)",
+    )
     args = parser.parse_args(argv)
     global _clock
     _clock = CLOCKS[args.clock]
@@ -86,8 +90,7 @@ def main(argv=None):
             kw["latitude"] = extra["latitude"] = lat
         with warnings.catch_warnings():
             warnings.simplefilter("error")  # in-range points must not warn
-            sound_speed(t[:1000], s[:1000], equation=name,
-                        **{k: x[:1000] for k, x in kw.items()})
+            sound_speed(t[:1000], s[:1000], equation=name, **{k: x[:1000] for k, x in kw.items()})
             sound_speed(t, s, equation=name, **kw)  # warm-up at full size
             public = best_of(args.repeats, sound_speed, t, s, equation=name, **kw)
         eq.function(t, s, v, **extra)
@@ -100,13 +103,19 @@ def main(argv=None):
         r["mpoints_per_s"] = n / r["seconds"] / 1e6
         r["speedup_vs_gsw"] = t_gsw / r["seconds"]
 
-    print(f"{n:,} points, best of {args.repeats} ({args.clock} clock); "
-          "speed-up = gsw.sound_speed time / time")
-    print(f"{'equation':18s} {'route':12s} {'seconds':>9s} {'Mpoints/s':>10s} "
-          f"{'speed-up vs gsw':>16s}")
+    print(
+        f"{n:,} points, best of {args.repeats} ({args.clock} clock); "
+        "speed-up = gsw.sound_speed time / time"
+    )
+    print(
+        f"{'equation':18s} {'route':12s} {'seconds':>9s} {'Mpoints/s':>10s} "
+        f"{'speed-up vs gsw':>16s}"
+    )
     for r in rows:
-        print(f"{r['equation']:18s} {r['route']:12s} {r['seconds']:9.4f} "
-              f"{r['mpoints_per_s']:10.1f} {r['speedup_vs_gsw']:16.2f}")
+        print(
+            f"{r['equation']:18s} {r['route']:12s} {r['seconds']:9.4f} "
+            f"{r['mpoints_per_s']:10.1f} {r['speedup_vs_gsw']:16.2f}"
+        )
 
     result = {
         "benchmark": "sound speed throughput",
@@ -115,11 +124,18 @@ def main(argv=None):
         "timing": f"best of repeats, seconds, one thread, {args.clock} clock",
         "baseline": "gsw.sound_speed(SA, CT, p), SA and CT precomputed",
         "rows": rows,
-        "versions": {"seaprofile": __version__, "numpy": np.__version__,
-                     "numba": numba.__version__, "gsw": gsw.__version__,
-                     "python": platform.python_version()},
-        "machine": {"processor": platform.processor() or platform.machine(),
-                    "cpus": os.cpu_count(), "system": platform.system()},
+        "versions": {
+            "seaprofile": __version__,
+            "numpy": np.__version__,
+            "numba": numba.__version__,
+            "gsw": gsw.__version__,
+            "python": platform.python_version(),
+        },
+        "machine": {
+            "processor": platform.processor() or platform.machine(),
+            "cpus": os.cpu_count(),
+            "system": platform.system(),
+        },
         "date": time.strftime("%Y-%m-%dT%H:%M:%S%z"),
     }
     os.makedirs(os.path.dirname(args.output), exist_ok=True)

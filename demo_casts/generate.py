@@ -126,8 +126,18 @@ def front_station(fraction):
 
 
 # --- the instrument's path: soak, then descent with ship heave ---------------------------
-def ctd_path(rng, max_depth, *, soak_depth=10.0, soak_s=90, speed=1.0, heave=0.35,
-             period=8.5, start_depth=1.5, heave_depths=None):
+def ctd_path(
+    rng,
+    max_depth,
+    *,
+    soak_depth=10.0,
+    soak_s=90,
+    speed=1.0,
+    heave=0.35,
+    period=8.5,
+    start_depth=1.5,
+    heave_depths=None,
+):
     """Depth of a CTD sampled at 1 Hz: lowered to the soak, held, raised, then lowered.
 
     ``heave_depths`` = (top, bottom, amplitude) adds stronger heave between two depths.
@@ -171,8 +181,15 @@ def deep_ocean(out):
     lat, lon = 41.80250, -15.20410
     z = ctd_path(rng, 5000.0, soak_depth=10.0, soak_s=90, speed=1.0)
     p, t, s = ctd_record(rng, deep_basin, z, lat)
-    h = _header("VS31-D01", lat, lon, "2031-07-18T02:14:00Z", "ctd", 5012.0,
-                comment="deep basin station; downcast only; stopped 12 m above the bottom")
+    h = _header(
+        "VS31-D01",
+        lat,
+        lon,
+        "2031-07-18T02:14:00Z",
+        "ctd",
+        5012.0,
+        comment="deep basin station; downcast only; stopped 12 m above the bottom",
+    )
     _write(out / "deep_ocean_ctd.csv", ctd_text(h, p, t, s))
 
 
@@ -181,8 +198,15 @@ def shelf_summer_cast(out):
     lat, lon = 44.06120, -9.61750
     z = ctd_path(rng, 117.0, soak_depth=6.0, soak_s=60, speed=0.8, heave=0.3)
     p, t, s = ctd_record(rng, shelf_summer, z, lat)
-    h = _header("VS31-S04", lat, lon, "2031-07-14T09:12:00Z", "ctd", 120.0,
-                comment="summer shelf station; surface duct over a sharp thermocline")
+    h = _header(
+        "VS31-S04",
+        lat,
+        lon,
+        "2031-07-14T09:12:00Z",
+        "ctd",
+        120.0,
+        comment="summer shelf station; surface duct over a sharp thermocline",
+    )
     _write(out / "shelf_summer_ctd.csv", ctd_text(h, p, t, s))
 
 
@@ -191,8 +215,15 @@ def shelf_winter_cast(out):
     lat, lon = 44.09880, -9.58020
     z = ctd_path(rng, 147.0, soak_depth=6.0, soak_s=60, speed=0.8, heave=0.4)
     p, t, s = ctd_record(rng, shelf_winter, z, lat)
-    h = _header("VS31-W02", lat, lon, "2032-02-03T13:40:00Z", "ctd", 150.0,
-                comment="winter shelf station; mixed from surface to bottom")
+    h = _header(
+        "VS31-W02",
+        lat,
+        lon,
+        "2032-02-03T13:40:00Z",
+        "ctd",
+        150.0,
+        comment="winter shelf station; mixed from surface to bottom",
+    )
     _write(out / "shelf_winter_ctd.csv", ctd_text(h, p, t, s))
 
 
@@ -205,11 +236,18 @@ def xbt_drop(out):
     z = 6.691 * et - 2.25e-3 * et**2
     temp, _ = xbt_site(z)
     temp = temp + rng.normal(0, 0.008, et.size)
-    h = _header("VS31-X07", lat, lon, "2031-07-17T21:05:00Z", "xbt", 3350.0,
-                vessel="MV Quenby Star",
-                probe="760 m rated expendable probe (synthetic)",
-                fall_rate="hanawa1995 (z = 6.691 t - 2.25e-3 t^2)",
-                comment="expendable probe drop from a ship of opportunity; no salinity")
+    h = _header(
+        "VS31-X07",
+        lat,
+        lon,
+        "2031-07-17T21:05:00Z",
+        "xbt",
+        3350.0,
+        vessel="MV Quenby Star",
+        probe="760 m rated expendable probe (synthetic)",
+        fall_rate="hanawa1995 (z = 6.691 t - 2.25e-3 t^2)",
+        comment="expendable probe drop from a ship of opportunity; no salinity",
+    )
     cols = [("elapsed time [s]", et, "{:.1f}"), ("temperature [degC]", temp, "{:.3f}")]
     _write(out / "xbt_drop.csv", _text(h, cols))
 
@@ -224,11 +262,22 @@ def svp_cast(out):
     p = np.asarray(pressure_from_depth(z, lat), dtype=float)
     c = np.asarray(sound_speed(t, s, p, equation="chen_millero1977"), dtype=float)
     c = c + rng.normal(0, 0.03, z.size)
-    h = _header("VS31-V03", lat, lon, "2031-07-19T11:30:00Z", "svp", 410.0,
-                comment="sound-speed probe; sound speed made with chen_millero1977 "
-                "(UNESCO 1983) from the synthetic T and S plus noise")
-    cols = [("depth [m]", z, "{:.2f}"), ("sound speed [m/s]", c, "{:.3f}"),
-            ("temperature [degC]", t, "{:.4f}"), ("salinity [PSS-78]", s, "{:.4f}")]
+    h = _header(
+        "VS31-V03",
+        lat,
+        lon,
+        "2031-07-19T11:30:00Z",
+        "svp",
+        410.0,
+        comment="sound-speed probe; sound speed made with chen_millero1977 "
+        "(UNESCO 1983) from the synthetic T and S plus noise",
+    )
+    cols = [
+        ("depth [m]", z, "{:.2f}"),
+        ("sound speed [m/s]", c, "{:.3f}"),
+        ("temperature [degC]", t, "{:.4f}"),
+        ("salinity [PSS-78]", s, "{:.4f}"),
+    ]
     _write(out / "svp_cast.csv", _text(h, cols))
 
 
@@ -246,9 +295,16 @@ def section(out):
         z = ctd_path(rng, bottom - 4.0, soak_depth=5.0, soak_s=30, speed=1.0)
         p, t, s = ctd_record(rng, front_station(i / (n - 1)), z, lat)
         when = str(start + np.timedelta64(55 * i, "m")) + "Z"
-        h = _header(f"VS31-F{i + 1:02d}", lat, lon, when, "ctd", bottom,
-                    section="VS31-F line across the Varrow shelf-edge front, bearing 235 deg",
-                    along_section_km=f"{d:.1f}")
+        h = _header(
+            f"VS31-F{i + 1:02d}",
+            lat,
+            lon,
+            when,
+            "ctd",
+            bottom,
+            section="VS31-F line across the Varrow shelf-edge front, bearing 235 deg",
+            along_section_km=f"{d:.1f}",
+        )
         _write(out / "section" / f"front_{i + 1:02d}.csv", ctd_text(h, p, t, s))
 
 
@@ -256,8 +312,16 @@ def messy_shelf(out):
     """Every QC defect at a known place (see README.md)."""
     rng = np.random.default_rng(3107)
     lat, lon = 44.01500, -9.70100
-    z = ctd_path(rng, 176.0, soak_depth=8.0, soak_s=120, speed=0.6, heave=0.3,
-                 period=7.0, heave_depths=(30.0, 90.0, 1.3))
+    z = ctd_path(
+        rng,
+        176.0,
+        soak_depth=8.0,
+        soak_s=120,
+        speed=0.6,
+        heave=0.3,
+        period=7.0,
+        heave_depths=(30.0, 90.0, 1.3),
+    )
     p, t, s = ctd_record(rng, shelf_summer, z, lat)
     # in air: the first 6 records before the package is wet
     p = np.concatenate([np.array([-0.12, -0.08, -0.10, -0.05, 0.02, 0.04]), p])
@@ -280,9 +344,16 @@ def messy_shelf(out):
     t[warm] += 0.8
     stuck = np.flatnonzero((z >= 140.0) & (z <= 160.0))
     s[stuck] = np.round(s[stuck[0]], 4)  # stuck salinity sensor
-    h = _header("VS31-M01", lat, lon, "2031-07-15T16:48:00Z", "ctd", 180.0,
-                comment="messy test cast: in-air records, long soak, heave reversals, "
-                "spikes, impossible values, density inversion, stuck salinity")
+    h = _header(
+        "VS31-M01",
+        lat,
+        lon,
+        "2031-07-15T16:48:00Z",
+        "ctd",
+        180.0,
+        comment="messy test cast: in-air records, long soak, heave reversals, "
+        "spikes, impossible values, density inversion, stuck salinity",
+    )
     _write(out / "messy" / "messy_shelf_ctd.csv", ctd_text(h, p, t, s))
 
 
@@ -300,9 +371,16 @@ def messy_deep(out):
     t[first_at(800.0)] += 2.6  # deep temperature spike (above the 2.0 degC deep threshold)
     s[first_at(1200.0)] += 0.45  # deep salinity spike (above the 0.3 deep threshold)
     t[first_at(300.0)] += 4.0  # shallow: below the 6.0 degC threshold, not a spike by rule
-    h = _header("VS31-M02", lat, lon, "2031-07-18T09:02:00Z", "ctd", 4980.0,
-                comment="messy test cast: strong heave (pressure reversals throughout), "
-                "spikes below 500 dbar")
+    h = _header(
+        "VS31-M02",
+        lat,
+        lon,
+        "2031-07-18T09:02:00Z",
+        "ctd",
+        4980.0,
+        comment="messy test cast: strong heave (pressure reversals throughout), "
+        "spikes below 500 dbar",
+    )
     _write(out / "messy" / "messy_deep_ctd.csv", ctd_text(h, p, t, s))
 
 
@@ -313,8 +391,15 @@ def messy_stuck(out):
     z = ctd_path(rng, 95.0, soak_depth=5.0, soak_s=30, speed=0.8)
     p, t, s = ctd_record(rng, shelf_summer, z, lat)
     s[:] = 35.3127
-    h = _header("VS31-M03", lat, lon, "2031-07-16T05:55:00Z", "ctd", 98.0,
-                comment="messy test cast: salinity sensor stuck at one value all the way")
+    h = _header(
+        "VS31-M03",
+        lat,
+        lon,
+        "2031-07-16T05:55:00Z",
+        "ctd",
+        98.0,
+        comment="messy test cast: salinity sensor stuck at one value all the way",
+    )
     _write(out / "messy" / "stuck_salinity_ctd.csv", ctd_text(h, p, t, s))
 
 
@@ -327,9 +412,15 @@ def broken(out):
     lat, lon = 44.11000, -9.55000
     z = ctd_path(rng, 60.0, soak_depth=5.0, soak_s=10, speed=0.8)
     p, t, s = ctd_record(rng, shelf_summer, z, lat)
-    h = _header("VS31-B01", lat, lon, "2031-07-16T07:20:00Z", "ctd", 64.0,
-                comment=f"deliberately broken: line {BROKEN_LINE} holds a non-numeric "
-                "temperature")
+    h = _header(
+        "VS31-B01",
+        lat,
+        lon,
+        "2031-07-16T07:20:00Z",
+        "ctd",
+        64.0,
+        comment=f"deliberately broken: line {BROKEN_LINE} holds a non-numeric temperature",
+    )
     lines = ctd_text(h, p, t, s).split("\n")
     cells = lines[BROKEN_LINE - 1].split(",")
     cells[1] = cells[1].replace(".", "O", 1)  # e.g. 17O5123: letter O for a decimal point
@@ -337,14 +428,28 @@ def broken(out):
     _write(out / "broken" / "bad_number.csv", "\n".join(lines))
 
 
-ALL = (deep_ocean, shelf_summer_cast, shelf_winter_cast, xbt_drop, svp_cast, section,
-       messy_shelf, messy_deep, messy_stuck, broken)
+ALL = (
+    deep_ocean,
+    shelf_summer_cast,
+    shelf_winter_cast,
+    xbt_drop,
+    svp_cast,
+    section,
+    messy_shelf,
+    messy_deep,
+    messy_stuck,
+    broken,
+)
 
 
 def main(argv=None):
     parser = argparse.ArgumentParser(description="Write the synthetic seaprofile demo casts.")
-    parser.add_argument("--output", type=Path, default=HERE,
-                        help="directory to write into (default: this script's directory)")
+    parser.add_argument(
+        "--output",
+        type=Path,
+        default=HERE,
+        help="directory to write into (default: this script's directory)",
+    )
     args = parser.parse_args(argv)
     for make in ALL:
         make(args.output)

@@ -4,16 +4,16 @@ Not for navigation on its own: verify results against the governing hydrographic
 local regulations and licensed practice.
 """
 
-from ._version import __version__
 from . import _jitcache  # noqa: F401  (before any kernel: the cache lives outside the package)
 from ._validate import InputFileError, OutsideValidityWarning, SeaprofileError
-from .seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
-from .seawater.depth import depth_from_pressure, pressure_from_depth
+from ._version import __version__
 from .casts.read import read_cast, read_casts, read_profile, read_profiles
-from .profile import build_profile, compare_profiles, extend_to
-from .layers import describe
-from .propagation import Environment, Section, eigenrays, trace_fan
 from .io.write import write
+from .layers import describe
+from .profile import build_profile, compare_profiles, extend_to
+from .propagation import Environment, Section, eigenrays, trace_fan
+from .seawater.depth import depth_from_pressure, pressure_from_depth
+from .seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
 
 __all__ = [
     "__version__",

@@ -174,10 +174,14 @@ VARIABLES = {
         "positive": "down",
     },
     # --- ray fans (propagation.rays) and eigenrays (propagation.eigenrays)
-    "angle": {"long_name": "ray angle from horizontal, positive toward the bottom",
-              "units": "degree"},
-    "launch_angle": {"long_name": "launch angle from horizontal, positive toward the bottom",
-                     "units": "degree"},
+    "angle": {
+        "long_name": "ray angle from horizontal, positive toward the bottom",
+        "units": "degree",
+    },
+    "launch_angle": {
+        "long_name": "launch angle from horizontal, positive toward the bottom",
+        "units": "degree",
+    },
     "arrival_angle": {
         "long_name": "ray angle at the receiver from horizontal, positive toward the bottom",
         "units": "degree",
@@ -186,22 +190,28 @@ VARIABLES = {
     "surface_reflections": {"long_name": "number of surface reflections", "units": "1"},
     "bottom_reflections": {"long_name": "number of bottom reflections", "units": "1"},
     "turning_points": {"long_name": "number of refracted turning points", "units": "1"},
-    "caustics": {"long_name": "number of caustics passed (ray-tube width changes sign)",
-                 "units": "1"},
+    "caustics": {
+        "long_name": "number of caustics passed (ray-tube width changes sign)",
+        "units": "1",
+    },
     "spreading": {
         "long_name": "dynamic-ray spreading q: distance between neighbouring rays per radian "
-                     "of launch angle",
+        "of launch angle",
         "units": "m rad-1",
     },
     "tube_width": {
         "long_name": "dynamic-ray q: distance between neighbouring rays per radian "
-                     "of launch angle (sign changes are caustics)",
+        "of launch angle (sign changes are caustics)",
         "units": "m rad-1",
     },
-    "tube_slowness": {"long_name": "dynamic-ray p: rate of change of q along the ray over c",
-                      "units": "s m-1 rad-1"},
-    "grazing_angle": {"long_name": "grazing angle of the reflection (between ray and boundary)",
-                      "units": "degree"},
+    "tube_slowness": {
+        "long_name": "dynamic-ray p: rate of change of q along the ray over c",
+        "units": "s m-1 rad-1",
+    },
+    "grazing_angle": {
+        "long_name": "grazing angle of the reflection (between ray and boundary)",
+        "units": "degree",
+    },
     "receiver_range_index": {"long_name": "index of the receiver range", "units": "1"},
     "receiver_depth_index": {"long_name": "index of the receiver depth", "units": "1"},
     "spreading_loss": {
@@ -209,8 +219,10 @@ VARIABLES = {
         "units": "dB",
         "reference": "re 1 m",
     },
-    "phase": {"long_name": "phase shift: pi per surface reflection plus pi/2 per caustic",
-              "units": "rad"},
+    "phase": {
+        "long_name": "phase shift: pi per surface reflection plus pi/2 per caustic",
+        "units": "rad",
+    },
     "depth_miss": {
         "long_name": "depth of the eigenray at the receiver range minus receiver depth",
         "units": "m",

@@ -15,15 +15,20 @@ import xarray as xr
 
 from . import _cf
 from ._validate import SeaprofileError
-from .io.errors import ArgumentError
 from .casts._common import cast_latitude, usable_sound_speed
 from .casts._qc_tests import GLOBAL_RANGE, MAX_OCEAN_DEPTH, SOUND_SPEED_RANGE
 from .casts.binning import _equation_sound_speed as equation_sound_speed
 from .casts.binning import check_bin_count, check_step
+from .io.errors import ArgumentError
 from .seawater.depth import pressure_from_depth
 
-__all__ = ["extend_to", "cast_bottom_depth", "check_bottom_depth", "JOIN_BLEND",
-           "LongExtensionWarning"]
+__all__ = [
+    "extend_to",
+    "cast_bottom_depth",
+    "check_bottom_depth",
+    "JOIN_BLEND",
+    "LongExtensionWarning",
+]
 
 #: m: below the join with a reference, the cast's offset from it fades to zero over this
 #: depth (our choice: about the thickness of a seasonal thermocline)
@@ -54,7 +59,8 @@ def check_bottom_depth(value, name="bottom_depth"):
         raise ArgumentError(name, f"must be a sea-floor depth > 0 m, got {value!r}")
     if bottom > MAX_OCEAN_DEPTH:
         raise ArgumentError(
-            name, f"{bottom:g} m is deeper than any ocean (at most {MAX_OCEAN_DEPTH:g} m)")
+            name, f"{bottom:g} m is deeper than any ocean (at most {MAX_OCEAN_DEPTH:g} m)"
+        )
     return bottom
 
 
@@ -73,13 +79,15 @@ def cast_bottom_depth(ds):
     name = ds.attrs.get("cast_name", "the cast")
     if value is None or (isinstance(value, str) and not value.strip()):
         raise ArgumentError(
-            "extend_to", f"'bottom': {name} has no bottom_depth metadata; give the sea-floor "
-            "depth in m instead")
+            "extend_to",
+            f"'bottom': {name} has no bottom_depth metadata; give the sea-floor depth in m instead",
+        )
     try:
         return check_bottom_depth(value, "extend_to")
     except ArgumentError as exc:
-        raise ArgumentError("extend_to", f"'bottom': {name}'s bottom_depth metadata "
-                            f"{exc.reason}") from None
+        raise ArgumentError(
+            "extend_to", f"'bottom': {name}'s bottom_depth metadata {exc.reason}"
+        ) from None
 
 
 #: a constant-T/S extension longer than both of these (m, fraction of the cast) warns
@@ -157,8 +165,11 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
     """
     if "sound_speed" not in profile.data_vars:
         raise SeaprofileError("profile has no sound_speed: run add_sound_speed first")
-    bottom = (cast_bottom_depth(profile) if _is_bottom(bottom_depth)
-              else check_bottom_depth(bottom_depth, "bottom_depth"))
+    bottom = (
+        cast_bottom_depth(profile)
+        if _is_bottom(bottom_depth)
+        else check_bottom_depth(bottom_depth, "bottom_depth")
+    )
     join_blend = float(join_blend)
     if not (np.isfinite(join_blend) and join_blend >= 0):
         raise SeaprofileError(f"join_blend must be a depth >= 0 m, got {join_blend}")
@@ -176,10 +187,13 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
         out = profile.copy()
         note = "none"
         if bottom < z_last:
-            note = (f"the data reach {z_last:g} m, below the sea-floor depth given "
-                    f"({bottom:g} m): check the depth or the sea floor")
-        out.attrs = _cf.record_step(attrs, "extend_to", bottom_depth=bottom, added_levels=0,
-                                    data_below_bottom=note)
+            note = (
+                f"the data reach {z_last:g} m, below the sea-floor depth given "
+                f"({bottom:g} m): check the depth or the sea floor"
+            )
+        out.attrs = _cf.record_step(
+            attrs, "extend_to", bottom_depth=bottom, added_levels=0, data_below_bottom=note
+        )
         out.attrs.update(bottom_depth=bottom, data_below_bottom=note)
         out.attrs["assumptions"] = describe_assumptions(out)
         return out
@@ -205,8 +219,9 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
     c_last = float(profile["sound_speed"].values[last])
     how, join = "constant temperature and salinity", "none"
     if reference is not None:
-        got, how, join = _from_reference(profile, reference, z_new, z_last, last, has_ts,
-                                         join_blend)
+        got, how, join = _from_reference(
+            profile, reference, z_new, z_last, last, has_ts, join_blend
+        )
         values.update(got)
     elif has_ts:
         span = bottom - z_last
@@ -215,28 +230,46 @@ def extend_to(profile, bottom_depth, reference=None, step=None, *, join_blend=JO
                 f"extending {attrs.get('cast_name', 'the profile')} by {span:.0f} m below its "
                 f"last usable bin ({z_last:.0f} m) with constant temperature and salinity: "
                 "deep sound speeds may be several m/s off; give a deeper reference profile",
-                LongExtensionWarning, stacklevel=2)
+                LongExtensionWarning,
+                stacklevel=2,
+            )
         values["temperature"] = np.full(n_new, t_last)
         values["salinity"] = np.full(n_new, s_last)
         if equation == "measured":
             p_last = float(profile["pressure"].values[last])
             tt, ss = np.full(n_new + 1, t_last), np.full(n_new + 1, s_last)
-            c = equation_sound_speed(profile, "chen_millero1977", tt, ss,
-                                     np.append(p_new, p_last), np.append(z_new, z_last))
+            c = equation_sound_speed(
+                profile,
+                "chen_millero1977",
+                tt,
+                ss,
+                np.append(p_new, p_last),
+                np.append(z_new, z_last),
+            )
             values["sound_speed"] = c_last + (c[:-1] - c[-1])
-            how = ("the last measured sound speed plus the pressure change of "
-                   "chen_millero1977 at constant temperature and salinity")
+            how = (
+                "the last measured sound speed plus the pressure change of "
+                "chen_millero1977 at constant temperature and salinity"
+            )
     else:
         raise ArgumentError(
-            "reference", "the profile has no temperature and salinity to extend it below "
-            "its last usable level; give a deeper reference profile")
+            "reference",
+            "the profile has no temperature and salinity to extend it below "
+            "its last usable level; give a deeper reference profile",
+        )
     if "sound_speed" not in values:
         values["sound_speed"] = equation_sound_speed(
-            profile, equation, values["temperature"], values["salinity"], p_new, z_new)
+            profile, equation, values["temperature"], values["salinity"], p_new, z_new
+        )
     out = _assemble(profile, attrs, last, z_new, values, bottom, how, reference)
-    out.attrs.update(extension_method=how, extension_join=join, join_depth=float(z_last),
-                     extension_reference="none" if reference is None else
-                     str(reference.attrs.get("cast_name", "given")))
+    out.attrs.update(
+        extension_method=how,
+        extension_join=join,
+        join_depth=float(z_last),
+        extension_reference="none"
+        if reference is None
+        else str(reference.attrs.get("cast_name", "given")),
+    )
     out.attrs["assumptions"] = describe_assumptions(out)
     return out
 
@@ -274,13 +307,17 @@ def _join_weight(profile, reference, z_new, z_last, last, blend):
     if z_axis <= z_last + 1e-9 or offset == 0:
         return fade, ""
     if offset < 0:
-        note = (f"held down to the reference's sound-speed minimum at {z_axis:g} m, then "
-                f"fading to zero over {blend:g} m")
+        note = (
+            f"held down to the reference's sound-speed minimum at {z_axis:g} m, then "
+            f"fading to zero over {blend:g} m"
+        )
         return _taper(z_new, z_axis, blend), note
     length = min(blend, z_axis - z_last)
     return _taper(z_new, z_last, length), (
-        f"fading over {length:g} m, to end at the reference's sound-speed minimum at "
-        f"{z_axis:g} m" if length < blend else "")
+        f"fading over {length:g} m, to end at the reference's sound-speed minimum at {z_axis:g} m"
+        if length < blend
+        else ""
+    )
 
 
 def _from_reference(profile, reference, z_new, z_last, last, has_ts, blend):
@@ -295,10 +332,14 @@ def _from_reference(profile, reference, z_new, z_last, last, has_ts, blend):
         )
     name = str(reference.attrs.get("cast_name", "given"))
     fade, where = _join_weight(profile, reference, z_new, z_last, last, blend)
-    fading = where or (f"fading to zero over {blend:g} m below the join" if blend > 0
-                       else "not carried below the join")
-    assumed = (str(profile.attrs.get("salinity_assumed", "")).lower() == "yes"
-               or "everywhere" in str(profile.attrs.get("salinity_replaced", "")))
+    fading = where or (
+        f"fading to zero over {blend:g} m below the join"
+        if blend > 0
+        else "not carried below the join"
+    )
+    assumed = str(
+        profile.attrs.get("salinity_assumed", "")
+    ).lower() == "yes" or "everywhere" in str(profile.attrs.get("salinity_replaced", ""))
     out, notes = {}, []
     ref_ts = all(v in reference.data_vars for v in ("temperature", "salinity"))
     if has_ts and ref_ts and profile.attrs.get("equation") != "measured":
@@ -308,8 +349,10 @@ def _from_reference(profile, reference, z_new, z_last, last, has_ts, blend):
             # value at the join would be a step in sound speed there (a false minimum)
             offset = float(profile[v].values[last]) - np.interp(z_last, zv, r)
             out[v] = np.interp(z_new, zv, r) + offset * fade
-            notes.append(f"{v} offset {offset:+.3g}{unit} {fading}"
-                         + (" (the cast's was assumed)" if v == "salinity" and assumed else ""))
+            notes.append(
+                f"{v} offset {offset:+.3g}{unit} {fading}"
+                + (" (the cast's was assumed)" if v == "salinity" and assumed else "")
+            )
         how = f"reference {name}: its measured temperature and salinity"
     else:
         if "sound_speed" not in reference.data_vars:
@@ -354,8 +397,11 @@ def _assemble(profile, attrs, last, z_new, values, bottom, how, reference):
             new = values[var]
         else:
             new = np.full(n, np.nan)
-        data[var] = (("depth",), np.concatenate([keep[var].values, new.astype(keep[var].dtype)]),
-                     keep[var].attrs)
+        data[var] = (
+            ("depth",),
+            np.concatenate([keep[var].values, new.astype(keep[var].dtype)]),
+            keep[var].attrs,
+        )
         if f"{var}_qc" in keep.data_vars:
             flag = np.full(n, _cf.ESTIMATED if var in values else _cf.MISSING, np.int8)
             if var in values:
@@ -364,17 +410,26 @@ def _assemble(profile, attrs, last, z_new, values, bottom, how, reference):
                     bad = ~((new >= low) & (new <= high))
                 flag[bad] = _cf.BAD
                 out_of_range[var] = int(bad.sum())
-            data[f"{var}_qc"] = (("depth",), np.concatenate(
-                [keep[f"{var}_qc"].values, flag]), keep[f"{var}_qc"].attrs)
-    coords = {"depth": ("depth", np.concatenate([keep["depth"].values, z_new]),
-                        keep["depth"].attrs)}
+            data[f"{var}_qc"] = (
+                ("depth",),
+                np.concatenate([keep[f"{var}_qc"].values, flag]),
+                keep[f"{var}_qc"].attrs,
+            )
+    coords = {
+        "depth": ("depth", np.concatenate([keep["depth"].values, z_new]), keep["depth"].attrs)
+    }
     for c in keep.coords:
         if c != "depth":
             coords[c] = keep.coords[c].variable
-    attrs = _cf.record_step(attrs, "extend_to", bottom_depth=bottom, method=how,
-                            added_levels=n, replaced_bins=replaced,
-                            reference=None if reference is None else
-                            reference.attrs.get("cast_name", "given"),
-                            out_of_range=out_of_range)
+    attrs = _cf.record_step(
+        attrs,
+        "extend_to",
+        bottom_depth=bottom,
+        method=how,
+        added_levels=n,
+        replaced_bins=replaced,
+        reference=None if reference is None else reference.attrs.get("cast_name", "given"),
+        out_of_range=out_of_range,
+    )
     attrs["bottom_depth"] = bottom
     return xr.Dataset(data, coords=coords, attrs=attrs)

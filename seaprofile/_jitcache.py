@@ -81,7 +81,7 @@ class _PackageCacheLocator(caching._SourceFileBackedLocatorMixin, caching._Cache
     def from_function(cls, py_func, py_file):
         if not _inside_package(py_file):
             return None
-        for base in ([cls._base] if cls._base else [user_cache_dir(), _fallback_dir()]):
+        for base in [cls._base] if cls._base else [user_cache_dir(), _fallback_dir()]:
             cls._base = base
             found = super().from_function(py_func, py_file)  # None when not writable
             if found is not None:

@@ -113,8 +113,7 @@ def warn_outside(name, values, low, high, *, unit="", context="", stacklevel=3):
         u = f" {unit}" if unit else ""
         where = f" for {context}" if context else ""
         warnings.warn(
-            f"{name} spans {lo:g}..{hi:g}{u}, outside the valid range "
-            f"{low:g}..{high:g}{u}{where}",
+            f"{name} spans {lo:g}..{hi:g}{u}, outside the valid range {low:g}..{high:g}{u}{where}",
             OutsideValidityWarning,
             stacklevel=stacklevel,
         )
@@ -165,8 +164,11 @@ def value_range(flat, with_bad=True):
         lo0 = a if a < lo0 else lo0
         hi0 = a if a > hi0 else hi0
         bad0 += a * 0.0
-    return (min(min(lo0, lo1), min(lo2, lo3)), max(max(hi0, hi1), max(hi2, hi3)),
-            bad0 + bad1 + bad2 + bad3)
+    return (
+        min(min(lo0, lo1), min(lo2, lo3)),
+        max(max(hi0, hi1), max(hi2, hi3)),
+        bad0 + bad1 + bad2 + bad3,
+    )
 
 
 def check_position(kind, value, *, name=None):
@@ -212,14 +214,10 @@ def check_position(kind, value, *, name=None):
     unit = "degrees north" if kind == "latitude" else "degrees east"
     if nan:
         where = "" if arr.size == 1 else f" at {nan} of {arr.size} points"
-        raise SeaprofileError(
-            f"{name} is NaN{where} (unknown position); give a {kind} in {unit}"
-        )
+        raise SeaprofileError(f"{name} is NaN{where} (unknown position); give a {kind} in {unit}")
     if not (math.isfinite(lo) and math.isfinite(hi)):
         raise SeaprofileError(f"{name} must be finite, got {lo if math.isinf(lo) else hi:g}")
     if lo < low or hi > high:
         bad = lo if lo < low else hi
-        raise SeaprofileError(
-            f"{name} must lie within {low:g}..{high:g} {unit}, got {bad:g}"
-        )
+        raise SeaprofileError(f"{name} must lie within {low:g}..{high:g} {unit}, got {bad:g}")
     return arr

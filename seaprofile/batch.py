@@ -23,13 +23,27 @@ from .casts.read import read_casts
 from .casts.write import FORMATS, write
 from .io import NETCDF_LOCK, ArgumentError, is_same_file
 from .io.loading import _is_netcdf, directory_files, load_profile, read_as_profiles
-from .io.options import (SCHEDULERS, check_build_options, check_read_options,
-                         check_replacement_salinity, check_scheduler)
+from .io.options import (
+    SCHEDULERS,
+    check_build_options,
+    check_read_options,
+    check_replacement_salinity,
+    check_scheduler,
+)
 from .layers import describe
 from .profile import build_profile, interpolated_levels
 
-__all__ = ["BuildResult", "assumptions", "build_files", "flags_by_test", "short_assumptions",
-           "load_profile", "read_as_profiles", "summary_row", "usable_bins"]
+__all__ = [
+    "BuildResult",
+    "assumptions",
+    "build_files",
+    "flags_by_test",
+    "short_assumptions",
+    "load_profile",
+    "read_as_profiles",
+    "summary_row",
+    "usable_bins",
+]
 
 
 @dataclass
@@ -105,18 +119,21 @@ def _build_profile(cast, options):
     return build_profile(cast, **options)
 
 
-def _build_one_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth,
-                    keep=(), used=None):
+def _build_one_file(
+    path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth, keep=(), used=None
+):
     """Every cast of one file; never raises (each failure is a result's error)."""
     try:
-        return _build_file(path, read_options, build_options, out_dir, fmt, overwrite,
-                           bottom_depth, keep, used)
+        return _build_file(
+            path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth, keep, used
+        )
     except Exception as exc:  # noqa: BLE001 - one bad file never stops a batch
         return [BuildResult(str(path)).fail(exc)]
 
 
-def _build_file(path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth,
-                keep, used):
+def _build_file(
+    path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth, keep, used
+):
     results = []
     if Path(path).is_dir():  # left by _expand_directories: it holds no cast file
         directory_files(path)  # raises, naming the directory and the suffixes looked for
@@ -136,9 +153,12 @@ def _build_file(path, read_options, build_options, out_dir, fmt, overwrite, bott
             if isinstance(bottom, str):  # "bottom": each cast's own bottom_depth metadata
                 bottom = _bottom_of(cast)
                 if bottom is None:
-                    raise ArgumentError("extend_to", "'bottom' needs the cast's "
-                                        "sea-floor depth, and the file gives none (add a "
-                                        "bottom_depth line to its header, or give a depth)")
+                    raise ArgumentError(
+                        "extend_to",
+                        "'bottom' needs the cast's "
+                        "sea-floor depth, and the file gives none (add a "
+                        "bottom_depth line to its header, or give a depth)",
+                    )
                 options["extend_to"] = bottom
             res.profile = _build_profile(cast, options)
             res.diagnostics = _diagnostics(res, bottom)
@@ -164,8 +184,10 @@ def _diagnostics(res, bottom):
 
 
 def _clash(target, name):
-    return SeaprofileError(f"output {Path(target).name} was already written for another cast "
-                           f"of this batch (cast name {name!r}); rename one of the casts")
+    return SeaprofileError(
+        f"output {Path(target).name} was already written for another cast "
+        f"of this batch (cast name {name!r}); rename one of the casts"
+    )
 
 
 def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
@@ -179,8 +201,10 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
     target = Path(out_dir) / f"{name}{FORMATS[fmt][0]}"
     for source in keep:
         if is_same_file(target, source):
-            raise SeaprofileError(f"output {target} is an input of this batch; an input is "
-                                  "never written over (give another output directory)")
+            raise SeaprofileError(
+                f"output {target} is an input of this batch; an input is "
+                "never written over (give another output directory)"
+            )
     if used is not None:
         if str(target) in used:  # two casts of one name in this batch
             raise _clash(target, name)
@@ -188,8 +212,9 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
         where = target
     else:
         if target.exists() and not overwrite:  # refused early; checked again at the rename
-            raise SeaprofileError(f"{target}: exists; pass overwrite=True (--overwrite) to "
-                                  "replace it")
+            raise SeaprofileError(
+                f"{target}: exists; pass overwrite=True (--overwrite) to replace it"
+            )
         where = target.with_name(f".{target.name}.{uuid.uuid4().hex}.staged{target.suffix}")
     if fmt == "netcdf":
         with NETCDF_LOCK:  # HDF5 is never entered from two threads at once
@@ -221,8 +246,9 @@ def _commit_staged(results, overwrite):
                     try:
                         os.link(tmp, target)  # fails if the output appeared meanwhile
                     except FileExistsError:
-                        raise SeaprofileError(f"{target}: exists; pass overwrite=True "
-                                              "(--overwrite) to replace it") from None
+                        raise SeaprofileError(
+                            f"{target}: exists; pass overwrite=True (--overwrite) to replace it"
+                        ) from None
                 claimed.add(target)
                 r.written.append(target)
             except (SeaprofileError, OSError) as exc:
@@ -233,12 +259,30 @@ def _commit_staged(results, overwrite):
         r.staged = []
 
 
-def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, columns=None,
-                units=None, instrument=None, latitude=None, longitude=None, salinity=None,
-                fall_rate="hanawa1995", equation="chen_millero1977", bin_size=1.0,
-                extend_to=None, reference=None, max_gap="auto", replacement_salinity=None,
-                replace_salinity="bad", depth_method="unesco1983", scheduler=None,
-                protect=()):
+def build_files(
+    paths,
+    *,
+    out_dir=None,
+    format="netcdf",
+    overwrite=False,
+    columns=None,
+    units=None,
+    instrument=None,
+    latitude=None,
+    longitude=None,
+    salinity=None,
+    fall_rate="hanawa1995",
+    equation="chen_millero1977",
+    bin_size=1.0,
+    extend_to=None,
+    reference=None,
+    max_gap="auto",
+    replacement_salinity=None,
+    replace_salinity="bad",
+    depth_method="unesco1983",
+    scheduler=None,
+    protect=(),
+):
     """Read, process, quality-control and write every cast in ``paths``.
 
     Parameters
@@ -302,11 +346,18 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
     """
     if format not in FORMATS:
         raise ArgumentError("format", f"expected one of {', '.join(FORMATS)}, got {format!r}")
-    read_options = check_read_options(columns=columns, units=units, instrument=instrument,
-                                      latitude=latitude, longitude=longitude,
-                                      salinity=salinity, fall_rate=fall_rate)
-    check_build_options(bin_size=bin_size, extend_to=extend_to, equation=equation,
-                        depth_method=depth_method)
+    read_options = check_read_options(
+        columns=columns,
+        units=units,
+        instrument=instrument,
+        latitude=latitude,
+        longitude=longitude,
+        salinity=salinity,
+        fall_rate=fall_rate,
+    )
+    check_build_options(
+        bin_size=bin_size, extend_to=extend_to, equation=equation, depth_method=depth_method
+    )
     check_scheduler(scheduler)
     check_replacement_salinity(replacement_salinity, replace_salinity)
     paths = _expand_directories(paths)
@@ -316,13 +367,20 @@ def build_files(paths, *, out_dir=None, format="netcdf", overwrite=False, column
             if is_same_file(out_dir, p):
                 raise ArgumentError("out_dir", f"{out_dir} is an input file of this batch")
         Path(out_dir).mkdir(parents=True, exist_ok=True)
-    build_options = dict(equation=equation, bin_size=float(bin_size), latitude=latitude,
-                         extend_to=extend_to, reference=reference, depth_method=depth_method)
+    build_options = dict(
+        equation=equation,
+        bin_size=float(bin_size),
+        latitude=latitude,
+        extend_to=extend_to,
+        reference=reference,
+        depth_method=depth_method,
+    )
     if max_gap != "auto":
         build_options["max_gap"] = max_gap
     if replacement_salinity is not None:
-        build_options.update(replacement_salinity=float(replacement_salinity),
-                             replace_salinity=replace_salinity)
+        build_options.update(
+            replacement_salinity=float(replacement_salinity), replace_salinity=replace_salinity
+        )
     args = (read_options, build_options, out_dir, format, overwrite, extend_to, keep)
     if scheduler is None:
         used = set()
@@ -411,8 +469,7 @@ def short_assumptions(profile):
     words = []
     if str(a.get("salinity_assumed", "")).lower() in ("yes", "true", "1"):
         source = str(a.get("salinity_source", "")).split("(")[0].strip()
-        words.append(f"salinity {source}" if source.startswith("assumed") else
-                     "salinity assumed")
+        words.append(f"salinity {source}" if source.startswith("assumed") else "salinity assumed")
     if a.get("salinity_replaced") not in (None, ""):
         words.append(f"salinity replaced ({str(a['salinity_replaced']).split(':')[0]})")
     if a.get("fall_rate") not in (None, ""):
@@ -425,9 +482,17 @@ def short_assumptions(profile):
     if a.get("extension_method") not in (None, ""):
         ref = a.get("extension_reference")
         below = a.get("join_depth", a.get("cast_max_depth"))
-        words.append("extended" + (f" below {float(below):.0f} m" if below is not None else "")
-                     + (f" from {ref}" if ref not in (None, "", "none") else " at constant T/S"
-                        if "constant" in str(a["extension_method"]) else ""))
+        words.append(
+            "extended"
+            + (f" below {float(below):.0f} m" if below is not None else "")
+            + (
+                f" from {ref}"
+                if ref not in (None, "", "none")
+                else " at constant T/S"
+                if "constant" in str(a["extension_method"])
+                else ""
+            )
+        )
     return ", ".join(words) or "none"
 
 
@@ -476,8 +541,10 @@ def assumptions(profile):
         out.append(f"salinity replaced: {_text(a['salinity_replaced'])}")
     if a.get("fall_rate") not in (None, ""):
         coefficients = a.get("fall_rate_coefficients")
-        out.append(f"fall rate {_text(a['fall_rate'])}"
-                   + (f" ({_text(coefficients)})" if coefficients not in (None, "") else ""))
+        out.append(
+            f"fall rate {_text(a['fall_rate'])}"
+            + (f" ({_text(coefficients)})" if coefficients not in (None, "") else "")
+        )
     filled, inside = interpolated_levels(profile)
     if filled:
         out.append(f"{filled} of {inside} levels interpolated linearly in depth")
@@ -487,8 +554,10 @@ def assumptions(profile):
         out.append(f"extended: {_text(a['extension'])}")
     elif a.get("extension_method") not in (None, ""):
         start = a.get("join_depth", a.get("cast_max_depth", "?"))
-        out.append(f"extended from {_text(start)} m to "
-                   f"{_text(a.get('bottom_depth', '?'))} m with {_text(a['extension_method'])}")
+        out.append(
+            f"extended from {_text(start)} m to "
+            f"{_text(a.get('bottom_depth', '?'))} m with {_text(a['extension_method'])}"
+        )
     else:
         steps = [st for st in _cf.steps_of(a) if st.get("step") == "extend_to"]
         if steps:
@@ -499,8 +568,10 @@ def assumptions(profile):
                 ref = f" {_text(st['reference'])}" if st.get("reference") else ""
                 start = a.get("join_depth", a.get("cast_max_depth"))
                 start = f" from {_text(start)} m" if start is not None else ""
-                out.append(f"extended{start} to {_text(st.get('bottom_depth', '?'))} m by "
-                           f"{_text(st.get('method', 'an unrecorded method'))}{ref}")
+                out.append(
+                    f"extended{start} to {_text(st.get('bottom_depth', '?'))} m by "
+                    f"{_text(st.get('method', 'an unrecorded method'))}{ref}"
+                )
     return out
 
 

@@ -23,10 +23,12 @@ __all__ = ["DemoReport", "find_demo_casts", "run_demo"]
 #: (lowest, highest) deg and number of rays, as ``seaprofile fan --angles LOW HIGH --rays
 #: COUNT``, range m, ray shading)
 FIGURE_CASTS = {
-    "deep_ocean_ctd": dict(source_depth=100.0, angles=(-12.0, 12.0), rays=49, max_range=100e3,
-                           shade="launch_angle"),
-    "shelf_summer_ctd": dict(source_depth=20.0, angles=(-3.0, 3.0), rays=25, max_range=6e3,
-                             shade="reflections"),
+    "deep_ocean_ctd": dict(
+        source_depth=100.0, angles=(-12.0, 12.0), rays=49, max_range=100e3, shade="launch_angle"
+    ),
+    "shelf_summer_ctd": dict(
+        source_depth=20.0, angles=(-3.0, 3.0), rays=25, max_range=6e3, shade="reflections"
+    ),
 }
 
 
@@ -50,15 +52,15 @@ def find_demo_casts(casts_dir=None):
     if not root.is_dir():
         raise SeaprofileError(
             f"--casts: no demo casts at {root}; run from the seaprofile checkout or give "
-            "--casts DIR (python demo_casts/generate.py --output DIR makes them)")
+            "--casts DIR (python demo_casts/generate.py --output DIR makes them)"
+        )
     files = sorted(p for p in root.rglob("*.csv"))
     if not files:
         raise SeaprofileError(f"--casts: {root} holds no .csv cast files")
     return files
 
 
-def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero1977",
-             figures=True):
+def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero1977", figures=True):
     """Run the demo.
 
     Parameters
@@ -78,8 +80,13 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
     """
     out = Path(out_dir)
     files = find_demo_casts(casts_dir)
-    options = dict(out_dir=out / "profiles", format="netcdf", overwrite=True,
-                   equation=equation, extend_to="bottom")
+    options = dict(
+        out_dir=out / "profiles",
+        format="netcdf",
+        overwrite=True,
+        equation=equation,
+        extend_to="bottom",
+    )
     # The expendable probe stops at 760 m over 3350 m of water (the messy deep cast at 1500 m
     # over 4980 m): holding the last temperature to the bottom would make the deep water
     # about 12 m/s too fast, so their extensions take their shape from the deep CTD cast of

@@ -13,7 +13,6 @@ import numpy as np
 import xarray as xr
 
 from . import _cf
-from ._validate import SeaprofileError
 from ._extend import (
     JOIN_BLEND,
     LongExtensionWarning,
@@ -22,33 +21,62 @@ from ._extend import (
     check_bottom_depth,
     extend_to,
 )
+from ._validate import SeaprofileError
 from .casts import binning as _b
-from .casts.binning import LargeGapWarning
-from .casts._common import usable_sound_speed
 from .casts import process as _p
 from .casts import qc as _qc
+from .casts._common import usable_sound_speed
+from .casts.binning import LargeGapWarning
 from .casts.despike import despike as _despike
 
 _extend = extend_to  # build_profile's argument of the same name hides the function
 
 # extend_to, cast_bottom_depth, check_bottom_depth, JOIN_BLEND and LongExtensionWarning are
 # defined in the private module _extend.py: this is their public home
-__all__ = ["build_profile", "extend_to", "compare_profiles", "describe_assumptions",
-           "interpolated_levels", "LargeGapWarning",
-           "cast_bottom_depth", "check_bottom_depth", "CAST_TESTS", "PROFILE_TESTS",
-           "JOIN_BLEND", "LongExtensionWarning"]
+__all__ = [
+    "build_profile",
+    "extend_to",
+    "compare_profiles",
+    "describe_assumptions",
+    "interpolated_levels",
+    "LargeGapWarning",
+    "cast_bottom_depth",
+    "check_bottom_depth",
+    "CAST_TESTS",
+    "PROFILE_TESTS",
+    "JOIN_BLEND",
+    "LongExtensionWarning",
+]
 
 #: quality-control tests run on the Cast's samples, in order
-CAST_TESTS = ("global_range", "pressure_increasing", "spike", "stuck_value",
-              "density_inversion", "sound_speed_range")
+CAST_TESTS = (
+    "global_range",
+    "pressure_increasing",
+    "spike",
+    "stuck_value",
+    "density_inversion",
+    "sound_speed_range",
+)
 #: quality-control tests run on the binned Profile
 PROFILE_TESTS = ("sound_speed_range",)
 
 
-def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=None,
-                  depth_method="unesco1983", extend_to=None, reference=None,
-                  direction="down", qc=True, max_gap="auto", replacement_salinity=None,
-                  replace_salinity="bad", join_blend=JOIN_BLEND):
+def build_profile(
+    cast,
+    *,
+    equation="chen_millero1977",
+    bin_size=1.0,
+    latitude=None,
+    depth_method="unesco1983",
+    extend_to=None,
+    reference=None,
+    direction="down",
+    qc=True,
+    max_gap="auto",
+    replacement_salinity=None,
+    replace_salinity="bad",
+    join_blend=JOIN_BLEND,
+):
     """Process a Cast into a sound-speed Profile.
 
     The steps, in order (each recorded in ``processing_steps``):
@@ -143,11 +171,13 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
     bin_size = _b.check_step(bin_size, "bin_size")
     bottom = None
     if extend_to is not None:
-        bottom = (cast_bottom_depth(cast) if _is_bottom(extend_to)
-                  else check_bottom_depth(extend_to, "extend_to"))
+        bottom = (
+            cast_bottom_depth(cast)
+            if _is_bottom(extend_to)
+            else check_bottom_depth(extend_to, "extend_to")
+        )
     if replace_salinity not in ("bad", "all"):
-        raise SeaprofileError(
-            f"replace_salinity must be 'bad' or 'all', got {replace_salinity!r}")
+        raise SeaprofileError(f"replace_salinity must be 'bad' or 'all', got {replace_salinity!r}")
     ds = cast
     if ds.attrs.get("instrument") == "xbt":
         from .casts.xbt import complete_xbt_cast
@@ -163,11 +193,15 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
         # depth and measured sound speed, no position: pressure is needed by nothing
         # downstream, and guessing a latitude would invent it (~0.5 % apart over latitudes)
         n = ds.sizes["sample"]
-        ds = ds.assign(pressure=("sample", np.full(n, np.nan), _cf.attrs_for("pressure")),
-                       pressure_qc=("sample", np.full(n, _cf.MISSING, np.int8),
-                                    _cf.flag_attrs("pressure")))
-        ds.attrs = _cf.record_step(ds.attrs, "add_depth", skipped="sound speed measured "
-                                   "against depth and no position: pressure left unknown")
+        ds = ds.assign(
+            pressure=("sample", np.full(n, np.nan), _cf.attrs_for("pressure")),
+            pressure_qc=("sample", np.full(n, _cf.MISSING, np.int8), _cf.flag_attrs("pressure")),
+        )
+        ds.attrs = _cf.record_step(
+            ds.attrs,
+            "add_depth",
+            skipped="sound speed measured against depth and no position: pressure left unknown",
+        )
     else:
         ds = _p.add_depth(ds, latitude=latitude, method=depth_method)
     replace = replacement_salinity is not None
@@ -191,8 +225,12 @@ def build_profile(cast, *, equation="chen_millero1977", bin_size=1.0, latitude=N
         if usable_sound_speed(prof).any():
             prof = _extend(prof, bottom, reference=reference, join_blend=join_blend)
         else:  # nothing to extend from: keep the flagged profile, say why
-            prof.attrs = _cf.record_step(prof.attrs, "extend_to", bottom_depth=bottom,
-                                         skipped="no usable sound speed (see the flags)")
+            prof.attrs = _cf.record_step(
+                prof.attrs,
+                "extend_to",
+                bottom_depth=bottom,
+                skipped="no usable sound speed (see the flags)",
+            )
     prof.attrs["featureType"] = "profile"
     prof.attrs["title"] = f"sound-speed profile from {cast.attrs.get('title', 'a cast')}"
     prof.attrs["assumptions"] = describe_assumptions(prof)
@@ -229,8 +267,11 @@ def interpolated_levels(profile):
     if "samples_per_bin" not in profile or "sound_speed_qc" not in profile:
         return 0, 0
     inside = profile["depth"].values <= float(profile.attrs.get("cast_max_depth", np.inf))
-    filled = inside & (profile["samples_per_bin"].values == 0) & (
-        profile["sound_speed_qc"].values == _cf.ESTIMATED)
+    filled = (
+        inside
+        & (profile["samples_per_bin"].values == 0)
+        & (profile["sound_speed_qc"].values == _cf.ESTIMATED)
+    )
     return int(filled.sum()), int(inside.sum())
 
 
@@ -262,15 +303,21 @@ def describe_assumptions(profile):
         parts.append(f"fall rate {a['fall_rate']}" + (f" ({coeff})" if coeff else ""))
     filled, inside = interpolated_levels(profile)
     if filled:
-        parts.append(f"{filled} of {inside} levels interpolated linearly in depth between "
-                     "measured ones (flag 8)")
+        parts.append(
+            f"{filled} of {inside} levels interpolated linearly in depth between "
+            "measured ones (flag 8)"
+        )
     if a.get("unfilled_gaps") not in (None, "", "none"):
-        parts.append(f"no data over {a['unfilled_gaps']}, left missing (flag 9; ray "
-                     "tracing joins the levels on either side with a straight line)")
+        parts.append(
+            f"no data over {a['unfilled_gaps']}, left missing (flag 9; ray "
+            "tracing joins the levels on either side with a straight line)"
+        )
     if a.get("extension_method"):
         start = float(a.get("join_depth", a.get("cast_max_depth", 0)))
-        parts.append(f"extended {start:.0f}-{float(a.get('bottom_depth', 0)):.0f}"
-                     f" m with {a['extension_method']} (flag 8)")
+        parts.append(
+            f"extended {start:.0f}-{float(a.get('bottom_depth', 0)):.0f}"
+            f" m with {a['extension_method']} (flag 8)"
+        )
     if a.get("data_below_bottom") not in (None, "", "none"):
         parts.append(str(a["data_below_bottom"]))
     return "; ".join(parts) if parts else "none"
@@ -292,10 +339,13 @@ def compare_profiles(a, b):
         ``mean_difference``, ``rms_difference``, ``max_abs_difference`` (m/s) and
         ``max_abs_difference_depth`` (m).
     """
+
     def usable(p):
         ok = usable_sound_speed(p)
-        return (p["depth"].values.astype(np.float64)[ok],
-                p["sound_speed"].values.astype(np.float64)[ok])
+        return (
+            p["depth"].values.astype(np.float64)[ok],
+            p["sound_speed"].values.astype(np.float64)[ok],
+        )
 
     for name, p in (("a", a), ("b", b)):
         if not isinstance(p, xr.Dataset) or "sound_speed" not in p:
@@ -311,10 +361,15 @@ def compare_profiles(a, b):
     d = ca[inside] - np.interp(z, zb, cb)
     i = int(np.argmax(np.abs(d)))
     attrs = _cf.base_attrs(
-        mean_difference=float(d.mean()), rms_difference=float(np.sqrt(np.mean(d * d))),
-        max_abs_difference=float(abs(d[i])), max_abs_difference_depth=float(z[i]),
-        profile_a=str(a.attrs.get("cast_name", "a")), profile_b=str(b.attrs.get("cast_name", "b")),
+        mean_difference=float(d.mean()),
+        rms_difference=float(np.sqrt(np.mean(d * d))),
+        max_abs_difference=float(abs(d[i])),
+        max_abs_difference_depth=float(z[i]),
+        profile_a=str(a.attrs.get("cast_name", "a")),
+        profile_b=str(b.attrs.get("cast_name", "b")),
     )
     return xr.Dataset(
         {"sound_speed_difference": (("depth",), d, _cf.attrs_for("sound_speed_difference"))},
-        coords={"depth": ("depth", z, _cf.attrs_for("depth"))}, attrs=attrs)
+        coords={"depth": ("depth", z, _cf.attrs_for("depth"))},
+        attrs=attrs,
+    )

@@ -37,7 +37,7 @@ class ArrayKind:
 
         a = np.asarray(a, dtype=np.float64)
         if dims is None:
-            dims = ("profile", "depth")[2 - a.ndim:]
+            dims = ("profile", "depth")[2 - a.ndim :]
         dims = tuple(dims)
         chunks = tuple(2 if d == "profile" else (vertical_chunks or -1) for d in dims)
         if self.name == "numpy":

@@ -12,8 +12,11 @@ DEMO = Path(__file__).resolve().parents[1] / "demo_casts"
 
 
 def _good_and_bad():
-    return [DEMO / "shelf_summer_ctd.csv", DEMO / "broken" / "bad_number.csv",
-            DEMO / "shelf_winter_ctd.csv"]
+    return [
+        DEMO / "shelf_summer_ctd.csv",
+        DEMO / "broken" / "bad_number.csv",
+        DEMO / "shelf_winter_ctd.csv",
+    ]
 
 
 def test_bad_file_reported_and_others_built(tmp_path):
@@ -49,7 +52,9 @@ def test_extend_to_each_casts_bottom():
         (r,) = build_files([DEMO / "xbt_drop.csv"], extend_to="bottom")
     depth = r.profile["depth"].values
     assert depth.max() == pytest.approx(3350.0)
-    assert (r.profile["sound_speed_qc"].values[depth > r.profile.attrs["cast_max_depth"]] == 8).all()
+    assert (
+        r.profile["sound_speed_qc"].values[depth > r.profile.attrs["cast_max_depth"]] == 8
+    ).all()
 
 
 def test_dead_salinity_sensor_gives_flagged_profile_not_a_crash():
@@ -76,8 +81,9 @@ def test_dask_threads_match_sequential():
     assert [r.ok for r in seq] == [r.ok for r in par]
     for a, b in zip(seq, par):
         if a.ok:
-            np.testing.assert_array_equal(a.profile["sound_speed"].values,
-                                          b.profile["sound_speed"].values)
+            np.testing.assert_array_equal(
+                a.profile["sound_speed"].values, b.profile["sound_speed"].values
+            )
 
 
 def test_load_profile_from_raw_cast_and_built_file(tmp_path):
@@ -112,9 +118,14 @@ def test_outputs_are_ordinary_files(tmp_path):
 def test_bad_options_raise_once_before_any_file(tmp_path):
     from seaprofile.io import ArgumentError
 
-    for kwargs, name in (({"bin_size": -1.0}, "bin_size"), ({"columns": "x"}, "columns"),
-                         ({"extend_to": -5.0}, "extend_to"), ({"scheduler": "bogus"}, "scheduler"),
-                         ({"latitude": 100.0}, "latitude"), ({"format": "docx"}, "format")):
+    for kwargs, name in (
+        ({"bin_size": -1.0}, "bin_size"),
+        ({"columns": "x"}, "columns"),
+        ({"extend_to": -5.0}, "extend_to"),
+        ({"scheduler": "bogus"}, "scheduler"),
+        ({"latitude": 100.0}, "latitude"),
+        ({"format": "docx"}, "format"),
+    ):
         with pytest.raises(ArgumentError) as err:
             build_files(_good_and_bad(), out_dir=tmp_path / "out", **kwargs)
         assert err.value.argument == name
@@ -130,8 +141,12 @@ def test_output_never_replaces_an_input(tmp_path):
     assert src.read_bytes() == before
     other = tmp_path / "other.nc"
     other.write_text("a reference file")
-    (r,) = build_files([DEMO / "shelf_summer_ctd.csv"], out_dir=tmp_path, overwrite=True,
-                       protect=[tmp_path / "VS31-S04.nc"])
+    (r,) = build_files(
+        [DEMO / "shelf_summer_ctd.csv"],
+        out_dir=tmp_path,
+        overwrite=True,
+        protect=[tmp_path / "VS31-S04.nc"],
+    )
     assert not r.ok and "is an input" in r.error
 
 
@@ -170,8 +185,9 @@ def test_threads_with_netcdf_inputs_and_outputs(tmp_path):
     again = build_files(sorted(raw.iterdir()), out_dir=tmp_path / "b", scheduler="threads")
     assert all(r.ok for r in again), [r.error for r in again if not r.ok]
     for a, b in zip(written, (r.written[0] for r in again)):
-        np.testing.assert_array_equal(load_profile(a)["sound_speed"].values,
-                                      load_profile(b)["sound_speed"].values)
+        np.testing.assert_array_equal(
+            load_profile(a)["sound_speed"].values, load_profile(b)["sound_speed"].values
+        )
 
 
 def test_assumptions_read_from_attributes():
@@ -179,20 +195,37 @@ def test_assumptions_read_from_attributes():
 
     from seaprofile.batch import assumptions
 
-    p = xr.Dataset(attrs={"assumed_salinity": 35.0, "fall_rate": "hanawa1995",
-                          "extension": "constant temperature and salinity to 3000 m"})
-    assert assumptions(p) == ["salinity assumed 35", "fall rate hanawa1995",
-                              "extended: constant temperature and salinity to 3000 m"]
+    p = xr.Dataset(
+        attrs={
+            "assumed_salinity": 35.0,
+            "fall_rate": "hanawa1995",
+            "extension": "constant temperature and salinity to 3000 m",
+        }
+    )
+    assert assumptions(p) == [
+        "salinity assumed 35",
+        "fall rate hanawa1995",
+        "extended: constant temperature and salinity to 3000 m",
+    ]
     assert assumptions(xr.Dataset()) == []
     # a Profile that carries its own one-line summary is taken at its word
-    own = xr.Dataset(attrs={"assumptions": "salinity assumed constant 35; fall rate x",
-                            "fall_rate": "ignored"})
+    own = xr.Dataset(
+        attrs={"assumptions": "salinity assumed constant 35; fall rate x", "fall_rate": "ignored"}
+    )
     assert assumptions(own) == ["salinity assumed constant 35", "fall rate x"]
     assert assumptions(xr.Dataset(attrs={"assumptions": "none", "fall_rate": "y"})) == []
-    shaped = xr.Dataset(attrs={"extension_method": "the reference's water", "cast_max_depth": 759.0,
-                               "bottom_depth": 3000.0, "salinity_replaced": "from the reference"})
-    assert assumptions(shaped) == ["salinity replaced: from the reference",
-                                   "extended from 759 m to 3000 m with the reference's water"]
+    shaped = xr.Dataset(
+        attrs={
+            "extension_method": "the reference's water",
+            "cast_max_depth": 759.0,
+            "bottom_depth": 3000.0,
+            "salinity_replaced": "from the reference",
+        }
+    )
+    assert assumptions(shaped) == [
+        "salinity replaced: from the reference",
+        "extended from 759 m to 3000 m with the reference's water",
+    ]
 
 
 def test_half_known_position_still_diagnosed():
@@ -212,8 +245,9 @@ def test_speed_only_errors_are_not_all_blamed_on_the_reference(tmp_path):
     from seaprofile.casts.model import make_cast
 
     z = np.arange(1.0, 100.0)
-    cast = make_cast(depth=z, measured_sound_speed=1500.0 + 0.016 * z, instrument="svp",
-                     cast_name="invented-svp")
+    cast = make_cast(
+        depth=z, measured_sound_speed=1500.0 + 0.016 * z, instrument="svp", cast_name="invented-svp"
+    )
     path = tmp_path / "svp.csv"
     write(cast, path, format="csv")
     (res,) = build_files([path], extend_to=500.0)
@@ -225,10 +259,16 @@ def test_speed_only_errors_are_not_all_blamed_on_the_reference(tmp_path):
 def _same_name_casts(tmp_path):
     """Two synthetic demo casts renamed to one cast name, in two files (a.csv, b.csv)."""
     a, b = tmp_path / "a.csv", tmp_path / "b.csv"
-    a.write_text((DEMO / "shelf_summer_ctd.csv").read_text().replace(
-        "# cast_name: VS31-S04", "# cast_name: TWIN"))
-    b.write_text((DEMO / "shelf_winter_ctd.csv").read_text().replace(
-        "# cast_name: VS31-W02", "# cast_name: TWIN"))
+    a.write_text(
+        (DEMO / "shelf_summer_ctd.csv")
+        .read_text()
+        .replace("# cast_name: VS31-S04", "# cast_name: TWIN")
+    )
+    b.write_text(
+        (DEMO / "shelf_winter_ctd.csv")
+        .read_text()
+        .replace("# cast_name: VS31-W02", "# cast_name: TWIN")
+    )
     assert "TWIN" in a.read_text() and "TWIN" in b.read_text()
     return a, b
 

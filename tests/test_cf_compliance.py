@@ -14,15 +14,17 @@ import pytest
 import seaprofile
 from seaprofile.casts.model import make_cast
 
-checker = pytest.importorskip("compliance_checker.runner",
-                              reason="compliance-checker is in the test extras")
+checker = pytest.importorskip(
+    "compliance_checker.runner", reason="compliance-checker is in the test extras"
+)
 
 
 def _failures(path):
     suite = checker.CheckSuite()
     suite.load_all_available_checkers()
-    results, errors = suite.run_all(suite.load_dataset(str(path)), ["cf:1.10"],
-                                    skip_checks=[])["cf:1.10"]
+    results, errors = suite.run_all(suite.load_dataset(str(path)), ["cf:1.10"], skip_checks=[])[
+        "cf:1.10"
+    ]
     assert not errors, errors
     return [(r.name, r.msgs) for r in results if r.value[0] < r.value[1]]
 
@@ -32,10 +34,19 @@ def _casts():
     out = []
     for k, n in enumerate((40, 25)):
         p = np.linspace(1.0, 120.0, n)
-        out.append(make_cast(pressure=p, temperature=14.0 - 0.05 * p,
-                             salinity=np.full(n, 35.0), latitude=47.0 + k, longitude=-8.5,
-                             time="2022-09-03T06:15:30", cast_name=f"Test-{k}",
-                             vessel="RV Imaginary Petrel", instrument="ctd"))
+        out.append(
+            make_cast(
+                pressure=p,
+                temperature=14.0 - 0.05 * p,
+                salinity=np.full(n, 35.0),
+                latitude=47.0 + k,
+                longitude=-8.5,
+                time="2022-09-03T06:15:30",
+                cast_name=f"Test-{k}",
+                vessel="RV Imaginary Petrel",
+                instrument="ctd",
+            )
+        )
     return out
 
 

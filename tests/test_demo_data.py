@@ -32,10 +32,17 @@ def _header(path):
 
 def test_expected_files_present_and_modest():
     names = {p.relative_to(DEMO).as_posix() for p in DATA_FILES}
-    for name in ("deep_ocean_ctd.csv", "shelf_summer_ctd.csv", "shelf_winter_ctd.csv",
-                 "xbt_drop.csv", "svp_cast.csv", "messy/messy_shelf_ctd.csv",
-                 "messy/messy_deep_ctd.csv", "messy/stuck_salinity_ctd.csv",
-                 "broken/bad_number.csv"):
+    for name in (
+        "deep_ocean_ctd.csv",
+        "shelf_summer_ctd.csv",
+        "shelf_winter_ctd.csv",
+        "xbt_drop.csv",
+        "svp_cast.csv",
+        "messy/messy_shelf_ctd.csv",
+        "messy/messy_deep_ctd.csv",
+        "messy/stuck_salinity_ctd.csv",
+        "broken/bad_number.csv",
+    ):
         assert name in names
     assert len([n for n in names if n.startswith("section/")]) == 10
     assert sum(p.stat().st_size for p in DATA_FILES) < 3_000_000
@@ -54,8 +61,15 @@ def test_every_file_says_synthetic_and_has_metadata(path):
     meta = _header(path)
     assert meta["note"].startswith("SYNTHETIC")
     assert "synthetic" in meta["survey"]
-    for key in ("cast_name", "vessel", "instrument", "latitude", "longitude", "time",
-                "bottom_depth"):
+    for key in (
+        "cast_name",
+        "vessel",
+        "instrument",
+        "latitude",
+        "longitude",
+        "time",
+        "bottom_depth",
+    ):
         assert meta[key], key
     assert meta["time"].endswith("Z")
     np.datetime64(meta["time"].rstrip("Z"))  # ISO 8601

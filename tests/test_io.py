@@ -5,12 +5,17 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
 from seaprofile import InputFileError, io
 from seaprofile.casts.write import write
-from seaprofile.io.options import FULL_OCEAN_DEPTH, check_build_options, check_read_options
-from seaprofile.io.options import check_scheduler
+from seaprofile.io.options import (
+    FULL_OCEAN_DEPTH,
+    check_build_options,
+    check_read_options,
+    check_scheduler,
+)
 
 DEMO = Path(__file__).resolve().parents[1] / "demo_casts"
 
@@ -18,13 +23,16 @@ DEMO = Path(__file__).resolve().parents[1] / "demo_casts"
 # --- bathymetry ------------------------------------------------------------------------
 
 
-@pytest.mark.parametrize("header, scale", [
-    ("range_km,depth_m", 1000.0),
-    ("range (m), depth (m)", 1.0),
-    ("Range [km]; Depth [m]", 1000.0),
-    ("range_m\tdepth_m", 1.0),
-    ("range_m depth_m", 1.0),
-])
+@pytest.mark.parametrize(
+    "header, scale",
+    [
+        ("range_km,depth_m", 1000.0),
+        ("range (m), depth (m)", 1.0),
+        ("Range [km]; Depth [m]", 1000.0),
+        ("range_m\tdepth_m", 1.0),
+        ("range_m depth_m", 1.0),
+    ],
+)
 def test_bathymetry_header_states_units(tmp_path, header, scale):
     sep = ";" if ";" in header else "\t" if "\t" in header else "," if "," in header else " "
     path = tmp_path / "b.txt"
@@ -34,12 +42,15 @@ def test_bathymetry_header_states_units(tmp_path, header, scale):
     np.testing.assert_array_equal(z, [200.0, 120.0])
 
 
-@pytest.mark.parametrize("text, line", [
-    ("0,200\n2000,120\n", 1),                       # bare columns: units would be a guess
-    ("# note\nrange,depth\n0,200\n", 2),            # names without units
-    ("depth_m,range_m\n200,0\n", 1),                # wrong order
-    ("range_miles,depth_m\n0,200\n", 1),            # unknown unit
-])
+@pytest.mark.parametrize(
+    "text, line",
+    [
+        ("0,200\n2000,120\n", 1),  # bare columns: units would be a guess
+        ("# note\nrange,depth\n0,200\n", 2),  # names without units
+        ("depth_m,range_m\n200,0\n", 1),  # wrong order
+        ("range_miles,depth_m\n0,200\n", 1),  # unknown unit
+    ],
+)
 def test_bathymetry_without_units_is_refused(tmp_path, text, line):
     path = tmp_path / "bottom.txt"
     path.write_text(text)
@@ -145,8 +156,10 @@ def test_load_environment_bottom_and_argument_errors():
     env, loaded = io.load_environment(DEMO / "shelf_summer_ctd.csv")
     assert float(env.bottom_at(0.0)) == pytest.approx(120.0)  # the cast's bottom_depth
     assert loaded.profile is not None and loaded.files == [DEMO / "shelf_summer_ctd.csv"]
-    for kwargs, name in (({"bottom_depth": -1.0}, "bottom_depth"),
-                         ({"thin_tolerance": -1.0}, "thin_tolerance")):
+    for kwargs, name in (
+        ({"bottom_depth": -1.0}, "bottom_depth"),
+        ({"thin_tolerance": -1.0}, "thin_tolerance"),
+    ):
         with pytest.raises(io.ArgumentError) as err:
             io.load_environment(DEMO / "shelf_summer_ctd.csv", **kwargs)
         assert err.value.argument == name
@@ -196,18 +209,21 @@ def test_fan_bytes_grow_with_rays_and_range():
     assert io.fan_bytes(1, 2000.0, 1.0) > io.fan_bytes(1, 1000.0, 1.0)
 
 
-@pytest.mark.parametrize("kwargs, name", [
-    ({"columns": "temperature"}, "columns"),
-    ({"columns": "colour=red"}, "columns"),
-    ({"columns": "temperature=T,pressure=T"}, "columns"),
-    ({"units": "pressure=furlong"}, "units"),
-    ({"latitude": 91.0}, "latitude"),
-    ({"longitude": float("nan")}, "longitude"),
-    ({"salinity": 50.0}, "salinity"),
-    ({"fall_rate": "fast"}, "fall_rate"),
-    ({"fall_rate": (6.0, -1.0)}, "fall_rate"),
-    ({"instrument": "sonar"}, "instrument"),
-])
+@pytest.mark.parametrize(
+    "kwargs, name",
+    [
+        ({"columns": "temperature"}, "columns"),
+        ({"columns": "colour=red"}, "columns"),
+        ({"columns": "temperature=T,pressure=T"}, "columns"),
+        ({"units": "pressure=furlong"}, "units"),
+        ({"latitude": 91.0}, "latitude"),
+        ({"longitude": float("nan")}, "longitude"),
+        ({"salinity": 50.0}, "salinity"),
+        ({"fall_rate": "fast"}, "fall_rate"),
+        ({"fall_rate": (6.0, -1.0)}, "fall_rate"),
+        ({"instrument": "sonar"}, "instrument"),
+    ],
+)
 def test_read_options_named_by_argument(kwargs, name):
     with pytest.raises(io.ArgumentError) as err:
         check_read_options(**kwargs)
@@ -215,10 +231,14 @@ def test_read_options_named_by_argument(kwargs, name):
 
 
 def test_read_options_parsed():
-    got = check_read_options(columns="temperature=T_deg,pressure=P", units="pressure=kPa",
-                             fall_rate=(6.691, 0.00225))
-    assert got == {"columns": {"temperature": "T_deg", "pressure": "P"},
-                   "units": {"pressure": "kPa"}, "fall_rate": (6.691, 0.00225)}
+    got = check_read_options(
+        columns="temperature=T_deg,pressure=P", units="pressure=kPa", fall_rate=(6.691, 0.00225)
+    )
+    assert got == {
+        "columns": {"temperature": "T_deg", "pressure": "P"},
+        "units": {"pressure": "kPa"},
+        "fall_rate": (6.691, 0.00225),
+    }
 
 
 def test_scheduler_names_checked():
@@ -234,4 +254,8 @@ def test_argument_error_survives_pickling():
     err = io.MemoryLimitError("bin_size", "too small", 10, 5)
     again = pickle.loads(pickle.dumps(err))
     assert (again.argument, again.reason, again.requested, again.limit) == (
-        "bin_size", "too small", 10, 5)
+        "bin_size",
+        "too small",
+        10,
+        5,
+    )

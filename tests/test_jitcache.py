@@ -42,4 +42,6 @@ def test_user_cache_dir_honours_the_environment(monkeypatch, tmp_path):
     monkeypatch.delenv("SEAPROFILE_CACHE_DIR")
     monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "xdg"))
     if sys.platform.startswith("linux"):
-        assert _jitcache.user_cache_dir() == tmp_path / "xdg" / "seaprofile" / seaprofile.__version__
+        assert (
+            _jitcache.user_cache_dir() == tmp_path / "xdg" / "seaprofile" / seaprofile.__version__
+        )

@@ -20,12 +20,26 @@ def ctd_cast(n=3000, pmax=300.0, seed=0):
     """Invented CTD cast with a soak, a descent at 24 Hz and an ascent."""
     rng = np.random.default_rng(seed)
     down = np.linspace(1.0, pmax, n)
-    p = np.concatenate([np.linspace(0, 8, 50), np.full(100, 8.0), np.linspace(8, 1, 50),
-                        down, np.linspace(pmax, 0.0, n // 2)])
+    p = np.concatenate(
+        [
+            np.linspace(0, 8, 50),
+            np.full(100, 8.0),
+            np.linspace(8, 1, 50),
+            down,
+            np.linspace(pmax, 0.0, n // 2),
+        ]
+    )
     t = 6.0 + 14.0 * np.exp(-p / 100.0) + rng.normal(0, 1e-4, p.size)
     s = 35.2 - 0.6 * np.exp(-p / 100.0)
-    return make_cast(pressure=p, temperature=t, salinity=s, elapsed_time=np.arange(p.size) / 24,
-                     latitude=LAT, longitude=LON, cast_name="invented-1")
+    return make_cast(
+        pressure=p,
+        temperature=t,
+        salinity=s,
+        elapsed_time=np.arange(p.size) / 24,
+        latitude=LAT,
+        longitude=LON,
+        cast_name="invented-1",
+    )
 
 
 def test_build_profile_steps_in_order_and_input_unchanged():
@@ -34,9 +48,18 @@ def test_build_profile_steps_in_order_and_input_unchanged():
     prof = build_profile(cast)
     xr.testing.assert_identical(cast, before)
     steps = [s["step"] for s in _cf.steps_of(prof.attrs)]
-    assert steps == ["remove_soak", "select_direction", "remove_reversals", "add_depth",
-                     "quality_control", "despike", "bin_cast", "fill_gaps",
-                     "add_sound_speed", "quality_control"]
+    assert steps == [
+        "remove_soak",
+        "select_direction",
+        "remove_reversals",
+        "add_depth",
+        "quality_control",
+        "despike",
+        "bin_cast",
+        "fill_gaps",
+        "add_sound_speed",
+        "quality_control",
+    ]
     assert prof.attrs["equation"] == "chen_millero1977"
     assert prof.attrs["featureType"] == "profile"
     assert (np.diff(prof["depth"].values) > 0).all()
@@ -49,15 +72,14 @@ def test_build_profile_with_faults_keeps_clean_bins():
     clean = build_profile(cast)
     t = cast["temperature"].values.copy()
     s = cast["salinity"].values.copy()
-    t[1000] += 9.0   # spike
-    s[2000] = 60.0   # out of range
+    t[1000] += 9.0  # spike
+    s[2000] = 60.0  # out of range
     faulty = cast.copy()
     faulty["temperature"] = faulty["temperature"].copy(data=t)
     faulty["salinity"] = faulty["salinity"].copy(data=s)
     prof = build_profile(faulty)
     # both faults flagged on the samples, so the bins match the clean build closely
-    np.testing.assert_allclose(prof["sound_speed"].values, clean["sound_speed"].values,
-                               atol=0.01)
+    np.testing.assert_allclose(prof["sound_speed"].values, clean["sound_speed"].values, atol=0.01)
     assert (prof["sound_speed_qc"].values == 1).all()
     # the Argo tests run first and count the faults under their own names; despiking then
     # finds nothing left to flag (a flagged sample is never counted twice)
@@ -70,19 +92,30 @@ def test_build_profile_with_faults_keeps_clean_bins():
 
 def test_build_profile_xbt_and_svp():
     z_t = np.arange(0.0, 120.0, 0.6)
-    xbt = make_cast(elapsed_time=z_t, temperature=18.0 - 0.05 * z_t, instrument="xbt",
-                    latitude=LAT, longitude=LON)
+    xbt = make_cast(
+        elapsed_time=z_t,
+        temperature=18.0 - 0.05 * z_t,
+        instrument="xbt",
+        latitude=LAT,
+        longitude=LON,
+    )
     prof = build_profile(xbt)
     assert prof.attrs["salinity_assumed"] == "yes"
     assert np.isfinite(prof["sound_speed"].values).all()
     p = np.linspace(0.5, 50.0, 500)
-    svp = make_cast(pressure=p, measured_sound_speed=1500.0 + 0.1 * p, instrument="svp",
-                    latitude=LAT, longitude=LON)
+    svp = make_cast(
+        pressure=p,
+        measured_sound_speed=1500.0 + 0.1 * p,
+        instrument="svp",
+        latitude=LAT,
+        longitude=LON,
+    )
     prof = build_profile(svp)
     assert prof.attrs["equation"] == "measured"
     with pytest.raises(SeaprofileError, match="latitude"):
-        build_profile(make_cast(pressure=p, temperature=np.full(500, 10.0),
-                                salinity=np.full(500, 35.0)))
+        build_profile(
+            make_cast(pressure=p, temperature=np.full(500, 10.0), salinity=np.full(500, 35.0))
+        )
 
 
 def test_extend_constant_ts_is_pressure_only():
@@ -117,8 +150,13 @@ def test_extend_with_reference_joins_continuously():
     # zero over join_blend (100 m), and the reference's water is used as measured below.
     prof = build_profile(ctd_cast(pmax=200.0))
     zr = np.arange(0.0, 1001.0, 5.0)
-    ref = make_cast(depth=zr, temperature=3.0 + 15.0 * np.exp(-zr / 150.0),
-                    salinity=np.full(zr.size, 35.0), latitude=LAT, longitude=LON)
+    ref = make_cast(
+        depth=zr,
+        temperature=3.0 + 15.0 * np.exp(-zr / 150.0),
+        salinity=np.full(zr.size, 35.0),
+        latitude=LAT,
+        longitude=LON,
+    )
     ref = binning.add_sound_speed(binning.bin_cast(pr.add_depth(ref), 5.0))
     out = extend_to(prof, 800.0, reference=ref)
     c = out["sound_speed"].values
@@ -188,8 +226,13 @@ def test_out_of_range_extension_is_flagged_bad_not_estimated():
     # warm salty water held down to 11000 m: TEOS-10 (gsw) gives far above the 1700 m/s
     # window there, so those added levels must not pass as usable estimates
     z = np.arange(1.0, 101.0)
-    cast = make_cast(depth=z, temperature=30.0 - 0.001 * z, salinity=40.0 + 0.001 * z,
-                     latitude=LAT, longitude=LON)
+    cast = make_cast(
+        depth=z,
+        temperature=30.0 - 0.001 * z,
+        salinity=40.0 + 0.001 * z,
+        latitude=LAT,
+        longitude=LON,
+    )
     prof = build_profile(cast, equation="teos10")
     import warnings
 
@@ -226,8 +269,9 @@ def test_replacement_salinity_for_a_failed_channel():
     # TEOS-10 via gsw, independently, at the replacement salinity (round-off agreement)
     t, p = prof["temperature"].values, prof["pressure"].values
     sa = gsw.SA_from_SP(35.1, p, LON, LAT)
-    np.testing.assert_allclose(prof["sound_speed"].values,
-                               gsw.sound_speed(sa, gsw.CT_from_t(sa, t, p), p), atol=1e-9)
+    np.testing.assert_allclose(
+        prof["sound_speed"].values, gsw.sound_speed(sa, gsw.CT_from_t(sa, t, p), p), atol=1e-9
+    )
     assert "salinity replaced: assumed constant 35.1" in prof.attrs["assumptions"]
     steps = [st["step"] for st in _cf.steps_of(prof.attrs)]
     assert steps.index("despike") < steps.index("replace_salinity")
@@ -244,8 +288,13 @@ def test_wild_pressure_is_flagged_quietly():
     p = np.arange(1.0, 200.0)
     p[80] = 1e9
     z = np.arange(1.0, 200.0)
-    cast = make_cast(pressure=p, temperature=6.0 + 14.0 * np.exp(-z / 100),
-                     salinity=35.0 + 0.001 * z, latitude=LAT, longitude=LON)
+    cast = make_cast(
+        pressure=p,
+        temperature=6.0 + 14.0 * np.exp(-z / 100),
+        salinity=35.0 + 0.001 * z,
+        latitude=LAT,
+        longitude=LON,
+    )
     with warnings.catch_warnings():
         warnings.simplefilter("error")  # no numpy overflow warning reaches the user
         prof = build_profile(cast)
@@ -283,14 +332,14 @@ def test_salinity_from_a_failed_conductivity_is_not_binned(tmp_path, path):
     s[k] -= 0.015
     c = gsw.C_from_SP(s, t, p)
     if path == "made":
-        cast = make_cast(pressure=p, temperature=t, conductivity=c, latitude=LAT,
-                         longitude=LON)
+        cast = make_cast(pressure=p, temperature=t, conductivity=c, latitude=LAT, longitude=LON)
     else:
         from seaprofile.casts.read import read_cast
 
         f = tmp_path / "conductivity.csv"
-        rows = "".join(f"{a!r},{b!r},{d!r}\n" for a, b, d in zip(p.tolist(), t.tolist(),
-                                                                  c.tolist()))
+        rows = "".join(
+            f"{a!r},{b!r},{d!r}\n" for a, b, d in zip(p.tolist(), t.tolist(), c.tolist())
+        )
         f.write_text(f"# latitude: {LAT}\n# longitude: {LON}\npres,temp,cond\n" + rows)
         cast = read_cast(f)
     prof = build_profile(cast)
@@ -310,8 +359,9 @@ def dense_cast_with_a_hole(top=100.0, bottom=400.0):
     z = z[(z < top) | (z > bottom)]
     t = 4.0 + 14.0 * np.exp(-z / 150.0)
     s = 35.0 - 0.4 * np.exp(-z / 150.0)
-    return make_cast(depth=z, temperature=t, salinity=s, latitude=LAT, longitude=LON,
-                     cast_name="invented-hole")
+    return make_cast(
+        depth=z, temperature=t, salinity=s, latitude=LAT, longitude=LON, cast_name="invented-hole"
+    )
 
 
 def test_data_loss_in_a_dense_cast_stays_missing_and_is_reported():
@@ -351,8 +401,13 @@ def test_data_loss_in_a_dense_cast_stays_missing_and_is_reported():
 
 def test_bottle_cast_stays_joined_with_the_default_gap_rule():
     z = np.arange(5.0, 500.0, 50.0)  # bottles 50 m apart: 3 x 50 m > each 49 m gap
-    cast = make_cast(depth=z, temperature=4.0 + 14.0 * np.exp(-z / 150.0),
-                     salinity=35.0 - 0.4 * np.exp(-z / 150.0), latitude=LAT, longitude=LON)
+    cast = make_cast(
+        depth=z,
+        temperature=4.0 + 14.0 * np.exp(-z / 150.0),
+        salinity=35.0 - 0.4 * np.exp(-z / 150.0),
+        latitude=LAT,
+        longitude=LON,
+    )
     import warnings
 
     from seaprofile.casts.binning import LargeGapWarning
@@ -439,8 +494,12 @@ def test_errors_name_the_argument():
     with pytest.raises(ArgumentError) as err:
         build_profile(cast, extend_to="bottom")
     assert err.value.argument == "extend_to"
-    speed = make_cast(depth=np.arange(1.0, 100.0), measured_sound_speed=1500 + 0.01 * np.arange(
-        1.0, 100.0), instrument="svp", latitude=LAT)
+    speed = make_cast(
+        depth=np.arange(1.0, 100.0),
+        measured_sound_speed=1500 + 0.01 * np.arange(1.0, 100.0),
+        instrument="svp",
+        latitude=LAT,
+    )
     with pytest.raises(ArgumentError) as err:
         build_profile(speed, extend_to=500.0)
     assert err.value.argument == "reference"
@@ -452,8 +511,13 @@ def test_interpolated_levels_counted_once_for_every_text():
     from seaprofile.profile import interpolated_levels
 
     z = np.arange(5.0, 300.0, 25.0)
-    cast = make_cast(depth=z, temperature=4.0 + 14.0 * np.exp(-z / 150.0),
-                     salinity=35.0 - 0.4 * np.exp(-z / 150.0), latitude=LAT, longitude=LON)
+    cast = make_cast(
+        depth=z,
+        temperature=4.0 + 14.0 * np.exp(-z / 150.0),
+        salinity=35.0 - 0.4 * np.exp(-z / 150.0),
+        latitude=LAT,
+        longitude=LON,
+    )
     prof = build_profile(cast)
     n, total = interpolated_levels(prof)
     assert n == int((prof["samples_per_bin"].values == 0).sum()) and total == prof.sizes["depth"]

@@ -111,15 +111,15 @@ def test_a_real_spike_on_a_sparse_cast_is_flagged_and_reported():
     # 500 dbar; a spike of 8 degC at 302 m exceeds it by 2 degC, far beyond the smooth
     # thermocline's own curvature between bottles 10 m apart
     t[30] += 8.0
-    cast = make_cast(depth=z, temperature=t, salinity=thermocline_s(z), latitude=LAT,
-                     longitude=LON)
+    cast = make_cast(depth=z, temperature=t, salinity=thermocline_s(z), latitude=LAT, longitude=LON)
     prof = build_profile(cast)
     i = int(np.searchsorted(prof["depth"].values, z[30]))
     assert prof["depth"].values[i] == pytest.approx(z[30])
     # the level is left out of the profile, estimated from its neighbours, and flagged 8
     assert prof["temperature_qc"].values[i] == _cf.ESTIMATED
     assert prof["temperature"].values[i] == pytest.approx(
-        np.interp(z[30], z[[29, 31]], t[[29, 31]]))
+        np.interp(z[30], z[[29, 31]], t[[29, 31]])
+    )
     # the reason and the count are on the record
     from seaprofile.casts.qc import qc_summary
 
@@ -131,8 +131,9 @@ def test_a_real_spike_on_a_sparse_cast_is_flagged_and_reported():
 @pytest.mark.parametrize("depths", [[0.0, 100.0], [0.0, 50.0, 100.0]])
 def test_isovelocity_planning_profiles_are_usable(depths):
     z = np.array(depths)
-    cast = make_cast(depth=z, measured_sound_speed=np.full(z.size, 1500.0),
-                     instrument="svp", latitude=LAT)
+    cast = make_cast(
+        depth=z, measured_sound_speed=np.full(z.size, 1500.0), instrument="svp", latitude=LAT
+    )
     prof = build_profile(cast)
     c = prof["sound_speed"].values
     assert np.all(c == 1500.0) and prof["depth"].values[[0, -1]].tolist() == [0.0, 100.0]
@@ -145,17 +146,25 @@ def test_isovelocity_planning_profiles_are_usable(depths):
 @pytest.mark.parametrize("n", [2, 3])
 def test_constant_temperature_salinity_planning_profile(n):
     z = np.linspace(0.0, 100.0, n)
-    cast = make_cast(depth=z, temperature=np.full(n, 10.0), salinity=np.full(n, 35.0),
-                     latitude=LAT, longitude=LON)
+    cast = make_cast(
+        depth=z,
+        temperature=np.full(n, 10.0),
+        salinity=np.full(n, 35.0),
+        latitude=LAT,
+        longitude=LON,
+    )
     prof = build_profile(cast, equation="teos10")
     at = np.searchsorted(prof["depth"].values, z)
     # TEOS-10 via gsw, independently (see above for the pressure tolerance)
-    np.testing.assert_allclose(prof["sound_speed"].values[at],
-                               teos10_sound_speed(np.full(n, 10.0), np.full(n, 35.0), z),
-                               atol=0.01)
+    np.testing.assert_allclose(
+        prof["sound_speed"].values[at],
+        teos10_sound_speed(np.full(n, 10.0), np.full(n, 35.0), z),
+        atol=0.01,
+    )
     assert (prof["temperature_qc"].values[at] == _cf.GOOD).all()
-    assert describe_assumptions(prof).endswith("levels interpolated linearly in depth "
-                                               "between measured ones (flag 8)")
+    assert describe_assumptions(prof).endswith(
+        "levels interpolated linearly in depth between measured ones (flag 8)"
+    )
 
 
 def test_dense_constant_speed_probe_is_not_condemned():
@@ -175,8 +184,9 @@ def test_dense_stuck_speed_probe_is_flagged():
     # so the Argo stuck-value test (doi:10.13155/33951, test 13) flags them bad (4) and
     # no level of the profile is usable
     z = np.arange(1.0, 150.0, 0.5)
-    cast = make_cast(depth=z, measured_sound_speed=np.full(z.size, 1480.0),
-                     instrument="svp", latitude=LAT)
+    cast = make_cast(
+        depth=z, measured_sound_speed=np.full(z.size, 1480.0), instrument="svp", latitude=LAT
+    )
     prof = build_profile(cast)
     assert qc_summary(prof)["stuck_value"]["measured_sound_speed"] == z.size
     assert not _cf.usable(prof["sound_speed"].values, prof["sound_speed_qc"].values).any()

@@ -22,9 +22,16 @@ from seaprofile.io.write import PRODUCTS, product_kind, register_product, write
 @pytest.fixture(scope="module")
 def cast():
     p = np.linspace(1.0, 300.0, 300)  # invented, synthetic
-    return make_cast(pressure=p, temperature=15.0 - 0.03 * p, salinity=35.0 + 0.001 * p,
-                     latitude=44.0, longitude=-20.0, time="2024-05-01T12:00:00",
-                     cast_name="synthetic-7", vessel="RV Invented Tern")
+    return make_cast(
+        pressure=p,
+        temperature=15.0 - 0.03 * p,
+        salinity=35.0 + 0.001 * p,
+        latitude=44.0,
+        longitude=-20.0,
+        time="2024-05-01T12:00:00",
+        cast_name="synthetic-7",
+        vessel="RV Invented Tern",
+    )
 
 
 @pytest.fixture(scope="module")
@@ -39,14 +46,12 @@ def env(profile):
 
 @pytest.fixture(scope="module")
 def fan(env):
-    return seaprofile.trace_fan(env, 50.0, np.linspace(-12.0, 12.0, 9), 4000.0,
-                                range_step=250.0)
+    return seaprofile.trace_fan(env, 50.0, np.linspace(-12.0, 12.0, 9), 4000.0, range_step=250.0)
 
 
 @pytest.fixture(scope="module")
 def arrivals(env):
-    return seaprofile.eigenrays(env, 50.0, [1500.0, 3000.0], [40.0, 120.0],
-                                max_reflections=2)
+    return seaprofile.eigenrays(env, 50.0, [1500.0, 3000.0], [40.0, 120.0], max_reflections=2)
 
 
 def _same_values(back, ds):
@@ -70,15 +75,23 @@ def _no_temporary_files(directory):
 
 def test_kinds_are_found_by_attribute_or_layout(cast, profile, fan, arrivals):
     assert [product_kind(d) for d in (cast, profile, fan, arrivals)] == [
-        "cast", "profile", "ray_fan", "path_table"]
+        "cast",
+        "profile",
+        "ray_fan",
+        "path_table",
+    ]
     assert product_kind([cast, cast]) == "cast"
     tagged = fan.copy()
     tagged.attrs["product"] = "ray_fan"
     assert product_kind(tagged) == "ray_fan"
     # eigenrays along a dimension named ``path`` (the PathTable record), invented values
-    table = xr.Dataset({"travel_time": ("path", [1.0, 1.2]),
-                        "path_count": (("receiver_range", "receiver_depth"), [[2]])},
-                       coords={"receiver_range": [1500.0], "receiver_depth": [40.0]})
+    table = xr.Dataset(
+        {
+            "travel_time": ("path", [1.0, 1.2]),
+            "path_count": (("receiver_range", "receiver_depth"), [[2]]),
+        },
+        coords={"receiver_range": [1500.0], "receiver_depth": [40.0]},
+    )
     assert product_kind(table) == "path_table"
 
 
@@ -133,8 +146,9 @@ def test_profile_round_trip(tmp_path, profile, suffix):
     np.testing.assert_array_equal(back["depth"].values, profile["depth"].values)
     # the speed table keeps 3 decimals (m/s): half a unit of the last digit
     tol = 5e-4 if suffix == ".speed.txt" else 0.0
-    np.testing.assert_allclose(back["sound_speed"].values, profile["sound_speed"].values,
-                               rtol=0, atol=tol)
+    np.testing.assert_allclose(
+        back["sound_speed"].values, profile["sound_speed"].values, rtol=0, atol=tol
+    )
     if suffix != ".speed.txt":
         assert back.attrs["equation"] == "chen_millero1977"
         assert "bin_cast" in back.attrs["processing_steps"]
@@ -213,12 +227,19 @@ def test_unknown_products_and_formats_name_the_argument(tmp_path, cast, profile,
 def test_registering_a_new_kind_writes_a_dataarray(tmp_path):
     from seaprofile.io.write import write_product_netcdf
 
-    loss = xr.DataArray(np.array([[60.0, 70.0], [65.0, np.nan]]), name="transmission_loss",
-                        dims=("range", "depth"),
-                        coords={"range": [1000.0, 2000.0], "depth": [10.0, 50.0]},
-                        attrs={"units": "dB", "product": "toy_field"})  # invented values
-    register_product("toy_field", description="toy field", detect=lambda ds: False,
-                     writers={"netcdf": write_product_netcdf})
+    loss = xr.DataArray(
+        np.array([[60.0, 70.0], [65.0, np.nan]]),
+        name="transmission_loss",
+        dims=("range", "depth"),
+        coords={"range": [1000.0, 2000.0], "depth": [10.0, 50.0]},
+        attrs={"units": "dB", "product": "toy_field"},
+    )  # invented values
+    register_product(
+        "toy_field",
+        description="toy field",
+        detect=lambda ds: False,
+        writers={"netcdf": write_product_netcdf},
+    )
     try:
         path = write(loss, tmp_path / "loss.nc")
     finally:

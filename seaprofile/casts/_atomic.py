@@ -30,6 +30,7 @@ def refuse_input_as_output(inputs, outputs):
         A path is the same file as another when both resolve to one path (symbolic links
         followed) or, for existing files, share device and inode (hard links).
     """
+
     def ident(p):
         try:
             st = os.stat(p)
@@ -44,8 +45,10 @@ def refuse_input_as_output(inputs, outputs):
     for out in outputs:
         hit = seen.get(ident(out)) or seen.get(("path", os.path.realpath(out)))
         if hit is not None:
-            raise SeaprofileError(f"{out}: is the input file {hit}; an input is never "
-                                  "overwritten, choose another output name or directory")
+            raise SeaprofileError(
+                f"{out}: is the input file {hit}; an input is never "
+                "overwritten, choose another output name or directory"
+            )
 
 
 class _Terminated(BaseException):
@@ -107,7 +110,8 @@ def atomic_write(path, overwrite, fill):
                 os.link(tmp, path)
             except FileExistsError:
                 raise SeaprofileError(
-                    f"{path}: exists; pass overwrite=True (--overwrite) to replace it") from None
+                    f"{path}: exists; pass overwrite=True (--overwrite) to replace it"
+                ) from None
             except OSError:  # file systems without hard links
                 os.replace(tmp, path)
             else:

@@ -61,7 +61,8 @@ def cast_latitude(ds, latitude):
         raise ArgumentError("latitude", f"must be degrees north, got {latitude!r}") from None
     if not np.isfinite(lat):
         raise ArgumentError(
-            "latitude", "unknown: the cast has no position; give the latitude (degrees north)")
+            "latitude", "unknown: the cast has no position; give the latitude (degrees north)"
+        )
     if abs(lat) > 90.0:
         raise ArgumentError("latitude", f"must lie within -90..90 degrees, got {lat:g}")
     return lat
@@ -82,8 +83,11 @@ def usable_sound_speed(profile):
         One value per depth level.
     """
     c = np.asarray(profile["sound_speed"].values, np.float64)
-    f = (profile["sound_speed_qc"].values if "sound_speed_qc" in profile
-         else np.zeros(c.size, np.int8))
+    f = (
+        profile["sound_speed_qc"].values
+        if "sound_speed_qc" in profile
+        else np.zeros(c.size, np.int8)
+    )
     return _cf.usable(c, f)
 
 
@@ -97,8 +101,13 @@ def exceeds_earlier(q):
 def with_variable(ds, dim, name, values, flags, **extra):
     """A copy of ``ds`` with variable ``name`` (CF attributes, ``extra`` added to them) and
     its flags ``<name>_qc`` along ``dim``."""
-    return ds.assign({
-        name: ((dim,), np.asarray(values, np.float64),
-               _cf.attrs_for(name, ancillary_variables=f"{name}_qc", **extra)),
-        f"{name}_qc": ((dim,), np.asarray(flags, np.int8), _cf.flag_attrs(name)),
-    })
+    return ds.assign(
+        {
+            name: (
+                (dim,),
+                np.asarray(values, np.float64),
+                _cf.attrs_for(name, ancillary_variables=f"{name}_qc", **extra),
+            ),
+            f"{name}_qc": ((dim,), np.asarray(flags, np.int8), _cf.flag_attrs(name)),
+        }
+    )

@@ -250,8 +250,9 @@ def _gradient(w, variables=None, thresholds=None):
     w.apply(_neighbour_test(w, variables, thresholds, "gradient"), "gradient")
 
 
-def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES,
-                min_span=STUCK_MIN_SPAN):
+def stuck_value(
+    ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES, min_span=STUCK_MIN_SPAN
+):
     """Flag a sensor that reports one value throughout.
 
     Parameters
@@ -289,8 +290,9 @@ def stuck_value(ds, variables=None, run_length=None, min_values=STUCK_MIN_VALUES
     -----
     Argo QC manual (doi:10.13155/33951), real-time test 13 "stuck value".
     """
-    return _single(_stuck_value)(ds, variables=variables, run_length=run_length,
-                                 min_values=min_values, min_span=min_span)
+    return _single(_stuck_value)(
+        ds, variables=variables, run_length=run_length, min_values=min_values, min_span=min_span
+    )
 
 
 def _vertical_span(ds, idx):
@@ -304,8 +306,9 @@ def _vertical_span(ds, idx):
     return 0.0
 
 
-def _stuck_value(w, variables=None, run_length=None, min_values=STUCK_MIN_VALUES,
-                 min_span=STUCK_MIN_SPAN):
+def _stuck_value(
+    w, variables=None, run_length=None, min_values=STUCK_MIN_VALUES, min_span=STUCK_MIN_SPAN
+):
     default = ("temperature", "salinity", "conductivity", "measured_sound_speed")
     hits, runs = {}, {}
     for var in _present(w.ds, variables, default):
@@ -313,8 +316,9 @@ def _stuck_value(w, variables=None, run_length=None, min_values=STUCK_MIN_VALUES
         idx = np.flatnonzero(ok)
         v = values[idx]
         whole = np.zeros(values.size, bool)
-        spans = (var != "measured_sound_speed"
-                 or (idx.size and _vertical_span(w.ds, idx) >= float(min_span)))
+        spans = var != "measured_sound_speed" or (
+            idx.size and _vertical_span(w.ds, idx) >= float(min_span)
+        )
         if idx.size >= max(2, int(min_values)) and spans and np.all(v == v[0]):
             whole[idx] = True
         hits[var] = whole
@@ -411,9 +415,12 @@ def _density_inversion(w, threshold=0.03):
         lat, lon = position(ds)
         known = np.isfinite(lat) and np.isfinite(lon)
         with np.errstate(over="ignore", invalid="ignore"):
-            sigma = np.asarray(potential_density_anomaly(
-                t[order], s[order], p[order], lat if known else None, lon if known else None),
-                dtype=np.float64)
+            sigma = np.asarray(
+                potential_density_anomaly(
+                    t[order], s[order], p[order], lat if known else None, lon if known else None
+                ),
+                dtype=np.float64,
+            )
         bad[order[_inversion_kernel(sigma, float(threshold))]] = True
     w.apply({"temperature": bad, "salinity": bad.copy()}, "density_inversion")
 

@@ -17,8 +17,17 @@ from .columns import KIND, checked_time
 from .model import INSTRUMENTS, make_cast
 from .xbt import DEFAULT_SALINITY, add_variable, assumed_salinity, complete_xbt_cast
 
-_CAST_KWARGS = {"latitude", "longitude", "time", "instrument", "cast_name", "vessel",
-                "source_file", "profile_id", *KIND}
+_CAST_KWARGS = {
+    "latitude",
+    "longitude",
+    "time",
+    "instrument",
+    "cast_name",
+    "vessel",
+    "source_file",
+    "profile_id",
+    *KIND,
+}
 
 
 @dataclass
@@ -39,8 +48,16 @@ def file_stem(path):
     from .write import FORMATS
 
     name = path.name
-    ext = max((e for exts in FORMATS.values() for e in exts
-               if name.lower().endswith(e) and len(name) > len(e)), key=len, default=None)
+    ext = max(
+        (
+            e
+            for exts in FORMATS.values()
+            for e in exts
+            if name.lower().endswith(e) and len(name) > len(e)
+        ),
+        key=len,
+        default=None,
+    )
     return name[: -len(ext)] if ext else path.stem
 
 
@@ -65,8 +82,9 @@ def _flag_values(values, path, t=None, j=None):
     if bad.any():
         k = int(np.flatnonzero(bad)[0])
         where = (int(t.lines[k]), t.label(j)) if t is not None else (None, j)
-        raise InputFileError(path, f"expected an Argo flag {_cf.FLAG_VALUES.tolist()}, got "
-                             f"{values[k]:g}", *where)
+        raise InputFileError(
+            path, f"expected an Argo flag {_cf.FLAG_VALUES.tolist()}, got {values[k]:g}", *where
+        )
     return v.astype(np.int8)
 
 
@@ -82,9 +100,17 @@ def _finish(raw, path, *, instrument, latitude, longitude, salinity, fall_rate):
     extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS}
     try:
         name = meta.get("cast_name") or meta.get("profile_id") or file_stem(path)
-        cast = make_cast(**raw.data, latitude=lat, longitude=lon, time=meta.get("time"),
-                         instrument=inst, cast_name=name,
-                         vessel=meta.get("vessel", ""), source_file=str(path), **extra)
+        cast = make_cast(
+            **raw.data,
+            latitude=lat,
+            longitude=lon,
+            time=meta.get("time"),
+            instrument=inst,
+            cast_name=name,
+            vessel=meta.get("vessel", ""),
+            source_file=str(path),
+            **extra,
+        )
     except SeaprofileError as exc:
         raise InputFileError(path, str(exc)) from None
     for var in raw.data:
@@ -93,9 +119,15 @@ def _finish(raw, path, *, instrument, latitude, longitude, salinity, fall_rate):
         cast[f"{var}_qc"].values[...] = np.where(missing, _cf.MISSING, qc)
     cast.attrs["ignored_columns"] = ", ".join(raw.ignored)
     cast.attrs = _cf.record_step(
-        cast.attrs, "read_cast", source_file=str(path), file_format=raw.file_format,
-        columns=raw.column_map, unit_conversions=raw.conversions, ignored_columns=raw.ignored,
-        missing_values={v: int(np.count_nonzero(~np.isfinite(a))) for v, a in raw.data.items()})
+        cast.attrs,
+        "read_cast",
+        source_file=str(path),
+        file_format=raw.file_format,
+        columns=raw.column_map,
+        unit_conversions=raw.conversions,
+        ignored_columns=raw.ignored,
+        missing_values={v: int(np.count_nonzero(~np.isfinite(a))) for v, a in raw.data.items()},
+    )
     return _derive(cast, inst, salinity, fall_rate)
 
 
@@ -105,19 +137,24 @@ def _check_needs(path, inst, data, salinity):
     found = f"; found {sorted(have)}"
     if inst == "xbt":
         if "temperature" not in have or not (vertical or "elapsed_time" in have):
-            raise InputFileError(path, "an expendable-probe cast needs temperature and "
-                                 "elapsed time (or depth)" + found)
+            raise InputFileError(
+                path,
+                "an expendable-probe cast needs temperature and elapsed time (or depth)" + found,
+            )
     elif inst == "svp":
         if "measured_sound_speed" not in have or not vertical:
-            raise InputFileError(path, "a sound-speed probe cast needs sound speed and "
-                                 "pressure or depth" + found)
+            raise InputFileError(
+                path, "a sound-speed probe cast needs sound speed and pressure or depth" + found
+            )
     else:
         if "temperature" not in have or not vertical:
-            raise InputFileError(path, "a CTD cast needs temperature and pressure or depth"
-                                 + found)
+            raise InputFileError(path, "a CTD cast needs temperature and pressure or depth" + found)
         if not have & {"salinity", "conductivity"} and salinity is None:
-            raise InputFileError(path, "a CTD cast needs salinity or conductivity (or give "
-                                 "salinity= to assume one)" + found)
+            raise InputFileError(
+                path,
+                "a CTD cast needs salinity or conductivity (or give "
+                "salinity= to assume one)" + found,
+            )
         if "conductivity" in have and "salinity" not in have and "pressure" not in have:
             raise InputFileError(path, "salinity from conductivity needs pressure" + found)
 
@@ -131,8 +168,11 @@ def _derive(cast, inst, salinity, fall_rate):
         sal = DEFAULT_SALINITY if salinity is None else salinity
         return complete_xbt_cast(cast, fall_rate=fall_rate, salinity=sal)
     if salinity is not None and "salinity" not in cast and "conductivity" not in cast:
-        z, note = ((cast["depth"].values, "") if "depth" in cast else
-                   (cast["pressure"].values, " (pressure in dbar taken as depth in m)"))
+        z, note = (
+            (cast["depth"].values, "")
+            if "depth" in cast
+            else (cast["pressure"].values, " (pressure in dbar taken as depth in m)")
+        )
         values, desc = assumed_salinity(z, salinity)
         cast = add_variable(cast, "salinity", values, comment=desc + note)
         cast.attrs.update(salinity_assumed="yes", salinity_source=desc + note)
@@ -140,10 +180,13 @@ def _derive(cast, inst, salinity, fall_rate):
     return cast
 
 
-
 #: Cast variables a foreign depth / sound-speed table may carry into a Profile
-_PROFILE_VARIABLES = {"measured_sound_speed": "sound_speed", "temperature": "temperature",
-                      "salinity": "salinity", "pressure": "pressure"}
+_PROFILE_VARIABLES = {
+    "measured_sound_speed": "sound_speed",
+    "temperature": "temperature",
+    "salinity": "salinity",
+    "pressure": "pressure",
+}
 
 
 def _raw_profile(raw, path, lines=None):
@@ -155,16 +198,22 @@ def _raw_profile(raw, path, lines=None):
     from xarray import Dataset
 
     if "depth" not in raw.data or "measured_sound_speed" not in raw.data:
-        raise InputFileError(path, "a profile needs depth (m) and sound speed (m/s); found "
-                             f"{sorted(raw.data)}; map them with columns=")
+        raise InputFileError(
+            path,
+            "a profile needs depth (m) and sound speed (m/s); found "
+            f"{sorted(raw.data)}; map them with columns=",
+        )
     z = raw.data["depth"]
     bad = np.flatnonzero(~np.isfinite(z) | (np.diff(z, prepend=-np.inf) <= 0))
     if bad.size:
         k = int(bad[0])
         what = "is missing" if not np.isfinite(z[k]) else f"{z[k]:g} does not increase"
-        raise InputFileError(path, f"depth {what}: a profile needs depths increasing from "
-                             "row to row", None if lines is None else int(lines[k]),
-                             raw.column_map.get("depth"))
+        raise InputFileError(
+            path,
+            f"depth {what}: a profile needs depths increasing from row to row",
+            None if lines is None else int(lines[k]),
+            raw.column_map.get("depth"),
+        )
     meta = dict(raw.meta)
     data = {}
     for var, name in _PROFILE_VARIABLES.items():
@@ -184,11 +233,21 @@ def _raw_profile(raw, path, lines=None):
         "profile_id": ((), name, _cf.attrs_for("profile_id")),
     }
     extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS and k != "instrument"}
-    attrs = _cf.base_attrs(featureType="profile", equation="measured", cast_name=name,
-                           source_file=str(path),
-                           cast_max_depth=float(z[good[-1]]) if good.size else float("nan"),
-                           **extra)
-    attrs = _cf.record_step(attrs, "read_profile", source_file=str(path),
-                            file_format=raw.file_format, columns=raw.column_map,
-                            unit_conversions=raw.conversions, ignored_columns=raw.ignored)
+    attrs = _cf.base_attrs(
+        featureType="profile",
+        equation="measured",
+        cast_name=name,
+        source_file=str(path),
+        cast_max_depth=float(z[good[-1]]) if good.size else float("nan"),
+        **extra,
+    )
+    attrs = _cf.record_step(
+        attrs,
+        "read_profile",
+        source_file=str(path),
+        file_format=raw.file_format,
+        columns=raw.column_map,
+        unit_conversions=raw.conversions,
+        ignored_columns=raw.ignored,
+    )
     return Dataset(data, coords=coords, attrs=attrs)

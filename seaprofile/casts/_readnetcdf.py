@@ -16,10 +16,10 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
+from ._readcast import _flag_values, _Raw, _raw_profile
 from .columns import KIND, checked_time, parse_unit, recognise_column
 from .model import INSTRUMENTS
 from .write import NETCDF_LOCK
-from ._readcast import _flag_values, _raw_profile, _Raw
 
 #: what an unexpected file layout raises deep inside the split (turned into one
 #: InputFileError naming the file: a batch never stops on a traceback)
@@ -117,8 +117,10 @@ def _check_not_truncated(path):
         return
     end = _classic_data_end(head)
     if end is not None and size < end:
-        raise InputFileError(path, f"truncated netCDF file: its header describes {end} bytes "
-                             f"of data, the file has {size}")
+        raise InputFileError(
+            path,
+            f"truncated netCDF file: its header describes {end} bytes of data, the file has {size}",
+        )
 
 
 def _open_netcdf(path):
@@ -135,14 +137,17 @@ def _open_netcdf(path):
 
 def _layout_guard(read):
     """Run ``read(path, ...)``; an unexpected layout error becomes one InputFileError."""
+
     def guarded(path, *args):
         try:
             return read(path, *args)
         except SeaprofileError:
             raise
         except _LAYOUT_ERRORS as exc:
-            raise InputFileError(path, f"unexpected netCDF layout ({type(exc).__name__}: "
-                                 f"{exc})") from None
+            raise InputFileError(
+                path, f"unexpected netCDF layout ({type(exc).__name__}: {exc})"
+            ) from None
+
     guarded.__doc__ = read.__doc__
     return guarded
 
@@ -158,53 +163,77 @@ def _netcdf_split(ds, path, data_names=()):
     index = [v for v in ds.variables if "instance_dimension" in ds[v].attrs]
     if count:
         if ds[count[0]].ndim != 1:
-            raise InputFileError(path, f"{count[0]!r} must have one dimension (profiles), "
-                                 f"has {ds[count[0]].dims}", column=count[0])
+            raise InputFileError(
+                path,
+                f"{count[0]!r} must have one dimension (profiles), has {ds[count[0]].dims}",
+                column=count[0],
+            )
         inst, obs = ds[count[0]].dims[0], ds[count[0]].attrs["sample_dimension"]
         sizes = np.asarray(ds[count[0]].values, dtype=np.float64)
         if not sizes.size:
-            raise InputFileError(path, f"holds no profiles (dimension {inst!r} is empty)",
-                                 column=count[0])
+            raise InputFileError(
+                path, f"holds no profiles (dimension {inst!r} is empty)", column=count[0]
+            )
         if not np.all(np.isfinite(sizes) & (sizes >= 0) & (sizes == np.round(sizes))):
-            raise InputFileError(path, f"row sizes in {count[0]!r} must be whole numbers "
-                                 "0 or more", column=count[0])
+            raise InputFileError(
+                path, f"row sizes in {count[0]!r} must be whole numbers 0 or more", column=count[0]
+            )
         ends = np.cumsum(sizes.astype(np.int64))
         if obs not in ds.dims or ends[-1] != ds.sizes[obs]:
-            raise InputFileError(path, f"row sizes in {count[0]!r} add up to {ends[-1]}, but "
-                                 f"dimension {obs!r} has {ds.sizes.get(obs)} samples",
-                                 column=count[0])
+            raise InputFileError(
+                path,
+                f"row sizes in {count[0]!r} add up to {ends[-1]}, but "
+                f"dimension {obs!r} has {ds.sizes.get(obs)} samples",
+                column=count[0],
+            )
         select = [slice(int(e - n), int(e)) for e, n in zip(ends, ds[count[0]].values)]
     elif index:
         if ds[index[0]].ndim != 1:
-            raise InputFileError(path, f"{index[0]!r} must have one dimension (samples), "
-                                 f"has {ds[index[0]].dims}", column=index[0])
+            raise InputFileError(
+                path,
+                f"{index[0]!r} must have one dimension (samples), has {ds[index[0]].dims}",
+                column=index[0],
+            )
         inst, obs = ds[index[0]].attrs["instance_dimension"], ds[index[0]].dims[0]
         idx = np.asarray(ds[index[0]].values)
         if inst not in ds.dims:
-            raise InputFileError(path, f"instance dimension {inst!r} not in the file",
-                                 column=index[0])
+            raise InputFileError(
+                path, f"instance dimension {inst!r} not in the file", column=index[0]
+            )
         select = [np.flatnonzero(idx == i) for i in range(ds.sizes[inst])]
     else:
         inst = ds[role[0]].dims[0] if role and ds[role[0]].ndim == 1 else None
-        two_d = [v for v in ds.data_vars if inst is not None and ds[v].ndim == 2
-                 and inst in ds[v].dims]
+        two_d = [
+            v for v in ds.data_vars if inst is not None and ds[v].ndim == 2 and inst in ds[v].dims
+        ]
         if two_d:
             obs = [d for d in ds[two_d[0]].dims if d != inst][0]
             select = [i for i in range(ds.sizes[inst])]
         else:
             for name in data_names:
                 if ds[name].ndim != 1:
-                    raise InputFileError(path, f"{name!r} has dimensions {ds[name].dims}; "
-                                         "expected one dimension of samples (or a CF "
-                                         "discrete-sampling-geometry profile collection)",
-                                         column=name)
-            data = [v for v in ds.variables if ds[v].ndim == 1 and ds[v].dims[0] != inst
-                    and (ds[v].attrs.get("standard_name") in STANDARD_NAMES
-                         or v in data_names)]
+                    raise InputFileError(
+                        path,
+                        f"{name!r} has dimensions {ds[name].dims}; "
+                        "expected one dimension of samples (or a CF "
+                        "discrete-sampling-geometry profile collection)",
+                        column=name,
+                    )
+            data = [
+                v
+                for v in ds.variables
+                if ds[v].ndim == 1
+                and ds[v].dims[0] != inst
+                and (ds[v].attrs.get("standard_name") in STANDARD_NAMES or v in data_names)
+            ]
             if not data:
-                raise InputFileError(path, "no variable with a recognised standard_name ("
-                                     + ", ".join(STANDARD_NAMES) + "); map variables with "
-                                     "columns=, e.g. temperature=TEMP,pressure=PRES")
+                raise InputFileError(
+                    path,
+                    "no variable with a recognised standard_name ("
+                    + ", ".join(STANDARD_NAMES)
+                    + "); map variables with "
+                    "columns=, e.g. temperature=TEMP,pressure=PRES",
+                )
             obs = ds[data[0]].dims[0]
             inst, select = None, [slice(None)]
     if inst is not None and not select:
@@ -223,8 +252,9 @@ def _netcdf_split(ds, path, data_names=()):
             elif dims == ():
                 inst_vals[name] = var.values[()]
         if not (count or index) and inst is not None:  # drop trailing padding
-            rows = [v for k, v in s.items() if set(ds[k].dims) == {inst, obs}
-                    and v.dtype.kind == "f"]
+            rows = [
+                v for k, v in s.items() if set(ds[k].dims) == {inst, obs} and v.dtype.kind == "f"
+            ]
             keep = np.any(np.isfinite(np.vstack(rows)), axis=0) if rows else None
             if keep is not None and keep.any():
                 last = int(np.flatnonzero(keep)[-1]) + 1
@@ -271,10 +301,16 @@ def _own_attrs(inst_vals, path):
         own = json.loads(_text(text))
     except (ValueError, RecursionError):
         own = None
-    if not (isinstance(own, dict) and isinstance(own.get("attributes"), dict)
-            and isinstance(own.get("variables"), list)):
-        raise InputFileError(path, "profile_attributes is not the JSON seaprofile writes",
-                             column="profile_attributes")
+    if not (
+        isinstance(own, dict)
+        and isinstance(own.get("attributes"), dict)
+        and isinstance(own.get("variables"), list)
+    ):
+        raise InputFileError(
+            path,
+            "profile_attributes is not the JSON seaprofile writes",
+            column="profile_attributes",
+        )
     return own
 
 
@@ -283,9 +319,13 @@ def _netcdf_raw_casts(path, columns, units):
     """Casts found in a netCDF file (``columns``/``units`` map variable names, as for text)."""
     positional = [f"{p}={v}" for v, p in columns.items() if isinstance(p, int)]
     if positional:
-        raise InputFileError(path, f"columns: {', '.join(positional)} maps by position, which "
-                             "applies to text files; name the netCDF variables, e.g. "
-                             "temperature=TEMP", column=positional[0])
+        raise InputFileError(
+            path,
+            f"columns: {', '.join(positional)} maps by position, which "
+            "applies to text files; name the netCDF variables, e.g. "
+            "temperature=TEMP",
+            column=positional[0],
+        )
     ds = _open_netcdf(path)
     chosen = {}
     for name, var in ds.variables.items():
@@ -302,9 +342,12 @@ def _netcdf_raw_casts(path, columns, units):
         if guess is None or guess in columns:
             continue
         if guess in chosen:
-            raise InputFileError(path, f"variables {chosen[guess]!r} and {name!r} are both "
-                                 f"{guess}; choose one with columns={{'{guess}': ...}}",
-                                 column=name)
+            raise InputFileError(
+                path,
+                f"variables {chosen[guess]!r} and {name!r} are both "
+                f"{guess}; choose one with columns={{'{guess}': ...}}",
+                column=name,
+            )
         chosen[guess] = name
     for var, name in columns.items():
         if name not in ds.variables:
@@ -321,24 +364,31 @@ def _netcdf_raw_casts(path, columns, units):
         meta.update(own["attributes"] if own else {})
         for var, name in chosen.items():
             if name not in s and var in columns:
-                raise InputFileError(path, f"columns: {var}={name!r} has dimensions "
-                                     f"{ds[name].dims}, not those of the samples", column=name)
+                raise InputFileError(
+                    path,
+                    f"columns: {var}={name!r} has dimensions "
+                    f"{ds[name].dims}, not those of the samples",
+                    column=name,
+                )
             if name not in s or (own is not None and var not in own["variables"]):
                 continue
             values = np.asarray(s[name], dtype=np.float64)
             unit_text = units.get(var, ds[name].attrs.get("units"))
             unit = parse_unit(unit_text) if unit_text is not None else None
             if unit_text is not None and (unit is None or unit.kind != KIND[var]):
-                raise InputFileError(path, f"units {unit_text!r} of {name!r} are not a "
-                                     f"{KIND[var]} unit", column=name)
+                raise InputFileError(
+                    path, f"units {unit_text!r} of {name!r} are not a {KIND[var]} unit", column=name
+                )
             if unit is not None and not unit.identity:
                 values = values * unit.scale + unit.offset
                 raw.conversions[var] = unit.describe()
             raw.data[var] = values
             raw.column_map[var] = name
             for anc in ds[name].attrs.get("ancillary_variables", "").split():
-                if anc in s and ("flag_values" in ds[anc].attrs or "status_flag"
-                                 in ds[anc].attrs.get("standard_name", "")):
+                if anc in s and (
+                    "flag_values" in ds[anc].attrs
+                    or "status_flag" in ds[anc].attrs.get("standard_name", "")
+                ):
                     raw.flags[var] = _flag_values(np.asarray(s[anc], np.float64), path, None, anc)
                     break
         raw.meta = {k: v for k, v in meta.items() if k not in ("latitude", "longitude")}
@@ -360,11 +410,14 @@ def _netcdf_own_datasets(path, columns=None, units=None):
     """
     ds = _open_netcdf(path)
     if "profile_attributes" not in ds.variables:
-        return [_raw_profile(raw, path) for raw in _netcdf_raw_casts(path, columns or {},
-                                                                      units or {})]
+        return [
+            _raw_profile(raw, path) for raw in _netcdf_raw_casts(path, columns or {}, units or {})
+        ]
     if columns or units:
-        raise InputFileError(path, "written by seaprofile: its variables are known, read it "
-                             "without columns= or units=")
+        raise InputFileError(
+            path,
+            "written by seaprofile: its variables are known, read it without columns= or units=",
+        )
     samples, instances, role = _netcdf_split(ds, path)
     out = []
     for s, inst_vals in zip(samples, instances):
@@ -373,8 +426,11 @@ def _netcdf_own_datasets(path, columns=None, units=None):
             raise InputFileError(path, "not written by seaprofile (no profile_attributes)")
         dim = own["dimension"]
         if dim not in ("sample", "depth") or role is None:
-            raise InputFileError(path, "profile_attributes is not the JSON seaprofile writes",
-                                 column="profile_attributes")
+            raise InputFileError(
+                path,
+                "profile_attributes is not the JSON seaprofile writes",
+                column="profile_attributes",
+            )
         meta = _instance_meta(ds, inst_vals, s, role, path)
         t = meta.get("time")
         coords = {
@@ -393,4 +449,3 @@ def _netcdf_own_datasets(path, columns=None, units=None):
                 data[name] = (dim, values, attrs)
         out.append(xr.Dataset(data, coords=coords, attrs=own["attributes"]))
     return out
-

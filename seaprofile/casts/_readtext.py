@@ -22,12 +22,20 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
-from .columns import (KIND, META_KEYS, MISSING_TOKENS, normalise_name, parse_position,
-                      parse_time, parse_unit, recognise_column, split_header)
-from .model import INSTRUMENTS
 from ._readcast import _flag_values, _Raw, file_stem
 from ._readnumbers import parse_block
-
+from .columns import (
+    KIND,
+    META_KEYS,
+    MISSING_TOKENS,
+    normalise_name,
+    parse_position,
+    parse_time,
+    parse_unit,
+    recognise_column,
+    split_header,
+)
+from .model import INSTRUMENTS
 
 #: characters a plain numeric block may hold (besides its delimiter) for the one-call parse:
 #: digits, sign, decimal point, exponent, the letters of "nan", spaces, tabs and newlines
@@ -74,8 +82,7 @@ class _Table:
             if odd.size:  # "nan" is a missing spelling; "-nan" is not: check the text
                 rows = _Lines([self.texts[k].strip() for k in odd], self.lines[odd])
                 cells = [r[j] for r in self.split(rows)]
-                values[odd] = _cells_to_numbers(self.path, cells, self.lines[odd],
-                                                self.label(j))
+                values[odd] = _cells_to_numbers(self.path, cells, self.lines[odd], self.label(j))
         else:
             cells = [r[j] for r in self.rows]
             if self.decimal_comma:
@@ -103,8 +110,9 @@ def _cells_to_numbers(path, cells, lines, label):
             except ValueError:
                 ok = False
             if not ok:
-                raise InputFileError(path, f"expected a number, got {str(s)!r}",
-                                     int(lines[k]), label)
+                raise InputFileError(
+                    path, f"expected a number, got {str(s)!r}", int(lines[k]), label
+                )
     return values
 
 
@@ -129,8 +137,9 @@ def _plain_numbers(texts, delim, width):
     if values is not None:
         return values
     try:
-        values = np.loadtxt(texts, dtype=np.float64, delimiter=delim, comments=None,
-                            quotechar=None, ndmin=2)
+        values = np.loadtxt(
+            texts, dtype=np.float64, delimiter=delim, comments=None, quotechar=None, ndmin=2
+        )
     except ValueError:
         return None
     if values.shape[0] != len(texts) or (width is not None and values.shape[1] != width):
@@ -138,8 +147,13 @@ def _plain_numbers(texts, delim, width):
     return values
 
 
-_BOMS = ((b"\x00\x00\xfe\xff", "utf-32-be"), (b"\xff\xfe\x00\x00", "utf-32-le"),
-         (b"\xef\xbb\xbf", "utf-8-sig"), (b"\xfe\xff", "utf-16-be"), (b"\xff\xfe", "utf-16-le"))
+_BOMS = (
+    (b"\x00\x00\xfe\xff", "utf-32-be"),
+    (b"\xff\xfe\x00\x00", "utf-32-le"),
+    (b"\xef\xbb\xbf", "utf-8-sig"),
+    (b"\xfe\xff", "utf-16-be"),
+    (b"\xff\xfe", "utf-16-le"),
+)
 #: control characters that never occur in a text cast (tab, newline, carriage return are fine)
 _CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 _DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+$")
@@ -165,14 +179,18 @@ def _decode(path, raw):
         text = raw.decode(enc or "utf-8")
     except UnicodeDecodeError as exc:
         line = raw[: exc.start].count(b"\n") + 1 if enc in (None, "utf-8-sig") else None
-        raise InputFileError(path, f"not {(enc or 'UTF-8').upper().replace('-SIG', '')} text "
-                             f"(undecodable byte at offset {exc.start}); save it as UTF-8",
-                             line) from None
+        raise InputFileError(
+            path,
+            f"not {(enc or 'UTF-8').upper().replace('-SIG', '')} text "
+            f"(undecodable byte at offset {exc.start}); save it as UTF-8",
+            line,
+        ) from None
     bad = _CONTROL.search(text)
     if bad:
         line = text.count("\n", 0, bad.start()) + 1
-        raise InputFileError(path, f"binary data, not text (control character "
-                             f"U+{ord(bad.group()):04X})", line)
+        raise InputFileError(
+            path, f"binary data, not text (control character U+{ord(bad.group()):04X})", line
+        )
     return text.lstrip("\ufeff"), (enc or "utf-8").replace("-sig", "")
 
 
@@ -197,13 +215,15 @@ def _splitter(path, delim):
         try:
             return [[c.strip() for c in r] for r in csv.reader(items, delimiter=delim)]
         except csv.Error as exc:
-            for k, item in enumerate(items):  # find the row (items keep their order)
+            for k, item in enumerate(items):  # noqa: B007  (k names the bad row below)
                 try:
                     list(csv.reader([item], delimiter=delim))
                 except csv.Error:
                     break
-            raise InputFileError(path, f"cannot split the row: {exc}",
-                                 getattr(items, "line_of", lambda k: None)(k)) from None
+            raise InputFileError(
+                path, f"cannot split the row: {exc}", getattr(items, "line_of", lambda k: None)(k)
+            ) from None
+
     return split
 
 
@@ -264,8 +284,18 @@ def _parse_text(path, delimiter, header=None):
     if plain is not None:  # fast path: consecutive plain rows
         headers = headers or [f"column {j + 1}" for j in range(plain.shape[1])]
         lines = np.arange(start + 1, start + 1 + len(texts), dtype=np.int64)
-        return _Table(path, meta, headers, header_line, _Lines(texts, lines), lines, split,
-                      plain, encoding=encoding, decimal_comma=delim != ",")
+        return _Table(
+            path,
+            meta,
+            headers,
+            header_line,
+            _Lines(texts, lines),
+            lines,
+            split,
+            plain,
+            encoding=encoding,
+            decimal_comma=delim != ",",
+        )
     # careful path: blank and comment lines skipped, every row checked
     rows, lines = [], []
     for i, line in enumerate(texts, start + 1):
@@ -281,16 +311,41 @@ def _parse_text(path, delimiter, header=None):
     bad = np.flatnonzero(lengths != n)
     if bad.size:
         k = int(bad[0])
-        raise InputFileError(path, f"expected {n} fields as in the "
-                             f"{'header' if head else 'first row'}, got {lengths[k]} "
-                             "(ragged row)", lines[k], min(int(lengths[k]), n) + 1)
-    return _Table(path, meta, headers, header_line, rows, np.asarray(lines, dtype=np.int64),
-                  split, None, cells, encoding=encoding, decimal_comma=delim != ",")
+        raise InputFileError(
+            path,
+            f"expected {n} fields as in the "
+            f"{'header' if head else 'first row'}, got {lengths[k]} "
+            "(ragged row)",
+            lines[k],
+            min(int(lengths[k]), n) + 1,
+        )
+    return _Table(
+        path,
+        meta,
+        headers,
+        header_line,
+        rows,
+        np.asarray(lines, dtype=np.int64),
+        split,
+        None,
+        cells,
+        encoding=encoding,
+        decimal_comma=delim != ",",
+    )
 
 
 def _delimiter(path, given, line):
-    names = {",": ",", "comma": ",", "\t": "\t", "tab": "\t", ";": ";", "semicolon": ";",
-             "whitespace": None, " ": None, "space": None}
+    names = {
+        ",": ",",
+        "comma": ",",
+        "\t": "\t",
+        "tab": "\t",
+        ";": ";",
+        "semicolon": ";",
+        "whitespace": None,
+        " ": None,
+        "space": None,
+    }
     if given is not None:
         if given not in names:
             raise SeaprofileError(f"delimiter must be one of {sorted(names)}, got {given!r}")
@@ -386,18 +441,29 @@ def _column_index(t, var, head):
     """The index of the column ``head`` (a header cell, or a 1-based position)."""
     if isinstance(head, int):
         if head > len(t.headers):
-            raise InputFileError(t.path, f"columns: {var} is column {head}, but the rows have "
-                                 f"{len(t.headers)} columns", t.header_line or int(t.lines[0]))
+            raise InputFileError(
+                t.path,
+                f"columns: {var} is column {head}, but the rows have {len(t.headers)} columns",
+                t.header_line or int(t.lines[0]),
+            )
         return head - 1
     if not t.header_line:
-        raise InputFileError(t.path, f"columns: {var}={head!r} names a header cell, but the "
-                             "file has no header row; map columns by position "
-                             "(e.g. 1=depth,2=sound_speed)", int(t.lines[0]))
+        raise InputFileError(
+            t.path,
+            f"columns: {var}={head!r} names a header cell, but the "
+            "file has no header row; map columns by position "
+            "(e.g. 1=depth,2=sound_speed)",
+            int(t.lines[0]),
+        )
     idx = [j for j, h in enumerate(t.headers) if h == head] or [
-        j for j, h in enumerate(t.headers) if h.lower() == head.lower()]
+        j for j, h in enumerate(t.headers) if h.lower() == head.lower()
+    ]
     if len(idx) != 1:
-        raise InputFileError(t.path, f"columns: {var}={head!r} matches {len(idx)} header "
-                             f"cells; the header has {t.headers}", t.header_line)
+        raise InputFileError(
+            t.path,
+            f"columns: {var}={head!r} matches {len(idx)} header cells; the header has {t.headers}",
+            t.header_line,
+        )
     return idx[0]
 
 
@@ -406,25 +472,35 @@ def _text_raw_cast(t, columns, units):
     used, flags, ignored = {}, {}, []
     if not t.header_line and not columns:
         if len(t.headers) != 2:
-            raise InputFileError(path, f"no header row and {len(t.headers)} columns: map "
-                                 "them by position, e.g. columns='1=pressure,2=temperature,"
-                                 "3=salinity' (two columns without a header are read as "
-                                 "depth m, sound speed m/s)", int(t.lines[0]))
+            raise InputFileError(
+                path,
+                f"no header row and {len(t.headers)} columns: map "
+                "them by position, e.g. columns='1=pressure,2=temperature,"
+                "3=salinity' (two columns without a header are read as "
+                "depth m, sound speed m/s)",
+                int(t.lines[0]),
+            )
         columns = HEADERLESS_PAIR
     for var, head in columns.items():
         j = _column_index(t, var, head)
         unit_text = units.get(var, None if isinstance(head, int) else split_header(head)[1])
         unit = None if unit_text is None else parse_unit(unit_text)
         if unit_text is not None and (unit is None or unit.kind != KIND[var]):
-            raise InputFileError(path, f"unit {unit_text!r} is not a {KIND[var]} unit for {var}",
-                                 t.header_line or None, t.label(j))
+            raise InputFileError(
+                path,
+                f"unit {unit_text!r} is not a {KIND[var]} unit for {var}",
+                t.header_line or None,
+                t.label(j),
+            )
         if j in {k for k, _ in used.values()}:
-            raise InputFileError(path, f"columns: column {t.label(j)} is mapped twice",
-                                 t.header_line or None)
+            raise InputFileError(
+                path, f"columns: column {t.label(j)} is mapped twice", t.header_line or None
+            )
         used[var] = (j, unit)
     if not t.header_line:  # the unmapped columns of a headerless file
-        ignored += [t.headers[j] for j in range(len(t.headers))
-                    if j not in {k for k, _ in used.values()}]
+        ignored += [
+            t.headers[j] for j in range(len(t.headers)) if j not in {k for k, _ in used.values()}
+        ]
     taken = {j for j, _ in used.values()}
     for j, h in enumerate(t.headers if t.header_line else ()):
         if j in taken:
@@ -437,20 +513,28 @@ def _text_raw_cast(t, columns, units):
             ignored.append(h)
         elif g.is_flag:
             if g.variable in flags:
-                raise InputFileError(path, f"two flag columns for {g.variable}",
-                                     t.header_line, t.label(j))
+                raise InputFileError(
+                    path, f"two flag columns for {g.variable}", t.header_line, t.label(j)
+                )
             flags[g.variable] = j
         elif g.variable in used:
             first = t.label(used[g.variable][0])
             raise InputFileError(
-                path, f"columns {first} and {t.label(j)} both look like {g.variable}; choose "
-                f"one with columns={{'{g.variable}': ...}}", t.header_line, t.label(j))
+                path,
+                f"columns {first} and {t.label(j)} both look like {g.variable}; choose "
+                f"one with columns={{'{g.variable}': ...}}",
+                t.header_line,
+                t.label(j),
+            )
         else:
             unit = parse_unit(units[g.variable]) if g.variable in units else g.unit
             used[g.variable] = (j, unit)
     if not used:
-        raise InputFileError(path, f"no recognisable columns in the header {t.headers}; map "
-                             "them with columns=", t.header_line)
+        raise InputFileError(
+            path,
+            f"no recognisable columns in the header {t.headers}; map them with columns=",
+            t.header_line,
+        )
     meta = _meta_values(path, t.meta)
     missing_value = meta.pop("missing_value", None)
     fmt = "text" if t.encoding == "utf-8" else f"text ({t.encoding})"
@@ -474,8 +558,9 @@ def _text_profile(t):
     """A Profile from a CSV written by ``write_csv`` (columns named ``name [unit]``)."""
     names = [split_header(h)[0].strip() for h in t.headers]
     if "depth" not in names:
-        raise InputFileError(t.path, "a profile file needs a 'depth [m]' column",
-                             t.header_line or None)
+        raise InputFileError(
+            t.path, "a profile file needs a 'depth [m]' column", t.header_line or None
+        )
     meta = _meta_values(t.path, t.meta)
     meta.pop("missing_value", None)
     variables = {}
@@ -497,4 +582,3 @@ def _text_profile(t):
     coords["profile_id"] = ((), str(name), _cf.attrs_for("profile_id"))
     data = {k: ("depth", v, a) for k, (v, a) in variables.items()}
     return xr.Dataset(data, coords=coords, attrs=meta)
-

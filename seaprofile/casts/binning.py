@@ -14,10 +14,10 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError
-from ..seawater.depth import depth_from_pressure, pressure_from_depth
-from ..seawater.soundspeed import EQUATIONS, sound_speed
 from ..io.errors import ArgumentError, MemoryLimitError
 from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
+from ..seawater.depth import depth_from_pressure, pressure_from_depth
+from ..seawater.soundspeed import EQUATIONS, sound_speed
 from ._common import (
     cast_latitude,
     position,
@@ -34,8 +34,18 @@ from .gaps import (  # fill_gaps and its settings: public here too
     fill_gaps,
 )
 
-__all__ = ["bin_cast", "fill_gaps", "add_sound_speed", "LargeGapWarning", "AUTO_GAP_FLOOR",
-           "AUTO_GAP_SPACINGS", "LARGE_GAP", "MAX_BINS", "check_bin_count", "check_step"]
+__all__ = [
+    "bin_cast",
+    "fill_gaps",
+    "add_sound_speed",
+    "LargeGapWarning",
+    "AUTO_GAP_FLOOR",
+    "AUTO_GAP_SPACINGS",
+    "LARGE_GAP",
+    "MAX_BINS",
+    "check_bin_count",
+    "check_step",
+]
 
 #: variables a Cast may hold that :func:`bin_cast` averages (or converts, for the axis pair)
 _BINNED = ("pressure", "depth", "temperature", "salinity", "measured_sound_speed")
@@ -63,9 +73,13 @@ def check_bin_count(count, step, span, name="step", unit="m"):
     requested = bins * BYTES_PER_BIN
     if requested > MEMORY_LIMIT:
         raise MemoryLimitError(
-            name, f"a bin size of {step:g} {unit} over {span:g} {unit} needs {bins:.3g} bins, "
+            name,
+            f"a bin size of {step:g} {unit} over {span:g} {unit} needs {bins:.3g} bins, "
             f"about {format_bytes(requested)}, more than the {format_bytes(MEMORY_LIMIT)} of "
-            f"memory allowed (at most {MAX_BINS:,} bins); use a larger bin size", min(requested, 2.0**62), MEMORY_LIMIT)
+            f"memory allowed (at most {MAX_BINS:,} bins); use a larger bin size",
+            min(requested, 2.0**62),
+            MEMORY_LIMIT,
+        )
 
 
 def check_step(step, name="step", unit="m"):
@@ -80,8 +94,16 @@ def check_step(step, name="step", unit="m"):
     return value
 
 
-def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
-             sparse_spacing=SPARSE_SPACING, argument="step"):
+def bin_cast(
+    cast,
+    step=1.0,
+    axis="depth",
+    *,
+    latitude=None,
+    depth_method=None,
+    sparse_spacing=SPARSE_SPACING,
+    argument="step",
+):
     """Average a Cast into regular bins where it is dense; keep its own levels where sparse.
 
     Bin ``k`` holds the samples with ``(k - 1/2) step <= x < (k + 1/2) step`` on the chosen
@@ -206,12 +228,21 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
     for var, (val, fl) in rows.items():
         data[var] = (dim, val[order], _cf.attrs_for(var, ancillary_variables=f"{var}_qc"))
         data[f"{var}_qc"] = (dim, fl[order].astype(np.int8), _cf.flag_attrs(var))
-    data["pressure"] = (dim, pressure[order], _cf.attrs_for(
-        "pressure", ancillary_variables="pressure_qc", comment=comment + (
-            "; the sample's own pressure at a kept level" if nl else "")))
+    data["pressure"] = (
+        dim,
+        pressure[order],
+        _cf.attrs_for(
+            "pressure",
+            ancillary_variables="pressure_qc",
+            comment=comment + ("; the sample's own pressure at a kept level" if nl else ""),
+        ),
+    )
     data["pressure_qc"] = (dim, pair_flag[order].astype(np.int8), _cf.flag_attrs("pressure"))
-    data["samples_per_bin"] = (dim, counts[order].astype(np.int32),
-                               _cf.attrs_for("samples_per_bin"))
+    data["samples_per_bin"] = (
+        dim,
+        counts[order].astype(np.int32),
+        _cf.attrs_for("samples_per_bin"),
+    )
 
     depth = depth[order]
     coords = {"depth": ("depth", depth, _cf.attrs_for("depth"))}
@@ -220,14 +251,25 @@ def bin_cast(cast, step=1.0, axis="depth", *, latitude=None, depth_method=None,
             coords[c] = cast.coords[c].variable
     attrs = {k: v for k, v in cast.attrs.items() if k not in ("cast_direction",)}
     with_data = counts[order] > 0
-    attrs.update(bin_size=step, bin_axis=axis, depth_method=method,
-                 cast_max_depth=float(depth[with_data][-1]))
+    attrs.update(
+        bin_size=step,
+        bin_axis=axis,
+        depth_method=method,
+        cast_max_depth=float(depth[with_data][-1]),
+    )
     left_out = {var: int(np.count_nonzero(placed & ~_usable(cast, var))) for var in variables}
-    attrs = _cf.record_step(attrs, "bin_cast", bin_size=step, axis=axis,
-                            bins=int(np.count_nonzero(order < nb)), levels_kept=nl,
-                            sparse_spacing=float(sparse_spacing),
-                            samples_binned=int(counts[:nb].sum()), left_out=left_out,
-                            not_placed=int(np.count_nonzero(~placed)))
+    attrs = _cf.record_step(
+        attrs,
+        "bin_cast",
+        bin_size=step,
+        axis=axis,
+        bins=int(np.count_nonzero(order < nb)),
+        levels_kept=nl,
+        sparse_spacing=float(sparse_spacing),
+        samples_binned=int(counts[:nb].sum()),
+        left_out=left_out,
+        not_placed=int(np.count_nonzero(~placed)),
+    )
     return xr.Dataset(data, coords=coords, attrs=attrs)
 
 
@@ -271,8 +313,10 @@ def _keep_rows(position, counts, nb, step):
     level_pos = np.sort(position[nb:])
     if level_pos.size:
         j = np.clip(np.searchsorted(level_pos, position[:nb]), 1, level_pos.size) - 1
-        near = np.minimum(np.abs(position[:nb] - level_pos[j]),
-                          np.abs(position[:nb] - level_pos[np.minimum(j + 1, level_pos.size - 1)]))
+        near = np.minimum(
+            np.abs(position[:nb] - level_pos[j]),
+            np.abs(position[:nb] - level_pos[np.minimum(j + 1, level_pos.size - 1)]),
+        )
         keep[:nb] &= has[:nb] | (near >= 0.1 * step)
     rows = np.flatnonzero(keep)
     return rows[np.argsort(position[rows], kind="stable")]
@@ -346,29 +390,42 @@ def add_sound_speed(profile, equation="chen_millero1977", *, prefer_measured=Tru
     require_profile(profile)
     out = profile.copy()
     if prefer_measured and "measured_sound_speed" in profile.data_vars:
-        out = out.rename({"measured_sound_speed": "sound_speed",
-                          "measured_sound_speed_qc": "sound_speed_qc"})
+        out = out.rename(
+            {"measured_sound_speed": "sound_speed", "measured_sound_speed_qc": "sound_speed_qc"}
+        )
         out["sound_speed"].attrs = _cf.attrs_for(
-            "sound_speed", ancillary_variables="sound_speed_qc",
-            comment="measured by a sound-speed probe")
+            "sound_speed",
+            ancillary_variables="sound_speed_qc",
+            comment="measured by a sound-speed probe",
+        )
         out["sound_speed_qc"].attrs = _cf.flag_attrs("sound_speed")
         out.attrs = _cf.record_step(profile.attrs, "add_sound_speed", equation="measured")
         out.attrs["equation"] = "measured"
         return out
     if equation not in EQUATIONS:
         raise SeaprofileError(
-            f"equation {equation!r} is unknown; choose one of {', '.join(EQUATIONS)}")
+            f"equation {equation!r} is unknown; choose one of {', '.join(EQUATIONS)}"
+        )
     for v in ("temperature", "salinity", "pressure"):
         if v not in profile.data_vars:
             raise SeaprofileError(f"profile has no {v}, needed for equation {equation!r}")
-    c = _equation_sound_speed(profile, equation, profile["temperature"].values,
-                              profile["salinity"].values, profile["pressure"].values,
-                              profile["depth"].values)
-    flags = worst_flag(profile["temperature_qc"].values, profile["salinity_qc"].values,
-                       profile["pressure_qc"].values)
+    c = _equation_sound_speed(
+        profile,
+        equation,
+        profile["temperature"].values,
+        profile["salinity"].values,
+        profile["pressure"].values,
+        profile["depth"].values,
+    )
+    flags = worst_flag(
+        profile["temperature_qc"].values,
+        profile["salinity_qc"].values,
+        profile["pressure_qc"].values,
+    )
     flags = np.where(np.isfinite(c), flags, _cf.MISSING).astype(np.int8)
-    out = with_variable(out, "depth", "sound_speed", c, flags,
-                        comment=f"computed with equation {equation}")
+    out = with_variable(
+        out, "depth", "sound_speed", c, flags, comment=f"computed with equation {equation}"
+    )
     out.attrs = _cf.record_step(profile.attrs, "add_sound_speed", equation=equation)
     out.attrs["equation"] = equation
     return out

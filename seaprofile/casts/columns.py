@@ -44,14 +44,19 @@ __all__ = [
 # --- names: pattern (full match on the normalised name) -> candidate variables ----------
 # The normalised name is lower case with runs of spaces, '-', '.', '_' turned into one '_'.
 NAMES = (
-    (r"temperature|temp|t|water_temp(erature)?|sea_(water_)?temperature|in_situ_temp(erature)?",
-     ("temperature", "elapsed_time")),
+    (
+        r"temperature|temp|t|water_temp(erature)?|sea_(water_)?temperature|in_situ_temp(erature)?",
+        ("temperature", "elapsed_time"),
+    ),
     (r"pressure|pres|press|p|sea_pressure|sea_water_pressure", ("pressure",)),
     (r"depth|dep|z|depth_below_surface", ("depth",)),
     (r"salinity|sal|psal|s|practical_salinity|sea_water_(practical_)?salinity", ("salinity",)),
     (r"conductivity|cond|sea_water_(electrical_)?conductivity", ("conductivity",)),
-    (r"sound_speed|soundspeed|sound_velocity|speed_of_sound(_in_sea_water)?|sv|svel|c"
-     r"|measured_sound_speed", ("measured_sound_speed", "conductivity")),
+    (
+        r"sound_speed|soundspeed|sound_velocity|speed_of_sound(_in_sea_water)?|sv|svel|c"
+        r"|measured_sound_speed",
+        ("measured_sound_speed", "conductivity"),
+    ),
     (r"elapsed_time|time_elapsed|elapsed|time|time_since_(launch|entry)", ("elapsed_time",)),
 )
 _NAMES = tuple((re.compile(p), c) for p, c in NAMES)
@@ -312,8 +317,7 @@ def _variable(key, what):
     key = ALIASES.get(key, key)
     if key not in KIND:
         raise SeaprofileError(
-            f"{what}: unknown variable {key!r}; expected one of "
-            f"{', '.join([*KIND, *ALIASES])}"
+            f"{what}: unknown variable {key!r}; expected one of {', '.join([*KIND, *ALIASES])}"
         )
     return key
 

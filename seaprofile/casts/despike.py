@@ -86,8 +86,7 @@ def _positive(name, value, what, whole=False):
     return int(number) if whole else number
 
 
-def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
-            max_span=DESPIKE_MAX_SPAN):
+def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span=DESPIKE_MAX_SPAN):
     """Flag spikes as bad (4) with a running median and median absolute deviation.
 
     Residual ``r = x - median(x)`` over a centred window of ``window`` usable samples; the
@@ -142,10 +141,8 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
     require_cast(cast)
     window = _positive("window", window, "an odd whole number of samples >= 3", whole=True)
     if window < 3 or window % 2 == 0:
-        raise ArgumentError("window", f"must be an odd whole number of samples >= 3, got "
-                            f"{window}")
-    threshold = _positive("threshold", threshold, "a number of robust standard deviations "
-                          "> 0")
+        raise ArgumentError("window", f"must be an odd whole number of samples >= 3, got {window}")
+    threshold = _positive("threshold", threshold, "a number of robust standard deviations > 0")
     max_span = _positive("max_span", max_span, "a vertical span > 0 (dbar or m)")
     half = window // 2
     floor = DESPIKE_FLOOR if floor is None else {**DESPIKE_FLOOR, **floor}
@@ -158,8 +155,15 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
         if var not in cast.data_vars:
             raise SeaprofileError(f"variables: {var!r} is not in the cast")
         flags = cast[f"{var}_qc"].values
-        idx, hit, tested = _despike_one(cast[var].values.astype(np.float64), flags, vert,
-                                        half, threshold, floor.get(var, 0.0), max_span)
+        idx, hit, tested = _despike_one(
+            cast[var].values.astype(np.float64),
+            flags,
+            vert,
+            half,
+            threshold,
+            floor.get(var, 0.0),
+            max_span,
+        )
         counts[var] = int(hit.sum())
         where[var] = [float(v) for v in vert[idx[hit]][:20]]
         untested[var] = int(idx.size - tested)
@@ -171,10 +175,18 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None,
         passed[var] = int(np.count_nonzero(f != out[f"{var}_qc"].values))
         out.variables[f"{var}_qc"].data = f
     out.attrs = _cf.record_step(
-        cast.attrs, "despike", window=window, threshold=threshold, max_span=max_span,
-        flagged=counts, flagged_at=where, not_tested=untested, bad_input=passed,
+        cast.attrs,
+        "despike",
+        window=window,
+        threshold=threshold,
+        max_span=max_span,
+        flagged=counts,
+        flagged_at=where,
+        not_tested=untested,
+        bad_input=passed,
         not_tested_reason=f"fewer than {half} usable samples on a side, or the window spans "
-                          f"more than {max_span:g}: left to the Argo spike test")
+        f"more than {max_span:g}: left to the Argo spike test",
+    )
     return out
 
 
@@ -185,7 +197,7 @@ def _despike_one(x, flags, vert, half, threshold, floor, max_span):
     full = np.zeros(m, bool)
     if m >= 2 * half + 1:
         windows = np.lib.stride_tricks.sliding_window_view(vert[idx], 2 * half + 1)
-        full[half:m - half] = (windows.max(axis=1) - windows.min(axis=1)) <= max_span
+        full[half : m - half] = (windows.max(axis=1) - windows.min(axis=1)) <= max_span
     xs = x[idx]
     r = xs - _running_median(xs, half)
     r = np.where(full, r, np.nan)  # biased residuals must not set the scale either
@@ -193,5 +205,3 @@ def _despike_one(x, flags, vert, half, threshold, floor, max_span):
     with np.errstate(invalid="ignore"):
         hit = full & (np.abs(r) > np.maximum(threshold * scale, floor))
     return idx, hit, int(full.sum())
-
-

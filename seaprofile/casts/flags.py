@@ -83,8 +83,7 @@ def derived_variables(ds):
         named = str(ds[var].attrs.get("derived_from", "")).split()
         if not named and var == "salinity" and "conductivity" in ds.data_vars:
             named = ["conductivity", "temperature", "pressure"]
-        if (not named and var == "sound_speed"
-                and ds.attrs.get("equation", "") != "measured"):
+        if not named and var == "sound_speed" and ds.attrs.get("equation", "") != "measured":
             named = ["temperature", "salinity", "pressure"]
         inputs = tuple(v for v in named if v in ds.data_vars and v != var)
         if inputs:
@@ -120,6 +119,5 @@ def pass_on_failed(ds, flag):
     for var, inputs in pairs:
         src = worst_flag(*[out[v] if v in out else flag(v) for v in inputs])
         failed = np.isin(src, _cf.FAILED_FLAGS)
-        out[var] = raise_flags(out[var] if var in out else flag(var),
-                               np.where(failed, src, 0))
+        out[var] = raise_flags(out[var] if var in out else flag(var), np.where(failed, src, 0))
     return out

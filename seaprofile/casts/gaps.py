@@ -21,8 +21,11 @@ __all__ = ["fill_gaps", "LargeGapWarning", "AUTO_GAP_FLOOR", "AUTO_GAP_SPACINGS"
 
 
 def _profile_vars(profile):
-    return [v for v in ("temperature", "salinity", "pressure", "measured_sound_speed",
-                        "sound_speed") if v in profile.data_vars]
+    return [
+        v
+        for v in ("temperature", "salinity", "pressure", "measured_sound_speed", "sound_speed")
+        if v in profile.data_vars
+    ]
 
 
 #: m: the smallest gap :func:`fill_gaps` leaves unfilled with ``max_gap="auto"`` (our
@@ -96,11 +99,11 @@ def fill_gaps(profile, max_gap=5.0):
         try:
             max_gap = float(max_gap)
         except (TypeError, ValueError):
-            raise ArgumentError("max_gap", f"must be a depth >= 0 m, 'auto' or None, got "
-                                f"{max_gap!r}") from None
+            raise ArgumentError(
+                "max_gap", f"must be a depth >= 0 m, 'auto' or None, got {max_gap!r}"
+            ) from None
         if not max_gap >= 0:
-            raise ArgumentError("max_gap", f"must be a depth >= 0 m, 'auto' or None, got "
-                                f"{max_gap}")
+            raise ArgumentError("max_gap", f"must be a depth >= 0 m, 'auto' or None, got {max_gap}")
     z = profile["depth"].values.astype(np.float64)
     step = profile.attrs.get("bin_size")
     step = float(step) if step else (float(np.median(np.diff(z))) if z.size > 1 else 0.0)
@@ -122,11 +125,11 @@ def fill_gaps(profile, max_gap=5.0):
             zi = z[iv]
             spacing = np.diff(zi)  # spacing[k]: level k to level k + 1
             above = np.where(pos >= 2, spacing[np.maximum(pos - 2, 0)], np.nan)
-            below = np.where(pos + 1 < iv.size, spacing[np.minimum(pos, spacing.size - 1)],
-                             np.nan)
+            below = np.where(pos + 1 < iv.size, spacing[np.minimum(pos, spacing.size - 1)], np.nan)
             near = np.fmax(above, below)
-            limit = np.where(np.isfinite(near),
-                             np.maximum(AUTO_GAP_FLOOR, AUTO_GAP_SPACINGS * near), np.inf)
+            limit = np.where(
+                np.isfinite(near), np.maximum(AUTO_GAP_FLOOR, AUTO_GAP_SPACINGS * near), np.inf
+            )
             keep = width - step <= limit + 1e-9
         elif max_gap is not None:
             keep = width - step <= max_gap + 1e-9 * max(1.0, abs(max_gap))
@@ -143,11 +146,15 @@ def fill_gaps(profile, max_gap=5.0):
         out.variables[var].data = new  # the copy's own Variables: the input is untouched
         out.variables[f"{var}_qc"].data = flags.astype(np.int8)
         filled[var] = int(j.size)
-    attrs = dict(largest_gap=widest, filled_gaps=_gap_spans(done),
-                 unfilled_gaps=_gap_spans(left))
-    out.attrs = _cf.record_step(profile.attrs, "fill_gaps",
-                                max_gap="auto" if auto else max_gap, filled=filled,
-                                method="linear in depth", **attrs)
+    attrs = dict(largest_gap=widest, filled_gaps=_gap_spans(done), unfilled_gaps=_gap_spans(left))
+    out.attrs = _cf.record_step(
+        profile.attrs,
+        "fill_gaps",
+        max_gap="auto" if auto else max_gap,
+        filled=filled,
+        method="linear in depth",
+        **attrs,
+    )
     out.attrs.update(attrs)
     # a gap the "auto" rule filled is the ordinary spacing of a sparse cast (bottles,
     # floats, planning nodes): no warning. Data loss left missing warns, and so does a wide
@@ -157,8 +164,14 @@ def fill_gaps(profile, max_gap=5.0):
     if large:
         name = profile.attrs.get("cast_name", "the profile")
         kinds = [("filled with a straight line", done), ("left missing (flag 9)", left)]
-        said = "; ".join(f"{_gap_spans([g for g in large if g in gaps])} {how}"
-                         for how, gaps in kinds if any(g in gaps for g in large))
-        warnings.warn(f"{name} has no data over {said}: check the cast before using its "
-                      "profile there", LargeGapWarning, stacklevel=2)
+        said = "; ".join(
+            f"{_gap_spans([g for g in large if g in gaps])} {how}"
+            for how, gaps in kinds
+            if any(g in gaps for g in large)
+        )
+        warnings.warn(
+            f"{name} has no data over {said}: check the cast before using its profile there",
+            LargeGapWarning,
+            stacklevel=2,
+        )
     return out

@@ -53,8 +53,9 @@ def compare_measured_sound_speed(cast, equation="chen_millero1977"):
     kwargs = {"equation": equation, vertical: cast[vertical].values}
     if np.isfinite(lat):
         kwargs["latitude"] = lat
-    computed = np.asarray(sound_speed(cast["temperature"].values, cast["salinity"].values,
-                                      **kwargs), dtype=np.float64)
+    computed = np.asarray(
+        sound_speed(cast["temperature"].values, cast["salinity"].values, **kwargs), dtype=np.float64
+    )
     diff = cast["measured_sound_speed"].values - computed
     bad = np.zeros(diff.shape, bool)
     for v in (*needed, vertical):
@@ -64,9 +65,16 @@ def compare_measured_sound_speed(cast, equation="chen_millero1977"):
     diff = np.where(bad, np.nan, diff)
     finite = diff[np.isfinite(diff)]
     attrs = _cf.attrs_for(
-        "probe_sound_speed_difference", equation=equation,
+        "probe_sound_speed_difference",
+        equation=equation,
         mean_difference=float(finite.mean()) if finite.size else np.nan,
-        std_difference=float(finite.std()) if finite.size else np.nan)
+        std_difference=float(finite.std()) if finite.size else np.nan,
+    )
     attrs["long_name"] = attrs["long_name"].format(equation=equation)
-    return xr.DataArray(diff, dims=("sample",), coords={vertical: ("sample",
-                        cast[vertical].values)}, name="sound_speed_difference", attrs=attrs)
+    return xr.DataArray(
+        diff,
+        dims=("sample",),
+        coords={vertical: ("sample", cast[vertical].values)},
+        name="sound_speed_difference",
+        attrs=attrs,
+    )

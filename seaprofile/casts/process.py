@@ -65,8 +65,9 @@ def _select(cast, keep, step, **params):
 def _turn(values):
     """Index of the deepest finite sample (the end of the descent)."""
     if not np.isfinite(values).any():
-        raise SeaprofileError("cast has no usable pressure or depth (all missing, flagged "
-                              "bad or outside -5..12000)")
+        raise SeaprofileError(
+            "cast has no usable pressure or depth (all missing, flagged bad or outside -5..12000)"
+        )
     return int(np.nanargmax(values))
 
 
@@ -158,8 +159,7 @@ def select_direction(cast, direction="down"):
     n = v.size
     keep = {"down": slice(0, turn + 1), "up": slice(turn, n), "both": slice(0, n)}[direction]
     kept = len(range(*keep.indices(n)))
-    out = _select(cast, keep, "select_direction", direction=direction,
-                  removed_samples=n - kept)
+    out = _select(cast, keep, "select_direction", direction=direction, removed_samples=n - kept)
     out.attrs["cast_direction"] = direction
     return out
 
@@ -216,10 +216,10 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
     sign = np.full(n, -1.0 if direction == "up" else 1.0)
     if direction == "both":
         turn = _turn(v)
-        sign[turn + 1:] = -1.0
+        sign[turn + 1 :] = -1.0
         keep = np.zeros(n, bool)
         keep[: turn + 1] = exceeds_earlier(v[: turn + 1])
-        keep[turn + 1:] = exceeds_earlier(-v[turn + 1:]) & (v[turn + 1:] < v[turn])
+        keep[turn + 1 :] = exceeds_earlier(-v[turn + 1 :]) & (v[turn + 1 :] < v[turn])
     else:
         keep = exceeds_earlier(sign * v)
     slow = np.zeros(n, bool)
@@ -229,9 +229,15 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
             slow = keep & (rate < min_descent_rate)
         keep &= ~slow
     keep |= unusable  # not judged here: quality control flags them with the reason
-    return _select(cast, np.flatnonzero(keep), "remove_reversals",
-                   min_descent_rate=min_descent_rate, removed_samples=int(n - keep.sum()),
-                   slow_samples=int(slow.sum()), kept_unusable_vertical=int(unusable.sum()))
+    return _select(
+        cast,
+        np.flatnonzero(keep),
+        "remove_reversals",
+        min_descent_rate=min_descent_rate,
+        removed_samples=int(n - keep.sum()),
+        slow_samples=int(slow.sum()),
+        kept_unusable_vertical=int(unusable.sum()),
+    )
 
 
 # --- derived variables -----------------------------------------------------------------
@@ -270,8 +276,9 @@ def salinity_and_flags(cast):
     for v in SALINITY_INPUTS:
         if v not in cast.data_vars:
             raise SeaprofileError(f"cast needs {v} to compute salinity from conductivity")
-    values = np.asarray(salinity_from_conductivity(*[cast[v].values for v in SALINITY_INPUTS]),
-                        dtype=np.float64)
+    values = np.asarray(
+        salinity_from_conductivity(*[cast[v].values for v in SALINITY_INPUTS]), dtype=np.float64
+    )
     flags = worst_flag(*[cast[f"{v}_qc"].values for v in SALINITY_INPUTS])
     return values, np.where(np.isfinite(values), flags, _cf.MISSING).astype(np.int8)
 
@@ -297,10 +304,15 @@ def add_salinity(cast):
     if "salinity" in cast.data_vars:
         return cast.copy()
     values, flags = salinity_and_flags(cast)
-    out = with_variable(cast, "sample", "salinity", values, flags,
-                        comment="computed from conductivity, temperature and pressure "
-                                "(PSS-78 via gsw.SP_from_C)",
-                        derived_from=" ".join(SALINITY_INPUTS))
+    out = with_variable(
+        cast,
+        "sample",
+        "salinity",
+        values,
+        flags,
+        comment="computed from conductivity, temperature and pressure (PSS-78 via gsw.SP_from_C)",
+        derived_from=" ".join(SALINITY_INPUTS),
+    )
     out.attrs = _cf.record_step(cast.attrs, "add_salinity", method="PSS-78 (gsw.SP_from_C)")
     out.attrs["salinity_source"] = SALINITY_SOURCE
     return out
@@ -335,24 +347,38 @@ def add_depth(cast, latitude=None, method="unesco1983"):
     require_cast(cast)
     if method not in DEPTH_METHODS:
         raise SeaprofileError(
-            f"method {method!r} is unknown; choose one of {', '.join(DEPTH_METHODS)}")
+            f"method {method!r} is unknown; choose one of {', '.join(DEPTH_METHODS)}"
+        )
     lat = cast_latitude(cast, latitude)
     if "pressure" in cast.data_vars:
         with np.errstate(over="ignore", invalid="ignore"):  # wild values: flagged by QC
             z = depth_from_pressure(cast["pressure"].values, lat, method)
-        out = with_variable(cast, "sample", "depth", z, cast["pressure_qc"].values.copy(),
-                            comment=f"from pressure, method {method}")
+        out = with_variable(
+            cast,
+            "sample",
+            "depth",
+            z,
+            cast["pressure_qc"].values.copy(),
+            comment=f"from pressure, method {method}",
+        )
         src = "pressure"
     elif "depth" in cast.data_vars:
         with np.errstate(over="ignore", invalid="ignore"):
             p = pressure_from_depth(cast["depth"].values, lat, method)
-        out = with_variable(cast, "sample", "pressure", p, cast["depth_qc"].values.copy(),
-                            comment=f"from depth, method {method}")
+        out = with_variable(
+            cast,
+            "sample",
+            "pressure",
+            p,
+            cast["depth_qc"].values.copy(),
+            comment=f"from depth, method {method}",
+        )
         src = "depth"
     else:
         raise SeaprofileError("cast has neither pressure nor depth")
-    out.attrs = _cf.record_step(cast.attrs, "add_depth", method=method, latitude=lat,
-                                computed_from=src)
+    out.attrs = _cf.record_step(
+        cast.attrs, "add_depth", method=method, latitude=lat, computed_from=src
+    )
     out.attrs.update(depth_method=method, depth_latitude=lat)
     return out
 
@@ -405,11 +431,17 @@ def replace_salinity(cast, salinity, *, where="bad"):
     mask &= np.isfinite(values)
     new = np.where(mask, values, old)
     flags = np.where(mask, _cf.ESTIMATED, old_flags).astype(np.int8)
-    out = with_variable(cast, "sample", "salinity", new, flags,
-                        comment=f"replaced where {where}: {desc} (flag 8)")
+    out = with_variable(
+        cast, "sample", "salinity", new, flags, comment=f"replaced where {where}: {desc} (flag 8)"
+    )
     scope = "everywhere" if where == "all" else "where flagged bad or missing"
-    out.attrs = _cf.record_step(cast.attrs, "replace_salinity", salinity_source=desc,
-                                where=where, replaced=int(mask.sum()), samples=n)
-    out.attrs["salinity_replaced"] = (f"{desc}, {scope}: {int(mask.sum())} of {n} samples "
-                                      "(flag 8)")
+    out.attrs = _cf.record_step(
+        cast.attrs,
+        "replace_salinity",
+        salinity_source=desc,
+        where=where,
+        replaced=int(mask.sum()),
+        samples=n,
+    )
+    out.attrs["salinity_replaced"] = f"{desc}, {scope}: {int(mask.sum())} of {n} samples (flag 8)"
     return out

@@ -26,27 +26,49 @@ from pathlib import Path
 
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
+from ._readcast import _finish, _raw_profile, guess_instrument
+from ._readnetcdf import _netcdf_own_datasets, _netcdf_raw_casts
+from ._readtext import _decode, _parse_text, _text_profile, _text_raw_cast
 from .columns import parse_column_mapping, parse_unit_mapping
 from .model import INSTRUMENTS, measured_variables
 from .xbt import DEFAULT_FALL_RATE
-from ._readcast import _finish, _raw_profile, guess_instrument
-from ._readnetcdf import STANDARD_NAMES, _netcdf_own_datasets, _netcdf_raw_casts
-from ._readtext import _decode, _parse_text, _text_profile, _text_raw_cast
 
-__all__ = ["read_cast", "read_casts", "read_profile", "read_profiles", "read_speed_table",
-           "parse_column_mapping", "parse_unit_mapping", "guess_instrument",
-           "check_input_file"]
+__all__ = [
+    "read_cast",
+    "read_casts",
+    "read_profile",
+    "read_profiles",
+    "read_speed_table",
+    "parse_column_mapping",
+    "parse_unit_mapping",
+    "guess_instrument",
+    "check_input_file",
+]
 
 _NETCDF_MAGIC = (b"CDF\x01", b"CDF\x02", b"CDF\x05", b"\x89HDF")
-_UNICODE_BOMS = ((b"\x00\x00\xfe\xff", "utf-32"), (b"\xff\xfe\x00\x00", "utf-32"),
-                 (b"\xfe\xff", "utf-16"), (b"\xff\xfe", "utf-16"))
+_UNICODE_BOMS = (
+    (b"\x00\x00\xfe\xff", "utf-32"),
+    (b"\xff\xfe\x00\x00", "utf-32"),
+    (b"\xfe\xff", "utf-16"),
+    (b"\xff\xfe", "utf-16"),
+)
 
 
 # --- public API ------------------------------------------------------------------------
 
 
-def read_cast(path, *, columns=None, units=None, instrument=None, latitude=None,
-              longitude=None, salinity=None, fall_rate=DEFAULT_FALL_RATE, delimiter=None):
+def read_cast(
+    path,
+    *,
+    columns=None,
+    units=None,
+    instrument=None,
+    latitude=None,
+    longitude=None,
+    salinity=None,
+    fall_rate=DEFAULT_FALL_RATE,
+    delimiter=None,
+):
     """Read one cast from a text, netCDF or JSON file.
 
     Parameters
@@ -110,16 +132,34 @@ def read_cast(path, *, columns=None, units=None, instrument=None, latitude=None,
     Only regular files are read (a directory, device or named pipe is refused without
     being opened). JSON files written by seaprofile are returned exactly as written.
     """
-    casts = read_casts(path, columns=columns, units=units, instrument=instrument,
-                       latitude=latitude, longitude=longitude, salinity=salinity,
-                       fall_rate=fall_rate, delimiter=delimiter)
+    casts = read_casts(
+        path,
+        columns=columns,
+        units=units,
+        instrument=instrument,
+        latitude=latitude,
+        longitude=longitude,
+        salinity=salinity,
+        fall_rate=fall_rate,
+        delimiter=delimiter,
+    )
     if len(casts) != 1:
         raise InputFileError(path, f"holds {len(casts)} casts; use read_casts to read them all")
     return casts[0]
 
 
-def read_casts(path, *, columns=None, units=None, instrument=None, latitude=None,
-               longitude=None, salinity=None, fall_rate=DEFAULT_FALL_RATE, delimiter=None):
+def read_casts(
+    path,
+    *,
+    columns=None,
+    units=None,
+    instrument=None,
+    latitude=None,
+    longitude=None,
+    salinity=None,
+    fall_rate=DEFAULT_FALL_RATE,
+    delimiter=None,
+):
     """Read every cast in a file (netCDF/JSON collections hold several; text holds one).
 
     Parameters are those of :func:`read_cast`; returns a list of Casts.
@@ -141,8 +181,18 @@ def read_casts(path, *, columns=None, units=None, instrument=None, latitude=None
         raws = [_text_raw_cast(table, columns, units)]
     if not raws:
         raise InputFileError(path, "holds no casts")
-    return [_finish(raw, path, instrument=instrument, latitude=latitude, longitude=longitude,
-                    salinity=salinity, fall_rate=fall_rate) for raw in raws]
+    return [
+        _finish(
+            raw,
+            path,
+            instrument=instrument,
+            latitude=latitude,
+            longitude=longitude,
+            salinity=salinity,
+            fall_rate=fall_rate,
+        )
+        for raw in raws
+    ]
 
 
 def read_profile(path, *, columns=None, units=None, delimiter=None):
@@ -202,8 +252,11 @@ def read_speed_table(path):
     path = _check_path(path)
     t = _parse_text(path, None, header=False)
     if len(t.headers) != 2:
-        raise InputFileError(path, f"expected 2 columns (depth, sound speed), found "
-                             f"{len(t.headers)}", int(t.lines[0]) if t.lines.size else None)
+        raise InputFileError(
+            path,
+            f"expected 2 columns (depth, sound speed), found {len(t.headers)}",
+            int(t.lines[0]) if t.lines.size else None,
+        )
     return t.numbers(0), t.numbers(1)
 
 
@@ -218,19 +271,20 @@ def _read_json(path):
     except json.JSONDecodeError as exc:
         line = getattr(exc, "lineno", None)
         col = getattr(exc, "colno", None)
-        raise InputFileError(path, f"not valid JSON: {getattr(exc, 'msg', exc)}", line, col)
+        raise InputFileError(
+            path, f"not valid JSON: {getattr(exc, 'msg', exc)}", line, col
+        ) from None
     except RecursionError:
         raise InputFileError(path, "not valid JSON: nested too deeply") from None
     if not isinstance(doc, dict) or doc.get("format") != "seaprofile":
-        raise InputFileError(path, "not a seaprofile JSON file (no \"format\": \"seaprofile\")")
+        raise InputFileError(path, 'not a seaprofile JSON file (no "format": "seaprofile")')
     key = "datasets" if "datasets" in doc else "dataset"
     items = doc.get("datasets", [doc["dataset"]] if "dataset" in doc else None)
     if not items:
         raise InputFileError(path, "no datasets in the JSON file")
     if not isinstance(items, list) or not all(isinstance(d, dict) for d in items):
         what = "a list of objects" if key == "datasets" else "an object"
-        raise InputFileError(path, f"malformed seaprofile JSON: \"{key}\" must be {what}",
-                             column=key)
+        raise InputFileError(path, f'malformed seaprofile JSON: "{key}" must be {what}', column=key)
     out = []
     for k, d in enumerate(items):
         where = f"datasets[{k}]"
@@ -239,12 +293,20 @@ def _read_json(path):
         except SeaprofileError as exc:
             raise InputFileError(path, f"{where}: {exc}", column=where) from None
         except KeyError as exc:
-            raise InputFileError(path, f"malformed seaprofile JSON: no key {exc}",
-                                 column=where) from None
-        except (TypeError, ValueError, AttributeError, IndexError, OverflowError,
-                RecursionError) as exc:
-            raise InputFileError(path, f"malformed seaprofile JSON: {type(exc).__name__}: "
-                                 f"{exc}", column=where) from None
+            raise InputFileError(
+                path, f"malformed seaprofile JSON: no key {exc}", column=where
+            ) from None
+        except (
+            TypeError,
+            ValueError,
+            AttributeError,
+            IndexError,
+            OverflowError,
+            RecursionError,
+        ) as exc:
+            raise InputFileError(
+                path, f"malformed seaprofile JSON: {type(exc).__name__}: {exc}", column=where
+            ) from None
         _check_json_dataset(path, ds, where)
         out.append(ds)
     return out
@@ -254,49 +316,72 @@ def _check_json_dataset(path, ds, where):
     """A JSON dataset must have the layout of a Cast or Profile (DEVELOPERS.md)."""
     dims = tuple(ds.dims)
     if dims not in (("sample",), ("depth",)):
-        raise InputFileError(path, f"malformed seaprofile JSON: dimensions {dims}; expected "
-                             "('sample',) for a cast or ('depth',) for a profile", column=where)
+        raise InputFileError(
+            path,
+            f"malformed seaprofile JSON: dimensions {dims}; expected "
+            "('sample',) for a cast or ('depth',) for a profile",
+            column=where,
+        )
     for name, var in ds.variables.items():
         scalar_coord = name in ds.coords and var.ndim == 0
         if var.dims != dims and not scalar_coord:
-            raise InputFileError(path, f"malformed seaprofile JSON: {name!r} has dimensions "
-                                 f"{var.dims}", column=f"{where}.{name}")
+            raise InputFileError(
+                path,
+                f"malformed seaprofile JSON: {name!r} has dimensions {var.dims}",
+                column=f"{where}.{name}",
+            )
         if var.dtype.kind not in ("fiu" if not scalar_coord else "fiuMUS"):
-            raise InputFileError(path, f"malformed seaprofile JSON: {name!r} holds "
-                                 f"{var.dtype} values, expected numbers",
-                                 column=f"{where}.{name}")
+            raise InputFileError(
+                path,
+                f"malformed seaprofile JSON: {name!r} holds {var.dtype} values, expected numbers",
+                column=f"{where}.{name}",
+            )
     for name, kinds in (("latitude", "fi"), ("longitude", "fi"), ("time", "M")):
         if name in ds.variables and (ds[name].ndim or ds[name].dtype.kind not in kinds):
-            raise InputFileError(path, f"malformed seaprofile JSON: {name!r} must be one "
-                                 f"{'time' if kinds == 'M' else 'number'}",
-                                 column=f"{where}.{name}")
+            raise InputFileError(
+                path,
+                f"malformed seaprofile JSON: {name!r} must be one "
+                f"{'time' if kinds == 'M' else 'number'}",
+                column=f"{where}.{name}",
+            )
     try:
         steps = json.loads(ds.attrs.get("processing_steps", "[]"))
     except (TypeError, ValueError, RecursionError):
         steps = None
     if not isinstance(steps, list) or not isinstance(ds.attrs.get("history", ""), str):
-        raise InputFileError(path, "malformed seaprofile JSON: processing_steps must be a JSON "
-                             "list in a string, history a string",
-                             column=f"{where}.attributes")
+        raise InputFileError(
+            path,
+            "malformed seaprofile JSON: processing_steps must be a JSON "
+            "list in a string, history a string",
+            column=f"{where}.attributes",
+        )
     if dims == ("sample",):  # a Cast: flags beside every measured variable, a known kind
         for name in measured_variables(ds):
             if f"{name}_qc" not in ds.data_vars:
-                raise InputFileError(path, f"malformed seaprofile JSON: {name!r} has no flags "
-                                     f"({name}_qc)", column=f"{where}.{name}")
+                raise InputFileError(
+                    path,
+                    f"malformed seaprofile JSON: {name!r} has no flags ({name}_qc)",
+                    column=f"{where}.{name}",
+                )
         if ds.attrs.get("instrument", "ctd") not in INSTRUMENTS:
-            raise InputFileError(path, f"malformed seaprofile JSON: instrument "
-                                 f"{ds.attrs.get('instrument')!r} is not one of {INSTRUMENTS}",
-                                 column=f"{where}.attributes.instrument")
+            raise InputFileError(
+                path,
+                f"malformed seaprofile JSON: instrument "
+                f"{ds.attrs.get('instrument')!r} is not one of {INSTRUMENTS}",
+                column=f"{where}.attributes.instrument",
+            )
 
 
 # --- helpers ---------------------------------------------------------------------------
 
 
-_KINDS = ((stat.S_ISDIR, "is a directory, not a file"),
-          (stat.S_ISFIFO, "is a named pipe (FIFO), not a regular file"),
-          (stat.S_ISCHR, "is a character device (such as /dev/null), not a regular file"),
-          (stat.S_ISBLK, "is a block device, not a regular file"),
-          (stat.S_ISSOCK, "is a socket, not a regular file"))
+_KINDS = (
+    (stat.S_ISDIR, "is a directory, not a file"),
+    (stat.S_ISFIFO, "is a named pipe (FIFO), not a regular file"),
+    (stat.S_ISCHR, "is a character device (such as /dev/null), not a regular file"),
+    (stat.S_ISBLK, "is a block device, not a regular file"),
+    (stat.S_ISSOCK, "is a socket, not a regular file"),
+)
 
 
 def _refuse_special(path, mode):
@@ -374,4 +459,3 @@ def _override_position(ds, latitude, longitude):
         if value is not None:
             ds = ds.assign_coords({name: ((), float(value), _cf.attrs_for(name))})
     return ds
-

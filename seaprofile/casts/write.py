@@ -47,14 +47,29 @@ from .._validate import SeaprofileError
 from ._atomic import NETCDF_LOCK, atomic_write, refuse_input_as_output
 from .columns import DISPLAY_UNIT, KIND, checked_time
 
-__all__ = ["atomic_write", "write", "write_netcdf", "write_csv", "write_json", "write_speed_table",
-           "dataset_to_dict", "dataset_from_dict", "FORMATS", "NETCDF_LOCK",
-           "refuse_input_as_output", "format_of"]
+__all__ = [
+    "atomic_write",
+    "write",
+    "write_netcdf",
+    "write_csv",
+    "write_json",
+    "write_speed_table",
+    "dataset_to_dict",
+    "dataset_from_dict",
+    "FORMATS",
+    "NETCDF_LOCK",
+    "refuse_input_as_output",
+    "format_of",
+]
 
 #: format -> file suffixes; the first is the one written. ``.speed.txt`` (the plain
 #: depth / sound-speed table) is told apart from ``.txt`` (CSV) by its two suffixes.
-FORMATS = {"netcdf": (".nc", ".nc4", ".netcdf", ".cdf"), "csv": (".csv", ".txt", ".tsv"),
-           "json": (".json",), "table": (".speed.txt", ".table", ".dat")}
+FORMATS = {
+    "netcdf": (".nc", ".nc4", ".netcdf", ".cdf"),
+    "csv": (".csv", ".txt", ".tsv"),
+    "json": (".json",),
+    "table": (".speed.txt", ".table", ".dat"),
+}
 
 _DISPLAY = {**{v: DISPLAY_UNIT[k] for v, k in KIND.items()}, "sound_speed": "m/s"}
 _TIME_UNITS = "seconds since 1970-01-01 00:00:00"
@@ -66,8 +81,12 @@ _TIME_UNITS = "seconds since 1970-01-01 00:00:00"
 def format_of(path):
     """The format (a key of :data:`FORMATS`) named by the suffix of ``path``, or None."""
     name = Path(path).name.lower()
-    matches = [(len(ext), k) for k, exts in FORMATS.items() for ext in exts
-               if name.endswith(ext) and len(name) > len(ext)]
+    matches = [
+        (len(ext), k)
+        for k, exts in FORMATS.items()
+        for ext in exts
+        if name.endswith(ext) and len(name) > len(ext)
+    ]
     return max(matches)[1] if matches else None
 
 
@@ -98,8 +117,9 @@ def _dim(ds):
         return "sample"
     if "depth" in ds.dims:
         return "depth"
-    raise SeaprofileError(f"ds has dimensions {tuple(ds.dims)}; expected 'sample' (a Cast) "
-                          "or 'depth' (a Profile)")
+    raise SeaprofileError(
+        f"ds has dimensions {tuple(ds.dims)}; expected 'sample' (a Cast) or 'depth' (a Profile)"
+    )
 
 
 def _sample_vars(ds, dim):
@@ -133,8 +153,11 @@ def write_netcdf(ds, path, *, overwrite=False):
     names = []
     for d in items:
         names += [v for v in _sample_vars(d, dim) if v not in names]
-    zvar = dim if dim == "depth" else next(
-        (v for v in ("pressure", "depth") if any(v in d for d in items)), None)
+    zvar = (
+        dim
+        if dim == "depth"
+        else next((v for v in ("pressure", "depth") if any(v in d for d in items)), None)
+    )
 
     def fill(tmp):
         # every variable and attribute is defined first and the data written after: each
@@ -146,26 +169,51 @@ def write_netcdf(ds, path, *, overwrite=False):
             nc.createDimension("obs", int(counts.sum()))
             g = _global_attrs(items)
             nc.setncatts(g)
-            ids = [str(d["profile_id"].item()) if "profile_id" in d.coords else f"cast{i}"
-                   for i, d in enumerate(items)]
+            ids = [
+                str(d["profile_id"].item()) if "profile_id" in d.coords else f"cast{i}"
+                for i, d in enumerate(items)
+            ]
             pending = [_char_variable(nc, "profile_id", ids, _cf.attrs_for("profile_id"))]
             v = nc.createVariable("row_size", "i4", ("profile",))
-            v.setncatts({"long_name": "number of samples in each profile",
-                         "sample_dimension": "obs"})
+            v.setncatts(
+                {"long_name": "number of samples in each profile", "sample_dimension": "obs"}
+            )
             pending.append((v, counts))
             for c in ("latitude", "longitude"):
                 v = nc.createVariable(c, "f8", ("profile",), fill_value=np.nan)
                 v.setncatts(_cf.attrs_for(c))
                 pending.append((v, [float(d[c]) if c in d.coords else np.nan for d in items]))
             v = nc.createVariable("time", "f8", ("profile",), fill_value=np.nan)
-            v.setncatts({**_cf.attrs_for("time"), "units": _TIME_UNITS, "calendar": "standard",
-                         "axis": "T"})
-            pending.append((v, [_epoch_seconds(d["time"].values) if "time" in d.coords
-                                else np.nan for d in items]))
-            own = [json.dumps({"dimension": dim, "attributes": _jsonable_attrs(d.attrs),
-                               "variables": _sample_vars(d, dim)}) for d in items]
-            pending.append(_char_variable(nc, "profile_attributes", own, {
-                "long_name": "attributes of each profile as written by seaprofile (JSON)"}))
+            v.setncatts(
+                {**_cf.attrs_for("time"), "units": _TIME_UNITS, "calendar": "standard", "axis": "T"}
+            )
+            pending.append(
+                (
+                    v,
+                    [
+                        _epoch_seconds(d["time"].values) if "time" in d.coords else np.nan
+                        for d in items
+                    ],
+                )
+            )
+            own = [
+                json.dumps(
+                    {
+                        "dimension": dim,
+                        "attributes": _jsonable_attrs(d.attrs),
+                        "variables": _sample_vars(d, dim),
+                    }
+                )
+                for d in items
+            ]
+            pending.append(
+                _char_variable(
+                    nc,
+                    "profile_attributes",
+                    own,
+                    {"long_name": "attributes of each profile as written by seaprofile (JSON)"},
+                )
+            )
             pending += [_nc_variable(nc, items, dim, name, zvar) for name in names]
             for v, values in pending:
                 v[:] = values
@@ -227,9 +275,10 @@ def _nc_variable(nc, items, dim, name, zvar):
     else:
         raise SeaprofileError(f"ds: variable {name!r} of dtype {kind} cannot be written")
     pad = _cf.MISSING if name.endswith("_qc") else (0 if dtype != "f8" else np.nan)
-    parts = [np.asarray(d.variables[name].values) if name in d.variables
-             else np.full(d.sizes[dim], pad)
-             for d in items]
+    parts = [
+        np.asarray(d.variables[name].values) if name in d.variables else np.full(d.sizes[dim], pad)
+        for d in items
+    ]
     if fill is None:
         v = nc.createVariable(name, dtype, ("obs",), fill_value=False)
     else:
@@ -268,9 +317,11 @@ def write_csv(ds, path, *, overwrite=False):
     if isinstance(ds, (list, tuple)):
         raise SeaprofileError("ds: write_csv writes one dataset; use write_netcdf for a list")
     dim = _dim(ds)
-    lines = ["# seaprofile CSV file",
-             f"# dataset: {'cast' if dim == 'sample' else 'profile'}",
-             f"# caution: {_cf.CAUTION}"]
+    lines = [
+        "# seaprofile CSV file",
+        f"# dataset: {'cast' if dim == 'sample' else 'profile'}",
+        f"# caution: {_cf.CAUTION}",
+    ]
     for c in ("latitude", "longitude"):
         if c in ds.coords:
             value = float(ds[c])
@@ -282,8 +333,11 @@ def write_csv(ds, path, *, overwrite=False):
     for k, v in ds.attrs.items():
         if k == "caution":
             continue
-        text = json.dumps(_cf._jsonable(v)) if isinstance(v, (list, tuple, dict, np.ndarray)) \
+        text = (
+            json.dumps(_cf._jsonable(v))
+            if isinstance(v, (list, tuple, dict, np.ndarray))
             else str(v)
+        )
         for part in text.split("\n") or [""]:
             lines.append(f"# {k}: {part}")
     names = _sample_vars(ds, dim)
@@ -326,8 +380,12 @@ def _variable_dict(da):
         vals = np.where(np.isfinite(values), values, None).tolist()
     else:
         vals = values.tolist()
-    return {"dims": list(da.dims), "dtype": values.dtype.str.lstrip("<>|"),
-            "attributes": _jsonable_attrs(da.attrs), "values": vals}
+    return {
+        "dims": list(da.dims),
+        "dtype": values.dtype.str.lstrip("<>|"),
+        "attributes": _jsonable_attrs(da.attrs),
+        "values": vals,
+    }
 
 
 def dataset_from_dict(d):
@@ -337,8 +395,10 @@ def dataset_from_dict(d):
         dtype = np.dtype(entry["dtype"])
         values = entry["values"]
         if dtype.kind == "M":  # never through a silently wrapping datetime64[ns] cast
-            arr = np.array([checked_time(None if x is None else x.rstrip("Z"))
-                            for x in np.atleast_1d(values)], dtype="datetime64[ns]")
+            arr = np.array(
+                [checked_time(None if x is None else x.rstrip("Z")) for x in np.atleast_1d(values)],
+                dtype="datetime64[ns]",
+            )
             arr = arr if entry["dims"] else arr[0]
         elif dtype.kind == "f":
             arr = np.array(values, dtype=object)
@@ -356,9 +416,11 @@ def dataset_from_dict(d):
             attrs[k] = a
         return (tuple(entry["dims"]), arr, attrs)
 
-    return xr.Dataset({k: var(e) for k, e in d["variables"].items()},
-                      coords={k: var(e) for k, e in d["coordinates"].items()},
-                      attrs=dict(d["attributes"]))
+    return xr.Dataset(
+        {k: var(e) for k, e in d["variables"].items()},
+        coords={k: var(e) for k, e in d["coordinates"].items()},
+        attrs=dict(d["attributes"]),
+    )
 
 
 def write_json(ds, path, *, overwrite=False):
@@ -396,10 +458,14 @@ def write_speed_table(profile, path, *, overwrite=False):
     overwrite : bool
         Replace an existing file.
     """
-    if not isinstance(profile, xr.Dataset) or "depth" not in profile.dims \
-            or "sound_speed" not in profile:
-        raise SeaprofileError("profile must be a Profile with dimension 'depth' and "
-                              "variable 'sound_speed'")
+    if (
+        not isinstance(profile, xr.Dataset)
+        or "depth" not in profile.dims
+        or "sound_speed" not in profile
+    ):
+        raise SeaprofileError(
+            "profile must be a Profile with dimension 'depth' and variable 'sound_speed'"
+        )
     z = np.asarray(profile["depth"].values, dtype=np.float64)
     c = np.asarray(profile["sound_speed"].values, dtype=np.float64)
     keep = np.isfinite(z) & np.isfinite(c)

@@ -15,8 +15,7 @@ import numpy as np
 import xarray as xr
 
 from .. import _cf
-from .._validate import SeaprofileError, as_float_array
-from .._validate import is_lazy, warn_outside
+from .._validate import SeaprofileError, as_float_array, is_lazy, warn_outside
 from ..seawater._apply import pointwise, run_loop
 from ._common import with_variable
 
@@ -130,8 +129,14 @@ def depth_from_elapsed_time(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
     a, b, name, _ = resolve_fall_rate(fall_rate)
     t = as_float_array("elapsed_time", elapsed_time)
     if b > 0:
-        warn_outside("elapsed_time", t, 0.0, a / (2.0 * b), unit="s",
-                     context=f"the fall-rate equation {name} (negative times give NaN)")
+        warn_outside(
+            "elapsed_time",
+            t,
+            0.0,
+            a / (2.0 * b),
+            unit="s",
+            context=f"the fall-rate equation {name} (negative times give NaN)",
+        )
     elif t.size and np.nanmin(t, initial=0.0) < 0:
         warn_outside("elapsed_time", t, 0.0, np.inf, unit="s", context=name)
     return _fall_depth(t, a, b)
@@ -144,9 +149,12 @@ def fall_depth(elapsed_time, fall_rate=DEFAULT_FALL_RATE):
     a, b, name, ref = resolve_fall_rate(fall_rate)
     if not is_lazy(elapsed_time):
         depth_from_elapsed_time(elapsed_time.values[:0], fall_rate)  # validation only
-    return pointwise(functools.partial(_fall_depth, a=a, b=b), [("elapsed_time", elapsed_time)],
-                     name="depth", attrs=_cf.attrs_for(
-                         "depth", comment=f"from elapsed time with fall rate {name}: {ref}"))
+    return pointwise(
+        functools.partial(_fall_depth, a=a, b=b),
+        [("elapsed_time", elapsed_time)],
+        name="depth",
+        attrs=_cf.attrs_for("depth", comment=f"from elapsed time with fall rate {name}: {ref}"),
+    )
 
 
 def assumed_salinity(depth, salinity=DEFAULT_SALINITY):
@@ -237,14 +245,17 @@ def complete_xbt_cast(cast, *, fall_rate=DEFAULT_FALL_RATE, salinity=DEFAULT_SAL
             raise SeaprofileError("an expendable-probe cast needs elapsed_time or depth")
         a, b, name, ref = resolve_fall_rate(fall_rate)
         z = depth_from_elapsed_time(out["elapsed_time"].values, (a, b))
-        qc = np.maximum(out["elapsed_time_qc"].values,
-                        np.where(np.isfinite(z), _cf.NO_QC, _cf.MISSING)).astype(np.int8)
-        out = add_variable(out, "depth", z, qc,
-                           comment=f"from elapsed time with fall rate {name}: {ref}")
+        qc = np.maximum(
+            out["elapsed_time_qc"].values, np.where(np.isfinite(z), _cf.NO_QC, _cf.MISSING)
+        ).astype(np.int8)
+        out = add_variable(
+            out, "depth", z, qc, comment=f"from elapsed time with fall rate {name}: {ref}"
+        )
         attrs["fall_rate"] = name
         attrs["fall_rate_coefficients"] = f"a={a:g} m/s, b={b:g} m/s^2"
-        attrs = _cf.record_step(attrs, "depth_from_fall_rate", fall_rate=name, a=a, b=b,
-                                reference=ref)
+        attrs = _cf.record_step(
+            attrs, "depth_from_fall_rate", fall_rate=name, a=a, b=b, reference=ref
+        )
     if "salinity" not in out and "conductivity" not in out and salinity is not None:
         values, desc = assumed_salinity(out["depth"].values, salinity)
         out = add_variable(out, "salinity", values, comment=desc)
@@ -256,8 +267,13 @@ def complete_xbt_cast(cast, *, fall_rate=DEFAULT_FALL_RATE, salinity=DEFAULT_SAL
         from ..seawater.depth import pressure_from_depth
 
         p = np.asarray(pressure_from_depth(out["depth"].values, lat), dtype=np.float64)
-        out = add_variable(out, "pressure", p, out["depth_qc"].values.copy(),
-                           comment="from depth (UNESCO 1983) at the cast latitude")
+        out = add_variable(
+            out,
+            "pressure",
+            p,
+            out["depth_qc"].values.copy(),
+            comment="from depth (UNESCO 1983) at the cast latitude",
+        )
         attrs = _cf.record_step(attrs, "pressure_from_depth", method="unesco1983", latitude=lat)
     out.attrs = attrs
     return out

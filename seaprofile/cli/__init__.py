@@ -20,8 +20,10 @@ from ..io.errors import ArgumentError
 # Command modules, in the order --help lists them. Add a new command here.
 COMMANDS = ["demo", "build", "inspect", "plot", "speed", "fan", "paths"]
 
-EPILOG = ("A value that starts with a minus sign may also be written --option=VALUE "
-          f"(--latitude=-33.5).\n\nCaution: {CAUTION}")
+EPILOG = (
+    "A value that starts with a minus sign may also be written --option=VALUE "
+    f"(--latitude=-33.5).\n\nCaution: {CAUTION}"
+)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -72,8 +74,10 @@ def main(argv=None):
     except ArgumentError as exc:  # named by its Python keyword: show the option
         from ._options import option_name
 
-        print(f"seaprofile {args.command}: error: {exc.named(option_name(exc.argument))}",
-              file=sys.stderr)
+        print(
+            f"seaprofile {args.command}: error: {exc.named(option_name(exc.argument))}",
+            file=sys.stderr,
+        )
         return 2
     except (SeaprofileError, OSError) as exc:
         from ._options import in_option_terms

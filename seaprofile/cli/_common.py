@@ -20,7 +20,9 @@ def parse_length(text, name):
     try:
         value = float(t) * scale
     except ValueError:
-        raise SeaprofileError(f"{name}: expected a length in metres (e.g. 250 or 40km), got {text!r}")
+        raise SeaprofileError(
+            f"{name}: expected a length in metres (e.g. 250 or 40km), got {text!r}"
+        ) from None
     if not math.isfinite(value):
         raise SeaprofileError(f"{name}: must be finite, got {text!r}")
     return value
@@ -34,7 +36,10 @@ def print_table(rows, columns, file=None):
     print("  ".join(c.ljust(w) for c, w in zip(columns, widths)), file=file)
     print("  ".join("-" * w for w in widths), file=file)
     for row in cells:
-        print("  ".join(v.rjust(w) if _numeric(v) else v.ljust(w) for v, w in zip(row, widths)), file=file)
+        print(
+            "  ".join(v.rjust(w) if _numeric(v) else v.ljust(w) for v, w in zip(row, widths)),
+            file=file,
+        )
 
 
 def print_json(obj, file=None):

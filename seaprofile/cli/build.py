@@ -30,25 +30,51 @@ EXAMPLE = """example:
   seaprofile build demo_casts/xbt_drop.csv --extend-to bottom \\
       --reference demo_casts/deep_ocean_ctd.csv --out extended"""
 
-COLUMNS = ["file", "cast", "instrument", "depth_range_m", "samples", "flags",
-           "surface_speed", "mixed_layer_m", "sonic_layer_m", "status", "assumed"]
+COLUMNS = [
+    "file",
+    "cast",
+    "instrument",
+    "depth_range_m",
+    "samples",
+    "flags",
+    "surface_speed",
+    "mixed_layer_m",
+    "sonic_layer_m",
+    "status",
+    "assumed",
+]
 
 
 def add_arguments(p):
-    p.add_argument("casts", nargs="+", metavar="CAST",
-                   help="cast files (text, netCDF or JSON), or directories: a directory stands "
-                   "for its files ending in " + ", ".join(CAST_SUFFIXES) + ", in name order "
-                   "(not its subdirectories)")
+    p.add_argument(
+        "casts",
+        nargs="+",
+        metavar="CAST",
+        help="cast files (text, netCDF or JSON), or directories: a directory stands "
+        "for its files ending in " + ", ".join(CAST_SUFFIXES) + ", in name order "
+        "(not its subdirectories)",
+    )
     add_building_options(p)
-    p.add_argument("--extend-to", help="sea-floor depth, m, to extend every profile to (flagged "
-                   "estimated); 'bottom' uses each file's bottom_depth metadata")
+    p.add_argument(
+        "--extend-to",
+        help="sea-floor depth, m, to extend every profile to (flagged "
+        "estimated); 'bottom' uses each file's bottom_depth metadata",
+    )
     p.add_argument("--reference", help="a deeper profile or cast file that shapes the extension")
     p.add_argument("--out", help="output directory (default: print the summary only)")
-    p.add_argument("--format", default="netcdf", choices=sorted(FORMATS), help="output format (default netcdf)")
-    p.add_argument("--overwrite", action="store_true", help="replace existing output files "
-                   "(never an input file)")
-    p.add_argument("--scheduler", help="run through dask: threads, processes or the address of "
-                   "a running dask.distributed scheduler (tcp://host:8786)")
+    p.add_argument(
+        "--format", default="netcdf", choices=sorted(FORMATS), help="output format (default netcdf)"
+    )
+    p.add_argument(
+        "--overwrite",
+        action="store_true",
+        help="replace existing output files (never an input file)",
+    )
+    p.add_argument(
+        "--scheduler",
+        help="run through dask: threads, processes or the address of "
+        "a running dask.distributed scheduler (tcp://host:8786)",
+    )
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
 
 
@@ -56,29 +82,49 @@ def run(args):
     # every option is checked before any file is read
     read = reading_options(args)
     extend = _extend(args.extend_to)
-    check_build_options(bin_size=args.bin, extend_to=extend, equation=args.equation,
-                        depth_method=args.depth_method)
+    check_build_options(
+        bin_size=args.bin, extend_to=extend, equation=args.equation, depth_method=args.depth_method
+    )
     check_scheduler(args.scheduler)
     check_replacement_salinity(args.replace_salinity, args.replace_salinity_where)
     reference = load_profile(args.reference) if args.reference else None
     results = build_files(
-        args.casts, out_dir=args.out, format=args.format, overwrite=args.overwrite,
-        equation=args.equation, bin_size=args.bin, depth_method=args.depth_method,
-        extend_to=extend, scheduler=args.scheduler, reference=reference,
-        max_gap=_max_gap(args.max_gap), replacement_salinity=args.replace_salinity, replace_salinity=args.replace_salinity_where,
-        protect=[args.reference] if args.reference else (), **read)
+        args.casts,
+        out_dir=args.out,
+        format=args.format,
+        overwrite=args.overwrite,
+        equation=args.equation,
+        bin_size=args.bin,
+        depth_method=args.depth_method,
+        extend_to=extend,
+        scheduler=args.scheduler,
+        reference=reference,
+        max_gap=_max_gap(args.max_gap),
+        replacement_salinity=args.replace_salinity,
+        replace_salinity=args.replace_salinity_where,
+        protect=[args.reference] if args.reference else (),
+        **read,
+    )
     failed = [r for r in results if not r.ok]
     for r in failed:
         print(f"seaprofile build: error: {error_line(r)}", file=sys.stderr)
     rows = [summary_row(r) for r in results]
     if args.json:
-        print_json({"casts": rows, "written": [w for r in results for w in r.written],
-                    "failed": len(failed), "caution": CAUTION})
+        print_json(
+            {
+                "casts": rows,
+                "written": [w for r in results for w in r.written],
+                "failed": len(failed),
+                "caution": CAUTION,
+            }
+        )
     else:
         print_table(rows, COLUMNS)
-        print(f"{len(results) - len(failed)} built, {len(failed)} failed; speeds in m/s, depths in m"
-              "; what each profile assumes is written in full in its file (attribute "
-              "'assumptions') and in --json")
+        print(
+            f"{len(results) - len(failed)} built, {len(failed)} failed; speeds in m/s, depths in m"
+            "; what each profile assumes is written in full in its file (attribute "
+            "'assumptions') and in --json"
+        )
         print(f"Caution: {CAUTION}")
     return 2 if failed else 0
 

@@ -26,18 +26,30 @@ EXAMPLE = """example:
 def add_arguments(p):
     p.add_argument("--out", default="demo_output", help="output folder (default demo_output)")
     p.add_argument("--casts", help="folder of demo casts (default ./demo_casts)")
-    p.add_argument("--equation", default="chen_millero1977", choices=sorted(EQUATIONS),
-                   help="sound-speed equation (default chen_millero1977)")
+    p.add_argument(
+        "--equation",
+        default="chen_millero1977",
+        choices=sorted(EQUATIONS),
+        help="sound-speed equation (default chen_millero1977)",
+    )
     p.add_argument("--no-figures", action="store_true", help="skip the figures")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
 
 
 def run(args):
-    report = run_demo(args.out, casts_dir=args.casts, equation=args.equation,
-                      figures=not args.no_figures)
+    report = run_demo(
+        args.out, casts_dir=args.casts, equation=args.equation, figures=not args.no_figures
+    )
     if args.json:
-        print_json({"synthetic": True, "casts": report.rows, "written": report.written,
-                    "failures": report.failures, "caution": CAUTION})
+        print_json(
+            {
+                "synthetic": True,
+                "casts": report.rows,
+                "written": report.written,
+                "failures": report.failures,
+                "caution": CAUTION,
+            }
+        )
         return 0
     print("seaprofile demo: synthetic casts of an invented survey (not real data)\n")
     print_table(report.rows, COLUMNS)

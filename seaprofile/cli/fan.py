@@ -15,11 +15,25 @@ import numpy as np
 
 from .._cf import CAUTION
 from .._validate import SeaprofileError
-from ..io import (check_figure_path, check_memory, check_output, expand_paths, fan_bytes,
-                  load_environment, save_figure, write_netcdf)
+from ..io import (
+    check_figure_path,
+    check_memory,
+    check_output,
+    expand_paths,
+    fan_bytes,
+    load_environment,
+    save_figure,
+    write_netcdf,
+)
 from ._common import parse_length, print_json, print_table
-from ._options import (add_angle_options, add_ray_input_options, optional_length, parse_angles,
-                       parse_source_depth, reading_options)
+from ._options import (
+    add_angle_options,
+    add_ray_input_options,
+    optional_length,
+    parse_angles,
+    parse_source_depth,
+    reading_options,
+)
 
 NAME = "fan"
 HELP = "trace a fan of rays from one source; summary, rays file and figure"
@@ -42,26 +56,52 @@ _END_WORDS = {
 
 
 def add_arguments(p):
-    add_ray_input_options(p, "PROFILE_OR_SECTION",
-                          "profile or cast file(s), or a directory of casts forming a section")
+    add_ray_input_options(
+        p,
+        "PROFILE_OR_SECTION",
+        "profile or cast file(s), or a directory of casts forming a section",
+    )
     add_angle_options(p, default=DEFAULT_ANGLES, rays=DEFAULT_RAYS)
-    p.add_argument("--range", default=DEFAULT_RANGE, dest="max_range",
-                   help=f"range to trace to, m or km (default {DEFAULT_RANGE})")
+    p.add_argument(
+        "--range",
+        default=DEFAULT_RANGE,
+        dest="max_range",
+        help=f"range to trace to, m or km (default {DEFAULT_RANGE})",
+    )
     bottom = p.add_mutually_exclusive_group()
-    bottom.add_argument("--bottom-depth", help="flat bottom depth, m (default: the profile's "
-                                                "bottom depth if it carries one, else its deepest level)")
-    bottom.add_argument("--bathymetry", metavar="FILE",
-                        help="bottom along the track: a text file whose first line names the "
-                             "columns with units (range_km,depth_m or 'range (m), depth (m)'), "
-                             "then one range, depth point per line")
-    p.add_argument("--range-step", help="sample each ray every STEP (m or km) instead of keeping "
-                                        "every layer crossing and reflection (smaller files for big fans)")
-    p.add_argument("--max-reflections", type=int, default=DEFAULT_MAX_REFLECTIONS,
-                   help="stop a ray after this many surface + bottom reflections "
-                        f"(default {DEFAULT_MAX_REFLECTIONS})")
-    p.add_argument("--shade", choices=["launch-angle", "reflections"], default="launch-angle",
-                   help="colour the rays of the figure by launch angle or by reflections")
-    p.add_argument("--plot", metavar="FIGURE", help="write the ray figure (PNG, PDF or SVG by suffix)")
+    bottom.add_argument(
+        "--bottom-depth",
+        help="flat bottom depth, m (default: the profile's "
+        "bottom depth if it carries one, else its deepest level)",
+    )
+    bottom.add_argument(
+        "--bathymetry",
+        metavar="FILE",
+        help="bottom along the track: a text file whose first line names the "
+        "columns with units (range_km,depth_m or 'range (m), depth (m)'), "
+        "then one range, depth point per line",
+    )
+    p.add_argument(
+        "--range-step",
+        help="sample each ray every STEP (m or km) instead of keeping "
+        "every layer crossing and reflection (smaller files for big fans)",
+    )
+    p.add_argument(
+        "--max-reflections",
+        type=int,
+        default=DEFAULT_MAX_REFLECTIONS,
+        help="stop a ray after this many surface + bottom reflections "
+        f"(default {DEFAULT_MAX_REFLECTIONS})",
+    )
+    p.add_argument(
+        "--shade",
+        choices=["launch-angle", "reflections"],
+        default="launch-angle",
+        help="colour the rays of the figure by launch angle or by reflections",
+    )
+    p.add_argument(
+        "--plot", metavar="FIGURE", help="write the ray figure (PNG, PDF or SVG by suffix)"
+    )
     p.add_argument("--out", metavar="RAYS_NC", help="write the rays as netCDF")
     p.add_argument("--overwrite", action="store_true", help="replace existing output files")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
@@ -78,29 +118,49 @@ def run(args):
     if range_step is not None:
         if range_step <= 0:
             raise SeaprofileError(f"--range-step must be positive, got {args.range_step!r}")
-        check_memory("--range-step", fan_bytes(angles.size, max_range, range_step),
-                     f"{angles.size} rays sampled every {range_step:g} m to {max_range:g} m")
+        check_memory(
+            "--range-step",
+            fan_bytes(angles.size, max_range, range_step),
+            f"{angles.size} rays sampled every {range_step:g} m to {max_range:g} m",
+        )
     if args.max_reflections < 0:
         raise SeaprofileError(f"--max-reflections must be >= 0, got {args.max_reflections}")
     read = reading_options(args)
     inputs = [*expand_paths(args.profile), *([args.bathymetry] if args.bathymetry else [])]
-    plot_path = check_figure_path(args.plot, overwrite=args.overwrite, inputs=inputs,
-                                  argument="--plot")
-    out_path = check_output(args.out, overwrite=args.overwrite,
-                            inputs=inputs + ([args.plot] if args.plot else []), argument="--out")
+    plot_path = check_figure_path(
+        args.plot, overwrite=args.overwrite, inputs=inputs, argument="--plot"
+    )
+    out_path = check_output(
+        args.out,
+        overwrite=args.overwrite,
+        inputs=inputs + ([args.plot] if args.plot else []),
+        argument="--out",
+    )
 
-    env, loaded = load_environment(args.profile, bottom_depth=bottom_depth,
-                                   thin_tolerance=args.thin_tolerance,
-                                   bathymetry=args.bathymetry, **read)
+    env, loaded = load_environment(
+        args.profile,
+        bottom_depth=bottom_depth,
+        thin_tolerance=args.thin_tolerance,
+        bathymetry=args.bathymetry,
+        **read,
+    )
     bottom_here = float(env.bottom_at(0.0))
     if source_depth > bottom_here:
-        raise SeaprofileError(f"--source-depth {source_depth:g} m lies below the bottom "
-                              f"({bottom_here:g} m at the source)")
+        raise SeaprofileError(
+            f"--source-depth {source_depth:g} m lies below the bottom "
+            f"({bottom_here:g} m at the source)"
+        )
 
     from ..propagation.rays import trace_fan
 
-    fan = trace_fan(env, source_depth, angles, max_range, range_step=range_step,
-                    max_bounces=args.max_reflections)
+    fan = trace_fan(
+        env,
+        source_depth,
+        angles,
+        max_range,
+        range_step=range_step,
+        max_bounces=args.max_reflections,
+    )
     fan.attrs["input"] = loaded.description
 
     written = []
@@ -112,8 +172,12 @@ def run(args):
 
         # drawn from fine samples along every arc (the same rays; the file keeps what was
         # asked for), so turning points are round rather than polygonal
-        fig = plot_fan(fan_for_drawing(fan, env), env, shade=args.shade.replace("-", "_"),
-                       profile=loaded.profile)
+        fig = plot_fan(
+            fan_for_drawing(fan, env),
+            env,
+            shade=args.shade.replace("-", "_"),
+            profile=loaded.profile,
+        )
         save_figure(fig, plot_path, overwrite=args.overwrite)
         written.append(str(plot_path))
 
@@ -169,12 +233,16 @@ def summarise(fan, env, description=""):
 def _print_summary(sm):
     env = sm["environment"]
     print(f"input: {sm['input']}")
-    kind = (f"section of {env['casts']} casts" if env["casts"] > 1 else "one profile")
-    print(f"environment: {kind}, bottom {env['bottom']} ({env['bottom_depth_at_source_m']:g} m "
-          f"at the source), solver {sm['solver']}")
+    kind = f"section of {env['casts']} casts" if env["casts"] > 1 else "one profile"
+    print(
+        f"environment: {kind}, bottom {env['bottom']} ({env['bottom_depth_at_source_m']:g} m "
+        f"at the source), solver {sm['solver']}"
+    )
     lo, hi = sm["launch_angles_deg"]
-    print(f"rays traced: {sm['rays']} from a source at {sm['source_depth_m']:g} m, launch angles "
-          f"{lo:g} to {hi:g} deg, out to {sm['max_range_m'] / 1000:g} km")
+    print(
+        f"rays traced: {sm['rays']} from a source at {sm['source_depth_m']:g} m, launch angles "
+        f"{lo:g} to {hi:g} deg, out to {sm['max_range_m'] / 1000:g} km"
+    )
     print()
     rows = [{"how the rays ended": _END_WORDS.get(k, k), "rays": v} for k, v in sm["ended"].items()]
     print_table(rows, ["how the rays ended", "rays"])
@@ -186,9 +254,11 @@ def _print_summary(sm):
         {"reflections": "reach the bottom", "rays": r["reach_bottom"]},
     ]
     print_table(rows, ["reflections", "rays"])
-    print(f"most reflections on one ray: {r['max_surface_reflections']} at the surface, "
-          f"{r['max_bottom_reflections']} at the bottom; "
-          f"{sm['rays_with_turning_points']} rays turn by refraction")
+    print(
+        f"most reflections on one ray: {r['max_surface_reflections']} at the surface, "
+        f"{r['max_bottom_reflections']} at the bottom; "
+        f"{sm['rays_with_turning_points']} rays turn by refraction"
+    )
     for w in sm["written"]:
         print(f"wrote {w}")
     print(f"Caution: {CAUTION}")

@@ -6,9 +6,9 @@ default settings; --columns, --units, --latitude and --longitude say how to read
 
 from __future__ import annotations
 
-from ..layers import describe
-from ..io import load_profile, profile_bottom
 from .._validate import SeaprofileError
+from ..io import load_profile, profile_bottom
+from ..layers import describe
 from ..plots._numbers import cutoff_text
 from ._common import parse_length, print_json
 from ._options import add_reading_options, optional_length, reading_options
@@ -35,13 +35,17 @@ def run(args):
     source = optional_length(args.source_depth, "--source-depth")
     transducer = parse_length(args.transducer_depth, "--transducer-depth")
     if bottom is not None and bottom <= 0:
-        raise SeaprofileError(f"--bottom-depth must be below the surface (> 0 m), got "
-                              f"{args.bottom_depth!r}")
-    for value, text, option in ((source, args.source_depth, "--source-depth"),
-                                (transducer, args.transducer_depth, "--transducer-depth")):
+        raise SeaprofileError(
+            f"--bottom-depth must be below the surface (> 0 m), got {args.bottom_depth!r}"
+        )
+    for value, text, option in (
+        (source, args.source_depth, "--source-depth"),
+        (transducer, args.transducer_depth, "--transducer-depth"),
+    ):
         if value is not None and value < 0:
-            raise SeaprofileError(f"{option} must be at or below the surface (>= 0 m), got "
-                                  f"{text!r}")
+            raise SeaprofileError(
+                f"{option} must be at or below the surface (>= 0 m), got {text!r}"
+            )
     profile = load_profile(args.profile, **reading_options(args))
     floor = bottom if bottom is not None else profile_bottom(profile)
     if source is not None and floor is not None and source > floor:

@@ -22,13 +22,21 @@ EXAMPLE = """example:
 
 
 def add_arguments(p):
-    p.add_argument("--temperature", type=float, required=True, help="in-situ temperature, degC (ITS-90)")
+    p.add_argument(
+        "--temperature", type=float, required=True, help="in-situ temperature, degC (ITS-90)"
+    )
     p.add_argument("--salinity", type=float, required=True, help="practical salinity (PSS-78)")
     where = p.add_mutually_exclusive_group(required=True)
     where.add_argument("--depth", help="depth, m positive down (a 'km' suffix is accepted)")
     where.add_argument("--pressure", type=float, help="sea pressure, dbar")
-    p.add_argument("--latitude", type=float, help="latitude, degrees north (needed to convert depth and pressure)")
-    p.add_argument("--longitude", type=float, help="longitude, degrees east (TEOS-10 absolute salinity)")
+    p.add_argument(
+        "--latitude",
+        type=float,
+        help="latitude, degrees north (needed to convert depth and pressure)",
+    )
+    p.add_argument(
+        "--longitude", type=float, help="longitude, degrees east (TEOS-10 absolute salinity)"
+    )
     p.add_argument("--equation", choices=sorted(EQUATIONS), help="one equation instead of all")
     p.add_argument("--json", action="store_true", help="print a machine-readable result")
 
@@ -39,15 +47,17 @@ def run(args):
     names = [args.equation] if args.equation else list(EQUATIONS)
     rows = []
     for name in names:
-        point = dict(
-            pressure=args.pressure, depth=depth, latitude=args.latitude, equation=name
-        )
+        point = dict(pressure=args.pressure, depth=depth, latitude=args.latitude, equation=name)
         try:
             with warnings.catch_warnings(record=True) as caught:
                 warnings.simplefilter("always")
-                c = float(sound_speed(args.temperature, args.salinity, longitude=args.longitude, **point))
+                c = float(
+                    sound_speed(args.temperature, args.salinity, longitude=args.longitude, **point)
+                )
                 inside = bool(validity_mask(args.temperature, args.salinity, **point))
-            said = [str(w.message) for w in caught if issubclass(w.category, OutsideValidityWarning)]
+            said = [
+                str(w.message) for w in caught if issubclass(w.category, OutsideValidityWarning)
+            ]
             note = "" if inside else ("; ".join(said) or "outside the fitted range")
         except SeaprofileError as exc:
             if args.equation:

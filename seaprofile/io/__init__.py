@@ -17,6 +17,7 @@ behaviour:
 """
 
 from .bathymetry import read_bathymetry
+from .errors import ArgumentError, MemoryLimitError
 from .loading import (
     DEFAULT_THIN_TOLERANCE,
     READ_OPTIONS,
@@ -31,7 +32,6 @@ from .loading import (
     profile_bottom,
     read_as_profiles,
 )
-from .errors import ArgumentError, MemoryLimitError
 from .outputs import (
     FIGURE_FORMATS,
     MEMORY_LIMIT,

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import re
-from pathlib import Path
 
 import numpy as np
 
@@ -13,8 +12,9 @@ __all__ = ["read_bathymetry"]
 
 _SCALE = {"m": 1.0, "km": 1000.0}
 # "range_km", "range (km)", "range [m]", "depth_m", "depth (m)" ... (case ignored)
-_CELL = re.compile(r"^(range|depth)\s*(?:_\s*(m|km)|\(\s*(m|km)\s*\)|\[\s*(m|km)\s*\])$",
-                   re.IGNORECASE)
+_CELL = re.compile(
+    r"^(range|depth)\s*(?:_\s*(m|km)|\(\s*(m|km)\s*\)|\[\s*(m|km)\s*\])$", re.IGNORECASE
+)
 _EXAMPLE = "e.g. 'range_km,depth_m' or 'range (m), depth (m)'"
 
 
@@ -31,8 +31,11 @@ def _header(path, cells, lineno):
     matches = [_CELL.match(c) for c in cells]
     if [m.group(1).lower() if m else None for m in matches] != ["range", "depth"]:
         raise InputFileError(
-            path, f"the first line must name the columns range and depth with their units "
-            f"({_EXAMPLE}), got {', '.join(cells)!r}", lineno)
+            path,
+            f"the first line must name the columns range and depth with their units "
+            f"({_EXAMPLE}), got {', '.join(cells)!r}",
+            lineno,
+        )
     return tuple(_SCALE[next(u for u in m.groups()[1:] if u).lower()] for m in matches)
 
 
@@ -80,8 +83,9 @@ def read_bathymetry(path):
             scale = _header(path, cells, lineno)
             continue
         if len(cells) != 2:
-            raise InputFileError(path, f"expected 2 columns (range, depth), got {len(cells)}",
-                                 lineno)
+            raise InputFileError(
+                path, f"expected 2 columns (range, depth), got {len(cells)}", lineno
+            )
         values = []
         for col, cell in enumerate(cells, start=1):
             try:
@@ -92,14 +96,20 @@ def read_bathymetry(path):
         if not (np.isfinite(r) and np.isfinite(z)):
             raise InputFileError(path, "range and depth must be finite", lineno)
         if r < 0:
-            raise InputFileError(path, f"range must be at or beyond the source (>= 0 m), got "
-                                 f"{r:g} m", lineno, 1)
+            raise InputFileError(
+                path, f"range must be at or beyond the source (>= 0 m), got {r:g} m", lineno, 1
+            )
         if z <= 0:
-            raise InputFileError(path, f"bottom depth must be below the surface (> 0 m), got "
-                                 f"{z:g} m", lineno, 2)
+            raise InputFileError(
+                path, f"bottom depth must be below the surface (> 0 m), got {z:g} m", lineno, 2
+            )
         if r in first_line:
-            raise InputFileError(path, f"range {r:g} m repeats the range of line "
-                                 f"{first_line[r]}; ranges must not repeat", lineno, 1)
+            raise InputFileError(
+                path,
+                f"range {r:g} m repeats the range of line {first_line[r]}; ranges must not repeat",
+                lineno,
+                1,
+            )
         first_line[r] = lineno
         rows.append((r, z))
     if scale is None:

@@ -24,14 +24,25 @@ from .bathymetry import read_bathymetry
 from .errors import ArgumentError
 from .outputs import NETCDF_LOCK
 
-__all__ = ["CAST_SUFFIXES", "DEFAULT_THIN_TOLERANCE", "READ_OPTIONS", "LoadedInput",
-           "declared_kind", "directory_files", "expand_paths", "load_environment", "load_input",
-           "load_profile", "load_profiles", "load_section", "read_as_profiles"]
+__all__ = [
+    "CAST_SUFFIXES",
+    "DEFAULT_THIN_TOLERANCE",
+    "READ_OPTIONS",
+    "LoadedInput",
+    "declared_kind",
+    "directory_files",
+    "expand_paths",
+    "load_environment",
+    "load_input",
+    "load_profile",
+    "load_profiles",
+    "load_section",
+    "read_as_profiles",
+]
 
 #: keywords of :func:`seaprofile.casts.read.read_casts` accepted by the loaders; every
 #: other keyword goes to :func:`seaprofile.profile.build_profile`
-READ_OPTIONS = ("columns", "units", "instrument", "latitude", "longitude", "salinity",
-                "fall_rate")
+READ_OPTIONS = ("columns", "units", "instrument", "latitude", "longitude", "salinity", "fall_rate")
 
 #: default node thinning for ray tracing, m/s: keeps the shape of a measured profile
 #: while dropping bin-to-bin sensor noise that would otherwise make false micro-caustics
@@ -151,8 +162,11 @@ def _text_kind(path):
                     return None  # the header row: no declaration before it
                 key, _, value = s.lstrip("#").partition(":")
                 if key.strip().lower() == "dataset":
-                    return value.strip().lower() if value.strip().lower() in (
-                        "profile", "cast") else None
+                    return (
+                        value.strip().lower()
+                        if value.strip().lower() in ("profile", "cast")
+                        else None
+                    )
     except OSError as exc:
         raise InputFileError(path, f"cannot read: {exc.strerror}") from None
     return None
@@ -209,8 +223,9 @@ def read_as_profiles(path, **options):
     if declared_kind(path) == "profile":
         with lock:
             profiles = read_profiles(path)
-        return [_with_position(p, read.get("latitude"), read.get("longitude"))
-                for p in profiles], "profile"
+        return [
+            _with_position(p, read.get("latitude"), read.get("longitude")) for p in profiles
+        ], "profile"
     with lock:
         casts = read_casts(path, **read)
     return [build_profile(c, **build) for c in casts], "cast"
@@ -271,11 +286,17 @@ def directory_files(directory):
         The directory holds no such file.
     """
     directory = Path(directory)
-    inside = sorted(q for q in directory.iterdir() if q.is_file() and not q.name.startswith(".")
-                    and q.suffix.lower() in CAST_SUFFIXES)
+    inside = sorted(
+        q
+        for q in directory.iterdir()
+        if q.is_file() and not q.name.startswith(".") and q.suffix.lower() in CAST_SUFFIXES
+    )
     if not inside:
-        raise InputFileError(directory, "directory holds no cast or profile files (files "
-                             f"ending in {', '.join(CAST_SUFFIXES)})")
+        raise InputFileError(
+            directory,
+            "directory holds no cast or profile files (files "
+            f"ending in {', '.join(CAST_SUFFIXES)})",
+        )
     return inside
 
 
@@ -372,32 +393,58 @@ def load_input(paths, **options):
     if len(files) == 1:
         section = _section_dataset(files[0])
         if section is not None:
-            return LoadedInput(section=section, files=files, description=(
-                f"section of {section.ranges.size} casts from {files[0]}"))
+            return LoadedInput(
+                section=section,
+                files=files,
+                description=(f"section of {section.ranges.size} casts from {files[0]}"),
+            )
     profiles, kinds = [], set()
     for f in files:
         got, kind = read_as_profiles(f, **options)
         profiles.extend(got)
         kinds.add(kind)
     if len(profiles) == 1:
-        what = ("built profile" if kinds == {"profile"}
-                else "raw cast, built with the default settings" if not options
-                else "raw cast, built with the options given")
-        return LoadedInput(profile=profiles[0], profiles=profiles, files=files,
-                           description=f"{what} from {files[0]}")
-    what = "built profiles" if kinds == {"profile"} else (
-        "raw casts, built with the default settings" if kinds == {"cast"}
-        else "casts and profiles")
+        what = (
+            "built profile"
+            if kinds == {"profile"}
+            else "raw cast, built with the default settings"
+            if not options
+            else "raw cast, built with the options given"
+        )
+        return LoadedInput(
+            profile=profiles[0],
+            profiles=profiles,
+            files=files,
+            description=f"{what} from {files[0]}",
+        )
+    what = (
+        "built profiles"
+        if kinds == {"profile"}
+        else (
+            "raw casts, built with the default settings"
+            if kinds == {"cast"}
+            else "casts and profiles"
+        )
+    )
     if not _positions_known(profiles):
-        raise ArgumentError("paths", f"{len(profiles)} casts form a section, but some have no "
-                            "latitude/longitude, so their ranges along the track are unknown")
+        raise ArgumentError(
+            "paths",
+            f"{len(profiles)} casts form a section, but some have no "
+            "latitude/longitude, so their ranges along the track are unknown",
+        )
     from ..propagation.section import Section
 
     section = Section.from_profiles(profiles)
     src = files[0].parent if len(files) > 1 else files[0]
-    return LoadedInput(section=section, profiles=profiles, files=files, description=(
-        f"section of {len(profiles)} casts ({what}) from {src}, "
-        f"ranges from positions 0..{section.ranges[-1] / 1000:.1f} km"))
+    return LoadedInput(
+        section=section,
+        profiles=profiles,
+        files=files,
+        description=(
+            f"section of {len(profiles)} casts ({what}) from {src}, "
+            f"ranges from positions 0..{section.ranges[-1] / 1000:.1f} km"
+        ),
+    )
 
 
 def load_section(paths, **options):
@@ -422,16 +469,18 @@ def load_section(paths, **options):
     """
     loaded = load_input(paths, **options)
     if loaded.section is None:
-        raise ArgumentError("paths", f"{loaded.description}: one profile is not a section; "
-                            "give several casts")
+        raise ArgumentError(
+            "paths", f"{loaded.description}: one profile is not a section; give several casts"
+        )
     return loaded.section
 
 
 # --- environment -----------------------------------------------------------------------
 
 
-def load_environment(paths, *, bottom_depth=None, bathymetry=None,
-                     thin_tolerance=DEFAULT_THIN_TOLERANCE, **options):
+def load_environment(
+    paths, *, bottom_depth=None, bathymetry=None, thin_tolerance=DEFAULT_THIN_TOLERANCE, **options
+):
     """The ray-tracing Environment from a profile or section and the bottom.
 
     Parameters
@@ -456,8 +505,9 @@ def load_environment(paths, *, bottom_depth=None, bathymetry=None,
     from ..propagation.environment import Environment
 
     if bottom_depth is not None and (not np.isfinite(bottom_depth) or bottom_depth <= 0):
-        raise ArgumentError("bottom_depth", f"must be below the surface (> 0 m), got "
-                            f"{bottom_depth:g}")
+        raise ArgumentError(
+            "bottom_depth", f"must be below the surface (> 0 m), got {bottom_depth:g}"
+        )
     if not np.isfinite(thin_tolerance) or thin_tolerance < 0:
         raise ArgumentError("thin_tolerance", f"must be >= 0 m/s, got {thin_tolerance:g}")
     loaded = load_input(paths, **options)
@@ -469,8 +519,9 @@ def load_environment(paths, *, bottom_depth=None, bathymetry=None,
     else:
         if bottom_depth is None and bathy is None:
             bottom_depth = profile_bottom(loaded.profile)
-        env = Environment.from_profile(loaded.profile, bottom_depth, bathymetry=bathy,
-                                       thin_tolerance=thin_tolerance or None)
+        env = Environment.from_profile(
+            loaded.profile, bottom_depth, bathymetry=bathy, thin_tolerance=thin_tolerance or None
+        )
     return env, loaded
 
 

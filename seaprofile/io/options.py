@@ -10,11 +10,18 @@ import math
 import re
 
 from ..casts._qc_tests import MAX_OCEAN_DEPTH
-from .errors import ArgumentError
 from ..casts.binning import check_bin_count
+from .errors import ArgumentError
 
-__all__ = ["FULL_OCEAN_DEPTH", "SCHEDULERS", "check_build_options", "check_read_options",
-           "check_replacement_salinity", "check_scheduler", "parse_pairs"]
+__all__ = [
+    "FULL_OCEAN_DEPTH",
+    "SCHEDULERS",
+    "check_build_options",
+    "check_read_options",
+    "check_replacement_salinity",
+    "check_scheduler",
+    "parse_pairs",
+]
 
 #: deepest water a cast can see, m: the bound used to size a profile before its cast is
 #: read, the same bound that QC and the extension use (common practice, no source)
@@ -46,8 +53,11 @@ def parse_pairs(text, argument):
                 continue
             key, eq, value = item.partition("=")
             if not eq:
-                raise ArgumentError(argument, "expected VARIABLE=VALUE pairs separated by "
-                                    f"commas (e.g. temperature=T_deg,pressure=P), got {item!r}")
+                raise ArgumentError(
+                    argument,
+                    "expected VARIABLE=VALUE pairs separated by "
+                    f"commas (e.g. temperature=T_deg,pressure=P), got {item!r}",
+                )
             items.append((key.strip(), value.strip()))
     out = {}
     for key, value in items:
@@ -59,8 +69,9 @@ def parse_pairs(text, argument):
             key, value = str(value).strip(), int(key.lstrip("#"))
         key = ALIASES.get(key, key)
         if key not in KIND:
-            raise ArgumentError(argument, f"unknown variable {key!r}; expected one of "
-                                f"{', '.join(KIND)}")
+            raise ArgumentError(
+                argument, f"unknown variable {key!r}; expected one of {', '.join(KIND)}"
+            )
         if key in out:
             raise ArgumentError(argument, f"{key!r} given twice")
         out[key] = value
@@ -80,8 +91,16 @@ def _number(argument, value, low=None, high=None, unit=""):
     return v
 
 
-def check_read_options(*, columns=None, units=None, latitude=None, longitude=None,
-                       salinity=None, fall_rate=None, instrument=None):
+def check_read_options(
+    *,
+    columns=None,
+    units=None,
+    latitude=None,
+    longitude=None,
+    salinity=None,
+    fall_rate=None,
+    instrument=None,
+):
     """Check the reading options; returns them parsed (``columns``/``units`` as dicts).
 
     Parameters
@@ -125,17 +144,22 @@ def check_read_options(*, columns=None, units=None, latitude=None, longitude=Non
     if fall_rate is not None:
         if isinstance(fall_rate, str):
             if fall_rate not in FALL_RATES:
-                raise ArgumentError("fall_rate", f"expected one of {', '.join(FALL_RATES)} or "
-                                    f"A,B, got {fall_rate!r}")
+                raise ArgumentError(
+                    "fall_rate",
+                    f"expected one of {', '.join(FALL_RATES)} or A,B, got {fall_rate!r}",
+                )
         else:
             try:
                 a, b = (float(v) for v in fall_rate)
             except (TypeError, ValueError):
-                raise ArgumentError("fall_rate", f"expected a name or a pair A,B, got "
-                                    f"{fall_rate!r}") from None
+                raise ArgumentError(
+                    "fall_rate", f"expected a name or a pair A,B, got {fall_rate!r}"
+                ) from None
             if not (math.isfinite(a) and a > 0 and math.isfinite(b) and b >= 0):
-                raise ArgumentError("fall_rate", f"need A > 0 m/s and B >= 0 m/s^2 (depth = "
-                                    f"A t - B t^2), got {a:g},{b:g}")
+                raise ArgumentError(
+                    "fall_rate",
+                    f"need A > 0 m/s and B >= 0 m/s^2 (depth = A t - B t^2), got {a:g},{b:g}",
+                )
             fall_rate = (a, b)
         out["fall_rate"] = fall_rate
     if instrument is not None:
@@ -175,11 +199,13 @@ def check_build_options(*, bin_size=1.0, extend_to=None, equation=None, depth_me
     if extend_to is not None and not (isinstance(extend_to, str) and extend_to == "bottom"):
         depth = _number("extend_to", extend_to)
         if depth <= 0:
-            raise ArgumentError("extend_to", f"the sea floor must lie below the surface "
-                                f"(> 0 m), got {extend_to!r}")
+            raise ArgumentError(
+                "extend_to", f"the sea floor must lie below the surface (> 0 m), got {extend_to!r}"
+            )
         if depth > MAX_OCEAN_DEPTH:
-            raise ArgumentError("extend_to", f"{depth:g} m is deeper than any ocean (at most "
-                                f"{MAX_OCEAN_DEPTH:g} m)")
+            raise ArgumentError(
+                "extend_to", f"{depth:g} m is deeper than any ocean (at most {MAX_OCEAN_DEPTH:g} m)"
+            )
         deepest = max(deepest, depth)
     # the same check, constant and message binning applies to each cast
     check_bin_count(deepest / size + 1.0, size, deepest, "bin_size")
@@ -187,14 +213,16 @@ def check_build_options(*, bin_size=1.0, extend_to=None, equation=None, depth_me
         from ..seawater.soundspeed import EQUATIONS
 
         if equation not in EQUATIONS:
-            raise ArgumentError("equation", f"expected one of {', '.join(EQUATIONS)}, got "
-                                f"{equation!r}")
+            raise ArgumentError(
+                "equation", f"expected one of {', '.join(EQUATIONS)}, got {equation!r}"
+            )
     if depth_method is not None:
         from ..seawater.depth import METHODS
 
         if depth_method not in METHODS:
-            raise ArgumentError("depth_method", f"expected one of {', '.join(METHODS)}, got "
-                                f"{depth_method!r}")
+            raise ArgumentError(
+                "depth_method", f"expected one of {', '.join(METHODS)}, got {depth_method!r}"
+            )
 
 
 def check_scheduler(scheduler):
@@ -212,17 +240,24 @@ def check_scheduler(scheduler):
         try:
             import dask.bag  # noqa: F401
         except ImportError:
-            raise ArgumentError("scheduler", "dask is not installed (pip install "
-                                "'seaprofile[scale]')") from None
+            raise ArgumentError(
+                "scheduler", "dask is not installed (pip install 'seaprofile[scale]')"
+            ) from None
         return scheduler
     if not _ADDRESS.match(str(scheduler)):
-        raise ArgumentError("scheduler", f"unknown scheduler {scheduler!r}; use "
-                            f"{', '.join(SCHEDULERS)} or the address of a running "
-                            "dask.distributed scheduler (e.g. tcp://127.0.0.1:8786)")
+        raise ArgumentError(
+            "scheduler",
+            f"unknown scheduler {scheduler!r}; use "
+            f"{', '.join(SCHEDULERS)} or the address of a running "
+            "dask.distributed scheduler (e.g. tcp://127.0.0.1:8786)",
+        )
     try:
         import dask.distributed  # noqa: F401
     except ImportError:
-        raise ArgumentError("scheduler", f"{scheduler!r} is a cluster address, but "
-                            "dask.distributed is not installed (pip install "
-                            "'seaprofile[scale]')") from None
+        raise ArgumentError(
+            "scheduler",
+            f"{scheduler!r} is a cluster address, but "
+            "dask.distributed is not installed (pip install "
+            "'seaprofile[scale]')",
+        ) from None
     return scheduler

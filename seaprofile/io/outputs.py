@@ -5,14 +5,27 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from ..casts.write import atomic_write
 from ..casts._atomic import NETCDF_LOCK as _NETCDF_LOCK
+from ..casts.write import atomic_write
 from .errors import ArgumentError, MemoryLimitError
 from .write import write
 
-__all__ = ["FIGURE_FORMATS", "MEMORY_LIMIT", "NETCDF_LOCK", "BYTES_PER_BIN", "BYTES_PER_RAY_SAMPLE",
-           "check_figure_path", "check_memory", "check_output", "fan_bytes", "format_bytes",
-           "is_same_file", "profile_bytes", "save_figure", "write_netcdf"]
+__all__ = [
+    "FIGURE_FORMATS",
+    "MEMORY_LIMIT",
+    "NETCDF_LOCK",
+    "BYTES_PER_BIN",
+    "BYTES_PER_RAY_SAMPLE",
+    "check_figure_path",
+    "check_memory",
+    "check_output",
+    "fan_bytes",
+    "format_bytes",
+    "is_same_file",
+    "profile_bytes",
+    "save_figure",
+    "write_netcdf",
+]
 
 #: the one process-wide lock held around every netCDF (HDF5) read and write: the HDF5
 #: library must not be entered from two threads at once (``build --scheduler threads``)
@@ -94,8 +107,12 @@ def check_memory(argument, requested, what, limit=MEMORY_LIMIT):
     """
     if requested > limit:
         raise MemoryLimitError(
-            argument, f"{what} would need about {format_bytes(requested)} of memory, more than "
-            f"the {format_bytes(limit)} allowed; choose a larger value", requested, limit)
+            argument,
+            f"{what} would need about {format_bytes(requested)} of memory, more than "
+            f"the {format_bytes(limit)} allowed; choose a larger value",
+            requested,
+            limit,
+        )
 
 
 def is_same_file(a, b):
@@ -141,14 +158,20 @@ def check_output(path, *, overwrite=False, inputs=(), argument="path"):
     p = Path(path)
     for source in inputs:
         if is_same_file(p, source):
-            raise ArgumentError(argument, f"{p} is an input of this run; an input is never "
-                                "written over (choose another output name)")
+            raise ArgumentError(
+                argument,
+                f"{p} is an input of this run; an input is never "
+                "written over (choose another output name)",
+            )
     if p.is_dir():
         raise ArgumentError(argument, f"{p} is a directory")
     if p.exists() and not overwrite:
-        raise ArgumentError(argument, f"{p} exists; use --overwrite to replace it"
-                            if argument.startswith("--") else
-                            f"{p} exists; pass overwrite=True to replace it")
+        raise ArgumentError(
+            argument,
+            f"{p} exists; use --overwrite to replace it"
+            if argument.startswith("--")
+            else f"{p} exists; pass overwrite=True to replace it",
+        )
     if str(p.parent) and not p.parent.exists():
         raise ArgumentError(argument, f"directory {p.parent} does not exist")
     return p
@@ -160,8 +183,11 @@ def check_figure_path(path, *, overwrite=False, inputs=(), argument="path"):
         return None
     suffix = Path(path).suffix.lower()
     if suffix not in FIGURE_FORMATS:
-        raise ArgumentError(argument, f"unknown figure format {suffix or '(no suffix)'!r} of "
-                            f"{path}; use {', '.join(FIGURE_FORMATS)}")
+        raise ArgumentError(
+            argument,
+            f"unknown figure format {suffix or '(no suffix)'!r} of "
+            f"{path}; use {', '.join(FIGURE_FORMATS)}",
+        )
     return check_output(path, overwrite=overwrite, inputs=inputs, argument=argument)
 
 
@@ -199,7 +225,8 @@ def save_figure(fig, path, *, overwrite=False, dpi=150):
     """
     suffix = Path(path).suffix.lower()
     if suffix not in FIGURE_FORMATS:
-        raise ArgumentError("path", f"unknown figure format {suffix!r}; use "
-                            f"{', '.join(FIGURE_FORMATS)}")
+        raise ArgumentError(
+            "path", f"unknown figure format {suffix!r}; use {', '.join(FIGURE_FORMATS)}"
+        )
     fmt = FIGURE_FORMATS[suffix]
     return atomic_write(path, overwrite, lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi))

@@ -32,20 +32,38 @@ Add a product kind with :func:`register_product`.
 from __future__ import annotations
 
 import json
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable, Mapping
 
 import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError
-from ..casts.write import (FORMATS, NETCDF_LOCK, _jsonable_attrs, _nc_attr, _variable_dict,
-                           atomic_write, format_of, refuse_input_as_output, write_csv,
-                           write_json, write_netcdf, write_speed_table)
+from ..casts.write import (
+    FORMATS,
+    NETCDF_LOCK,
+    _jsonable_attrs,
+    _nc_attr,
+    _variable_dict,
+    atomic_write,
+    format_of,
+    refuse_input_as_output,
+    write_csv,
+    write_json,
+    write_netcdf,
+    write_speed_table,
+)
 
-__all__ = ["PRODUCTS", "Product", "product_kind", "register_product", "write",
-           "write_product_json", "write_product_netcdf"]
+__all__ = [
+    "PRODUCTS",
+    "Product",
+    "product_kind",
+    "register_product",
+    "write",
+    "write_product_json",
+    "write_product_netcdf",
+]
 
 
 @dataclass(frozen=True)
@@ -94,8 +112,9 @@ def register_product(kind, *, description, detect, writers):
     """
     unknown = [f for f in writers if f not in FORMATS]
     if unknown or not writers:
-        raise SeaprofileError(f"writers: formats must be among {', '.join(FORMATS)}, "
-                              f"got {list(writers)}")
+        raise SeaprofileError(
+            f"writers: formats must be among {', '.join(FORMATS)}, got {list(writers)}"
+        )
     PRODUCTS[kind] = Product(str(kind), str(description), detect, dict(writers))
     return PRODUCTS[kind]
 
@@ -110,14 +129,18 @@ def _as_dataset(obj):
 
 def _kind_of_one(ds):
     if not isinstance(ds, (xr.Dataset, xr.DataArray)):
-        raise SeaprofileError(f"obj must be an xarray Dataset or DataArray (a seaprofile "
-                              f"product), got {type(ds).__name__}")
+        raise SeaprofileError(
+            f"obj must be an xarray Dataset or DataArray (a seaprofile "
+            f"product), got {type(ds).__name__}"
+        )
     ds = _as_dataset(ds)
     named = ds.attrs.get("product")
     if named is not None:
         if named not in PRODUCTS:
-            raise SeaprofileError(f"obj: product {named!r} is not one seaprofile writes; "
-                                  f"known products: {', '.join(PRODUCTS)}")
+            raise SeaprofileError(
+                f"obj: product {named!r} is not one seaprofile writes; "
+                f"known products: {', '.join(PRODUCTS)}"
+            )
         return named
     for kind, product in PRODUCTS.items():
         if product.detect(ds):
@@ -125,7 +148,8 @@ def _kind_of_one(ds):
     raise SeaprofileError(
         f"obj: a Dataset with dimensions {tuple(ds.dims)} and variables "
         f"{sorted(map(str, ds.data_vars))[:8]} is no product seaprofile writes; known "
-        f"products: {', '.join(PRODUCTS)} (set its attribute 'product' to one of them)")
+        f"products: {', '.join(PRODUCTS)} (set its attribute 'product' to one of them)"
+    )
 
 
 def product_kind(obj):
@@ -185,13 +209,17 @@ def write(obj, path, format=None, *, overwrite=False, protect=()):
     if format is None:
         format = format_of(path)
         if format is None:
-            raise SeaprofileError(f"format: cannot tell the format from {path.name!r}; "
-                                  f"give one of {', '.join(product.writers)}")
+            raise SeaprofileError(
+                f"format: cannot tell the format from {path.name!r}; "
+                f"give one of {', '.join(product.writers)}"
+            )
     if format not in FORMATS:
         raise SeaprofileError(f"format must be one of {', '.join(FORMATS)}, got {format!r}")
     if format not in product.writers:
-        raise SeaprofileError(f"format: a {product.description} is written as "
-                              f"{' or '.join(product.writers)}, not {format}")
+        raise SeaprofileError(
+            f"format: a {product.description} is written as "
+            f"{' or '.join(product.writers)}, not {format}"
+        )
     return product.writers[format](obj, path, overwrite=overwrite)
 
 
@@ -236,11 +264,13 @@ def write_product_netcdf(obj, path, *, overwrite=False):
     ds, kind = _one(obj, "write_product_netcdf")
     for name, var in ds.variables.items():
         if var.dtype.kind == "O":
-            raise SeaprofileError(f"obj: variable {name!r} holds Python objects, which "
-                                  "netCDF cannot store; convert it to numbers or text")
+            raise SeaprofileError(
+                f"obj: variable {name!r} holds Python objects, which "
+                "netCDF cannot store; convert it to numbers or text"
+            )
     out = ds.copy(deep=False)
     out.attrs = _global_attrs(ds.attrs, kind, "write_netcdf")
-    for name, var in out.variables.items():
+    for var in out.variables.values():
         var.attrs = {k: _nc_attr(v) for k, v in var.attrs.items()}
 
     def fill(tmp):
@@ -259,12 +289,19 @@ def write_product_json(obj, path, *, overwrite=False):
     ``"dataset"``. The arguments are those of :func:`write_product_netcdf`.
     """
     ds, kind = _one(obj, "write_product_json")
-    doc = {"format": "seaprofile", "format_version": 1, "caution": _cf.CAUTION,
-           "product": kind,
-           "dataset": {"kind": kind, "dimensions": {str(k): int(v) for k, v in ds.sizes.items()},
-                       "attributes": _jsonable_attrs({**ds.attrs, "product": kind}),
-                       "coordinates": {str(k): _variable_dict(ds[k]) for k in ds.coords},
-                       "variables": {str(k): _variable_dict(ds[k]) for k in ds.data_vars}}}
+    doc = {
+        "format": "seaprofile",
+        "format_version": 1,
+        "caution": _cf.CAUTION,
+        "product": kind,
+        "dataset": {
+            "kind": kind,
+            "dimensions": {str(k): int(v) for k, v in ds.sizes.items()},
+            "attributes": _jsonable_attrs({**ds.attrs, "product": kind}),
+            "coordinates": {str(k): _variable_dict(ds[k]) for k in ds.coords},
+            "variables": {str(k): _variable_dict(ds[k]) for k in ds.data_vars},
+        },
+    }
     text = json.dumps(doc, indent=1, allow_nan=False)
 
     def fill(tmp):
@@ -290,15 +327,19 @@ def _is_ray_fan(ds):
 
 def _is_path_table(ds):
     # one entry per eigenray along ``path`` (the PathTable record of eigenrays)
-    return "path" in ds.dims and \
-        {"receiver_range", "receiver_depth"} <= set(ds.coords)
+    return "path" in ds.dims and {"receiver_range", "receiver_depth"} <= set(ds.coords)
 
 
 _CAST_WRITERS = {"netcdf": write_netcdf, "csv": write_csv, "json": write_json}
 register_product("cast", description="cast", detect=_is_cast, writers=_CAST_WRITERS)
-register_product("profile", description="profile", detect=_is_profile,
-                 writers={**_CAST_WRITERS, "table": write_speed_table})
+register_product(
+    "profile",
+    description="profile",
+    detect=_is_profile,
+    writers={**_CAST_WRITERS, "table": write_speed_table},
+)
 _GRIDDED = {"netcdf": write_product_netcdf, "json": write_product_json}
 register_product("ray_fan", description="ray fan", detect=_is_ray_fan, writers=_GRIDDED)
-register_product("path_table", description="eigenray paths (PathTable)", detect=_is_path_table,
-                 writers=_GRIDDED)
+register_product(
+    "path_table", description="eigenray paths (PathTable)", detect=_is_path_table, writers=_GRIDDED
+)

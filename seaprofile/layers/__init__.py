@@ -34,6 +34,7 @@ from .mixed import (
     mixed_layer_depth_density,
     sonic_layer_depth,
 )
+
 # _estimated_top is used by seaprofile.plots.profile, which imports it from here
 from .summary import _estimated_top, describe, describe_dataset  # noqa: F401
 

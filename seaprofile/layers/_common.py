@@ -24,8 +24,10 @@ def _valid_1d(depth, sound_speed):
     ok = np.isfinite(z) & np.isfinite(c)
     z, c = z[ok], c[ok]
     if z.size and not np.all(np.diff(z) > 0):
-        raise SeaprofileError("depth must be strictly increasing (the layer functions take "
-                              "sound_speed first, then depth)")
+        raise SeaprofileError(
+            "depth must be strictly increasing (the layer functions take "
+            "sound_speed first, then depth)"
+        )
     return z, c
 
 
@@ -46,7 +48,8 @@ def _columns(name, values, depth, dim):
         if dim not in getattr(values, "dims", ()):
             raise SeaprofileError(
                 f"depth is required (m, positive down) unless {name} is a DataArray with "
-                f"a {dim!r} dimension (pass dim= the vertical dimension)")
+                f"a {dim!r} dimension (pass dim= the vertical dimension)"
+            )
         if dim not in coord:
             raise SeaprofileError(f"{name} has no {dim!r} coordinate: give depth")
         depth = values[dim]
@@ -66,15 +69,18 @@ def _per_profile(func1d, dtypes, columns, params=(), vectorised=False):
     if any(c.ndim == 0 for c in cols):
         raise SeaprofileError("profiles need a vertical axis (depth along the last axis)")
     if len({c.shape[-1] for c in cols}) > 1:
-        raise SeaprofileError("the profile arrays and depth must have one length along the "
-                              f"vertical (last) axis, got {[c.shape for c in cols]}")
+        raise SeaprofileError(
+            "the profile arrays and depth must have one length along the "
+            f"vertical (last) axis, got {[c.shape for c in cols]}"
+        )
     params = [np.asarray(p, dtype=np.float64) for p in params]
     try:
         loop = np.broadcast_shapes(*(c.shape[:-1] for c in cols), *(p.shape for p in params))
     except ValueError:
         raise SeaprofileError(
             "the profile axes of the inputs do not broadcast together: "
-            f"{[c.shape for c in cols]} and parameters {[p.shape for p in params]}") from None
+            f"{[c.shape for c in cols]} and parameters {[p.shape for p in params]}"
+        ) from None
     single = all(c.ndim == 1 for c in cols)
     if single and (vectorised or loop == ()):
         return func1d(*cols, *[_scalar(p) for p in params])

@@ -21,8 +21,9 @@ from ._common import _columns, _per_profile, _scalar, _valid_1d
 __all__ = ["sound_channels", "critical_depth", "depth_excess", "speed_at"]
 
 
-def sound_channels(sound_speed, depth=None, *, below=None, min_contrast=1.0, min_thickness=10.0,
-                   dim="depth"):
+def sound_channels(
+    sound_speed, depth=None, *, below=None, min_contrast=1.0, min_thickness=10.0, dim="depth"
+):
     """Deep sound channel axis and a secondary channel, if present.
 
     Parameters
@@ -66,41 +67,70 @@ def sound_channels(sound_speed, depth=None, *, below=None, min_contrast=1.0, min
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
     func = functools.partial(_channels_1d, float(min_contrast), float(min_thickness))
     outputs = [(k, _CHANNEL_ATTRS[k]) for k in _CHANNEL_KEYS]
-    out = columnwise(lambda c, z, b: _per_profile(func, _CHANNEL_DTYPES, [c, z], [b]),
-                     columns, dim=dim, params=[("below", np.nan if below is None else below)],
-                     outputs=outputs, dtypes=_CHANNEL_DTYPES)
+    out = columnwise(
+        lambda c, z, b: _per_profile(func, _CHANNEL_DTYPES, [c, z], [b]),
+        columns,
+        dim=dim,
+        params=[("below", np.nan if below is None else below)],
+        outputs=outputs,
+        dtypes=_CHANNEL_DTYPES,
+    )
     if isinstance(out[0], xr.DataArray):
         return xr.Dataset(dict(zip(_CHANNEL_KEYS, out)))
     return dict(zip(_CHANNEL_KEYS, out))
 
 
-_CHANNEL_KEYS = ("axis_depth", "axis_speed", "axis_contrast", "secondary_depth",
-                 "secondary_speed", "secondary_contrast", "secondary_thickness",
-                 "still_decreasing")
+_CHANNEL_KEYS = (
+    "axis_depth",
+    "axis_speed",
+    "axis_contrast",
+    "secondary_depth",
+    "secondary_speed",
+    "secondary_contrast",
+    "secondary_thickness",
+    "still_decreasing",
+)
 _CHANNEL_DTYPES = [np.float64] * 7 + [np.bool_]
 _CHANNEL_ATTRS = {
     "axis_depth": {"long_name": "deep sound channel axis depth", "units": "m"},
     "axis_speed": _cf.attrs_for("sound_speed", long_name="sound speed on the channel axis"),
-    "axis_contrast": {"long_name": "rise of sound speed needed to escape the channel",
-                      "units": "m s-1"},
+    "axis_contrast": {
+        "long_name": "rise of sound speed needed to escape the channel",
+        "units": "m s-1",
+    },
     "secondary_depth": {"long_name": "secondary sound channel depth", "units": "m"},
-    "secondary_speed": _cf.attrs_for("sound_speed",
-                                     long_name="sound speed on the secondary channel"),
-    "secondary_contrast": {"long_name": "sound speed rise bounding the secondary channel",
-                           "units": "m s-1"},
-    "secondary_thickness": {"long_name": "thickness of the secondary channel's trapping "
-                            "region", "units": "m"},
-    "still_decreasing": {"long_name": "sound speed still decreases at the deepest valid "
-                         "sample (the axis may lie deeper)", "units": "1"},
+    "secondary_speed": _cf.attrs_for(
+        "sound_speed", long_name="sound speed on the secondary channel"
+    ),
+    "secondary_contrast": {
+        "long_name": "sound speed rise bounding the secondary channel",
+        "units": "m s-1",
+    },
+    "secondary_thickness": {
+        "long_name": "thickness of the secondary channel's trapping region",
+        "units": "m",
+    },
+    "still_decreasing": {
+        "long_name": "sound speed still decreases at the deepest valid "
+        "sample (the axis may lie deeper)",
+        "units": "1",
+    },
 }
 
 
 def _channels_1d(min_contrast, min_thickness, sound_speed, depth, below):
     z, c = _valid_1d(depth, sound_speed)
     nan = float("nan")
-    out = dict(axis_depth=nan, axis_speed=nan, axis_contrast=nan, secondary_depth=nan,
-               secondary_speed=nan, secondary_contrast=nan, secondary_thickness=nan,
-               still_decreasing=False)
+    out = dict(
+        axis_depth=nan,
+        axis_speed=nan,
+        axis_contrast=nan,
+        secondary_depth=nan,
+        secondary_speed=nan,
+        secondary_contrast=nan,
+        secondary_thickness=nan,
+        still_decreasing=False,
+    )
     if np.isfinite(below):
         keep = z >= below
         z, c = z[keep], c[keep]
@@ -128,9 +158,12 @@ def _channels_1d(min_contrast, min_thickness, sound_speed, depth, below):
         if ok.any():
             k = np.flatnonzero(ok)[np.argmax(props["prominences"][ok])]
             j = peaks[k]
-            out.update(secondary_depth=float(z[j]), secondary_speed=float(c[j]),
-                       secondary_contrast=float(props["prominences"][k]),
-                       secondary_thickness=float(thick[k]))
+            out.update(
+                secondary_depth=float(z[j]),
+                secondary_speed=float(c[j]),
+                secondary_contrast=float(props["prominences"][k]),
+                secondary_thickness=float(thick[k]),
+            )
     return tuple(out.values())
 
 
@@ -156,10 +189,13 @@ def speed_at(sound_speed, depth, at, *, dim="depth"):
         Sound speed, m/s (``numpy.interp`` between valid samples).
     """
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
-    out = columnwise(lambda c, z, a: _per_profile(_speed_at_1d, [np.float64], [c, z], [a],
-                                                  vectorised=True),
-                     columns, dim=dim, params=[("at", at)],
-                     outputs=[("sound_speed", _cf.attrs_for("sound_speed"))])
+    out = columnwise(
+        lambda c, z, a: _per_profile(_speed_at_1d, [np.float64], [c, z], [a], vectorised=True),
+        columns,
+        dim=dim,
+        params=[("at", at)],
+        outputs=[("sound_speed", _cf.attrs_for("sound_speed"))],
+    )
     return out[0] if isinstance(out, tuple) else out
 
 
@@ -203,13 +239,19 @@ def critical_depth(sound_speed, depth, reference_speed, axis_depth, *, dim="dept
     rays horizontal at the reference depth (the plain geometric definition).
     """
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
-    attrs = {"long_name": "critical depth: below the axis, where sound speed regains the "
-             "reference speed", "units": "m", "positive": "down"}
-    out = columnwise(lambda c, z, r, a: _per_profile(_critical_1d, [np.float64], [c, z],
-                                                     [r, a]),
-                     columns, dim=dim, params=[("reference_speed", reference_speed),
-                                               ("axis_depth", axis_depth)],
-                     outputs=[("critical_depth", attrs)])
+    attrs = {
+        "long_name": "critical depth: below the axis, where sound speed regains the "
+        "reference speed",
+        "units": "m",
+        "positive": "down",
+    }
+    out = columnwise(
+        lambda c, z, r, a: _per_profile(_critical_1d, [np.float64], [c, z], [r, a]),
+        columns,
+        dim=dim,
+        params=[("reference_speed", reference_speed), ("axis_depth", axis_depth)],
+        outputs=[("critical_depth", attrs)],
+    )
     return out[0] if isinstance(out, tuple) else out
 
 
@@ -250,6 +292,9 @@ def depth_excess(bottom_depth, critical):
         either is NaN. A point-wise function (bottom first, as in the definition).
     """
     attrs = {"long_name": "depth excess: bottom depth minus critical depth", "units": "m"}
-    return pointwise(lambda b, c: _scalar(np.asarray(b - c)),
-                     [("bottom_depth", bottom_depth), ("critical", critical)],
-                     name="depth_excess", attrs=attrs)
+    return pointwise(
+        lambda b, c: _scalar(np.asarray(b - c)),
+        [("bottom_depth", bottom_depth), ("critical", critical)],
+        name="depth_excess",
+        attrs=attrs,
+    )

@@ -57,10 +57,15 @@ def harmonic_mean_sound_speed(sound_speed, depth, top, bottom, *, dim="depth"):
     """
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
     attrs = {"long_name": "harmonic mean sound speed between two depths", "units": "m s-1"}
-    out = columnwise(lambda c, z, t, b: _per_profile(_harmonic_1d, [np.float64], [c, z],
-                                                     [t, b], vectorised=True),
-                     columns, dim=dim, params=[("top", top), ("bottom", bottom)],
-                     outputs=[("harmonic_mean_sound_speed", attrs)])
+    out = columnwise(
+        lambda c, z, t, b: _per_profile(
+            _harmonic_1d, [np.float64], [c, z], [t, b], vectorised=True
+        ),
+        columns,
+        dim=dim,
+        params=[("top", top), ("bottom", bottom)],
+        outputs=[("harmonic_mean_sound_speed", attrs)],
+    )
     return out[0] if isinstance(out, tuple) else out
 
 

@@ -150,13 +150,23 @@ def _rows(name, values, depth):
     )
 
 
-_END_ATTRS = {"long_name": "no crossing within the profile: the value is the deepest valid "
-              "depth (a lower bound)", "units": "1"}
+_END_ATTRS = {
+    "long_name": "no crossing within the profile: the value is the deepest valid "
+    "depth (a lower bound)",
+    "units": "1",
+}
 
 
 # --- mixed layer ---------------------------------------------------------------------
-def mixed_layer_depth(temperature, depth=None, *, threshold=0.2, reference_depth=10.0,
-                      return_reached_end=False, dim="depth"):
+def mixed_layer_depth(
+    temperature,
+    depth=None,
+    *,
+    threshold=0.2,
+    reference_depth=10.0,
+    return_reached_end=False,
+    dim="depth",
+):
     """Mixed layer depth by the temperature criterion, m.
 
     Parameters
@@ -194,12 +204,20 @@ def mixed_layer_depth(temperature, depth=None, *, threshold=0.2, reference_depth
     found by linear interpolation between samples. The reference value is linearly
     interpolated at 10 m.
     """
-    return _crossing("temperature", temperature, depth, dim, threshold, reference_depth, 0,
-                     return_reached_end)
+    return _crossing(
+        "temperature", temperature, depth, dim, threshold, reference_depth, 0, return_reached_end
+    )
 
 
-def mixed_layer_depth_density(potential_density, depth=None, *, threshold=0.03,
-                              reference_depth=10.0, return_reached_end=False, dim="depth"):
+def mixed_layer_depth_density(
+    potential_density,
+    depth=None,
+    *,
+    threshold=0.03,
+    reference_depth=10.0,
+    return_reached_end=False,
+    dim="depth",
+):
     """Mixed layer depth by the density criterion, m.
 
     Parameters
@@ -231,23 +249,38 @@ def mixed_layer_depth_density(potential_density, depth=None, *, threshold=0.03,
     doi:10.1029/2004JC002378: sigma-theta(z) - sigma-theta(10 m) = 0.03 kg/m3, linear
     interpolation between samples.
     """
-    return _crossing("potential_density", potential_density, depth, dim, threshold,
-                     reference_depth, 1, return_reached_end)
+    return _crossing(
+        "potential_density",
+        potential_density,
+        depth,
+        dim,
+        threshold,
+        reference_depth,
+        1,
+        return_reached_end,
+    )
 
 
 def _crossing(name, values, depth, dim, threshold, reference_depth, signed, return_end):
     if not threshold > 0:
         raise SeaprofileError(f"threshold must be positive, got {threshold!r}")
     kind = "temperature" if signed == 0 else "density"
-    attrs = _cf.attrs_for("mixed_layer_depth",
-                          comment=f"{kind} criterion {threshold:g} from {reference_depth:g} "
-                          "m (de Boyer Montegut et al. 2004)")
+    attrs = _cf.attrs_for(
+        "mixed_layer_depth",
+        comment=f"{kind} criterion {threshold:g} from {reference_depth:g} "
+        "m (de Boyer Montegut et al. 2004)",
+    )
     columns, dim = _columns(name, values, depth, dim)
-    func = functools.partial(_crossing_numpy, name, float(threshold), float(reference_depth),
-                             signed)
-    out = columnwise(func, columns, dim=dim, outputs=[("mixed_layer_depth", attrs),
-                                                      ("reached_end", _END_ATTRS)],
-                     dtypes=[np.float64, np.bool_])
+    func = functools.partial(
+        _crossing_numpy, name, float(threshold), float(reference_depth), signed
+    )
+    out = columnwise(
+        func,
+        columns,
+        dim=dim,
+        outputs=[("mixed_layer_depth", attrs), ("reached_end", _END_ATTRS)],
+        dtypes=[np.float64, np.bool_],
+    )
     return tuple(out) if return_end else out[0]
 
 
@@ -260,8 +293,9 @@ def _crossing_numpy(name, threshold, reference_depth, signed, values, depth):
 
 
 # --- sonic layer and gradients -------------------------------------------------------
-def sonic_layer_depth(sound_speed, depth=None, *, tolerance=0.2, return_reached_end=False,
-                      dim="depth"):
+def sonic_layer_depth(
+    sound_speed, depth=None, *, tolerance=0.2, return_reached_end=False, dim="depth"
+):
     """Sonic layer depth: the depth of the near-surface sound-speed maximum, m.
 
     Parameters
@@ -300,12 +334,21 @@ def sonic_layer_depth(sound_speed, depth=None, *, tolerance=0.2, return_reached_
     if not tolerance >= 0:
         raise SeaprofileError(f"tolerance must be >= 0, got {tolerance!r}")
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
-    outputs = [("sonic_layer_depth", _cf.attrs_for("sonic_layer_depth")),
-               ("sonic_layer_sound_speed", _cf.attrs_for(
-                   "sound_speed", long_name="sound speed at the sonic layer depth")),
-               ("reached_end", _END_ATTRS)]
-    out = columnwise(functools.partial(_sonic_numpy, float(tolerance)), columns, dim=dim,
-                     outputs=outputs, dtypes=[np.float64, np.float64, np.bool_])
+    outputs = [
+        ("sonic_layer_depth", _cf.attrs_for("sonic_layer_depth")),
+        (
+            "sonic_layer_sound_speed",
+            _cf.attrs_for("sound_speed", long_name="sound speed at the sonic layer depth"),
+        ),
+        ("reached_end", _END_ATTRS),
+    ]
+    out = columnwise(
+        functools.partial(_sonic_numpy, float(tolerance)),
+        columns,
+        dim=dim,
+        outputs=outputs,
+        dtypes=[np.float64, np.float64, np.bool_],
+    )
     return tuple(out) if return_reached_end else tuple(out[:2])
 
 
@@ -357,14 +400,20 @@ def layer_gradients(sound_speed, depth, layer_depth, *, below_thickness=50.0, di
     """
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
     attrs = {"units": "s-1"}
-    outputs = [("in_layer_gradient", dict(attrs, long_name="sound speed gradient within "
-                                          "the layer")),
-               ("below_layer_gradient", dict(attrs, long_name="sound speed gradient below "
-                                             "the layer"))]
-    func = functools.partial(_per_profile, functools.partial(
-        _gradients_1d, float(below_thickness)), [np.float64] * 2)
-    out = columnwise(lambda c, z, h: func([c, z], [h]), columns, dim=dim,
-                     params=[("layer_depth", layer_depth)], outputs=outputs)
+    outputs = [
+        ("in_layer_gradient", dict(attrs, long_name="sound speed gradient within the layer")),
+        ("below_layer_gradient", dict(attrs, long_name="sound speed gradient below the layer")),
+    ]
+    func = functools.partial(
+        _per_profile, functools.partial(_gradients_1d, float(below_thickness)), [np.float64] * 2
+    )
+    out = columnwise(
+        lambda c, z, h: func([c, z], [h]),
+        columns,
+        dim=dim,
+        params=[("layer_depth", layer_depth)],
+        outputs=outputs,
+    )
     return tuple(out)
 
 
@@ -400,11 +449,17 @@ def duct_cutoff_frequency(layer_depth, sound_speed=1500.0):
     isothermal layer; treat the result as an order of magnitude. A point-wise function:
     its argument order follows the duct (thickness first), not the column diagnostics.
     """
-    attrs = {"long_name": "lowest frequency trapped in the surface duct", "units": "Hz",
-             "comment": "trapping rule lambda_max = 8.5e-3 H^1.5 (common practice)"}
-    return pointwise(_cutoff_numpy, [("layer_depth", layer_depth),
-                                     ("sound_speed", sound_speed)],
-                     name="duct_cutoff_frequency", attrs=attrs)
+    attrs = {
+        "long_name": "lowest frequency trapped in the surface duct",
+        "units": "Hz",
+        "comment": "trapping rule lambda_max = 8.5e-3 H^1.5 (common practice)",
+    }
+    return pointwise(
+        _cutoff_numpy,
+        [("layer_depth", layer_depth), ("sound_speed", sound_speed)],
+        name="duct_cutoff_frequency",
+        attrs=attrs,
+    )
 
 
 def _cutoff_numpy(h, c):

@@ -28,38 +28,38 @@ BAD_FLAGS = _cf.UNUSABLE_FLAGS
 
 # name -> (units, long_name)
 _FIELDS = {
-    'surface_depth': ('m', 'depth of the shallowest valid bin'),
-    'surface_sound_speed': ('m s-1', 'sound speed in the shallowest valid bin'),
-    'min_sound_speed': ('m s-1', 'minimum sound speed'),
-    'min_sound_speed_depth': ('m', 'depth of minimum sound speed'),
-    'max_sound_speed': ('m s-1', 'maximum sound speed'),
-    'max_sound_speed_depth': ('m', 'depth of maximum sound speed'),
-    'mixed_layer_depth_temperature': ('m', 'mixed layer depth (0.2 degC from 10 m)'),
-    'mixed_layer_depth_density': ('m', 'mixed layer depth (0.03 kg m-3 from 10 m)'),
-    'sonic_layer_depth': ('m', 'sonic layer depth (near-surface sound speed maximum)'),
-    'sonic_layer_sound_speed': ('m s-1', 'sound speed at the sonic layer depth'),
-    'in_layer_gradient': ('s-1', 'sound speed gradient within the sonic layer'),
-    'below_layer_gradient': ('s-1', 'sound speed gradient below the sonic layer'),
-    'duct_cutoff_frequency': ('Hz', 'lowest frequency trapped in the surface duct'),
-    'channel_axis_depth': ('m', 'deep sound channel axis depth'),
-    'channel_axis_sound_speed': ('m s-1', 'sound speed on the channel axis'),
-    'channel_axis_contrast': ('m s-1', 'rise of sound speed needed to escape the channel'),
-    'secondary_channel_depth': ('m', 'secondary sound channel depth'),
-    'secondary_channel_sound_speed': ('m s-1', 'sound speed on the secondary channel'),
-    'secondary_channel_contrast': ('m s-1', 'sound speed rise bounding the secondary channel'),
-    'secondary_channel_thickness': ('m', "thickness of the secondary channel's trapping region"),
-    'critical_depth_surface': ('m', 'depth below the axis where c equals the surface c'),
-    'critical_depth_layer': ('m', 'depth below the axis where c equals the layer maximum'),
-    'source_depth': ('m', 'source depth'),
-    'source_sound_speed': ('m s-1', 'sound speed at the source depth'),
-    'critical_depth_source': ('m', 'conjugate depth of the source across the channel axis'),
-    'bottom_depth': ('m', 'sea floor depth below the sea surface'),
-    'depth_excess_surface': ('m', 'bottom depth minus critical depth (surface reference)'),
-    'depth_excess_layer': ('m', 'bottom depth minus critical depth (layer reference)'),
-    'transducer_depth': ('m', 'transducer depth'),
-    'harmonic_mean_to_depth': ('m', 'lower depth of the harmonic mean'),
-    'harmonic_mean_sound_speed': ('m s-1', 'harmonic mean sound speed, transducer to lower depth'),
-    'deepest_valid_depth': ('m', 'depth of the deepest valid bin'),
+    "surface_depth": ("m", "depth of the shallowest valid bin"),
+    "surface_sound_speed": ("m s-1", "sound speed in the shallowest valid bin"),
+    "min_sound_speed": ("m s-1", "minimum sound speed"),
+    "min_sound_speed_depth": ("m", "depth of minimum sound speed"),
+    "max_sound_speed": ("m s-1", "maximum sound speed"),
+    "max_sound_speed_depth": ("m", "depth of maximum sound speed"),
+    "mixed_layer_depth_temperature": ("m", "mixed layer depth (0.2 degC from 10 m)"),
+    "mixed_layer_depth_density": ("m", "mixed layer depth (0.03 kg m-3 from 10 m)"),
+    "sonic_layer_depth": ("m", "sonic layer depth (near-surface sound speed maximum)"),
+    "sonic_layer_sound_speed": ("m s-1", "sound speed at the sonic layer depth"),
+    "in_layer_gradient": ("s-1", "sound speed gradient within the sonic layer"),
+    "below_layer_gradient": ("s-1", "sound speed gradient below the sonic layer"),
+    "duct_cutoff_frequency": ("Hz", "lowest frequency trapped in the surface duct"),
+    "channel_axis_depth": ("m", "deep sound channel axis depth"),
+    "channel_axis_sound_speed": ("m s-1", "sound speed on the channel axis"),
+    "channel_axis_contrast": ("m s-1", "rise of sound speed needed to escape the channel"),
+    "secondary_channel_depth": ("m", "secondary sound channel depth"),
+    "secondary_channel_sound_speed": ("m s-1", "sound speed on the secondary channel"),
+    "secondary_channel_contrast": ("m s-1", "sound speed rise bounding the secondary channel"),
+    "secondary_channel_thickness": ("m", "thickness of the secondary channel's trapping region"),
+    "critical_depth_surface": ("m", "depth below the axis where c equals the surface c"),
+    "critical_depth_layer": ("m", "depth below the axis where c equals the layer maximum"),
+    "source_depth": ("m", "source depth"),
+    "source_sound_speed": ("m s-1", "sound speed at the source depth"),
+    "critical_depth_source": ("m", "conjugate depth of the source across the channel axis"),
+    "bottom_depth": ("m", "sea floor depth below the sea surface"),
+    "depth_excess_surface": ("m", "bottom depth minus critical depth (surface reference)"),
+    "depth_excess_layer": ("m", "bottom depth minus critical depth (layer reference)"),
+    "transducer_depth": ("m", "transducer depth"),
+    "harmonic_mean_to_depth": ("m", "lower depth of the harmonic mean"),
+    "harmonic_mean_sound_speed": ("m s-1", "harmonic mean sound speed, transducer to lower depth"),
+    "deepest_valid_depth": ("m", "depth of the deepest valid bin"),
 }
 _UNITS = {k: v[0] for k, v in _FIELDS.items()}
 _LONG_NAMES = {k: v[1] for k, v in _FIELDS.items()}
@@ -97,8 +97,15 @@ def _num(x):
     return x if np.isfinite(x) else None
 
 
-def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=0.0,
-             include_estimated=True, min_contrast=1.0):
+def describe(
+    profile,
+    *,
+    bottom_depth=None,
+    source_depth=None,
+    transducer_depth=0.0,
+    include_estimated=True,
+    min_contrast=1.0,
+):
     """All diagnostics of one Profile, as a JSON-friendly dict.
 
     Parameters
@@ -139,28 +146,40 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
     if "sound_speed" not in profile:
         raise SeaprofileError("profile has no 'sound_speed' variable")
     z = np.asarray(profile["depth"].values, dtype=np.float64)
-    c = _masked(profile, "sound_speed", ["sound_speed", "temperature", "salinity"],
-                include_estimated)
+    c = _masked(
+        profile, "sound_speed", ["sound_speed", "temperature", "salinity"], include_estimated
+    )
     temp = _masked(profile, "temperature", ["temperature"], include_estimated)
     notes = []
     res = {k: None for k in _UNITS}
-    res.update(cast_name=str(profile.attrs.get("cast_name", "")),
-               equation=profile.attrs.get("equation"), surface_duct=False)
+    res.update(
+        cast_name=str(profile.attrs.get("cast_name", "")),
+        equation=profile.attrs.get("equation"),
+        surface_duct=False,
+    )
     ok = np.isfinite(c)
     if ok.sum() < 2:
         raise SeaprofileError("profile has fewer than two valid sound-speed bins")
     zv, cv = z[ok], c[ok]
-    res.update(surface_depth=zv[0], surface_sound_speed=cv[0], deepest_valid_depth=zv[-1],
-               min_sound_speed=cv.min(), min_sound_speed_depth=zv[np.argmin(cv)],
-               max_sound_speed=cv.max(), max_sound_speed_depth=zv[np.argmax(cv)])
+    res.update(
+        surface_depth=zv[0],
+        surface_sound_speed=cv[0],
+        deepest_valid_depth=zv[-1],
+        min_sound_speed=cv.min(),
+        min_sound_speed_depth=zv[np.argmin(cv)],
+        max_sound_speed=cv.max(),
+        max_sound_speed_depth=zv[np.argmax(cv)],
+    )
 
     # mixed layer
     if temp is not None:
         mld, end = mixed_layer_depth(temp, z, return_reached_end=True)
         res["mixed_layer_depth_temperature"] = mld
         if end:
-            notes.append("temperature never departs 0.2 degC from its 10 m value: the mixed "
-                         "layer reaches the deepest valid bin (a lower bound)")
+            notes.append(
+                "temperature never departs 0.2 degC from its 10 m value: the mixed "
+                "layer reaches the deepest valid bin (a lower bound)"
+            )
     sal = _masked(profile, "salinity", ["salinity"], include_estimated)
     if temp is not None and sal is not None and "pressure" in profile:
         from ..seawater.state import potential_density_anomaly
@@ -171,14 +190,21 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
         # latitude alone is common), reference salinity is used, as for no position
         known = bool(np.isfinite(lat) and np.isfinite(lon))
         sigma = potential_density_anomaly(
-            temp, sal, np.asarray(profile["pressure"].values, dtype=np.float64),
-            lat if known else None, lon if known else None)
-        mld, end = mixed_layer_depth_density(np.asarray(sigma, dtype=np.float64), z,
-                                             return_reached_end=True)
+            temp,
+            sal,
+            np.asarray(profile["pressure"].values, dtype=np.float64),
+            lat if known else None,
+            lon if known else None,
+        )
+        mld, end = mixed_layer_depth_density(
+            np.asarray(sigma, dtype=np.float64), z, return_reached_end=True
+        )
         res["mixed_layer_depth_density"] = mld
         if end:
-            notes.append("density never rises 0.03 kg/m3 above its 10 m value: the mixed "
-                         "layer reaches the deepest valid bin (a lower bound)")
+            notes.append(
+                "density never rises 0.03 kg/m3 above its 10 m value: the mixed "
+                "layer reaches the deepest valid bin (a lower bound)"
+            )
 
     # sonic layer, gradients, surface duct
     sld, sld_c, sld_end = sonic_layer_depth(c, z, return_reached_end=True)
@@ -186,11 +212,15 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
     if sld > zv[0]:
         res["surface_duct"] = True
         g_in, g_below = layer_gradients(c, z, sld)
-        res.update(in_layer_gradient=g_in, below_layer_gradient=g_below,
-                   duct_cutoff_frequency=duct_cutoff_frequency(sld, sld_c))
+        res.update(
+            in_layer_gradient=g_in,
+            below_layer_gradient=g_below,
+            duct_cutoff_frequency=duct_cutoff_frequency(sld, sld_c),
+        )
         if sld_end:
-            notes.append("sound speed increases to the deepest valid bin: the whole "
-                         "column is a surface duct")
+            notes.append(
+                "sound speed increases to the deepest valid bin: the whole column is a surface duct"
+            )
     else:
         _, g_below = layer_gradients(c, z, sld)
         res["below_layer_gradient"] = g_below
@@ -198,22 +228,32 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
 
     # channels
     ch = sound_channels(c, z, below=sld, min_contrast=min_contrast)
-    res.update(channel_axis_depth=ch["axis_depth"], channel_axis_sound_speed=ch["axis_speed"],
-               channel_axis_contrast=ch["axis_contrast"],
-               secondary_channel_depth=ch["secondary_depth"],
-               secondary_channel_sound_speed=ch["secondary_speed"],
-               secondary_channel_contrast=ch["secondary_contrast"],
-               secondary_channel_thickness=ch["secondary_thickness"])
+    res.update(
+        channel_axis_depth=ch["axis_depth"],
+        channel_axis_sound_speed=ch["axis_speed"],
+        channel_axis_contrast=ch["axis_contrast"],
+        secondary_channel_depth=ch["secondary_depth"],
+        secondary_channel_sound_speed=ch["secondary_speed"],
+        secondary_channel_contrast=ch["secondary_contrast"],
+        secondary_channel_thickness=ch["secondary_thickness"],
+    )
     if ch["still_decreasing"]:
-        notes.append("sound speed still decreases at the deepest valid bin: no channel axis "
-                     "within the profile")
+        notes.append(
+            "sound speed still decreases at the deepest valid bin: no channel axis "
+            "within the profile"
+        )
     axis = ch["axis_depth"]
     res["critical_depth_surface"] = critical_depth(c, z, cv[0], axis)
     res["critical_depth_layer"] = critical_depth(c, z, sld_c, axis)
-    if np.isfinite(axis) and res["critical_depth_layer"] is not None \
-            and not np.isfinite(res["critical_depth_layer"]):
-        notes.append("sound speed below the axis never regains the near-surface speed "
-                     "within the profile: no critical depth (no depth excess)")
+    if (
+        np.isfinite(axis)
+        and res["critical_depth_layer"] is not None
+        and not np.isfinite(res["critical_depth_layer"])
+    ):
+        notes.append(
+            "sound speed below the axis never regains the near-surface speed "
+            "within the profile: no critical depth (no depth excess)"
+        )
 
     if source_depth is not None:
         cs = speed_at(c, z, source_depth)
@@ -229,15 +269,18 @@ def describe(profile, *, bottom_depth=None, source_depth=None, transducer_depth=
     # bottom, depth excess, harmonic mean
     lower = zv[-1] if bottom_depth is None else float(bottom_depth)
     if bottom_depth is None:
-        notes.append("no bottom depth given: harmonic mean taken to the deepest valid bin, "
-                     "no depth excess")
+        notes.append(
+            "no bottom depth given: harmonic mean taken to the deepest valid bin, no depth excess"
+        )
     else:
         res["bottom_depth"] = float(bottom_depth)
         res["depth_excess_surface"] = depth_excess(bottom_depth, res["critical_depth_surface"])
         res["depth_excess_layer"] = depth_excess(bottom_depth, res["critical_depth_layer"])
         if lower > zv[-1]:
-            notes.append("bottom depth lies below the deepest valid bin: extend the profile "
-                         "to the bottom first; no harmonic mean")
+            notes.append(
+                "bottom depth lies below the deepest valid bin: extend the profile "
+                "to the bottom first; no harmonic mean"
+            )
     res["transducer_depth"] = float(transducer_depth)
     res["harmonic_mean_to_depth"] = lower
     res["harmonic_mean_sound_speed"] = harmonic_mean_sound_speed(c, z, transducer_depth, lower)
@@ -290,12 +333,16 @@ def describe_dataset(profile, **kwargs):
             attrs["standard_name"] = "speed_of_sound_in_sea_water"
         v = d[k]
         data[k] = ((), np.nan if v is None else v, attrs)
-    coords = {k: profile.coords[k] for k in ("latitude", "longitude", "time", "profile_id")
-              if k in profile.coords}
+    coords = {
+        k: profile.coords[k]
+        for k in ("latitude", "longitude", "time", "profile_id")
+        if k in profile.coords
+    }
     attrs = _cf.base_attrs(
         processing_steps=profile.attrs.get("processing_steps", "[]"),
         history=profile.attrs.get("history", ""),
-        equation=str(d["equation"]), surface_duct=int(d["surface_duct"]),
+        equation=str(d["equation"]),
+        surface_duct=int(d["surface_duct"]),
         notes="\n".join(d["notes"]),
     )
     attrs = _cf.record_step(attrs, "describe", **{k: v for k, v in kwargs.items()})

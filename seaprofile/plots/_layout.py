@@ -10,8 +10,14 @@ from __future__ import annotations
 
 from matplotlib.ticker import FixedLocator, MaxNLocator
 
-__all__ = ["spread", "boxes_overlap", "visible_tick_labels", "thin_crowded_ticks", "keep_texts_inside",
-           "figure_texts"]
+__all__ = [
+    "spread",
+    "boxes_overlap",
+    "visible_tick_labels",
+    "thin_crowded_ticks",
+    "keep_texts_inside",
+    "figure_texts",
+]
 
 PAD_PX = 4.0  # pixels (at 100 dpi) kept free between neighbouring labels
 
@@ -58,8 +64,7 @@ def spread(wanted, width, lo, hi):
 
 def boxes_overlap(a, b, pad=0.0):
     """True when two display-space Bboxes intersect (after growing ``a`` by ``pad`` px)."""
-    return (a.x0 - pad < b.x1 and b.x0 < a.x1 + pad and
-            a.y0 - pad < b.y1 and b.y0 < a.y1 + pad)
+    return a.x0 - pad < b.x1 and b.x0 < a.x1 + pad and a.y0 - pad < b.y1 and b.y0 < a.y1 + pad
 
 
 def visible_tick_labels(axis, renderer=None):
@@ -77,7 +82,7 @@ def visible_tick_labels(axis, renderer=None):
 
 
 def _crowded(boxes, pad=PAD_PX):
-    return any(boxes_overlap(a, b, pad) for i, a in enumerate(boxes) for b in boxes[i + 1:])
+    return any(boxes_overlap(a, b, pad) for i, a in enumerate(boxes) for b in boxes[i + 1 :])
 
 
 def thin_crowded_ticks(fig, rounds=4):
@@ -92,8 +97,9 @@ def thin_crowded_ticks(fig, rounds=4):
                     continue  # ticks placed on purpose (e.g. colour-bar steps)
                 boxes = visible_tick_labels(axis, renderer)
                 if len(boxes) > 2 and _crowded(boxes, PAD_PX * fig.dpi / 100.0):
-                    axis.set_major_locator(MaxNLocator(nbins=max(len(boxes) - 2, 2),
-                                                       steps=[1, 2, 5, 10]))
+                    axis.set_major_locator(
+                        MaxNLocator(nbins=max(len(boxes) - 2, 2), steps=[1, 2, 5, 10])
+                    )
                     changed = True
         if not changed:
             break

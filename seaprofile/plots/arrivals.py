@@ -20,8 +20,8 @@ regulations and licensed practice.
 
 from __future__ import annotations
 
-import numpy as np
 import matplotlib as mpl
+import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.transforms import blended_transform_factory
@@ -78,8 +78,7 @@ def _select(arrivals, receiver):
     try:
         r, z = (float(v) for v in receiver)
     except (TypeError, ValueError):
-        raise SeaprofileError(
-            "receiver must be an index or a (range m, depth m) pair") from None
+        raise SeaprofileError("receiver must be an index or a (range m, depth m) pair") from None
     for rec in recs:
         if abs(rec[0] - r) <= 0.5 and abs(rec[1] - z) <= 0.5:
             return [rec]
@@ -88,19 +87,28 @@ def _select(arrivals, receiver):
 
 
 def _check(arrivals):
-    need = ("travel_time", "spreading_loss", "receiver_range", "receiver_depth",
-            "receiver_range_index", "receiver_depth_index")
+    need = (
+        "travel_time",
+        "spreading_loss",
+        "receiver_range",
+        "receiver_depth",
+        "receiver_range_index",
+        "receiver_depth_index",
+    )
     missing = [n for n in need if n not in getattr(arrivals, "variables", {})]
     if missing:
-        raise SeaprofileError(f"arrivals must be a PathTable Dataset from eigenrays(); missing {missing}")
+        raise SeaprofileError(
+            f"arrivals must be a PathTable Dataset from eigenrays(); missing {missing}"
+        )
 
 
 def _range_text(r_m):
     return f"{r_m / 1000:g} km" if r_m >= 1000 else f"{r_m:g} m"
 
 
-def plot_arrivals(arrivals, *, receiver=None, quantity="level", time="delay", title=None,
-                  caution=True):
+def plot_arrivals(
+    arrivals, *, receiver=None, quantity="level", time="delay", title=None, caution=True
+):
     """Draw the arrivals at one receiver (or one panel per receiver, on one time axis).
 
     Parameters
@@ -150,11 +158,22 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", time="delay", ti
     ri = np.asarray(arrivals["receiver_range_index"].values)
     di = np.asarray(arrivals["receiver_depth_index"].values)
     nray = ti.size
-    s = arrivals["surface_reflections"].values if "surface_reflections" in arrivals else np.zeros(nray)
-    b = arrivals["bottom_reflections"].values if "bottom_reflections" in arrivals else np.zeros(nray)
+    s = (
+        arrivals["surface_reflections"].values
+        if "surface_reflections" in arrivals
+        else np.zeros(nray)
+    )
+    b = (
+        arrivals["bottom_reflections"].values
+        if "bottom_reflections" in arrivals
+        else np.zeros(nray)
+    )
     kind = path_kind(s, b)
-    launch = (np.asarray(arrivals["launch_angle"].values, dtype=float)
-              if "launch_angle" in arrivals else np.full(nray, np.nan))
+    launch = (
+        np.asarray(arrivals["launch_angle"].values, dtype=float)
+        if "launch_angle" in arrivals
+        else np.full(nray, np.nan)
+    )
     kinds_seen = set()
     clipped_total = 0
     axes, labelled = [], []
@@ -172,15 +191,24 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", time="delay", ti
             t = t - t0
             count += f", first at {t0:.3f} s"
         ax.set_title(where + ": " + count, fontsize=9.5, color=INK, loc="left")
-        ax.set_xlabel("time after the first arrival (s)" if time == "delay"
-                      else "travel time (s)")
-        ax.set_ylabel("level, spreading only\n(dB re 1 m)" if quantity == "level"
-                      else "spreading loss\n(dB re 1 m)")
+        ax.set_xlabel("time after the first arrival (s)" if time == "delay" else "travel time (s)")
+        ax.set_ylabel(
+            "level, spreading only\n(dB re 1 m)"
+            if quantity == "level"
+            else "spreading loss\n(dB re 1 m)"
+        )
         ax.grid(True, color="#999999", lw=0.4, alpha=0.5)
         ax.set_axisbelow(True)
         if not sel.any():
-            ax.text(0.5, 0.5, "no arrivals found", transform=ax.transAxes, ha="center",
-                    va="center", color=INK)
+            ax.text(
+                0.5,
+                0.5,
+                "no arrivals found",
+                transform=ax.transAxes,
+                ha="center",
+                va="center",
+                color=INK,
+            )
             ax.set_yticks([])
             continue
         spans.append((float(t.min()), float(t.max())))
@@ -196,14 +224,16 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", time="delay", ti
         ylo, yhi = (float(np.min(y[finite])), float(np.max(y[finite]))) if finite.any() else (0, 1)
         span = max(yhi - ylo, 6.0)
         # the highest marker sits at DATA_TOP of the panel; the label band is above it
-        head = (1.0 - DATA_TOP) / DATA_TOP * 1.25 * span if sel.sum() <= LABEL_LIMIT else 0.15 * span
+        head = (
+            (1.0 - DATA_TOP) / DATA_TOP * 1.25 * span if sel.sum() <= LABEL_LIMIT else 0.15 * span
+        )
         if quantity == "level":
             base = ylo - 0.25 * span
             ax.set_ylim(base, yhi + head)
         else:
             base = yhi + 0.25 * span
             ax.set_ylim(base, ylo - head)
-        for kk, (label, marker) in enumerate(PATH_KINDS):
+        for kk, (_label, marker) in enumerate(PATH_KINDS):
             m = (k == kk) & finite
             if not m.any():
                 continue
@@ -211,21 +241,50 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", time="delay", ti
             ax.vlines(t[m], base, y[m], colors=[KIND_COLOURS[kk]], lw=1.8, zorder=3)
             for part, face in ((m & ~clipped, KIND_COLOURS[kk]), (m & clipped, "white")):
                 if part.any():
-                    ax.plot(t[part], y[part], ls="none", marker=marker, ms=7,
-                            color=KIND_COLOURS[kk], mfc=face, mec=INK, mew=0.5, zorder=4)
+                    ax.plot(
+                        t[part],
+                        y[part],
+                        ls="none",
+                        marker=marker,
+                        ms=7,
+                        color=KIND_COLOURS[kk],
+                        mfc=face,
+                        mec=INK,
+                        mew=0.5,
+                        zorder=4,
+                    )
         if sel.sum() <= LABEL_LIMIT:
             labelled.append((ax, t[finite], y[finite], a[finite]))
     if spans:  # one time axis for every panel
         lo, hi = min(v[0] for v in spans), max(v[1] for v in spans)
         tspan = max(hi - lo, 0.02 * max(hi, 1e-3), 1e-3)
         axes[0].set_xlim(lo - 0.08 * tspan, hi + 0.08 * tspan)
-    handles = [Line2D([], [], color=KIND_COLOURS[kk], marker=PATH_KINDS[kk][1],
-                                mec=INK, mew=0.5, lw=1.6, ms=7, label=PATH_KINDS[kk][0])
-               for kk in range(len(PATH_KINDS)) if kk in kinds_seen]
+    handles = [
+        Line2D(
+            [],
+            [],
+            color=KIND_COLOURS[kk],
+            marker=PATH_KINDS[kk][1],
+            mec=INK,
+            mew=0.5,
+            lw=1.6,
+            ms=7,
+            label=PATH_KINDS[kk][0],
+        )
+        for kk in range(len(PATH_KINDS))
+        if kk in kinds_seen
+    ]
     if handles:
-        fig.legend(handles=handles, loc="upper left", ncols=len(handles), fontsize=8,
-                   frameon=False, bbox_to_anchor=(0.09, 1.0 - 0.4 / height),
-                   handletextpad=0.4, columnspacing=1.4)
+        fig.legend(
+            handles=handles,
+            loc="upper left",
+            ncols=len(handles),
+            fontsize=8,
+            frameon=False,
+            bbox_to_anchor=(0.09, 1.0 - 0.4 / height),
+            handletextpad=0.4,
+            columnspacing=1.4,
+        )
     if title is None:
         zs = arrivals.attrs.get("source_depth")
         title = "Arrivals" + (f" from a source at {float(zs):g} m" if zs is not None else "")
@@ -237,13 +296,22 @@ def plot_arrivals(arrivals, *, receiver=None, quantity="level", time="delay", ti
     if any(len(ax.texts) for ax in axes):
         notes.append("labels: launch angle, + toward the bottom")
     if clipped_total:
-        notes.append(f"open markers: more than {DYNAMIC_RANGE:g} dB below the strongest "
-                     "arrival, drawn at that floor")
+        notes.append(
+            f"open markers: more than {DYNAMIC_RANGE:g} dB below the strongest "
+            "arrival, drawn at that floor"
+        )
     if len(recs) > n:
         notes.append(f"first {n} of {len(recs)} receivers shown")
     if notes:
-        fig.text(0.96, 1.0 - 0.12 / height, "\n".join(notes), fontsize=7.5, color="#555555",
-                 ha="right", va="top")
+        fig.text(
+            0.96,
+            1.0 - 0.12 / height,
+            "\n".join(notes),
+            fontsize=7.5,
+            color="#555555",
+            ha="right",
+            va="top",
+        )
     if caution:
         caution_line(fig)
     return fig
@@ -261,9 +329,21 @@ def _label_angles(ax, t, y, angle):
         return []
     order = np.flatnonzero(ok)[np.argsort(t[ok], kind="stable")]
     band = blended_transform_factory(ax.transData, ax.transAxes)
-    texts = [ax.text(t[i], LABEL_BAND, f"{angle[i]:+.1f}\N{DEGREE SIGN}", transform=band,
-                     fontsize=7, rotation=90, ha="center", va="bottom", color=INK, zorder=5)
-             for i in order]
+    texts = [
+        ax.text(
+            t[i],
+            LABEL_BAND,
+            f"{angle[i]:+.1f}\N{DEGREE SIGN}",
+            transform=band,
+            fontsize=7,
+            rotation=90,
+            ha="center",
+            va="bottom",
+            color=INK,
+            zorder=5,
+        )
+        for i in order
+    ]
     fig = ax.figure
     fig.draw_without_rendering()
     renderer = fig._get_renderer()
@@ -271,11 +351,20 @@ def _label_angles(ax, t, y, angle):
     x_px = ax.transData.transform(np.column_stack([t[order], y[order]]))[:, 0]
     box = ax.get_window_extent(renderer)
     placed = spread(x_px, width + 3.0 * fig.dpi / 100.0, box.x0 + width / 2, box.x1 - width / 2)
-    x_new = ax.transData.inverted().transform(np.column_stack([placed, np.zeros(len(placed))]))[:, 0]
+    x_new = ax.transData.inverted().transform(np.column_stack([placed, np.zeros(len(placed))]))[
+        :, 0
+    ]
     y0, y1 = ax.get_ylim()
     foot = y0 + (LABEL_BAND - 0.015) * (y1 - y0)  # just below the label band, in data units
     for tx, xn, i in zip(texts, x_new, order):
         tx.set_x(xn)
-        ax.plot([t[i], xn], [y[i], foot], color="#777777", lw=0.5, zorder=2,
-                solid_capstyle="butt", label="_leader")
+        ax.plot(
+            [t[i], xn],
+            [y[i], foot],
+            color="#777777",
+            lw=0.5,
+            zorder=2,
+            solid_capstyle="butt",
+            label="_leader",
+        )
     return texts

@@ -32,8 +32,9 @@ from ._numbers import cutoff_text
 __all__ = ["plot_profile", "FLAG_MARKERS", "FLAG_WORDS", "PANEL_LABELS"]
 
 #: Argo reference table 2 words of each flag value, as stored in ``flag_meanings``.
-FLAG_WORDS = {int(v): w.replace("_", " ")
-              for v, w in zip(_cf.FLAG_VALUES, _cf.FLAG_MEANINGS.split())}
+FLAG_WORDS = {
+    int(v): w.replace("_", " ") for v, w in zip(_cf.FLAG_VALUES, _cf.FLAG_MEANINGS.split())
+}
 
 INK = colormaps["magma"](0.15)
 # our own choices; colours sampled from perceptually uniform colour maps, each at least
@@ -53,8 +54,11 @@ FLAG_MARKERS = {
     _cf.PROBABLY_BAD: ("v", "none", f"flag 3: {FLAG_WORDS[_cf.PROBABLY_BAD]}"),
     _cf.BAD: ("X", INK, f"flag 4: {FLAG_WORDS[_cf.BAD]}"),
     _cf.CHANGED: ("D", "none", f"flag 5: {FLAG_WORDS[_cf.CHANGED]}"),
-    _cf.ESTIMATED: ("None", _BAND, f"flag 8: {FLAG_WORDS[_cf.ESTIMATED]} (interpolated, "
-                    "band at the right edge)"),
+    _cf.ESTIMATED: (
+        "None",
+        _BAND,
+        f"flag 8: {FLAG_WORDS[_cf.ESTIMATED]} (interpolated, band at the right edge)",
+    ),
     _cf.MISSING: ("x", INK, f"flag 9: {FLAG_WORDS[_cf.MISSING]} (tick at the right edge)"),
 }
 _ON_VALUE = (_cf.PROBABLY_BAD, _cf.BAD, _cf.CHANGED)
@@ -119,8 +123,11 @@ def _cast_depth(cast, profile):
         lat = _finite(cast["latitude"]) if "latitude" in cast.coords else None
         if lat is None and "latitude" in profile.coords:
             lat = _finite(profile["latitude"])
-        return np.asarray(depth_from_pressure(np.asarray(cast["pressure"].values, float),
-                                              45.0 if lat is None else lat))
+        return np.asarray(
+            depth_from_pressure(
+                np.asarray(cast["pressure"].values, float), 45.0 if lat is None else lat
+            )
+        )
     raise SeaprofileError("cast has neither depth nor pressure to plot against")
 
 
@@ -142,8 +149,18 @@ def _mark_flags(ax, v, z, q, lim, suffix=""):
         marker, face, label = FLAG_MARKERS[flag]
         sel = (q == flag) & inside & np.isfinite(v)
         if sel.any():
-            ax.plot(v[sel], z[sel], ls="none", marker=marker, ms=6, mfc=face, mec=INK,
-                    mew=1.0, zorder=4, label=label + suffix)
+            ax.plot(
+                v[sel],
+                z[sel],
+                ls="none",
+                marker=marker,
+                ms=6,
+                mfc=face,
+                mec=INK,
+                mew=1.0,
+                zorder=4,
+                label=label + suffix,
+            )
     if not suffix:  # the rug belongs to the Profile's bins
         edge = blended_transform_factory(ax.transAxes, ax.transData)
         for flag in _RUG:
@@ -153,21 +170,49 @@ def _mark_flags(ax, v, z, q, lim, suffix=""):
                 continue
             if flag == _cf.ESTIMATED:  # one band per run of filled bins, NaN between runs
                 zz = _runs(z, sel)
-                ax.plot(np.full(zz.size, 0.985), zz, ls="-", lw=3.0, color=face,
-                        solid_capstyle="butt", transform=edge, zorder=4, label=label)
+                ax.plot(
+                    np.full(zz.size, 0.985),
+                    zz,
+                    ls="-",
+                    lw=3.0,
+                    color=face,
+                    solid_capstyle="butt",
+                    transform=edge,
+                    zorder=4,
+                    label=label,
+                )
             else:
-                ax.plot(np.full(sel.sum(), 0.985), z[sel], ls="none", marker=marker, ms=4,
-                        mew=0.6, color=face, transform=edge, zorder=4, clip_on=True,
-                        label=label)
+                ax.plot(
+                    np.full(sel.sum(), 0.985),
+                    z[sel],
+                    ls="none",
+                    marker=marker,
+                    ms=4,
+                    mew=0.6,
+                    color=face,
+                    transform=edge,
+                    zorder=4,
+                    clip_on=True,
+                    label=label,
+                )
     out = np.isin(q, _ON_VALUE) & ~inside & np.isfinite(v)
     if lim is None or not out.any():
         return
     for side, sel, marker in ((lim[0], v < lim[0], "<"), (lim[1], v > lim[1], ">")):
         sel = sel & out
         if sel.any():
-            ax.plot(np.full(sel.sum(), side), z[sel], ls="none", marker=marker, ms=6,
-                    mfc=INK, mec="none", clip_on=False, zorder=4,
-                    label="flagged, off scale (drawn at the edge)")
+            ax.plot(
+                np.full(sel.sum(), side),
+                z[sel],
+                ls="none",
+                marker=marker,
+                ms=6,
+                mfc=INK,
+                mec="none",
+                clip_on=False,
+                zorder=4,
+                label="flagged, off scale (drawn at the edge)",
+            )
 
 
 def _runs(z, sel):
@@ -182,8 +227,9 @@ def _runs(z, sel):
     last = idx[np.r_[np.diff(idx) > 1, True]]
     zf = z.astype(float)
     half = 0.5 * np.diff(zf).min() if zf.size > 1 else 0.5
-    return np.column_stack([zf[first] - half, zf[last] + half,
-                            np.full(first.size, np.nan)]).ravel()[:-1]
+    return np.column_stack(
+        [zf[first] - half, zf[last] + half, np.full(first.size, np.nan)]
+    ).ravel()[:-1]
 
 
 def _measured_levels(profile, shown):
@@ -206,19 +252,37 @@ def _draw_variable(ax, profile, name, z, est_top, *, label, linestyle="-"):
     nodes = dict(marker="o", ms=3.5) if few else {}
     # a measured part of the profile, and below est_top the extension, dashed
     meas = np.ones(z.size, bool) if est_top is None else z <= est_top
-    ax.plot(np.where(meas, shown, np.nan), z, color=colour, lw=1.3, ls=linestyle,
-            label=label, **nodes)
+    ax.plot(
+        np.where(meas, shown, np.nan), z, color=colour, lw=1.3, ls=linestyle, label=label, **nodes
+    )
     if est_top is not None:
         last = np.flatnonzero(meas)
         lo = last[-1] if last.size else 0
-        ax.plot(shown[lo:], z[lo:], color=colour, lw=1.3, ls=(0, (5, 3)),
-                label=f"estimated (below {est_top:g} m)")
+        ax.plot(
+            shown[lo:],
+            z[lo:],
+            color=colour,
+            lw=1.3,
+            ls=(0, (5, 3)),
+            label=f"estimated (below {est_top:g} m)",
+        )
     if measured is not None:  # the levels actually measured, among interpolated bins
-        ax.plot(v[measured], z[measured], ls="none", marker="o", ms=4.5, mfc="white",
-                mec=colour, mew=1.3, zorder=3, label=MEASURED_LABEL)
+        ax.plot(
+            v[measured],
+            z[measured],
+            ls="none",
+            marker="o",
+            ms=4.5,
+            mfc="white",
+            mec=colour,
+            mew=1.3,
+            zorder=3,
+            label=MEASURED_LABEL,
+        )
     est = (q == _cf.ESTIMATED) & meas  # filled bins inside the measured part only
-    _mark_flags(ax, v, z, np.where((q == _cf.ESTIMATED) & ~est, _cf.GOOD, q),
-                _limits(profile, name))
+    _mark_flags(
+        ax, v, z, np.where((q == _cf.ESTIMATED) & ~est, _cf.GOOD, q), _limits(profile, name)
+    )
 
 
 def _draw_cast(ax, cast, zc, name, lim=None):
@@ -227,8 +291,16 @@ def _draw_cast(ax, cast, zc, name, lim=None):
         return
     v = np.asarray(cast[src].values, dtype=float)
     q = _flags(cast, src)
-    ax.plot(np.where(np.isin(q, _ON_VALUE), np.nan, v), zc, ls="none", marker=".", ms=2.0,
-            color=_COLOURS["raw"], zorder=0, label="raw samples")
+    ax.plot(
+        np.where(np.isin(q, _ON_VALUE), np.nan, v),
+        zc,
+        ls="none",
+        marker=".",
+        ms=2.0,
+        color=_COLOURS["raw"],
+        zorder=0,
+        label="raw samples",
+    )
     _mark_flags(ax, v, zc, q, lim, suffix=" (raw)")
 
 
@@ -246,33 +318,43 @@ def _critical_construction(ax, d):
     zc, c0 = _finite(d.get("critical_depth_surface")), _finite(d.get("surface_sound_speed"))
     if zc is None or c0 is None:
         return
-    ax.plot([c0, c0], [_finite(d.get("surface_depth")) or 0.0, zc], color="0.45", lw=0.8,
-            ls=(0, (1, 2)), zorder=1)
+    ax.plot(
+        [c0, c0],
+        [_finite(d.get("surface_depth")) or 0.0, zc],
+        color="0.45",
+        lw=0.8,
+        ls=(0, (1, 2)),
+        zorder=1,
+    )
     ax.plot([c0], [zc], marker="o", ms=4, mfc="white", mec="0.3", zorder=3)
 
 
 def _summary(d):
     """A few lines of numbers for the margin of the figure (missing or NaN values left out)."""
+
     def num(key, fmt):
         v = _finite(d.get(key))
         return None if v is None else fmt.format(v)
 
     top = _finite(d.get("transducer_depth")) or 0.0
     bottom = _finite(d.get("harmonic_mean_to_depth"))
-    hm = ("harmonic mean sound speed" if bottom is None
-          else f"harmonic mean, {top:g}-{bottom:g} m")
+    hm = "harmonic mean sound speed" if bottom is None else f"harmonic mean, {top:g}-{bottom:g} m"
     rows = [("surface sound speed", num("surface_sound_speed", "{:.1f} m/s"))]
     if d.get("surface_duct"):
-        rows += [("surface duct", num("sonic_layer_depth", "{:.0f} m thick")),
-                 ("in-layer gradient", num("in_layer_gradient", "{:+.3f} 1/s")),
-                 ("duct cut-off*", _cutoff(d))]
+        rows += [
+            ("surface duct", num("sonic_layer_depth", "{:.0f} m thick")),
+            ("in-layer gradient", num("in_layer_gradient", "{:+.3f} 1/s")),
+            ("duct cut-off*", _cutoff(d)),
+        ]
     else:
         rows.append(("surface duct", "none"))
-    rows += [("below-layer gradient", num("below_layer_gradient", "{:+.3f} 1/s")),
-             ("speed on the channel axis", num("channel_axis_sound_speed", "{:.1f} m/s")),
-             ("critical depth", num("critical_depth_surface", "{:.0f} m")),
-             ("depth excess", num("depth_excess_surface", "{:.0f} m")),
-             (hm, num("harmonic_mean_sound_speed", "{:.1f} m/s"))]
+    rows += [
+        ("below-layer gradient", num("below_layer_gradient", "{:+.3f} 1/s")),
+        ("speed on the channel axis", num("channel_axis_sound_speed", "{:.1f} m/s")),
+        ("critical depth", num("critical_depth_surface", "{:.0f} m")),
+        ("depth excess", num("depth_excess_surface", "{:.0f} m")),
+        (hm, num("harmonic_mean_sound_speed", "{:.1f} m/s")),
+    ]
     lines = [f"{k}: {v}" for k, v in rows if v is not None]
     if d.get("surface_duct") and _cutoff(d):
         lines.append("* rule of thumb, order of magnitude")
@@ -314,11 +396,22 @@ def _hlines(axes, diagnostics, label_ax, ylim, est_top=None):
         for i in range(len(placed) - 2, -1, -1):
             placed[i] = min(placed[i], placed[i + 1] - gap)
     trans = blended_transform_factory(label_ax.transAxes, label_ax.transData)
-    return [label_ax.annotate(
-        text, xy=(1.0, d), xycoords=trans, xytext=(1.06, top + f * (bottom - top)),
-        textcoords=trans, va="center", ha="left", fontsize=8.5, color="0.1",
-        arrowprops=dict(arrowstyle="-", color=colour, lw=0.9), annotation_clip=False)
-        for (d, text, colour), f in zip(drawn, placed)]
+    return [
+        label_ax.annotate(
+            text,
+            xy=(1.0, d),
+            xycoords=trans,
+            xytext=(1.06, top + f * (bottom - top)),
+            textcoords=trans,
+            va="center",
+            ha="left",
+            fontsize=8.5,
+            color="0.1",
+            arrowprops=dict(arrowstyle="-", color=colour, lw=0.9),
+            annotation_clip=False,
+        )
+        for (d, text, colour), f in zip(drawn, placed)
+    ]
 
 
 def _zoom_depth(zoom, z, c):
@@ -336,17 +429,22 @@ def _zoom_depth(zoom, z, c):
 
 
 def _title(profile):
-    name = (_word(profile.attrs.get("cast_name"))
-            or (_word(profile["profile_id"]) if "profile_id" in profile.coords else None)
-            or _word(profile.attrs.get("profile_id")) or "(unnamed)")
+    name = (
+        _word(profile.attrs.get("cast_name"))
+        or (_word(profile["profile_id"]) if "profile_id" in profile.coords else None)
+        or _word(profile.attrs.get("profile_id"))
+        or "(unnamed)"
+    )
     eq = _word(profile.attrs.get("equation"))
     if eq == "measured":
         # the instrument is named only when the file (or the user) declared it; a reader's
         # guess from the columns is no claim about where the numbers came from
         declared = _word(profile.attrs.get("instrument_source")) in ("file", "option")
-        eq_text = (" (measured by a sound-speed probe)"
-                   if declared and _word(profile.attrs.get("instrument")) == "svp"
-                   else " (sound speed given directly)")
+        eq_text = (
+            " (measured by a sound-speed probe)"
+            if declared and _word(profile.attrs.get("instrument")) == "svp"
+            else " (sound speed given directly)"
+        )
     else:
         eq_text = f" (equation {eq})" if eq else ""
     where = []
@@ -363,8 +461,7 @@ def _title(profile):
     return f"Sound-speed profile {name}{eq_text}", "  ·  ".join(where)
 
 
-def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
-                 bottom_depth=None):
+def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None, bottom_depth=None):
     """Draw temperature, salinity and sound speed of a Profile against depth.
 
     Parameters
@@ -395,8 +492,7 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
     """
     from ..layers.summary import _estimated_top, describe
 
-    if not hasattr(profile, "dims") or "depth" not in profile.dims or \
-            "sound_speed" not in profile:
+    if not hasattr(profile, "dims") or "depth" not in profile.dims or "sound_speed" not in profile:
         raise SeaprofileError("profile must be a Profile Dataset with depth and sound_speed")
     z = np.asarray(profile["depth"].values, dtype=float)
     c = np.asarray(profile["sound_speed"].values, dtype=float)
@@ -407,8 +503,11 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
     est_top = _estimated_top(profile)
     if diagnostics is None:
         diagnostics = describe(profile, bottom_depth=bottom_depth)
-    names = [n for n in ("temperature", "salinity", "sound_speed")
-             if n in profile and np.isfinite(np.asarray(profile[n].values, float)).any()]
+    names = [
+        n
+        for n in ("temperature", "salinity", "sound_speed")
+        if n in profile and np.isfinite(np.asarray(profile[n].values, float)).any()
+    ]
     zoom = _zoom_depth(zoom, z, c)
     n_full = len(names)
 
@@ -435,8 +534,11 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
         lim = _limits(profile, name)
         if zc is not None:
             _draw_cast(ax, cast, zc, name, lim)
-        label = {"temperature": "temperature", "salinity": "salinity",
-                 "sound_speed": "sound speed"}[name]
+        label = {
+            "temperature": "temperature",
+            "salinity": "salinity",
+            "sound_speed": "sound speed",
+        }[name]
         style = "-"
         if name == "salinity" and assumed_s:
             label = f"salinity ({_word(profile.attrs.get('salinity_source')) or 'assumed'})"
@@ -459,8 +561,14 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
         zax = fig.add_subplot()
         lefts.append(zoom_left)
         last = min(int(np.searchsorted(z, zoom, side="right")) + 1, z.size)
-        _draw_variable(zax, profile.isel(depth=slice(0, last)), "sound_speed", z[:last],
-                       est_top, label="sound speed")
+        _draw_variable(
+            zax,
+            profile.isel(depth=slice(0, last)),
+            "sound_speed",
+            z[:last],
+            est_top,
+            label="sound speed",
+        )
         if zc is not None:
             _draw_cast(zax, cast, zc, "sound_speed")
         zax.set_ylim(zoom, 0.0)
@@ -471,12 +579,20 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
             pad = max(0.06 * (top_c.max() - top_c.min()), 0.05)
             zax.set_xlim(top_c.min() - pad, top_c.max() + pad)
         for ax in axes:  # shade the range the upper-ocean panel shows
-            ax.axhspan(0.0, zoom, color=colormaps["cividis"](0.95), alpha=0.25, zorder=0,
-                       label=f"shown in the upper-ocean panel (0-{zoom:g} m)")
-        _hlines([zax], {k: diagnostics.get(k) for k in upper + ("surface_duct",)}, zax,
-                zax.get_ylim())
-        _hlines(axes, {k: v for k, v in diagnostics.items() if k not in upper}, axes[-1], ylim,
-                est_top)
+            ax.axhspan(
+                0.0,
+                zoom,
+                color=colormaps["cividis"](0.95),
+                alpha=0.25,
+                zorder=0,
+                label=f"shown in the upper-ocean panel (0-{zoom:g} m)",
+            )
+        _hlines(
+            [zax], {k: diagnostics.get(k) for k in upper + ("surface_duct",)}, zax, zax.get_ylim()
+        )
+        _hlines(
+            axes, {k: v for k, v in diagnostics.items() if k not in upper}, axes[-1], ylim, est_top
+        )
         axes.append(zax)
     else:
         _hlines(axes, diagnostics, axes[-1], ylim, est_top)
@@ -511,21 +627,48 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
     def place(width_in):
         fig.set_size_inches(width_in, height_in)
         for ax, left in zip(axes, lefts):
-            ax.set_position([left / width_in, bottom_in / height_in, _PANEL_IN / width_in,
-                             _PANELS_HEIGHT_IN / height_in])
+            ax.set_position(
+                [
+                    left / width_in,
+                    bottom_in / height_in,
+                    _PANEL_IN / width_in,
+                    _PANELS_HEIGHT_IN / height_in,
+                ]
+            )
 
     place(width_in)
     title, where = _title(profile)
     heads = [fig.suptitle(title, fontsize=12, y=1.0 - 0.12 / height_in, va="top")]
     if where:
-        heads.append(fig.text(0.5, 1.0 - 0.45 / height_in, where, ha="center", va="top",
-                              fontsize=9, color="0.25"))
-    legend = fig.legend([hd for hd, _ in handles], [lab for _, lab in handles],
-                        loc="upper left", ncol=ncol_legend, fontsize=7.5, frameon=False,
-                        borderaxespad=0.0, bbox_to_anchor=(0.3 / width_in, top_text))
-    chunks = [summary[i:i + per] for i in range(0, len(summary), per)] if per else []
-    notes = [fig.text(0.5, top_text, "\n".join(chunk), ha="left", va="top", fontsize=8,
-                      color="0.15", linespacing=1.45) for chunk in chunks]
+        heads.append(
+            fig.text(
+                0.5, 1.0 - 0.45 / height_in, where, ha="center", va="top", fontsize=9, color="0.25"
+            )
+        )
+    legend = fig.legend(
+        [hd for hd, _ in handles],
+        [lab for _, lab in handles],
+        loc="upper left",
+        ncol=ncol_legend,
+        fontsize=7.5,
+        frameon=False,
+        borderaxespad=0.0,
+        bbox_to_anchor=(0.3 / width_in, top_text),
+    )
+    chunks = [summary[i : i + per] for i in range(0, len(summary), per)] if per else []
+    notes = [
+        fig.text(
+            0.5,
+            top_text,
+            "\n".join(chunk),
+            ha="left",
+            va="top",
+            fontsize=8,
+            color="0.15",
+            linespacing=1.45,
+        )
+        for chunk in chunks
+    ]
     fig.draw_without_rendering()
     renderer = fig._get_renderer()
     legend_box = legend.get_window_extent(renderer) if handles else None
@@ -536,12 +679,15 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
         # whichever is widest
         panel_in = max(ax.get_tightbbox(renderer).x1 for ax in axes) / fig.dpi
         head_in = max(t.get_window_extent(renderer).width for t in heads) / fig.dpi
-        width_in = max(panel_in + 0.2, 0.3 + legend_in + 0.15,
-                       0.3 + max(widths, default=0) + 0.15, head_in + 0.3)
+        width_in = max(
+            panel_in + 0.2,
+            0.3 + legend_in + 0.15,
+            0.3 + max(widths, default=0) + 0.15,
+            head_in + 0.3,
+        )
         place(width_in)
         legend.set_bbox_to_anchor((0.3 / width_in, top_text), transform=fig.transFigure)
-        below = top_text - (legend_box.height / fig.dpi + 0.12) / height_in if handles \
-            else top_text
+        below = top_text - (legend_box.height / fig.dpi + 0.12) / height_in if handles else top_text
         for t in notes:
             t.set_position((0.3 / width_in, below))
     else:
@@ -552,12 +698,19 @@ def plot_profile(profile, *, diagnostics=None, cast=None, fig=None, zoom=None,
             width_in = need
             place(width_in)
             legend.set_bbox_to_anchor((0.3 / width_in, top_text), transform=fig.transFigure)
-        gap = min(max((width_in - 0.15 - x_in - sum(widths)) / max(len(widths) - 1, 1), 0.3),
-                  1.2)
+        gap = min(max((width_in - 0.15 - x_in - sum(widths)) / max(len(widths) - 1, 1), 0.3), 1.2)
         for t, w in zip(notes, widths):
             t.set_x(x_in / width_in)
             x_in += w + gap
-    fig.text(0.5, 0.06 / height_in, "Caution: " + _cf.CAUTION, ha="center", va="bottom",
-             fontsize=7, color="0.3", wrap=True)
+    fig.text(
+        0.5,
+        0.06 / height_in,
+        "Caution: " + _cf.CAUTION,
+        ha="center",
+        va="bottom",
+        fontsize=7,
+        color="0.3",
+        wrap=True,
+    )
     thin_crowded_ticks(fig)
     return keep_texts_inside(fig)

@@ -18,11 +18,11 @@ from __future__ import annotations
 
 import math
 
+import matplotlib as mpl
 import numpy as np
 from matplotlib.collections import LineCollection
 from matplotlib.colors import BoundaryNorm, ListedColormap
 from matplotlib.figure import Figure
-import matplotlib as mpl
 from matplotlib.ticker import MaxNLocator
 
 from .._cf import CAUTION
@@ -43,8 +43,9 @@ CAUTION_COLOUR = "#555555"
 
 # Launch angle: viridis up to 0.58, reflections: plasma up to 0.62; beyond those the colours
 # fall under 3:1 contrast on white (tests/plots check it with the WCAG 2.1 formula).
-ANGLE_CMAP = ListedColormap(mpl.colormaps["viridis"](np.linspace(0.0, 0.58, 256)),
-                            name="seaprofile_launch_angle")
+ANGLE_CMAP = ListedColormap(
+    mpl.colormaps["viridis"](np.linspace(0.0, 0.58, 256)), name="seaprofile_launch_angle"
+)
 REFLECTION_MAP = ("plasma", 0.0, 0.62)
 MAX_REFLECTION_BINS = 9  # colour steps of the reflection colour bar, at most
 
@@ -88,27 +89,46 @@ def fan_for_drawing(fan, environment):
     _check_fan(fan)
     angles = np.asarray(fan["launch_angle"].values, dtype=float)
     rmax = float(fan.attrs["max_range"])
-    per_ray = int(np.clip(DRAW_POINTS_TOTAL // max(angles.size, 1), MIN_DRAW_POINTS_PER_RAY,
-                          DRAW_POINTS_PER_RAY))
-    fine = trace_fan(environment, float(fan.attrs["source_depth"]), angles, rmax,
-                     range_step=rmax / per_ray,
-                     max_bounces=int(fan.attrs.get("max_bounces", 100)))
+    per_ray = int(
+        np.clip(
+            DRAW_POINTS_TOTAL // max(angles.size, 1), MIN_DRAW_POINTS_PER_RAY, DRAW_POINTS_PER_RAY
+        )
+    )
+    fine = trace_fan(
+        environment,
+        float(fan.attrs["source_depth"]),
+        angles,
+        rmax,
+        range_step=rmax / per_ray,
+        max_bounces=int(fan.attrs.get("max_bounces", 100)),
+    )
     t = np.concatenate([fan["travel_time"].values, fine["travel_time"].values], axis=1)
     order = np.argsort(np.where(np.isfinite(t), t, np.inf), axis=1, kind="stable")
     merged = {}
     for name in ("range", "depth", "travel_time"):
         both = np.concatenate([fan[name].values, fine[name].values], axis=1)
         both = np.take_along_axis(both, order, axis=1)
-        merged[name] = (("ray", "point"), np.where(np.isfinite(np.take_along_axis(
-            t, order, axis=1)), both, np.nan), fan[name].attrs)
+        merged[name] = (
+            ("ray", "point"),
+            np.where(np.isfinite(np.take_along_axis(t, order, axis=1)), both, np.nan),
+            fan[name].attrs,
+        )
     per_point = [v for v in fan.data_vars if "point" in fan[v].dims]
     return fan.drop_vars(per_point).drop_dims("point", errors="ignore").assign(merged)
 
 
 def caution_line(fig, text=None):
     """Write the caution in small grey type along the bottom edge of ``fig``."""
-    fig.text(0.01, 0.008, "Caution: " + (text or CAUTION), fontsize=7, color=CAUTION_COLOUR,
-             ha="left", va="bottom", wrap=True)
+    fig.text(
+        0.01,
+        0.008,
+        "Caution: " + (text or CAUTION),
+        fontsize=7,
+        color=CAUTION_COLOUR,
+        ha="left",
+        va="bottom",
+        wrap=True,
+    )
 
 
 def _normalise_shade(shade):
@@ -174,8 +194,9 @@ def reflection_bins(counts):
             break
     n = math.ceil(top / width)
     edges = np.concatenate([[-0.5, 0.5], 0.5 + width * np.arange(1, n + 1)])
-    labels = ["0"] + [str(1 + width * k) if width == 1 else f"{1 + width * k}-{width * (k + 1)}"
-                      for k in range(n)]
+    labels = ["0"] + [
+        str(1 + width * k) if width == 1 else f"{1 + width * k}-{width * (k + 1)}" for k in range(n)
+    ]
     return edges, labels
 
 
@@ -229,8 +250,9 @@ def _bottom_line(environment, fan, rmax_m):
     return r / 1000.0, np.full(r.shape, float(bottom))
 
 
-def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=None,
-             title=None, caution=True):
+def plot_fan(
+    fan, environment=None, *, shade="launch_angle", profile=None, ax=None, title=None, caution=True
+):
     """Draw a ray fan: rays in range and depth, the sea floor, and the sound-speed profile.
 
     Parameters
@@ -292,8 +314,7 @@ def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=No
         right = 0.875 if shade == "launch_angle" else 0.835
         if nodes is not None:
             ax_prof = fig.add_axes([left, bot, 0.13, top - bot])
-            ax = fig.add_axes([left + 0.145, bot, right - left - 0.145, top - bot],
-                              sharey=ax_prof)
+            ax = fig.add_axes([left + 0.145, bot, right - left - 0.145, top - bot], sharey=ax_prof)
         else:
             ax_prof = None
             ax = fig.add_axes([left, bot, right - left, top - bot])
@@ -306,9 +327,11 @@ def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=No
         new_figure = False
 
     # --- rays -----------------------------------------------------------------------
-    crossings = nray + float(np.sum(_counts(fan, "surface_reflections"))
-                             + np.sum(_counts(fan, "bottom_reflections"))
-                             + np.sum(_counts(fan, "turning_points")))
+    crossings = nray + float(
+        np.sum(_counts(fan, "surface_reflections"))
+        + np.sum(_counts(fan, "bottom_reflections"))
+        + np.sum(_counts(fan, "turning_points"))
+    )
     lw = _line_width(crossings)
     if shade == "launch_angle":
         _rays_by_angle(fig, ax, fan, segs, lw, cbar_box)
@@ -321,16 +344,36 @@ def plot_fan(fan, environment=None, *, shade="launch_angle", profile=None, ax=No
         ax.fill_between(br, bz, zmax * 1.5, color=SEAFLOOR_FILL, zorder=3, lw=0)
         ax.plot(br, bz, color=SEAFLOOR_EDGE, lw=1.2, zorder=4)
     if np.isfinite(zs):
-        ax.plot([0.0], [zs], marker="*", ms=13, color=SOURCE_COLOUR, mec="white", mew=0.9,
-                zorder=6, ls="none", label="_source", clip_on=False)
+        ax.plot(
+            [0.0],
+            [zs],
+            marker="*",
+            ms=13,
+            color=SOURCE_COLOUR,
+            mec="white",
+            mew=0.9,
+            zorder=6,
+            ls="none",
+            label="_source",
+            clip_on=False,
+        )
     section = getattr(environment, "section", None) if environment is not None else None
     if section is not None:
         for rk in np.asarray(section.ranges, float) / 1000.0:
             if 0.0 <= rk <= rmax_m / 1000.0:
                 ax.axvline(rk, color=INK, lw=0.7, ls=(0, (2, 3)), alpha=0.6, zorder=5)
-                ax.text(rk, 0.0, "cast", rotation=90, fontsize=7, color=INK, ha="right",
-                        va="top", zorder=7,
-                        bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.7))
+                ax.text(
+                    rk,
+                    0.0,
+                    "cast",
+                    rotation=90,
+                    fontsize=7,
+                    color=INK,
+                    ha="right",
+                    va="top",
+                    zorder=7,
+                    bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.7),
+                )
 
     ax.set_xlim(0.0, rmax_m / 1000.0)
     ax.set_ylim(zmax, 0.0)
@@ -387,10 +430,12 @@ def _rays_by_angle(fig, ax, fan, segs, lw, cbar_box):
     cb = _colour_bar(fig, ax, lc, cbar_box, "launch angle (deg)")
     # Positive angles point down, so put them at the bottom of the bar, like the rays.
     cb.ax.invert_yaxis()
-    cb.ax.text(0.5, 1.01, "up", transform=cb.ax.transAxes, ha="center", va="bottom",
-               fontsize=8, color=INK)
-    cb.ax.text(0.5, -0.01, "down", transform=cb.ax.transAxes, ha="center", va="top",
-               fontsize=8, color=INK)
+    cb.ax.text(
+        0.5, 1.01, "up", transform=cb.ax.transAxes, ha="center", va="bottom", fontsize=8, color=INK
+    )
+    cb.ax.text(
+        0.5, -0.01, "down", transform=cb.ax.transAxes, ha="center", va="top", fontsize=8, color=INK
+    )
     return lc
 
 
@@ -399,8 +444,9 @@ def _rays_by_reflections(fig, ax, fan, segs, lw, cbar_box):
     counts = boundary_reflections(fan)
     edges, labels = reflection_bins(counts)
     name, lo, hi = REFLECTION_MAP
-    cmap = ListedColormap(mpl.colormaps[name](np.linspace(lo, hi, len(labels))),
-                          name="seaprofile_reflections")
+    cmap = ListedColormap(
+        mpl.colormaps[name](np.linspace(lo, hi, len(labels))), name="seaprofile_reflections"
+    )
     norm = BoundaryNorm(edges, cmap.N)
     order = np.argsort(-counts, kind="stable")  # fewest reflections drawn last, on top
     lc = LineCollection(segs[order], cmap=cmap, norm=norm, linewidths=lw, zorder=2)
@@ -425,10 +471,14 @@ def _profile_panel(ax_prof, nodes, section, bottom, zs, zmax):
         show = set(range(n)) if n <= 6 else {0, n - 1}
         for k in range(n):
             label = f"{section.ranges[k] / 1000:.1f} km" if k in show else None
-            ax_prof.plot(section.sound_speed[k], section.depth, color=cols[k], lw=1.1,
-                         label=label)
-        ax_prof.legend(fontsize=6.5, loc="lower left", framealpha=0.85,
-                       title="cast at" if n <= 6 else f"{n} casts, from", title_fontsize=6.5)
+            ax_prof.plot(section.sound_speed[k], section.depth, color=cols[k], lw=1.1, label=label)
+        ax_prof.legend(
+            fontsize=6.5,
+            loc="lower left",
+            framealpha=0.85,
+            title="cast at" if n <= 6 else f"{n} casts, from",
+            title_fontsize=6.5,
+        )
         cmin, cmax = float(np.min(section.sound_speed)), float(np.max(section.sound_speed))
     else:
         ax_prof.plot(c, z, color=INK, lw=1.4, marker="." if z.size <= 40 else None, ms=3)
@@ -439,9 +489,18 @@ def _profile_panel(ax_prof, nodes, section, bottom, zs, zmax):
         ax_prof.axhspan(float(bottom[1][0]), zmax * 1.5, color=SEAFLOOR_FILL, lw=0, zorder=3)
     if np.isfinite(zs):
         ax_prof.axhline(zs, color=SOURCE_COLOUR, lw=1.0, ls="--", zorder=4)
-        ax_prof.text(0.96, zs, "source", transform=ax_prof.get_yaxis_transform(),
-                     color=SOURCE_COLOUR, fontsize=7.5, ha="right", va="bottom", zorder=5,
-                     bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.8))
+        ax_prof.text(
+            0.96,
+            zs,
+            "source",
+            transform=ax_prof.get_yaxis_transform(),
+            color=SOURCE_COLOUR,
+            fontsize=7.5,
+            ha="right",
+            va="bottom",
+            zorder=5,
+            bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.8),
+        )
     ax_prof.set_ylim(zmax, 0.0)
     # range (km) labels the fan panel's bottom edge, so the sound speed is labelled on top
     ax_prof.set_xlabel("sound speed (m/s)")

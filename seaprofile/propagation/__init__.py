@@ -5,14 +5,14 @@ Not for navigation on its own: verify results against the governing hydrographic
 local regulations and licensed practice.
 """
 
-from .codes import END_REASONS, POINT_KINDS
 from .boundaries import Bathymetry, Seabed, Surface
-from .environment import Environment, LayeredSpeed, thin_nodes
-from .section import Section, great_circle_distance, track_ranges
-from .rayfan import rayfan_dataset
-from .integrate import trace_fan_integrated
-from .rays import trace_fan
+from .codes import END_REASONS, POINT_KINDS
 from .eigenrays import eigenrays
+from .environment import Environment, LayeredSpeed, thin_nodes
+from .integrate import trace_fan_integrated
+from .rayfan import rayfan_dataset
+from .rays import trace_fan
+from .section import Section, great_circle_distance, track_ranges
 
 __all__ = [
     "Bathymetry",

@@ -17,12 +17,59 @@ from ._arcs import _trace_ray
 
 
 @numba.njit(cache=True)
-def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p, s_cnt,
-          e_r, e_k, max_steps):
+def _eval(
+    zn,
+    cn,
+    gn,
+    tl,
+    zs,
+    x,
+    r,
+    max_refl,
+    samp,
+    s_z,
+    s_t,
+    s_a,
+    s_q,
+    s_c,
+    s_p,
+    s_cnt,
+    e_r,
+    e_k,
+    max_steps,
+):
     """Trace one ray (launch angle x, rad) to range r; returns (depth, dz/dtheta0, count)."""
     s_z[0] = np.nan
-    _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p, s_cnt,
-               e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k, max_steps)
+    _trace_ray(
+        zn,
+        cn,
+        gn,
+        tl,
+        zs,
+        x,
+        r,
+        max_refl,
+        samp,
+        s_z,
+        s_t,
+        s_a,
+        s_q,
+        s_c,
+        s_p,
+        s_cnt,
+        e_r,
+        e_r,
+        e_r,
+        e_r,
+        e_r,
+        e_r,
+        e_r,
+        e_k,
+        e_r,
+        e_r,
+        e_k,
+        max_steps,
+    )
     sgn = 1.0 if (s_cnt[0, 0] + s_cnt[0, 1]) % 2 == 0 else -1.0
     cosr = np.cos(np.radians(s_a[0]))
     deriv = sgn * s_q[0] / cosr if cosr > 0.0 else 0.0
@@ -30,8 +77,26 @@ def _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p
 
 
 @numba.njit(cache=True, parallel=True)
-def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max_refl,
-                   sp_th, sp_z, sp_th_far, max_steps):
+def _find_specials(
+    zn,
+    cn,
+    gn,
+    tl,
+    zs,
+    th,
+    Z,
+    Q,
+    A,
+    CNT,
+    ranges,
+    zr,
+    bottom,
+    max_refl,
+    sp_th,
+    sp_z,
+    sp_th_far,
+    max_steps,
+):
     """Between neighbouring fan rays, locate a fold (dz/dtheta0 = 0 inside one family) or a
     kink (a surface / bottom reflection at the receiver range) and its depth.
 
@@ -88,13 +153,32 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                 x = 0.5 * (lo + hi)
                 zx = np.nan
                 side = 0
-                for it in range(60):
+                for _it in range(60):
                     if dhi != dlo:
                         x = hi - dhi * (hi - lo) / (dhi - dlo)
                     if not (lo < x < hi):
                         x = 0.5 * (lo + hi)
-                    zx, dx, nx = _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t,
-                                       s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
+                    zx, dx, nx = _eval(
+                        zn,
+                        cn,
+                        gn,
+                        tl,
+                        zs,
+                        x,
+                        r,
+                        max_refl,
+                        samp,
+                        s_z,
+                        s_t,
+                        s_a,
+                        s_q,
+                        s_c,
+                        s_p,
+                        s_cnt,
+                        e_r,
+                        e_k,
+                        max_steps,
+                    )
                     if zx != zx or nx != na:
                         break
                     if (dx > 0.0) == (dlo > 0.0):
@@ -126,10 +210,29 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                     continue
                 lo = th[a]
                 hi = th[a + 1]
-                for it in range(45):
+                for _it in range(45):
                     x = 0.5 * (lo + hi)
-                    zx, dx, nx = _eval(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t,
-                                       s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
+                    zx, dx, nx = _eval(
+                        zn,
+                        cn,
+                        gn,
+                        tl,
+                        zs,
+                        x,
+                        r,
+                        max_refl,
+                        samp,
+                        s_z,
+                        s_t,
+                        s_a,
+                        s_q,
+                        s_c,
+                        s_p,
+                        s_cnt,
+                        e_r,
+                        e_k,
+                        max_steps,
+                    )
                     if nx == na:
                         lo = x
                     else:
@@ -138,8 +241,27 @@ def _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, ranges, zr, bottom, max
                         break
                 # depth on the family-a side of the boundary: 0 or the bottom for a true
                 # reflection kink, the grazing depth when the ray just touches the boundary
-                zx, dx, nx = _eval(zn, cn, gn, tl, zs, lo, r, max_refl, samp, s_z, s_t,
-                                   s_a, s_q, s_c, s_p, s_cnt, e_r, e_k, max_steps)
+                zx, dx, nx = _eval(
+                    zn,
+                    cn,
+                    gn,
+                    tl,
+                    zs,
+                    lo,
+                    r,
+                    max_refl,
+                    samp,
+                    s_z,
+                    s_t,
+                    s_a,
+                    s_q,
+                    s_c,
+                    s_p,
+                    s_cnt,
+                    e_r,
+                    e_k,
+                    max_steps,
+                )
                 if zx == zx:
                     sp_th[a, k] = lo
                     sp_z[a, k] = zx
@@ -201,8 +323,29 @@ def _brackets(Z, sp_z, zr, bottom, tol, offsets, fill, counts, bk, bj, ba, bs):
 
 
 @numba.njit(cache=True, parallel=True)
-def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, bj, ba, bs,
-            max_refl, ftol, out_f, out_i, max_steps):
+def _refine(
+    zn,
+    cn,
+    gn,
+    tl,
+    zs,
+    th,
+    Z,
+    sp_th,
+    sp_z,
+    sp_th_far,
+    ranges,
+    zr,
+    bk,
+    bj,
+    ba,
+    bs,
+    max_refl,
+    ftol,
+    out_f,
+    out_i,
+    max_steps,
+):
     nb = bk.size
     for b in prange(nb):
         k = bk[b]
@@ -245,10 +388,38 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, b
             x = lo
         ok = 0
         f = np.nan
-        for it in range(80):
+        for _it in range(80):
             s_z[0] = np.nan
-            _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c, s_p,
-                       s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k, max_steps)
+            _trace_ray(
+                zn,
+                cn,
+                gn,
+                tl,
+                zs,
+                x,
+                r,
+                max_refl,
+                samp,
+                s_z,
+                s_t,
+                s_a,
+                s_q,
+                s_c,
+                s_p,
+                s_cnt,
+                e_r,
+                e_r,
+                e_r,
+                e_r,
+                e_r,
+                e_r,
+                e_r,
+                e_k,
+                e_r,
+                e_r,
+                e_k,
+                max_steps,
+            )
             f = s_z[0] - zt
             if f != f:
                 # absorbed before the receiver: shrink towards the valid end points
@@ -273,9 +444,36 @@ def _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, ranges, zr, bk, b
                 x = xn
                 ok = 1
                 s_z[0] = np.nan
-                _trace_ray(zn, cn, gn, tl, zs, x, r, max_refl, samp, s_z, s_t, s_a, s_q, s_c,
-                           s_p, s_cnt, e_r, e_r, e_r, e_r, e_r, e_r, e_r, e_k, e_r, e_r, e_k,
-                           max_steps)
+                _trace_ray(
+                    zn,
+                    cn,
+                    gn,
+                    tl,
+                    zs,
+                    x,
+                    r,
+                    max_refl,
+                    samp,
+                    s_z,
+                    s_t,
+                    s_a,
+                    s_q,
+                    s_c,
+                    s_p,
+                    s_cnt,
+                    e_r,
+                    e_r,
+                    e_r,
+                    e_r,
+                    e_r,
+                    e_r,
+                    e_r,
+                    e_k,
+                    e_r,
+                    e_r,
+                    e_k,
+                    max_steps,
+                )
                 f = s_z[0] - zt
                 # a collapsed bracket is a root only if the miss is small (not a jump)
                 if not abs(f) < 1e3 * ftol:

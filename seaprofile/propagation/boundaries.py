@@ -67,15 +67,19 @@ class Surface:
     reflection_coefficient: ClassVar[float] = -1.0
 
     def __post_init__(self):
-        object.__setattr__(self, "rms_wave_height",
-                           _number("Surface", "rms_wave_height (m)", self.rms_wave_height,
-                                   minimum=0.0))
+        object.__setattr__(
+            self,
+            "rms_wave_height",
+            _number("Surface", "rms_wave_height (m)", self.rms_wave_height, minimum=0.0),
+        )
 
     def to_attrs(self):
         """Flat attributes (``surface_*``) recording this surface."""
-        return {"surface": "pressure_release",
-                "surface_reflection_coefficient": self.reflection_coefficient,
-                "surface_rms_wave_height": self.rms_wave_height}
+        return {
+            "surface": "pressure_release",
+            "surface_reflection_coefficient": self.reflection_coefficient,
+            "surface_rms_wave_height": self.rms_wave_height,
+        }
 
     @classmethod
     def from_attrs(cls, attrs):
@@ -114,21 +118,31 @@ class Seabed:
     name: str = ""
 
     def __post_init__(self):
-        object.__setattr__(self, "sound_speed", _number("Seabed", "sound_speed (m/s)",
-                                                        self.sound_speed, positive=True))
-        object.__setattr__(self, "density", _number("Seabed", "density (kg m-3)",
-                                                    self.density, positive=True))
-        object.__setattr__(self, "attenuation",
-                           _number("Seabed", "attenuation (dB per wavelength)",
-                                   self.attenuation, minimum=0.0))
+        object.__setattr__(
+            self,
+            "sound_speed",
+            _number("Seabed", "sound_speed (m/s)", self.sound_speed, positive=True),
+        )
+        object.__setattr__(
+            self, "density", _number("Seabed", "density (kg m-3)", self.density, positive=True)
+        )
+        object.__setattr__(
+            self,
+            "attenuation",
+            _number("Seabed", "attenuation (dB per wavelength)", self.attenuation, minimum=0.0),
+        )
         if not isinstance(self.name, str):
             raise SeaprofileError(f"Seabed name must be a string, got {self.name!r}")
 
     def to_attrs(self):
         """Flat attributes (``seabed_*``) recording this seabed."""
-        return {"seabed": "fluid_half_space", "seabed_name": self.name,
-                "seabed_sound_speed": self.sound_speed, "seabed_density": self.density,
-                "seabed_attenuation": self.attenuation}
+        return {
+            "seabed": "fluid_half_space",
+            "seabed_name": self.name,
+            "seabed_sound_speed": self.sound_speed,
+            "seabed_density": self.density,
+            "seabed_attenuation": self.attenuation,
+        }
 
     @staticmethod
     def attrs_of(seabed):
@@ -140,10 +154,12 @@ class Seabed:
         """The Seabed recorded in ``attrs`` (see :meth:`attrs_of`), or None."""
         if attrs.get("seabed", "none") == "none":
             return None
-        return cls(sound_speed=float(attrs["seabed_sound_speed"]),
-                   density=float(attrs["seabed_density"]),
-                   attenuation=float(attrs["seabed_attenuation"]),
-                   name=str(attrs.get("seabed_name", "")))
+        return cls(
+            sound_speed=float(attrs["seabed_sound_speed"]),
+            density=float(attrs["seabed_density"]),
+            attenuation=float(attrs["seabed_attenuation"]),
+            name=str(attrs.get("seabed_name", "")),
+        )
 
 
 def _readonly(values):
@@ -175,7 +191,8 @@ class Bathymetry:
         z = as_float_array("bathymetry depths", self.depths).ravel()
         if r.size != z.size or r.size < 1:
             raise SeaprofileError(
-                "bathymetry ranges and depths must have one equal, non-zero length")
+                "bathymetry ranges and depths must have one equal, non-zero length"
+            )
         if not (np.all(np.isfinite(r)) and np.all(np.isfinite(z))):
             raise SeaprofileError("bathymetry contains NaN or infinite values")
         if np.any(np.diff(r) <= 0):
@@ -196,13 +213,13 @@ class Bathymetry:
         if isinstance(value, cls):
             return value
         if np.ndim(value) == 0:
-            return cls([0.0], [_number("bathymetry", "(a flat depth, m)", value,
-                                       positive=True)])
+            return cls([0.0], [_number("bathymetry", "(a flat depth, m)", value, positive=True)])
         try:
             r, z = value
         except (TypeError, ValueError) as exc:
-            raise SeaprofileError("bathymetry must be a Bathymetry or a pair (ranges, depths)"
-                                  ) from exc
+            raise SeaprofileError(
+                "bathymetry must be a Bathymetry or a pair (ranges, depths)"
+            ) from exc
         return cls(r, z)
 
     @property
@@ -222,22 +239,27 @@ class Bathymetry:
     def __eq__(self, other):
         if not isinstance(other, Bathymetry):
             return NotImplemented
-        return (np.array_equal(self.ranges, other.ranges)
-                and np.array_equal(self.depths, other.depths))
+        return np.array_equal(self.ranges, other.ranges) and np.array_equal(
+            self.depths, other.depths
+        )
 
     __hash__ = None
 
     def to_attrs(self):
         """A summary (``bathymetry_*``): kind, points, depth and range span, m."""
-        return {"bathymetry": "flat" if self.is_flat else "piecewise_linear",
-                "bathymetry_points": int(self.ranges.size),
-                "bathymetry_min_depth": float(self.depths.min()),
-                "bathymetry_max_depth": self.deepest,
-                "bathymetry_first_range": float(self.ranges[0]),
-                "bathymetry_last_range": float(self.ranges[-1])}
+        return {
+            "bathymetry": "flat" if self.is_flat else "piecewise_linear",
+            "bathymetry_points": int(self.ranges.size),
+            "bathymetry_min_depth": float(self.depths.min()),
+            "bathymetry_max_depth": self.deepest,
+            "bathymetry_first_range": float(self.ranges[0]),
+            "bathymetry_last_range": float(self.ranges[-1]),
+        }
 
     def __repr__(self):
         if self.ranges.size == 1:
             return f"Bathymetry.flat({self.depths[0]:g})"
-        return (f"Bathymetry({self.ranges.size} points over {self.ranges[0]:g}.."
-                f"{self.ranges[-1]:g} m, depth {self.depths.min():g}..{self.deepest:g} m)")
+        return (
+            f"Bathymetry({self.ranges.size} points over {self.ranges[0]:g}.."
+            f"{self.ranges[-1]:g} m, depth {self.depths.min():g}..{self.deepest:g} m)"
+        )

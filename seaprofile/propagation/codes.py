@@ -132,4 +132,5 @@ def check_memory(nbytes, argument, what, remedy):
     if not nbytes <= MEMORY_LIMIT:
         raise SeaprofileError(
             f"{argument}: {what} would need about {nbytes / 1e9:.3g} GB of memory, more "
-            f"than the {MEMORY_LIMIT / 1e9:g} GB allowed; {remedy}")
+            f"than the {MEMORY_LIMIT / 1e9:g} GB allowed; {remedy}"
+        )

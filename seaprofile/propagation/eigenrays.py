@@ -92,15 +92,19 @@ def _check(environment, source_depth, receiver_ranges, receiver_depths, max_refl
     zs = as_float_array("source_depth", source_depth)
     if zs.ndim != 0 or not np.isfinite(zs) or not 0 <= zs <= environment.bottom_depth:
         raise SeaprofileError(
-            f"source_depth must be one number within 0..{environment.bottom_depth:g} m")
+            f"source_depth must be one number within 0..{environment.bottom_depth:g} m"
+        )
     rr = np.atleast_1d(as_float_array("receiver_ranges", receiver_ranges)).ravel()
     if rr.size == 0 or not np.all(np.isfinite(rr)) or np.any(rr <= 0):
         raise SeaprofileError("receiver_ranges must be positive finite ranges (m)")
     zr = np.atleast_1d(as_float_array("receiver_depths", receiver_depths)).ravel()
-    if (zr.size == 0 or not np.all(np.isfinite(zr)) or np.any(zr < 0)
-            or np.any(zr > environment.bottom_depth)):
-        raise SeaprofileError(
-            f"receiver_depths must lie within 0..{environment.bottom_depth:g} m")
+    if (
+        zr.size == 0
+        or not np.all(np.isfinite(zr))
+        or np.any(zr < 0)
+        or np.any(zr > environment.bottom_depth)
+    ):
+        raise SeaprofileError(f"receiver_depths must lie within 0..{environment.bottom_depth:g} m")
     mr = as_float_array("max_reflections", max_reflections)
     if mr.ndim != 0 or not np.isfinite(mr) or mr < 0 or mr != np.floor(mr):
         raise SeaprofileError("max_reflections must be one whole number >= 0")
@@ -111,12 +115,17 @@ def _check(environment, source_depth, receiver_ranges, receiver_depths, max_refl
     else:
         a = np.sort(as_float_array("angles", angles).ravel())
         if a.size < 2 or not np.all(np.isfinite(a)) or np.any(np.abs(a) > 90):
-            raise SeaprofileError("angles must be at least two launch angles within -90..90 degrees")
+            raise SeaprofileError(
+                "angles must be at least two launch angles within -90..90 degrees"
+            )
     # the search fan at every receiver range (depth, q, angle, 4 counts, 3 special-point
     # arrays), estimated before anything is allocated; refinement adds to it
-    check_memory(float(a.size) * rr.size * SEARCH_BYTES + 16.0 * rr.size * zr.size,
-                 "receiver_ranges", f"a search fan of {a.size} rays at {rr.size} ranges",
-                 "ask for fewer receiver ranges per call, or a sparser angles fan")
+    check_memory(
+        float(a.size) * rr.size * SEARCH_BYTES + 16.0 * rr.size * zr.size,
+        "receiver_ranges",
+        f"a search fan of {a.size} rays at {rr.size} ranges",
+        "ask for fewer receiver ranges per call, or a sparser angles fan",
+    )
     return float(zs), rr, zr, mr, a
 
 
@@ -179,25 +188,34 @@ def _search_fan(zn, cn, zs, a, rs, order, max_refl, refine):
         return a, Z, Q, A, CNT
     frac = np.arange(1, REFINE_SPLIT) / REFINE_SPLIT
     finest = _finest_spacing(float(zn[-1]), float(rs[-1]))
-    levels = REFINE_LEVELS + int(np.ceil(np.log(REFINE_MIN_SPACING / finest)
-                                         / np.log(REFINE_SPLIT) - 1e-9))
+    levels = REFINE_LEVELS + int(
+        np.ceil(np.log(REFINE_MIN_SPACING / finest) / np.log(REFINE_SPLIT) - 1e-9)
+    )
     for _ in range(levels):
         width = np.diff(a)
-        sel = np.nonzero(_suspect_pairs(np.radians(a), Z, Q, A, CNT, max_refl)
-                         & (width > finest))[0]
+        sel = np.nonzero(_suspect_pairs(np.radians(a), Z, Q, A, CNT, max_refl) & (width > finest))[
+            0
+        ]
         if sel.size == 0:
             break
         new = (a[sel, None] + width[sel, None] * frac[None, :]).ravel()
         parts = _trace_search(zn, cn, zs, new, rs, order, max_refl)
         srt = np.argsort(np.concatenate([a, new]), kind="stable")
         a = np.concatenate([a, new])[srt]
-        Z, Q, A, CNT = (np.concatenate([old, add])[srt]
-                        for old, add in zip((Z, Q, A, CNT), parts))
+        Z, Q, A, CNT = (np.concatenate([old, add])[srt] for old, add in zip((Z, Q, A, CNT), parts))
     return a, Z, Q, A, CNT
 
 
-def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
-              max_reflections=3, angles=None, refine=True):
+def eigenrays(
+    environment,
+    source_depth,
+    receiver_ranges,
+    receiver_depths,
+    *,
+    max_reflections=3,
+    angles=None,
+    refine=True,
+):
     """All rays joining the source to each receiver, up to ``max_reflections`` reflections.
 
     Parameters
@@ -239,12 +257,14 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     2011, ch. 3). Arrivals are exact for the piecewise-linear c(z) to about 1 micrometre in
     depth; their count is as complete as the search fan is dense.
     """
-    zs, rr, zr, mr, a = _check(environment, source_depth, receiver_ranges, receiver_depths,
-                               max_reflections, angles)
+    zs, rr, zr, mr, a = _check(
+        environment, source_depth, receiver_ranges, receiver_depths, max_reflections, angles
+    )
     if environment.is_range_dependent:
         raise SeaprofileError(
             "environment: eigenrays need a range-independent environment (flat bottom, no "
-            "section); trace a fan (trace_fan) through a range-dependent one")
+            "section); trace a fan (trace_fan) through a range-dependent one"
+        )
 
     zn, cn = environment.layers()
     order = np.argsort(rr, kind="stable")
@@ -260,29 +280,73 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
     sp_z = np.full((a.size - 1, rr.size), np.nan)
     sp_th_far = np.full((a.size - 1, rr.size), np.nan)
     bottom = float(zn[-1])
-    _find_specials(zn, cn, gn, tl, zs, th, Z, Q, A, CNT, rr, zr, bottom, mr + 1,
-                   sp_th, sp_z, sp_th_far, MAX_STEPS)
+    _find_specials(
+        zn,
+        cn,
+        gn,
+        tl,
+        zs,
+        th,
+        Z,
+        Q,
+        A,
+        CNT,
+        rr,
+        zr,
+        bottom,
+        mr + 1,
+        sp_th,
+        sp_z,
+        sp_th_far,
+        MAX_STEPS,
+    )
     counts = np.zeros((rr.size, zr.size), dtype=np.int64)
     dummy = np.zeros(0, dtype=np.int64)
-    _brackets(Z, sp_z, zr, bottom, DEPTH_TOLERANCE, counts, False, counts, dummy, dummy,
-              dummy, dummy)
+    _brackets(
+        Z, sp_z, zr, bottom, DEPTH_TOLERANCE, counts, False, counts, dummy, dummy, dummy, dummy
+    )
     offsets = np.zeros_like(counts)
     flat = counts.ravel()
     offsets.ravel()[1:] = np.cumsum(flat)[:-1]
     total = int(flat.sum())
-    check_memory(total * 160.0, "receiver_depths",
-                 f"{total} eigenray brackets at {rr.size * zr.size} receivers",
-                 "ask for fewer receivers per call, or a smaller max_reflections")
+    check_memory(
+        total * 160.0,
+        "receiver_depths",
+        f"{total} eigenray brackets at {rr.size * zr.size} receivers",
+        "ask for fewer receivers per call, or a smaller max_reflections",
+    )
     bk = np.empty(total, dtype=np.int64)
     bj = np.empty(total, dtype=np.int64)
     ba = np.empty(total, dtype=np.int64)
     bs = np.empty(total, dtype=np.int64)
-    _brackets(Z, sp_z, zr, bottom, DEPTH_TOLERANCE, offsets, True, np.zeros_like(counts),
-              bk, bj, ba, bs)
+    _brackets(
+        Z, sp_z, zr, bottom, DEPTH_TOLERANCE, offsets, True, np.zeros_like(counts), bk, bj, ba, bs
+    )
     out_f = np.full((total, 5), np.nan)
     out_i = np.zeros((total, 5), dtype=np.int64)
-    _refine(zn, cn, gn, tl, zs, th, Z, sp_th, sp_z, sp_th_far, rr, zr, bk, bj, ba, bs,
-            mr + 1, DEPTH_TOLERANCE, out_f, out_i, MAX_STEPS)
+    _refine(
+        zn,
+        cn,
+        gn,
+        tl,
+        zs,
+        th,
+        Z,
+        sp_th,
+        sp_z,
+        sp_th_far,
+        rr,
+        zr,
+        bk,
+        bj,
+        ba,
+        bs,
+        mr + 1,
+        DEPTH_TOLERANCE,
+        out_f,
+        out_i,
+        MAX_STEPS,
+    )
     keep = (out_i[:, 0] == 1) & (out_i[:, 1] + out_i[:, 2] <= mr)
     bk, bj = bk[keep], bj[keep]
     out_f, out_i = out_f[keep], out_i[keep]
@@ -294,16 +358,42 @@ def eigenrays(environment, source_depth, receiver_ranges, receiver_depths, *,
         loss = 10.0 * np.log10(rng * np.abs(out_f[:, 3]) / cos_arr)
     phase = np.pi * out_i[:, 1] + 0.5 * np.pi * out_i[:, 4]
     attrs = dict(environment.attrs or {})
-    attrs.update(_cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs}))
-    attrs = _cf.record_step(attrs, "eigenrays", source_depth_m=zs, max_reflections=mr,
-                            fan_rays=int(n_fan), refined_rays=int(a.size - n_fan),
-                            fan_min_deg=float(a[0]), fan_max_deg=float(a[-1]),
-                            layers=int(zn.size - 1))
-    attrs.update(title="eigenray paths", source_depth=zs, max_reflections=mr,
-                 bottom_depth=float(environment.bottom_depth), solver="exact_layered",
-                 **environment.provenance_attrs())
+    attrs.update(
+        _cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs})
+    )
+    attrs = _cf.record_step(
+        attrs,
+        "eigenrays",
+        source_depth_m=zs,
+        max_reflections=mr,
+        fan_rays=int(n_fan),
+        refined_rays=int(a.size - n_fan),
+        fan_min_deg=float(a[0]),
+        fan_max_deg=float(a[-1]),
+        layers=int(zn.size - 1),
+    )
+    attrs.update(
+        title="eigenray paths",
+        source_depth=zs,
+        max_reflections=mr,
+        bottom_depth=float(environment.bottom_depth),
+        solver="exact_layered",
+        **environment.provenance_attrs(),
+    )
     return path_table_dataset(
-        rr, zr, bk, bj, launch_angle=out_f[:, 0], arrival_angle=out_f[:, 2],
-        travel_time=out_f[:, 1], spreading_loss=loss, surface_reflections=out_i[:, 1],
-        bottom_reflections=out_i[:, 2], caustics=out_i[:, 4], turning_points=out_i[:, 3],
-        phase=phase, depth_miss=out_f[:, 4], attrs=attrs)
+        rr,
+        zr,
+        bk,
+        bj,
+        launch_angle=out_f[:, 0],
+        arrival_angle=out_f[:, 2],
+        travel_time=out_f[:, 1],
+        spreading_loss=loss,
+        surface_reflections=out_i[:, 1],
+        bottom_reflections=out_i[:, 2],
+        caustics=out_i[:, 4],
+        turning_points=out_i[:, 3],
+        phase=phase,
+        depth_miss=out_f[:, 4],
+        attrs=attrs,
+    )

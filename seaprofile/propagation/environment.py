@@ -241,7 +241,8 @@ class Environment:
             z, c = _check_nodes(speed.depth, c0)
         else:
             raise SeaprofileError(
-                f"speed must be a LayeredSpeed or a Section, got {type(speed).__name__}")
+                f"speed must be a LayeredSpeed or a Section, got {type(speed).__name__}"
+            )
         bathy = Bathymetry.coerce(self.bathymetry)
         if not isinstance(self.surface, Surface):
             raise SeaprofileError(f"surface must be a Surface, got {self.surface!r}")
@@ -249,7 +250,8 @@ class Environment:
             raise SeaprofileError(
                 f"seabed must be a Seabed or None, got the name {self.seabed!r}: no table of "
                 "named sediments is built in; give Seabed(sound_speed=..., density=..., "
-                "attenuation=..., name=...) with the values of the site")
+                "attenuation=..., name=...) with the values of the site"
+            )
         if self.seabed is not None and not isinstance(self.seabed, Seabed):
             raise SeaprofileError(f"seabed must be a Seabed or None, got {self.seabed!r}")
         if z[0] > 0:
@@ -266,25 +268,27 @@ class Environment:
 
     # -- constructors ------------------------------------------------------------------
     @classmethod
-    def _assemble(cls, speed, bottom_depth, bathymetry, surface, seabed, thin_tolerance,
-                  attrs):
+    def _assemble(cls, speed, bottom_depth, bathymetry, surface, seabed, thin_tolerance, attrs):
         """The one path of the classmethods: bottom, thinning, provenance, then ``cls``."""
         if bottom_depth is not None:
             try:
                 bottom = float(bottom_depth)
             except (TypeError, ValueError) as exc:
                 raise SeaprofileError(
-                    f"bottom_depth must be a number (m), got {bottom_depth!r}") from exc
+                    f"bottom_depth must be a number (m), got {bottom_depth!r}"
+                ) from exc
             if not np.isfinite(bottom) or bottom <= 0:
                 raise SeaprofileError(
-                    f"bottom_depth must be below the surface (> 0 m), got {bottom_depth!r}")
+                    f"bottom_depth must be below the surface (> 0 m), got {bottom_depth!r}"
+                )
         if bathymetry is not None:
             bathy = Bathymetry.coerce(bathymetry)
             at0 = float(bathy.depth_at(0.0))
             if bottom_depth is not None and bottom != at0:
                 raise SeaprofileError(
                     f"bottom_depth {bottom:g} m contradicts the bathymetry at range 0 "
-                    f"({at0:g} m); give one of them")
+                    f"({at0:g} m); give one of them"
+                )
         else:
             bathy = Bathymetry.flat(float(speed.depth[-1]) if bottom_depth is None else bottom)
         attrs = dict(attrs) if attrs else _cf.base_attrs()
@@ -292,14 +296,26 @@ class Environment:
             n_in = speed.depth.size
             speed = speed.thinned(thin_tolerance)
             attrs = _cf.record_step(
-                attrs, "thin_nodes", tolerance_m_s=float(thin_tolerance),
-                nodes_in=int(n_in), nodes_kept=int(speed.depth.size),
+                attrs,
+                "thin_nodes",
+                tolerance_m_s=float(thin_tolerance),
+                nodes_in=int(n_in),
+                nodes_kept=int(speed.depth.size),
             )
         return cls(speed, bathy, Surface() if surface is None else surface, seabed, attrs)
 
     @classmethod
-    def from_arrays(cls, depth, sound_speed, bottom_depth=None, *, bathymetry=None,
-                    thin_tolerance=None, surface=None, seabed=None):
+    def from_arrays(
+        cls,
+        depth,
+        sound_speed,
+        bottom_depth=None,
+        *,
+        bathymetry=None,
+        thin_tolerance=None,
+        surface=None,
+        seabed=None,
+    ):
         """Environment from c(z) node arrays.
 
         Parameters
@@ -319,12 +335,20 @@ class Environment:
         seabed : Seabed, optional
             The fluid half-space below the bottom; default None (unknown).
         """
-        return cls._assemble(LayeredSpeed(depth, sound_speed), bottom_depth, bathymetry,
-                             surface, seabed, thin_tolerance, None)
+        return cls._assemble(
+            LayeredSpeed(depth, sound_speed),
+            bottom_depth,
+            bathymetry,
+            surface,
+            seabed,
+            thin_tolerance,
+            None,
+        )
 
     @classmethod
-    def from_section(cls, section, bottom_depth=None, *, bathymetry=None, surface=None,
-                     seabed=None):
+    def from_section(
+        cls, section, bottom_depth=None, *, bathymetry=None, surface=None, seabed=None
+    ):
         """An Environment whose sound speed is a :class:`~seaprofile.propagation.Section`.
 
         Parameters
@@ -346,14 +370,25 @@ class Environment:
         """
         if not isinstance(section, Section):
             raise SeaprofileError("section must be a seaprofile Section")
-        attrs = _cf.record_step(dict(section.attrs), "environment_from_section",
-                                casts=int(section.ranges.size),
-                                range_interpolation=section.range_interpolation)
+        attrs = _cf.record_step(
+            dict(section.attrs),
+            "environment_from_section",
+            casts=int(section.ranges.size),
+            range_interpolation=section.range_interpolation,
+        )
         return cls._assemble(section, bottom_depth, bathymetry, surface, seabed, None, attrs)
 
     @classmethod
-    def from_profile(cls, profile, bottom_depth=None, *, thin_tolerance=None,
-                     bathymetry=None, surface=None, seabed=None):
+    def from_profile(
+        cls,
+        profile,
+        bottom_depth=None,
+        *,
+        thin_tolerance=None,
+        bathymetry=None,
+        surface=None,
+        seabed=None,
+    ):
         """Environment from a Profile Dataset (or any mapping with ``depth``, ``sound_speed``).
 
         Parameters
@@ -387,8 +422,9 @@ class Environment:
         if use.sum() < 2:
             raise SeaprofileError("profile has fewer than two usable sound-speed nodes")
         attrs = dict(getattr(profile, "attrs", {}) or {}) or _cf.base_attrs()
-        attrs = _cf.record_step(attrs, "environment_from_profile",
-                                nodes_used=int(use.sum()), nodes_total=int(c.size))
+        attrs = _cf.record_step(
+            attrs, "environment_from_profile", nodes_used=int(use.sum()), nodes_total=int(c.size)
+        )
         pid = None
         try:
             pid = str(np.asarray(profile["profile_id"]).item())
@@ -396,8 +432,15 @@ class Environment:
             pid = None
         if pid:
             attrs["profile_id"] = pid
-        return cls._assemble(LayeredSpeed(z[use], c[use]), bottom_depth, bathymetry, surface,
-                             seabed, thin_tolerance, attrs)
+        return cls._assemble(
+            LayeredSpeed(z[use], c[use]),
+            bottom_depth,
+            bathymetry,
+            surface,
+            seabed,
+            thin_tolerance,
+            attrs,
+        )
 
     def replace(self, **changes):
         """A copy with some of ``speed``, ``bathymetry``, ``surface``, ``seabed``, ``attrs``
@@ -450,12 +493,17 @@ class Environment:
 
     def provenance_attrs(self):
         """Flat attributes recording the surface, the seabed and a bathymetry summary."""
-        return {**self.surface.to_attrs(), **Seabed.attrs_of(self.seabed),
-                **self.bathymetry.to_attrs()}
+        return {
+            **self.surface.to_attrs(),
+            **Seabed.attrs_of(self.seabed),
+            **self.bathymetry.to_attrs(),
+        }
 
     def __repr__(self):
         kind = "range-dependent" if self.is_range_dependent else "range-independent"
         seabed = "seabed unknown" if self.seabed is None else f"seabed {self.seabed.name!r}"
-        return (f"<Environment {kind}: {self.depth.size} nodes 0..{self.depth[-1]:g} m, "
-                f"c {self.sound_speed.min():.2f}..{self.sound_speed.max():.2f} m/s, "
-                f"bottom {self.bottom_depth:g} m, {seabed}>")
+        return (
+            f"<Environment {kind}: {self.depth.size} nodes 0..{self.depth[-1]:g} m, "
+            f"c {self.sound_speed.min():.2f}..{self.sound_speed.max():.2f} m/s, "
+            f"bottom {self.bottom_depth:g} m, {seabed}>"
+        )

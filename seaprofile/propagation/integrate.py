@@ -53,12 +53,20 @@ from __future__ import annotations
 import numpy as np
 
 from .._validate import SeaprofileError
-from .codes import FAN_POINT_BYTES, check_memory
+
 # the compiled stepper; the tableau is re-exported for the tests
-from ._integrate_kernels import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
-                                 _trace_rays)
-from .codes import (DEFAULT_MAX_BOUNCES, FIRST_REFLECTIONS_KEPT, MAX_STEPS, NO_POINT,
-                    NO_REFLECTION, REFLECTION_BYTES, STEP_LIMIT)
+from ._integrate_kernels import _DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP, _trace_rays  # noqa: F401
+from .codes import (
+    DEFAULT_MAX_BOUNCES,
+    FAN_POINT_BYTES,
+    FIRST_REFLECTIONS_KEPT,
+    MAX_STEPS,
+    NO_POINT,
+    NO_REFLECTION,
+    REFLECTION_BYTES,
+    STEP_LIMIT,
+    check_memory,
+)
 from .rayfan import check_fan_args, rayfan_dataset
 from .section import Section
 
@@ -66,10 +74,25 @@ from .section import Section
 # --------------------------------------------------------------------------------------
 # numpy layer
 # --------------------------------------------------------------------------------------
-def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angles,
-                  max_range, *, range_step=None, tolerance=1e-6, max_step=2000.0,
-                  max_bounces=100, max_points=2_000_000, direction_scale=1000.0,
-                  first_buffer=512):
+def _trace_arrays(
+    coef,
+    ref,
+    edges,
+    depth,
+    bathy_r,
+    bathy_z,
+    source_depth,
+    angles,
+    max_range,
+    *,
+    range_step=None,
+    tolerance=1e-6,
+    max_step=2000.0,
+    max_bounces=100,
+    max_points=2_000_000,
+    direction_scale=1000.0,
+    first_buffer=512,
+):
     """Trace rays on plain arrays (no validation); grows the point buffer when needed.
 
     Returns a dict: range, depth, travel_time, angle, tube_width (q), sound_speed,
@@ -84,25 +107,46 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
         buffer = int(np.ceil(max_range / step - 1e-9)) + 2
     else:
         buffer = int(min(max(16, first_buffer), max_points))
-    medium = tuple(np.ascontiguousarray(a, dtype=np.float64)
-                   for a in (coef, ref, edges, depth, bathy_r, bathy_z))
+    medium = tuple(
+        np.ascontiguousarray(a, dtype=np.float64)
+        for a in (coef, ref, edges, depth, bathy_r, bathy_z)
+    )
     todo = np.arange(n)
     rounds = []  # (rays finished in the round, their point and reflection rows)
     stats_all = np.zeros((n, 7), dtype=np.int64)
     room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)  # reflections kept per ray
     while todo.size:
         m = todo.size
-        check_memory(m * float(buffer) * FAN_POINT_BYTES, "range_step",
-                     f"keeping every integration point of {m} rays ({buffer} points each)",
-                     "give range_step to sample the rays, or trace fewer angles")
+        check_memory(
+            m * float(buffer) * FAN_POINT_BYTES,
+            "range_step",
+            f"keeping every integration point of {m} rays ({buffer} points each)",
+            "give range_step to sample the rays, or trace fewer angles",
+        )
         out = [np.full((m, buffer), np.nan) for _ in range(7)]
         kinds = np.full((m, buffer), NO_POINT, dtype=np.int8)
-        refl = [np.full((m, room), np.nan), np.full((m, room), np.nan),
-                np.full((m, room), NO_REFLECTION, dtype=np.int8)]
+        refl = [
+            np.full((m, room), np.nan),
+            np.full((m, room), np.nan),
+            np.full((m, room), NO_REFLECTION, dtype=np.int8),
+        ]
         stats = np.zeros((m, 7), dtype=np.int64)
-        _trace_rays(*medium, float(source_depth), theta[todo], float(max_range), step,
-                    float(tolerance), float(max_step), float(direction_scale),
-                    int(max_bounces), int(MAX_STEPS), *out, kinds, *refl, stats)
+        _trace_rays(
+            *medium,
+            float(source_depth),
+            theta[todo],
+            float(max_range),
+            step,
+            float(tolerance),
+            float(max_step),
+            float(direction_scale),
+            int(max_bounces),
+            int(MAX_STEPS),
+            *out,
+            kinds,
+            *refl,
+            stats,
+        )
         full = (stats[:, 5] == STEP_LIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
         nrefl = stats[:, 1] + stats[:, 2]
         again = full | (nrefl > room)
@@ -115,25 +159,52 @@ def _trace_arrays(coef, ref, edges, depth, bathy_r, bathy_z, source_depth, angle
             buffer = int(min(4 * buffer, max_points))
         if np.any(again & ~full):
             room = int(nrefl[again].max())
-            check_memory(todo.size * float(room) * REFLECTION_BYTES, "max_bounces",
-                         f"{todo.size} rays x {room} reflections", "lower max_bounces")
+            check_memory(
+                todo.size * float(room) * REFLECTION_BYTES,
+                "max_bounces",
+                f"{todo.size} rays x {room} reflections",
+                "lower max_bounces",
+            )
     width = max(1, int(stats_all[:, 0].max())) if n else 1
     result = {}
-    names = ("range", "depth", "travel_time", "angle", "tube_width", "sound_speed",
-             "tube_slowness", "point_kind", "reflection_range", "grazing_angle",
-             "reflection_boundary")
+    names = (
+        "range",
+        "depth",
+        "travel_time",
+        "angle",
+        "tube_width",
+        "sound_speed",
+        "tube_slowness",
+        "point_kind",
+        "reflection_range",
+        "grazing_angle",
+        "reflection_boundary",
+    )
     widths = (width,) * 8 + (int((stats_all[:, 1] + stats_all[:, 2]).max()) if n else 0,) * 3
     for kk, name in enumerate(names):
-        fill, dtype = ((NO_POINT, np.int8) if name == "point_kind" else
-                       (NO_REFLECTION, np.int8) if name == "reflection_boundary" else
-                       (np.nan, np.float64))
+        fill, dtype = (
+            (NO_POINT, np.int8)
+            if name == "point_kind"
+            else (NO_REFLECTION, np.int8)
+            if name == "reflection_boundary"
+            else (np.nan, np.float64)
+        )
         arr = np.full((n, widths[kk]), fill, dtype=dtype)
         for rays, rows in rounds:  # a few rounds (the buffer grows 4x each), not rays
             w = min(widths[kk], rows[kk].shape[1])
             arr[rays, :w] = rows[kk][:, :w]
         result[name] = arr
-    for kk, name in enumerate(("point_count", "surface_reflections", "bottom_reflections",
-                               "turning_points", "caustics", "end_reason", "steps")):
+    for kk, name in enumerate(
+        (
+            "point_count",
+            "surface_reflections",
+            "bottom_reflections",
+            "turning_points",
+            "caustics",
+            "end_reason",
+            "steps",
+        )
+    ):
         result[name] = stats_all[:, kk].copy()
     return result
 
@@ -142,15 +213,34 @@ def _medium_of(environment):
     """The compiled tables of an Environment: (coef, ref, edges, depth, bathy_r, bathy_z)."""
     section = environment.section
     if section is None:
-        section = Section([0.0], environment.depth, np.asarray(environment.sound_speed)[None, :],
-                          range_interpolation="linear")
+        section = Section(
+            [0.0],
+            environment.depth,
+            np.asarray(environment.sound_speed)[None, :],
+            range_interpolation="linear",
+        )
     bathymetry = environment.bathymetry
-    return (section._coef, section._ref, section._edges, section.depth, bathymetry.ranges,
-            bathymetry.depths)
+    return (
+        section._coef,
+        section._ref,
+        section._edges,
+        section.depth,
+        bathymetry.ranges,
+        bathymetry.depths,
+    )
 
 
-def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_step=None,
-                         max_bounces=None, tolerance=1e-6, max_step=2000.0):
+def trace_fan_integrated(
+    environment,
+    source_depth,
+    angles,
+    max_range,
+    *,
+    range_step=None,
+    max_bounces=None,
+    tolerance=1e-6,
+    max_step=2000.0,
+):
     """Trace a fan of rays through a range-dependent environment by numerical integration.
 
     Parameters
@@ -197,26 +287,49 @@ def trace_fan_integrated(environment, source_depth, angles, max_range, *, range_
     error control. Valid for the ray (high-frequency) approximation only.
     """
     mb_in = DEFAULT_MAX_BOUNCES if max_bounces is None else max_bounces
-    zs, a, rmax, mb = check_fan_args(environment, source_depth, angles, max_range,
-                                      range_step, mb_in)
+    zs, a, rmax, mb = check_fan_args(
+        environment, source_depth, angles, max_range, range_step, mb_in
+    )
     tol = float(tolerance)
     if not np.isfinite(tol) or tol <= 0:
         raise SeaprofileError(f"tolerance must be a positive number (m), got {tolerance!r}")
     mstep = float(max_step)
     if not np.isfinite(mstep) or mstep <= 0:
         raise SeaprofileError(f"max_step must be a positive number (m), got {max_step!r}")
-    out = _trace_arrays(*_medium_of(environment), zs, a, rmax, range_step=range_step,
-                        tolerance=tol, max_step=mstep, max_bounces=mb)
+    out = _trace_arrays(
+        *_medium_of(environment),
+        zs,
+        a,
+        rmax,
+        range_step=range_step,
+        tolerance=tol,
+        max_step=mstep,
+        max_bounces=mb,
+    )
     section = environment.section
     ds = rayfan_dataset(
-        out["range"], out["depth"], out["travel_time"], out["angle"], out["point_count"], a,
-        out["surface_reflections"], out["bottom_reflections"], out["turning_points"],
-        out["end_reason"], source_depth=zs, max_range=rmax, max_bounces=mb,
-        environment=environment, solver="integrated", point_kind=out["point_kind"],
-        sound_speed=out["sound_speed"], tube_width=out["tube_width"],
-        tube_slowness=out["tube_slowness"], reflections=(
-            out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
-        caustics=out["caustics"], range_step=range_step,
+        out["range"],
+        out["depth"],
+        out["travel_time"],
+        out["angle"],
+        out["point_count"],
+        a,
+        out["surface_reflections"],
+        out["bottom_reflections"],
+        out["turning_points"],
+        out["end_reason"],
+        source_depth=zs,
+        max_range=rmax,
+        max_bounces=mb,
+        environment=environment,
+        solver="integrated",
+        point_kind=out["point_kind"],
+        sound_speed=out["sound_speed"],
+        tube_width=out["tube_width"],
+        tube_slowness=out["tube_slowness"],
+        reflections=(out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
+        caustics=out["caustics"],
+        range_step=range_step,
         step_parameters={
             "tolerance_m": tol,
             "max_step_m": mstep,

@@ -54,9 +54,16 @@ import numpy as np
 
 from .._validate import SeaprofileError
 from ._arcs import _fan_kernel
-from .codes import (FIRST_REFLECTIONS_KEPT, MAX_STEPS, NO_POINT, NO_REFLECTION, RANGE_SAMPLE,
-                    REFLECTION_BYTES, check_memory)
-from .codes import MAX_STORED_POINTS  # a module global here, so tests can lower it
+from .codes import (
+    FIRST_REFLECTIONS_KEPT,
+    MAX_STEPS,
+    MAX_STORED_POINTS,  # a module global here, so tests can lower it
+    NO_POINT,
+    NO_REFLECTION,
+    RANGE_SAMPLE,
+    REFLECTION_BYTES,
+    check_memory,
+)
 
 __all__ = ["fan_paths", "fan_samples", "trace_layers"]
 
@@ -75,8 +82,20 @@ def _layer_times(zn, cn):
     return dz / cn[:-1] * l1
 
 
-def trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=None, *,
-                 max_points=0, counts=False, max_steps=MAX_STEPS, reflections=0):
+def trace_layers(
+    zn,
+    cn,
+    zs,
+    angles_deg,
+    rmax,
+    max_bounces,
+    samp_r=None,
+    *,
+    max_points=0,
+    counts=False,
+    max_steps=MAX_STEPS,
+    reflections=0,
+):
     """Run the fan kernel; plain arrays in and out (no validation: callers validate).
 
     Parameters
@@ -126,27 +145,80 @@ def trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=None, *,
     RF_a = np.full((nray, nrf), np.nan)
     RF_k = np.full((nray, nrf), NO_REFLECTION, dtype=np.int8)
     out_int = np.zeros((nray, 7), dtype=np.int64)
-    _fan_kernel(zn, cn, gn, _layer_times(zn, cn), float(zs), th, float(rmax), int(max_bounces),
-                samp, S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p,
-                P_k, RF_r, RF_a, RF_k, out_int, int(max_steps))
+    _fan_kernel(
+        zn,
+        cn,
+        gn,
+        _layer_times(zn, cn),
+        float(zs),
+        th,
+        float(rmax),
+        int(max_bounces),
+        samp,
+        S_z,
+        S_t,
+        S_a,
+        S_q,
+        S_c,
+        S_p,
+        S_cnt,
+        P_r,
+        P_z,
+        P_t,
+        P_a,
+        P_c,
+        P_q,
+        P_p,
+        P_k,
+        RF_r,
+        RF_a,
+        RF_k,
+        out_int,
+        int(max_steps),
+    )
     return {
-        "sample_depth": S_z, "sample_time": S_t, "sample_angle": S_a, "sample_q": S_q,
-        "sample_sound_speed": S_c, "sample_p": S_p,
+        "sample_depth": S_z,
+        "sample_time": S_t,
+        "sample_angle": S_a,
+        "sample_q": S_q,
+        "sample_sound_speed": S_c,
+        "sample_p": S_p,
         "sample_counts": S_cnt if counts else None,
-        "path_range": P_r, "path_depth": P_z, "path_time": P_t, "path_angle": P_a,
-        "path_sound_speed": P_c, "path_q": P_q, "path_p": P_p, "path_kind": P_k,
-        "reflection_range": RF_r, "grazing_angle": RF_a, "reflection_boundary": RF_k,
-        "points": out_int[:, 0], "surface_reflections": out_int[:, 1],
-        "bottom_reflections": out_int[:, 2], "turning_points": out_int[:, 3],
-        "caustics": out_int[:, 4], "end_reason": out_int[:, 5].astype(np.int8),
+        "path_range": P_r,
+        "path_depth": P_z,
+        "path_time": P_t,
+        "path_angle": P_a,
+        "path_sound_speed": P_c,
+        "path_q": P_q,
+        "path_p": P_p,
+        "path_kind": P_k,
+        "reflection_range": RF_r,
+        "grazing_angle": RF_a,
+        "reflection_boundary": RF_k,
+        "points": out_int[:, 0],
+        "surface_reflections": out_int[:, 1],
+        "bottom_reflections": out_int[:, 2],
+        "turning_points": out_int[:, 3],
+        "caustics": out_int[:, 4],
+        "end_reason": out_int[:, 5].astype(np.int8),
         "steps": out_int[:, 6],
     }
 
 
 def _fan_common(out):
-    return {k: out[k] for k in ("surface_reflections", "bottom_reflections", "turning_points",
-                                 "caustics", "end_reason", "reflection_range", "grazing_angle",
-                                 "reflection_boundary")}
+    return {
+        k: out[k]
+        for k in (
+            "surface_reflections",
+            "bottom_reflections",
+            "turning_points",
+            "caustics",
+            "end_reason",
+            "reflection_range",
+            "grazing_angle",
+            "reflection_boundary",
+        )
+    }
 
 
 def _reflections_needed(out):
@@ -162,14 +234,31 @@ def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
         raise SeaprofileError(
             f"range_step: keeping every event point needs {mp} points x "
             f"{first['points'].size} rays (about {mp * first['points'].size * 57 / 1e9:.3g} GB);"
-            f" give range_step to sample the rays instead")
-    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=mp,
-                       reflections=_reflections_needed(first))
+            f" give range_step to sample the rays instead"
+        )
+    out = trace_layers(
+        zn,
+        cn,
+        zs,
+        angles_deg,
+        rmax,
+        max_bounces,
+        max_points=mp,
+        reflections=_reflections_needed(first),
+    )
     res = _fan_common(out)
-    res.update(range=out["path_range"], depth=out["path_depth"], travel_time=out["path_time"],
-               angle=out["path_angle"], sound_speed=out["path_sound_speed"],
-               tube_width=out["path_q"], tube_slowness=out["path_p"], point_kind=out["path_kind"],
-               point_count=np.minimum(out["points"], mp), steps=out["steps"])
+    res.update(
+        range=out["path_range"],
+        depth=out["path_depth"],
+        travel_time=out["path_time"],
+        angle=out["path_angle"],
+        sound_speed=out["path_sound_speed"],
+        tube_width=out["path_q"],
+        tube_slowness=out["path_p"],
+        point_kind=out["path_kind"],
+        point_count=np.minimum(out["points"], mp),
+        steps=out["steps"],
+    )
     return res
 
 
@@ -178,16 +267,24 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
     rmax = float(ranges[-1])
     room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)
     nray = np.size(angles_deg)
-    check_memory(nray * float(room) * REFLECTION_BYTES, "angles",
-                 f"{nray} rays x {room} reflections", "trace fewer angles at a time")
-    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges,
-                       reflections=room)
+    check_memory(
+        nray * float(room) * REFLECTION_BYTES,
+        "angles",
+        f"{nray} rays x {room} reflections",
+        "trace fewer angles at a time",
+    )
+    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges, reflections=room)
     need = _reflections_needed(out)
     if need > room:  # a few long rays: trace again with room for every reflection
-        check_memory(nray * float(need) * REFLECTION_BYTES, "max_bounces",
-                     f"{nray} rays x {need} reflections", "lower max_bounces")
-        out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges,
-                           reflections=need)
+        check_memory(
+            nray * float(need) * REFLECTION_BYTES,
+            "max_bounces",
+            f"{nray} rays x {need} reflections",
+            "lower max_bounces",
+        )
+        out = trace_layers(
+            zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges, reflections=need
+        )
     else:
         for k in ("reflection_range", "grazing_angle", "reflection_boundary"):
             out[k] = out[k][:, :need]
@@ -197,8 +294,16 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
     rr[~valid] = np.nan
     kind = np.where(valid, RANGE_SAMPLE, NO_POINT).astype(np.int8)
     res = _fan_common(out)
-    res.update(range=rr, depth=out["sample_depth"], travel_time=out["sample_time"],
-               angle=out["sample_angle"], sound_speed=out["sample_sound_speed"],
-               tube_width=out["sample_q"], tube_slowness=out["sample_p"], point_kind=kind,
-               point_count=valid.sum(axis=1).astype(np.int32), steps=out["steps"])
+    res.update(
+        range=rr,
+        depth=out["sample_depth"],
+        travel_time=out["sample_time"],
+        angle=out["sample_angle"],
+        sound_speed=out["sample_sound_speed"],
+        tube_width=out["sample_q"],
+        tube_slowness=out["sample_p"],
+        point_kind=kind,
+        point_count=valid.sum(axis=1).astype(np.int32),
+        steps=out["steps"],
+    )
     return res

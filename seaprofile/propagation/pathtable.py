@@ -37,10 +37,24 @@ from .codes import PATH_KINDS
 __all__ = ["path_table_dataset"]
 
 
-def path_table_dataset(receiver_ranges, receiver_depths, range_index, depth_index, *,
-                       launch_angle, arrival_angle, travel_time, spreading_loss,
-                       surface_reflections, bottom_reflections, caustics, turning_points,
-                       phase, depth_miss, attrs):
+def path_table_dataset(
+    receiver_ranges,
+    receiver_depths,
+    range_index,
+    depth_index,
+    *,
+    launch_angle,
+    arrival_angle,
+    travel_time,
+    spreading_loss,
+    surface_reflections,
+    bottom_reflections,
+    caustics,
+    turning_points,
+    phase,
+    depth_miss,
+    attrs,
+):
     """Assemble a PathTable Dataset from plain arrays (layout in the module docstring).
 
     Parameters
@@ -77,10 +91,15 @@ def path_table_dataset(receiver_ranges, receiver_depths, range_index, depth_inde
     n_path = np.zeros((np.size(receiver_ranges), np.size(receiver_depths)), dtype=np.int32)
     np.add.at(n_path, (np.asarray(range_index), np.asarray(depth_index)), 1)
     data = {
-        "path_kind": ("path", kind, {
-            "long_name": "which boundaries the path reflects at",
-            "flag_values": np.array(sorted(PATH_KINDS), dtype=np.int8),
-            "flag_meanings": " ".join(PATH_KINDS[k] for k in sorted(PATH_KINDS))}),
+        "path_kind": (
+            "path",
+            kind,
+            {
+                "long_name": "which boundaries the path reflects at",
+                "flag_values": np.array(sorted(PATH_KINDS), dtype=np.int8),
+                "flag_meanings": " ".join(PATH_KINDS[k] for k in sorted(PATH_KINDS)),
+            },
+        ),
         "launch_angle": real(launch_angle, "launch_angle"),
         "arrival_angle": real(arrival_angle, "arrival_angle"),
         "travel_time": real(travel_time, "travel_time"),
@@ -93,17 +112,34 @@ def path_table_dataset(receiver_ranges, receiver_depths, range_index, depth_inde
         "depth_miss": real(depth_miss, "depth_miss"),
         "receiver_range_index": count(range_index, "receiver_range_index"),
         "receiver_depth_index": count(depth_index, "receiver_depth_index"),
-        "path_count": (("receiver_range", "receiver_depth"), n_path,
-                       _cf.attrs_for("arrival_count")),
+        "path_count": (
+            ("receiver_range", "receiver_depth"),
+            n_path,
+            _cf.attrs_for("arrival_count"),
+        ),
     }
     coords = {
-        "receiver_range": ("receiver_range", np.asarray(receiver_ranges, dtype=np.float64),
-                           _cf.attrs_for("range", long_name="receiver range")),
-        "receiver_depth": ("receiver_depth", np.asarray(receiver_depths, dtype=np.float64),
-                           _cf.attrs_for("depth", long_name="receiver depth")),
+        "receiver_range": (
+            "receiver_range",
+            np.asarray(receiver_ranges, dtype=np.float64),
+            _cf.attrs_for("range", long_name="receiver range"),
+        ),
+        "receiver_depth": (
+            "receiver_depth",
+            np.asarray(receiver_depths, dtype=np.float64),
+            _cf.attrs_for("depth", long_name="receiver depth"),
+        ),
     }
     ds = xr.Dataset(data, coords=coords, attrs={**attrs, "product": "path_table"})
-    for name in ("path_kind", "surface_reflections", "bottom_reflections", "caustics",
-                 "turning_points", "receiver_range_index", "receiver_depth_index", "path_count"):
+    for name in (
+        "path_kind",
+        "surface_reflections",
+        "bottom_reflections",
+        "caustics",
+        "turning_points",
+        "receiver_range_index",
+        "receiver_depth_index",
+        "path_count",
+    ):
         ds[name].encoding["_FillValue"] = None
     return ds

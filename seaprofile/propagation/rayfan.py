@@ -40,9 +40,18 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array
-from .codes import (END_REASONS, FAN_POINT_BYTES, NO_POINT, NO_REFLECTION,
-                    NO_REFLECTION_MEANING, PADDING, POINT_KINDS, RANGE_SAMPLE,
-                    REFLECTION_BOUNDARIES, check_memory)
+from .codes import (
+    END_REASONS,
+    FAN_POINT_BYTES,
+    NO_POINT,
+    NO_REFLECTION,
+    NO_REFLECTION_MEANING,
+    PADDING,
+    POINT_KINDS,
+    RANGE_SAMPLE,
+    REFLECTION_BOUNDARIES,
+    check_memory,
+)
 from .environment import Environment
 
 __all__ = ["check_fan_args", "rayfan_dataset"]
@@ -127,52 +136,103 @@ def rayfan_dataset(
     data = {
         "range": (dims, np.asarray(range_, dtype=np.float64), _cf.attrs_for("range")),
         "depth": (dims, np.asarray(depth, dtype=np.float64), _cf.attrs_for("depth")),
-        "travel_time": (dims, np.asarray(travel_time, dtype=np.float64), _cf.attrs_for("travel_time")),
+        "travel_time": (
+            dims,
+            np.asarray(travel_time, dtype=np.float64),
+            _cf.attrs_for("travel_time"),
+        ),
         "angle": (dims, np.asarray(angle, dtype=np.float64), _cf.attrs_for("angle")),
-        "point_count": ("ray", np.asarray(point_count, dtype=np.int32),
-                        _cf.attrs_for("point_count")),
-        "surface_reflections": ("ray", np.asarray(surface_reflections, dtype=np.int32),
-                                _cf.attrs_for("surface_reflections")),
-        "bottom_reflections": ("ray", np.asarray(bottom_reflections, dtype=np.int32),
-                               _cf.attrs_for("bottom_reflections")),
-        "turning_points": ("ray", np.asarray(turning_points, dtype=np.int32),
-                           _cf.attrs_for("turning_points")),
-        "caustics": ("ray", np.asarray(zero if caustics is None else caustics, dtype=np.int32),
-                     _cf.attrs_for("caustics")),
-        "end_reason": ("ray", np.asarray(end_reason, dtype=np.int8),
-                       _flag_attrs(END_REASONS, "how the ray ended")),
+        "point_count": (
+            "ray",
+            np.asarray(point_count, dtype=np.int32),
+            _cf.attrs_for("point_count"),
+        ),
+        "surface_reflections": (
+            "ray",
+            np.asarray(surface_reflections, dtype=np.int32),
+            _cf.attrs_for("surface_reflections"),
+        ),
+        "bottom_reflections": (
+            "ray",
+            np.asarray(bottom_reflections, dtype=np.int32),
+            _cf.attrs_for("bottom_reflections"),
+        ),
+        "turning_points": (
+            "ray",
+            np.asarray(turning_points, dtype=np.int32),
+            _cf.attrs_for("turning_points"),
+        ),
+        "caustics": (
+            "ray",
+            np.asarray(zero if caustics is None else caustics, dtype=np.int32),
+            _cf.attrs_for("caustics"),
+        ),
+        "end_reason": (
+            "ray",
+            np.asarray(end_reason, dtype=np.int8),
+            _flag_attrs(END_REASONS, "how the ray ended"),
+        ),
     }
-    for name, v in (("sound_speed", sound_speed), ("tube_width", tube_width),
-                    ("tube_slowness", tube_slowness)):
+    for name, v in (
+        ("sound_speed", sound_speed),
+        ("tube_width", tube_width),
+        ("tube_slowness", tube_slowness),
+    ):
         v = np.full((nray, npt), np.nan) if v is None else np.asarray(v, dtype=np.float64)
         data[name] = (dims, v, _cf.attrs_for(name))
     if reflections is None:
-        reflections = (np.full((nray, 0), NO_REFLECTION, dtype=np.int8),
-                       np.full((nray, 0), np.nan), np.full((nray, 0), np.nan))
+        reflections = (
+            np.full((nray, 0), NO_REFLECTION, dtype=np.int8),
+            np.full((nray, 0), np.nan),
+            np.full((nray, 0), np.nan),
+        )
     rdims = ("ray", "reflection")
-    data["reflection_boundary"] = (rdims, np.asarray(reflections[0], dtype=np.int8), _flag_attrs(
-        {NO_REFLECTION: NO_REFLECTION_MEANING, **REFLECTION_BOUNDARIES},
-        "boundary of the reflection"))
-    data["reflection_range"] = (rdims, np.asarray(reflections[1], dtype=np.float64),
-                                _cf.attrs_for("range", long_name="range of the reflection"))
-    data["grazing_angle"] = (rdims, np.asarray(reflections[2], dtype=np.float64),
-                             _cf.attrs_for("grazing_angle"))
+    data["reflection_boundary"] = (
+        rdims,
+        np.asarray(reflections[0], dtype=np.int8),
+        _flag_attrs(
+            {NO_REFLECTION: NO_REFLECTION_MEANING, **REFLECTION_BOUNDARIES},
+            "boundary of the reflection",
+        ),
+    )
+    data["reflection_range"] = (
+        rdims,
+        np.asarray(reflections[1], dtype=np.float64),
+        _cf.attrs_for("range", long_name="range of the reflection"),
+    )
+    data["grazing_angle"] = (
+        rdims,
+        np.asarray(reflections[2], dtype=np.float64),
+        _cf.attrs_for("grazing_angle"),
+    )
     if point_kind is None:
         point_kind = np.where(np.isfinite(np.asarray(depth)), RANGE_SAMPLE, NO_POINT)
     # -1 (padding) is an ordinary documented code, not a _FillValue: a declared fill value
     # makes netCDF readers mask it and hand back float32 with NaN, so that a RayFan would
     # not round-trip in dtype
-    data["point_kind"] = (dims, np.asarray(point_kind, dtype=np.int8),
-                          _flag_attrs({NO_POINT: PADDING, **POINT_KINDS},
-                                      "what happens at the path point"))
+    data["point_kind"] = (
+        dims,
+        np.asarray(point_kind, dtype=np.int8),
+        _flag_attrs({NO_POINT: PADDING, **POINT_KINDS}, "what happens at the path point"),
+    )
     coords = {
-        "launch_angle": ("ray", np.asarray(launch_angle, dtype=np.float64),
-                         _cf.attrs_for("launch_angle")),
+        "launch_angle": (
+            "ray",
+            np.asarray(launch_angle, dtype=np.float64),
+            _cf.attrs_for("launch_angle"),
+        ),
     }
     attrs = dict(getattr(environment, "attrs", None) or _cf.base_attrs())
-    attrs.update(_cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs}))
-    params = dict(source_depth_m=float(source_depth), max_range_m=float(max_range),
-                  max_bounces=int(max_bounces), solver=solver, rays=int(nray))
+    attrs.update(
+        _cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs})
+    )
+    params = dict(
+        source_depth_m=float(source_depth),
+        max_range_m=float(max_range),
+        max_bounces=int(max_bounces),
+        solver=solver,
+        rays=int(nray),
+    )
     if range_step is not None:
         params["range_step_m"] = float(range_step)
     params.update(step_parameters or {})
@@ -192,8 +252,16 @@ def rayfan_dataset(
     ds = xr.Dataset(data, coords=coords, attrs=attrs)
     # integer variables are written without a fill value (xarray would otherwise decode
     # them to floats): their codes are complete, padding included
-    for name in ("point_kind", "point_count", "surface_reflections", "bottom_reflections",
-                 "turning_points", "caustics", "end_reason", "reflection_boundary"):
+    for name in (
+        "point_kind",
+        "point_count",
+        "surface_reflections",
+        "bottom_reflections",
+        "turning_points",
+        "caustics",
+        "end_reason",
+        "reflection_boundary",
+    ):
         ds[name].encoding["_FillValue"] = None
     return ds
 
@@ -213,8 +281,7 @@ def check_fan_args(environment, source_depth, angles, max_range, range_step, max
     zs = float(zs)
     bottom0 = float(environment.bottom_at(0.0))
     if not 0.0 <= zs <= bottom0:
-        raise SeaprofileError(
-            f"source_depth {zs:g} m is outside the water column 0..{bottom0:g} m")
+        raise SeaprofileError(f"source_depth {zs:g} m is outside the water column 0..{bottom0:g} m")
     a = as_float_array("angles", angles).ravel()
     if a.size == 0 or not np.all(np.isfinite(a)) or np.any(np.abs(a) > 90):
         raise SeaprofileError("angles must be finite launch angles within -90..90 degrees")
@@ -227,9 +294,12 @@ def check_fan_args(environment, source_depth, angles, max_range, range_step, max
             raise SeaprofileError("range_step must be one positive number (m)")
         # estimated before anything is allocated (float: the count may not fit an int)
         samples = float(rmax) / float(rs) + 2.0
-        check_memory(a.size * samples * FAN_POINT_BYTES, "range_step",
-                     f"{a.size} rays x {samples:.3g} range samples",
-                     "use a coarser range_step, a shorter max_range or fewer angles")
+        check_memory(
+            a.size * samples * FAN_POINT_BYTES,
+            "range_step",
+            f"{a.size} rays x {samples:.3g} range samples",
+            "use a coarser range_step, a shorter max_range or fewer angles",
+        )
     mb = as_float_array("max_bounces", max_bounces)
     if mb.ndim != 0 or not np.isfinite(mb) or mb < 0 or mb != np.floor(mb):
         raise SeaprofileError("max_bounces must be one whole number >= 0")

@@ -17,8 +17,15 @@ from .rayfan import check_fan_args, rayfan_dataset
 __all__ = ["trace_fan"]
 
 
-def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
-              max_bounces=DEFAULT_MAX_BOUNCES):
+def trace_fan(
+    environment,
+    source_depth,
+    angles,
+    max_range,
+    *,
+    range_step=None,
+    max_bounces=DEFAULT_MAX_BOUNCES,
+):
     """Trace a fan of rays from one source.
 
     Parameters
@@ -52,11 +59,13 @@ def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
     Schmidt, Computational Ocean Acoustics, 2nd ed., Springer 2011, ch. 3). The closed
     forms are in :mod:`seaprofile.propagation.kernels`.
     """
-    zs, a, rmax, mb = check_fan_args(environment, source_depth, angles, max_range,
-                                      range_step, max_bounces)
+    zs, a, rmax, mb = check_fan_args(
+        environment, source_depth, angles, max_range, range_step, max_bounces
+    )
     if environment.is_range_dependent:
-        return integrate.trace_fan_integrated(environment, zs, a, rmax, range_step=range_step,
-                                              max_bounces=mb)
+        return integrate.trace_fan_integrated(
+            environment, zs, a, rmax, range_step=range_step, max_bounces=mb
+        )
     zn, cn = environment.layers()
     if range_step is None:
         out = kernels.fan_paths(zn, cn, zs, a, rmax, mb)
@@ -65,12 +74,27 @@ def trace_fan(environment, source_depth, angles, max_range, *, range_step=None,
         ranges = np.minimum(np.arange(n + 1) * float(range_step), rmax)
         out = kernels.fan_samples(zn, cn, zs, a, ranges, mb)
     return rayfan_dataset(
-        out["range"], out["depth"], out["travel_time"], out["angle"], out["point_count"],
-        a, out["surface_reflections"], out["bottom_reflections"], out["turning_points"],
-        out["end_reason"], source_depth=zs, max_range=rmax, max_bounces=mb,
-        environment=environment, solver="exact_layered", point_kind=out["point_kind"],
-        caustics=out["caustics"], range_step=range_step,
-        step_parameters={"layers": int(zn.size - 1)}, sound_speed=out["sound_speed"],
-        tube_width=out["tube_width"], tube_slowness=out["tube_slowness"], reflections=(
-            out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
+        out["range"],
+        out["depth"],
+        out["travel_time"],
+        out["angle"],
+        out["point_count"],
+        a,
+        out["surface_reflections"],
+        out["bottom_reflections"],
+        out["turning_points"],
+        out["end_reason"],
+        source_depth=zs,
+        max_range=rmax,
+        max_bounces=mb,
+        environment=environment,
+        solver="exact_layered",
+        point_kind=out["point_kind"],
+        caustics=out["caustics"],
+        range_step=range_step,
+        step_parameters={"layers": int(zn.size - 1)},
+        sound_speed=out["sound_speed"],
+        tube_width=out["tube_width"],
+        tube_slowness=out["tube_slowness"],
+        reflections=(out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
     )

@@ -437,12 +437,18 @@ class Section:
         """The section as an ``xr.Dataset`` (dims ``range``, ``depth``) with CF attributes."""
         ds = xr.Dataset(
             {
-                "sound_speed": (("range", "depth"), np.array(self.sound_speed),
-                                _cf.attrs_for("sound_speed")),
+                "sound_speed": (
+                    ("range", "depth"),
+                    np.array(self.sound_speed),
+                    _cf.attrs_for("sound_speed"),
+                ),
                 "latitude": ("range", self.latitude.copy(), _cf.attrs_for("latitude")),
                 "longitude": ("range", self.longitude.copy(), _cf.attrs_for("longitude")),
-                "profile_id": ("range", np.array(self.profile_ids, dtype=str),
-                               {"cf_role": "profile_id", "long_name": "cast identifier"}),
+                "profile_id": (
+                    "range",
+                    np.array(self.profile_ids, dtype=str),
+                    {"cf_role": "profile_id", "long_name": "cast identifier"},
+                ),
             },
             coords={
                 "range": ("range", np.array(self.ranges), _cf.attrs_for("range")),
@@ -480,8 +486,15 @@ class Section:
         r, z = np.broadcast_arrays(r, z)
         shape = r.shape
         out = np.empty((r.size, 5))
-        _eval_points(self._coef, self._ref, self._edges, self.depth,
-                     np.ascontiguousarray(r.ravel()), np.ascontiguousarray(z.ravel()), out)
+        _eval_points(
+            self._coef,
+            self._ref,
+            self._edges,
+            self.depth,
+            np.ascontiguousarray(r.ravel()),
+            np.ascontiguousarray(z.ravel()),
+            out,
+        )
         return tuple(out[:, k].reshape(shape) for k in range_(5))
 
     @property
@@ -498,4 +511,3 @@ class Section:
 
 
 range_ = range  # the builtin, shadowed by an argument name in gradient_at
-

@@ -121,8 +121,7 @@ def _check_aligned(named):
             first, size, first_index = seen[dim]
             if v.sizes[dim] != size:
                 why = f"sizes {size} and {v.sizes[dim]}"
-            elif index is not None and first_index is not None and not index.equals(
-                    first_index):
+            elif index is not None and first_index is not None and not index.equals(first_index):
                 why = "different coordinate values"
             else:
                 if first_index is None and index is not None:
@@ -170,16 +169,16 @@ def _label_plain(named, values, core_ndim=(), core_dim="core"):
     out = []
     for v, k in zip(values, core_ndim):
         lead = np.ndim(v) - k
-        full = shape[len(shape) - lead:] if lead else ()
+        full = shape[len(shape) - lead :] if lead else ()
         if lead and np.shape(v)[:lead] != full:
             v = _broadcast_lead(v, full, k)
         core = (core_dim,) * k
-        out.append(xr.Variable(dims[len(shape) - lead:] + core, v))
+        out.append(xr.Variable(dims[len(shape) - lead :] + core, v))
     return out, dims
 
 
 def _broadcast_lead(v, lead_shape, k):
-    target = tuple(lead_shape) + np.shape(v)[np.ndim(v) - k:]
+    target = tuple(lead_shape) + np.shape(v)[np.ndim(v) - k :]
     if is_lazy(v):
         import dask.array as da
 
@@ -220,8 +219,9 @@ def pointwise(func, named, *, name=None, attrs=None, dtype=np.float64):
     block = _block_checked(functools.partial(_as_numpy, func), names)
     if kind == "dask":
         values, _ = _label_plain(named, values)
-    out = xr.apply_ufunc(block, *values, dask="parallelized", output_dtypes=[dtype],
-                         join="exact", keep_attrs=False)
+    out = xr.apply_ufunc(
+        block, *values, dask="parallelized", output_dtypes=[dtype], join="exact", keep_attrs=False
+    )
     if kind == "dask":
         return out.data
     if isinstance(out, xr.DataArray):
@@ -290,8 +290,11 @@ def _run_numpy(loop, *arrays, extra, dtype):
         n *= k
     # keep Fortran order when every full-size input has it (numpy's order="K", roughly)
     full = [a for a in arrs if a.shape == shape] if len(shape) > 1 else ()
-    order = "F" if full and all(
-        a.flags.f_contiguous and not a.flags.c_contiguous for a in full) else "C"
+    order = (
+        "F"
+        if full and all(a.flags.f_contiguous and not a.flags.c_contiguous for a in full)
+        else "C"
+    )
     flat = []
     for a in arrs:
         if a.size == n and (a.flags.c_contiguous if order == "C" else a.flags.f_contiguous):
@@ -325,8 +328,7 @@ def _float64(a):
 # --- column diagnostics ------------------------------------------------------------------
 
 
-def columnwise(func, columns, *, dim="depth", params=(), outputs, dtypes=None,
-               new_dim=None):
+def columnwise(func, columns, *, dim="depth", params=(), outputs, dtypes=None, new_dim=None):
     """Run a column diagnostic on numpy, dask or xarray profiles (the core-dimension route).
 
     Parameters
@@ -367,27 +369,38 @@ def columnwise(func, columns, *, dim="depth", params=(), outputs, dtypes=None,
     if kind == "numpy":
         return func(*values)
     # a scalar among the columns (e.g. one salinity for the whole column) is broadcast
-    core_ndim = [min(np.ndim(v), 1) for v in values[:len(columns)]] + [0] * len(params)
+    core_ndim = [min(np.ndim(v), 1) for v in values[: len(columns)]] + [0] * len(params)
     if not core_ndim[0]:
         raise SeaprofileError(f"{names[0]} needs a vertical axis")
     if kind == "dask":
         values, _ = _label_plain(named, values, core_ndim, dim)
     for n, v, k in zip(names, values, core_ndim):
         if k and dim not in v.dims:
-            raise SeaprofileError(f"{n} has no dimension {dim!r} (dims {list(v.dims)}); "
-                                  "pass dim= the vertical dimension")
+            raise SeaprofileError(
+                f"{n} has no dimension {dim!r} (dims {list(v.dims)}); "
+                "pass dim= the vertical dimension"
+            )
         _check_core_chunks(n, v, dim, kind == "dask")
     block = _block_checked(functools.partial(_columns_numpy, func, len(outputs)), names)
     extra = {}
     out_core = [[]] * len(outputs)
     if new_dim is not None:
         out_core = [[new_dim[0]]] * len(outputs)
-        extra = {"exclude_dims": {dim},
-                 "dask_gufunc_kwargs": {"output_sizes": {new_dim[0]: new_dim[1]}}}
-    out = xr.apply_ufunc(block, *values, input_core_dims=[[dim] if k else [] for k in
-                                                          core_ndim],
-                         output_core_dims=out_core, dask="parallelized",
-                         output_dtypes=dtypes, join="exact", keep_attrs=False, **extra)
+        extra = {
+            "exclude_dims": {dim},
+            "dask_gufunc_kwargs": {"output_sizes": {new_dim[0]: new_dim[1]}},
+        }
+    out = xr.apply_ufunc(
+        block,
+        *values,
+        input_core_dims=[[dim] if k else [] for k in core_ndim],
+        output_core_dims=out_core,
+        dask="parallelized",
+        output_dtypes=dtypes,
+        join="exact",
+        keep_attrs=False,
+        **extra,
+    )
     out = out if isinstance(out, tuple) else (out,)
     if kind == "dask":
         return tuple(o.data for o in out)
@@ -402,16 +415,18 @@ def _along(name, v, dim):
     if isinstance(v, _XR) or np.ndim(v) == 0:
         return v
     if np.ndim(v) != 1:
-        raise SeaprofileError(
-            f"{name} must be 1-D or a DataArray when other inputs are DataArrays")
+        raise SeaprofileError(f"{name} must be 1-D or a DataArray when other inputs are DataArrays")
     return xr.Variable((dim,), as_float_array(name, v))
 
 
 def _check_core_chunks(name, v, dim, plain):
     chunks = getattr(v, "chunksizes", None) if isinstance(v, _XR) else None
     if chunks and dim in chunks and len(chunks[dim]) > 1:
-        where, fix = ((f"its last (vertical) axis", ".rechunk({-1: -1})") if plain else
-                      (f"the vertical dimension {dim!r}", f".chunk({{{dim!r}: -1}})"))
+        where, fix = (
+            ("its last (vertical) axis", ".rechunk({-1: -1})")
+            if plain
+            else (f"the vertical dimension {dim!r}", f".chunk({{{dim!r}: -1}})")
+        )
         raise SeaprofileError(
             f"{name} is split into {len(chunks[dim])} chunks along {where}; a column "
             f"diagnostic needs each profile in one chunk: rechunk with {fix}"

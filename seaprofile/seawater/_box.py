@@ -34,6 +34,10 @@ def in_box(temperature, salinity, vertical, box):
 
     Broadcasts like a ufunc and accepts numpy, dask and xarray inputs; NaN gives False.
     """
-    return run_loop(_in_box_loop, (temperature, salinity, vertical),
-                    extra=tuple(float(x) for x in box), dtype=np.bool_,
-                    names=("temperature", "salinity", "vertical coordinate"))
+    return run_loop(
+        _in_box_loop,
+        (temperature, salinity, vertical),
+        extra=tuple(float(x) for x in box),
+        dtype=np.bool_,
+        names=("temperature", "salinity", "vertical coordinate"),
+    )

@@ -21,7 +21,6 @@ import math
 
 import gsw
 import numba
-import numpy as np
 
 from .._validate import SeaprofileError
 from ._apply import output_attrs, pointwise, run_loop
@@ -51,11 +50,11 @@ def _mackenzie1981_kernel(t, s, d):
     )
 
 
-
 @numba.njit(**_JIT)
 def _mackenzie1981_loop(a, b, c, out):
     for i in range(out.size):
         out[i] = _mackenzie1981_kernel(a[i], b[i], c[i])
+
 
 def mackenzie1981(temperature, salinity, depth):
     """Sound speed, Mackenzie (1981) nine-term equation.
@@ -99,8 +98,9 @@ def _chen_millero1977_kernel(t90, s, p_dbar):
     p = 0.1 * p_dbar
     sr = math.sqrt(s)  # S < 0 (impossible) gives NaN; see chen_millero1977 Notes
     # pure-water part
-    c0 = ((((3.1464e-9 * t - 1.47800e-6) * t + 3.3420e-4) * t - 5.80852e-2) * t
-          + 5.03711) * t + 1402.388
+    c0 = (
+        (((3.1464e-9 * t - 1.47800e-6) * t + 3.3420e-4) * t - 5.80852e-2) * t + 5.03711
+    ) * t + 1402.388
     c1 = (((-6.1185e-10 * t + 1.3621e-7) * t - 8.1788e-6) * t + 6.8982e-4) * t + 0.153563
     c2 = (((1.0405e-12 * t - 2.5335e-10) * t + 2.5974e-8) * t - 1.7107e-6) * t + 3.1260e-5
     c3 = (-2.3643e-12 * t + 3.8504e-10) * t - 9.7729e-9
@@ -117,11 +117,11 @@ def _chen_millero1977_kernel(t90, s, p_dbar):
     return c + (a + b * sr + dd * s) * s
 
 
-
 @numba.njit(**_JIT)
 def _chen_millero1977_loop(a, b, c, out):
     for i in range(out.size):
         out[i] = _chen_millero1977_kernel(a[i], b[i], c[i])
+
 
 def chen_millero1977(temperature, salinity, pressure):
     """Sound speed, Chen & Millero (1977) as the UNESCO 1983 algorithm.
@@ -164,8 +164,9 @@ def _wong_zhu1995_kernel(t, s, p_dbar):
     """Wong & Zhu (1995), JASA 97(3), 1732: ITS-90 refit; T90 degC, S, p bar."""
     p = 0.1 * p_dbar
     sr = math.sqrt(s)  # S < 0 (impossible) gives NaN; see chen_millero1977 Notes
-    c0 = ((((3.1419e-9 * t - 1.47797e-6) * t + 3.3432e-4) * t - 5.81090e-2) * t
-          + 5.03830) * t + 1402.388
+    c0 = (
+        (((3.1419e-9 * t - 1.47797e-6) * t + 3.3432e-4) * t - 5.81090e-2) * t + 5.03830
+    ) * t + 1402.388
     c1 = (((-6.1260e-10 * t + 1.3632e-7) * t - 8.1829e-6) * t + 6.8999e-4) * t + 0.153563
     c2 = (((1.0415e-12 * t - 2.5353e-10) * t + 2.5986e-8) * t - 1.7111e-6) * t + 3.1260e-5
     c3 = (-2.3654e-12 * t + 3.8513e-10) * t - 9.7729e-9
@@ -180,11 +181,11 @@ def _wong_zhu1995_kernel(t, s, p_dbar):
     return c + (a + b * sr + dd * s) * s
 
 
-
 @numba.njit(**_JIT)
 def _wong_zhu1995_loop(a, b, c, out):
     for i in range(out.size):
         out[i] = _wong_zhu1995_kernel(a[i], b[i], c[i])
+
 
 def wong_zhu1995(temperature, salinity, pressure):
     """Sound speed, Wong & Zhu (1995) ITS-90 refit of Chen & Millero (1977).
@@ -233,11 +234,11 @@ def _del_grosso1974_kernel(t90, s, p_dbar):
     return 1402.392 + d_t + d_s + d_p + d_stp
 
 
-
 @numba.njit(**_JIT)
 def _del_grosso1974_loop(a, b, c, out):
     for i in range(out.size):
         out[i] = _del_grosso1974_kernel(a[i], b[i], c[i])
+
 
 def del_grosso1974(temperature, salinity, pressure):
     """Sound speed, Del Grosso (1974), original coefficient set.
@@ -290,11 +291,11 @@ def _coppens1981_kernel(temp, s, d_m):
     )
 
 
-
 @numba.njit(**_JIT)
 def _coppens1981_loop(a, b, c, out):
     for i in range(out.size):
         out[i] = _coppens1981_kernel(a[i], b[i], c[i])
+
 
 def coppens1981(temperature, salinity, depth):
     """Sound speed, Coppens (1981).
@@ -338,11 +339,11 @@ def _medwin1975_kernel(t, s, z):
     )
 
 
-
 @numba.njit(**_JIT)
 def _medwin1975_loop(a, b, c, out):
     for i in range(out.size):
         out[i] = _medwin1975_kernel(a[i], b[i], c[i])
+
 
 def medwin1975(temperature, salinity, depth):
     """Sound speed, Medwin (1975) simple equation.
@@ -390,11 +391,11 @@ def _leroy2008_kernel(t, s, z, lat):
     )
 
 
-
 @numba.njit(**_JIT)
 def _leroy2008_loop(a, b, c, d, out):
     for i in range(out.size):
         out[i] = _leroy2008_kernel(a[i], b[i], c[i], d[i])
+
 
 def leroy2008(temperature, salinity, depth, latitude):
     """Sound speed, Leroy, Robinson & Goldsmith (2008).
@@ -470,12 +471,18 @@ def teos10(temperature, salinity, pressure, latitude=None, longitude=None):
     named = [("temperature", temperature), ("salinity", salinity), ("pressure", pressure)]
     if (latitude is None) != (longitude is None):
         missing = "longitude" if longitude is None else "latitude"
-        raise SeaprofileError(f"{missing} is required when the other coordinate is given "
-                              "(or give neither to use reference salinity)")
+        raise SeaprofileError(
+            f"{missing} is required when the other coordinate is given "
+            "(or give neither to use reference salinity)"
+        )
     if latitude is not None:
         named += [("latitude", latitude), ("longitude", longitude)]
-    return pointwise(_teos10_numpy, named, name="sound_speed",
-                     attrs=output_attrs("sound_speed", "teos10", REFERENCES["teos10"]))
+    return pointwise(
+        _teos10_numpy,
+        named,
+        name="sound_speed",
+        attrs=output_attrs("sound_speed", "teos10", REFERENCES["teos10"]),
+    )
 
 
 def _teos10_numpy(temperature, salinity, pressure, latitude=None, longitude=None):
@@ -492,10 +499,15 @@ def _teos10_numpy(temperature, salinity, pressure, latitude=None, longitude=None
 
 def _loops():
     """Each compiled equation function -> its loop, for callers whose inputs are checked."""
-    return {mackenzie1981: _mackenzie1981_loop, chen_millero1977: _chen_millero1977_loop,
-            wong_zhu1995: _wong_zhu1995_loop, del_grosso1974: _del_grosso1974_loop,
-            coppens1981: _coppens1981_loop, medwin1975: _medwin1975_loop,
-            leroy2008: _leroy2008_loop}
+    return {
+        mackenzie1981: _mackenzie1981_loop,
+        chen_millero1977: _chen_millero1977_loop,
+        wong_zhu1995: _wong_zhu1995_loop,
+        del_grosso1974: _del_grosso1974_loop,
+        coppens1981: _coppens1981_loop,
+        medwin1975: _medwin1975_loop,
+        leroy2008: _leroy2008_loop,
+    }
 
 
 #: Citation of each equation (shown in ``EQUATIONS`` and in the ``references`` attribute).
@@ -518,8 +530,16 @@ _ARGUMENTS = ("temperature", "salinity")
 
 def _run(loop, name, arrays):
     """An equation's compiled loop through the dispatcher (names for messages, CF attrs)."""
-    vertical = ("depth",) if name in ("mackenzie1981", "coppens1981", "medwin1975",
-                                      "leroy2008") else ("pressure",)
+    vertical = (
+        ("depth",)
+        if name in ("mackenzie1981", "coppens1981", "medwin1975", "leroy2008")
+        else ("pressure",)
+    )
     names = _ARGUMENTS + vertical + ("latitude",) * (len(arrays) - 3)
-    return run_loop(loop, arrays, names=names, name="sound_speed",
-                    attrs=output_attrs("sound_speed", name, REFERENCES[name]))
+    return run_loop(
+        loop,
+        arrays,
+        names=names,
+        name="sound_speed",
+        attrs=output_attrs("sound_speed", name, REFERENCES[name]),
+    )

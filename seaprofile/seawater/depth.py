@@ -16,7 +16,8 @@ computed as they are; NaN in gives NaN out.
 from __future__ import annotations
 
 import functools
-from typing import Callable, NamedTuple
+from collections.abc import Callable
+from typing import NamedTuple
 
 import gsw
 import numpy as np
@@ -64,8 +65,14 @@ def _attrs(out_name, method):
 def _run(loop, method, in_name, values, latitude, extra=()):
     """A method's compiled loop through the dispatcher (numpy, dask or xarray)."""
     out = _OUTPUT[in_name]
-    return run_loop(loop, (values, latitude), extra, names=(in_name, "latitude"), name=out,
-                    attrs=_attrs(out, method))
+    return run_loop(
+        loop,
+        (values, latitude),
+        extra,
+        names=(in_name, "latitude"),
+        name=out,
+        attrs=_attrs(out, method),
+    )
 
 
 def _teos10_depth(pressure, latitude):
@@ -160,8 +167,7 @@ def leroy_parthiot1998_depth(pressure, latitude, correction=None):
     depth; the round trip is exact to far below 1 mm.
     """
     corr = _leroy_correction(correction)
-    return _run(_leroy_depth_loop, "leroy_parthiot1998", "pressure", pressure, latitude,
-                (corr,))
+    return _run(_leroy_depth_loop, "leroy_parthiot1998", "pressure", pressure, latitude, (corr,))
 
 
 def leroy_parthiot1998_pressure(depth, latitude, correction=None):
@@ -208,8 +214,7 @@ def leroy_parthiot1998_pressure(depth, latitude, correction=None):
     at ``Z = -100`` m; only small negative depths are meaningful.
     """
     corr = _leroy_correction(correction)
-    return _run(_leroy_pressure_loop, "leroy_parthiot1998", "depth", depth, latitude,
-                (corr,))
+    return _run(_leroy_pressure_loop, "leroy_parthiot1998", "depth", depth, latitude, (corr,))
 
 
 def saunders1981_depth(pressure, latitude):
@@ -285,8 +290,12 @@ def teos10_depth(pressure, latitude):
     (SA = 35.16504 g/kg, CT = 0 degC) with latitude- and depth-dependent gravity; no
     dynamic height anomaly is applied.
     """
-    return pointwise(_teos10_depth, [("pressure", pressure), ("latitude", latitude)],
-                     name="depth", attrs=_attrs("depth", "teos10"))
+    return pointwise(
+        _teos10_depth,
+        [("pressure", pressure), ("latitude", latitude)],
+        name="depth",
+        attrs=_attrs("depth", "teos10"),
+    )
 
 
 def teos10_pressure(depth, latitude):
@@ -308,8 +317,12 @@ def teos10_pressure(depth, latitude):
     -----
     See :func:`teos10_depth`.
     """
-    return pointwise(_teos10_pressure, [("depth", depth), ("latitude", latitude)],
-                     name="pressure", attrs=_attrs("pressure", "teos10"))
+    return pointwise(
+        _teos10_pressure,
+        [("depth", depth), ("latitude", latitude)],
+        name="pressure",
+        attrs=_attrs("pressure", "teos10"),
+    )
 
 
 class DepthMethod(NamedTuple):
@@ -415,16 +428,12 @@ def _leroy_correction(correction):
         return False
     if correction == "common_ocean":
         return True
-    raise SeaprofileError(
-        f"correction must be None or 'common_ocean', got {correction!r}"
-    )
+    raise SeaprofileError(f"correction must be None or 'common_ocean', got {correction!r}")
 
 
 def _pick(method, correction, which):
     if method not in METHODS:
-        raise SeaprofileError(
-            f"method {method!r} is unknown; choose one of {', '.join(METHODS)}"
-        )
+        raise SeaprofileError(f"method {method!r} is unknown; choose one of {', '.join(METHODS)}")
     func = METHODS[method][which]
     if correction is None:
         return func

@@ -15,8 +15,8 @@ IPTS-68 or in other pressure units convert inside their compiled kernels.
 from __future__ import annotations
 
 import functools
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 
@@ -115,22 +115,80 @@ _R = _k.REFERENCES
 EQUATIONS = {
     e.name: e
     for e in (
-        _eq("mackenzie1981", mackenzie1981, "depth", (-2.0, 30.0), (25.0, 40.0),
-            (0.0, 8000.0), _R["mackenzie1981"]),
-        _eq("chen_millero1977", chen_millero1977, "pressure", (0.0, 40.0), (0.0, 40.0),
-            (0.0, 10000.0), _R["chen_millero1977"]),
-        _eq("wong_zhu1995", wong_zhu1995, "pressure", (0.0, 40.0), (0.0, 40.0),
-            (0.0, 10000.0), _R["wong_zhu1995"]),
-        _eq("del_grosso1974", del_grosso1974, "pressure", (0.0, 30.0), (30.0, 40.0),
-            (0.0, 1000.0 * _k._DBAR_PER_KGCM2), _R["del_grosso1974"]),
-        _eq("coppens1981", coppens1981, "depth", (0.0, 35.0), (0.0, 45.0), (0.0, 4000.0),
-            _R["coppens1981"]),
-        _eq("medwin1975", medwin1975, "depth", (0.0, 35.0), (0.0, 45.0), (0.0, 1000.0),
-            _R["medwin1975"]),
-        _eq("leroy2008", leroy2008, "depth", (-2.0, 34.0), (0.0, 42.0), (0.0, 12000.0),
-            _R["leroy2008"], needs_latitude=True),
-        _eq("teos10", teos10, "pressure", (-2.0, 40.0), (0.0, 42.0), (0.0, 10000.0),
-            _R["teos10"], uses_position=True),
+        _eq(
+            "mackenzie1981",
+            mackenzie1981,
+            "depth",
+            (-2.0, 30.0),
+            (25.0, 40.0),
+            (0.0, 8000.0),
+            _R["mackenzie1981"],
+        ),
+        _eq(
+            "chen_millero1977",
+            chen_millero1977,
+            "pressure",
+            (0.0, 40.0),
+            (0.0, 40.0),
+            (0.0, 10000.0),
+            _R["chen_millero1977"],
+        ),
+        _eq(
+            "wong_zhu1995",
+            wong_zhu1995,
+            "pressure",
+            (0.0, 40.0),
+            (0.0, 40.0),
+            (0.0, 10000.0),
+            _R["wong_zhu1995"],
+        ),
+        _eq(
+            "del_grosso1974",
+            del_grosso1974,
+            "pressure",
+            (0.0, 30.0),
+            (30.0, 40.0),
+            (0.0, 1000.0 * _k._DBAR_PER_KGCM2),
+            _R["del_grosso1974"],
+        ),
+        _eq(
+            "coppens1981",
+            coppens1981,
+            "depth",
+            (0.0, 35.0),
+            (0.0, 45.0),
+            (0.0, 4000.0),
+            _R["coppens1981"],
+        ),
+        _eq(
+            "medwin1975",
+            medwin1975,
+            "depth",
+            (0.0, 35.0),
+            (0.0, 45.0),
+            (0.0, 1000.0),
+            _R["medwin1975"],
+        ),
+        _eq(
+            "leroy2008",
+            leroy2008,
+            "depth",
+            (-2.0, 34.0),
+            (0.0, 42.0),
+            (0.0, 12000.0),
+            _R["leroy2008"],
+            needs_latitude=True,
+        ),
+        _eq(
+            "teos10",
+            teos10,
+            "pressure",
+            (-2.0, 40.0),
+            (0.0, 42.0),
+            (0.0, 10000.0),
+            _R["teos10"],
+            uses_position=True,
+        ),
     )
 }
 
@@ -138,8 +196,16 @@ EQUATIONS = {
 # --- layer 2b: the entry points ------------------------------------------------------------
 
 
-def sound_speed(temperature, salinity, pressure=None, *, depth=None, latitude=None,
-                longitude=None, equation="chen_millero1977"):
+def sound_speed(
+    temperature,
+    salinity,
+    pressure=None,
+    *,
+    depth=None,
+    latitude=None,
+    longitude=None,
+    equation="chen_millero1977",
+):
     """Sound speed in sea water by a named published equation.
 
     Parameters
@@ -201,17 +267,20 @@ def sound_speed(temperature, salinity, pressure=None, *, depth=None, latitude=No
     kind, vertical = _vertical(pressure, depth)
     _check_latitude_needed(eq, kind, latitude, longitude)
     named = [("temperature", temperature), ("salinity", salinity), (kind, vertical)]
-    named += [(n, v) for n, v in (("latitude", latitude), ("longitude", longitude))
-              if v is not None]
+    named += [
+        (n, v) for n, v in (("latitude", latitude), ("longitude", longitude)) if v is not None
+    ]
     check = not any(is_lazy(v) for _, v in named)  # lazy inputs are not range-checked
     func = functools.partial(_block, eq, kind, tuple(n for n, _ in named), check)
-    out = pointwise(func, named, name="sound_speed",
-                    attrs=output_attrs("sound_speed", eq.name, eq.reference))
+    out = pointwise(
+        func, named, name="sound_speed", attrs=output_attrs("sound_speed", eq.name, eq.reference)
+    )
     return out[()] if isinstance(out, np.ndarray) and out.ndim == 0 else out
 
 
-def validity_mask(temperature, salinity, pressure=None, *, depth=None, latitude=None,
-                  equation="chen_millero1977"):
+def validity_mask(
+    temperature, salinity, pressure=None, *, depth=None, latitude=None, equation="chen_millero1977"
+):
     """True where the inputs lie inside an equation's validity box (edges included).
 
     Parameters
@@ -248,8 +317,11 @@ def validity_mask(temperature, salinity, pressure=None, *, depth=None, latitude=
     if latitude is not None:
         named.append(("latitude", latitude))
     func = functools.partial(_mask_block, eq, kind, tuple(n for n, _ in named))
-    attrs = output_attrs({"long_name": f"inside the validity box of equation {eq.name}",
-                          "units": "1"}, eq.name, eq.reference)
+    attrs = output_attrs(
+        {"long_name": f"inside the validity box of equation {eq.name}", "units": "1"},
+        eq.name,
+        eq.reference,
+    )
     return pointwise(func, named, name="valid", attrs=attrs, dtype=np.bool_)
 
 
@@ -289,8 +361,8 @@ def _check_latitude_needed(eq, kind, latitude, longitude):
         _require_latitude(latitude, f"evaluate equation {eq.name!r}")
     if longitude is not None and latitude is None:
         raise SeaprofileError(
-            "longitude is given without latitude; give both (degrees north / east) or "
-            "neither")
+            "longitude is given without latitude; give both (degrees north / east) or neither"
+        )
 
 
 def _convert(v, kind, needs, latitude):
@@ -322,8 +394,15 @@ def _check_box(eq, kind, t, s, v, stacklevel):
         seen_lo, seen_hi = _value_range(values)
         if seen_lo <= seen_hi and (seen_lo < lo or seen_hi > hi):
             # one compiled pass found the range; warn_outside words the message
-            warn_outside(name, np.array([seen_lo, seen_hi]), lo, hi, unit=unit,
-                         context=f"equation {eq.name!r}", stacklevel=stacklevel)
+            warn_outside(
+                name,
+                np.array([seen_lo, seen_hi]),
+                lo,
+                hi,
+                unit=unit,
+                context=f"equation {eq.name!r}",
+                stacklevel=stacklevel,
+            )
 
 
 def _evaluate(eq, kind, arrays, *, check, stacklevel=5):
@@ -339,8 +418,7 @@ def _evaluate(eq, kind, arrays, *, check, stacklevel=5):
     if eq.needs_latitude:
         extra["latitude"] = lat
     elif eq.uses_position and lat is not None and arrays.get("longitude") is not None:
-        extra = {"latitude": lat,
-                 "longitude": np.asarray(arrays["longitude"], dtype=np.float64)}
+        extra = {"latitude": lat, "longitude": np.asarray(arrays["longitude"], dtype=np.float64)}
     loop = _LOOPS.get(eq.function)
     if loop is not None:  # the dispatcher has checked the inputs: straight to the loop
         return np.asarray(run_loop(loop, (t, s, v, *extra.values())), dtype=np.float64)
@@ -361,7 +439,11 @@ def _block(eq, kind, names, check, *blocks):
 def _mask_block(eq, kind, names, *blocks):
     arrays = dict(zip(names, blocks))
     v = _convert(arrays[kind], kind, eq.needs, arrays.get("latitude"))
-    mask = _box.in_box(arrays["temperature"], arrays["salinity"], v,
-                     (*eq.temperature_range, *eq.salinity_range, *eq.vertical_range))
+    mask = _box.in_box(
+        arrays["temperature"],
+        arrays["salinity"],
+        v,
+        (*eq.temperature_range, *eq.salinity_range, *eq.vertical_range),
+    )
     shape = np.broadcast_shapes(*(np.shape(b) for b in blocks))
     return mask if np.shape(mask) == shape else np.broadcast_to(mask, shape).copy()

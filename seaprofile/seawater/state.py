@@ -30,9 +30,15 @@ __all__ = [
     "buoyancy_frequency_squared",
 ]
 
-_ATTRS = {k: _cf.attrs_for(k) for k in ("absolute_salinity", "reference_salinity",
-                                         "potential_density_anomaly",
-                                         "buoyancy_frequency_squared")}
+_ATTRS = {
+    k: _cf.attrs_for(k)
+    for k in (
+        "absolute_salinity",
+        "reference_salinity",
+        "potential_density_anomaly",
+        "buoyancy_frequency_squared",
+    )
+}
 
 
 _REFERENCE = "IOC, SCOR & IAPSO (2010), TEOS-10 manual; gsw (McDougall & Barker 2011)"
@@ -73,8 +79,9 @@ def _call(func, named, lat, lon, attrs, out_name):
     args = list(named)
     if lat is not None:
         args += [("latitude", lat), ("longitude", lon)]
-    return pointwise(lambda *a: np.asarray(func(*a), dtype=np.float64), args,
-                     name=out_name, attrs=attrs)
+    return pointwise(
+        lambda *a: np.asarray(func(*a), dtype=np.float64), args, name=out_name, attrs=attrs
+    )
 
 
 # --- public functions -----------------------------------------------------------------
@@ -144,8 +151,7 @@ def absolute_salinity(salinity, pressure, latitude=None, longitude=None):
         [("salinity", salinity), ("pressure", pressure)],
         lat,
         lon,
-        output_attrs(_ATTRS[name], f"gsw.{'SA' if lat is not None else 'SR'}_from_SP",
-                     _REFERENCE),
+        output_attrs(_ATTRS[name], f"gsw.{'SA' if lat is not None else 'SR'}_from_SP", _REFERENCE),
         name,
     )
 
@@ -269,16 +275,28 @@ def buoyancy_frequency_squared(
             raise SeaprofileError("dim is required for xarray inputs with several dims")
         dim = ref.dims[0]
     dim = dim or "depth"
-    n = next((np.shape(v)[-1] if plain else v.sizes[dim]) for _, v in columns
-             if plain or _is_xarray(v))
+    n = next(
+        (np.shape(v)[-1] if plain else v.sizes[dim]) for _, v in columns if plain or _is_xarray(v)
+    )
     mid = f"{dim}_mid"
-    pm_attrs = output_attrs("pressure", "gsw.Nsquared (TEOS-10)", _REFERENCE,
-                            long_name="sea pressure at the mid-point between adjacent samples")
-    outs = [("buoyancy_frequency_squared",
-             output_attrs(_ATTRS["buoyancy_frequency_squared"], "gsw.Nsquared (TEOS-10)",
-                          _REFERENCE)), ("pressure_mid", pm_attrs)]
-    n2, pm = columnwise(_n2, columns, dim=dim, params=params, outputs=outs,
-                        new_dim=(mid, max(n - 1, 0)))
+    pm_attrs = output_attrs(
+        "pressure",
+        "gsw.Nsquared (TEOS-10)",
+        _REFERENCE,
+        long_name="sea pressure at the mid-point between adjacent samples",
+    )
+    outs = [
+        (
+            "buoyancy_frequency_squared",
+            output_attrs(
+                _ATTRS["buoyancy_frequency_squared"], "gsw.Nsquared (TEOS-10)", _REFERENCE
+            ),
+        ),
+        ("pressure_mid", pm_attrs),
+    ]
+    n2, pm = columnwise(
+        _n2, columns, dim=dim, params=params, outputs=outs, new_dim=(mid, max(n - 1, 0))
+    )
     if plain:
         return _moveaxis(n2, -1, axis), _moveaxis(pm, -1, axis)
     return n2.assign_coords(pressure_mid=pm)

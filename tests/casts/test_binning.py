@@ -22,8 +22,7 @@ def test_bin_cast_counts_and_means():
     prof = bin_cast(cast, 1.0)
     assert prof["depth"].values.tolist() == [1.0, 2.0, 3.0, 4.0]
     assert prof["samples_per_bin"].values.tolist() == [4, 2, 0, 3]
-    np.testing.assert_allclose(prof["temperature"].values, [2.5, 15.0, np.nan, 5.5],
-                               rtol=1e-15)
+    np.testing.assert_allclose(prof["temperature"].values, [2.5, 15.0, np.nan, 5.5], rtol=1e-15)
     assert prof["temperature_qc"].values.tolist() == [0, 0, 9, 0]
     assert prof.attrs["cast_max_depth"] == 4.0
     assert "depth" in prof.dims and prof["pressure"].values[2] > prof["pressure"].values[1]
@@ -34,9 +33,12 @@ def test_fill_gaps_flags_estimated():
     t = 20.0 - 0.5 * z
     have = np.ones(20, bool)
     have[[3, 4]] = False  # no samples at 4 and 5 m: a 2 m gap, filled
-    have[10:17] = False   # none at 11..17 m: a 7 m gap, too long for max_gap=5 m
-    cast = add_depth(make_cast(depth=z[have], temperature=t[have],
-                                  salinity=np.full(have.sum(), 35.0), latitude=10.0))
+    have[10:17] = False  # none at 11..17 m: a 7 m gap, too long for max_gap=5 m
+    cast = add_depth(
+        make_cast(
+            depth=z[have], temperature=t[have], salinity=np.full(have.sum(), 35.0), latitude=10.0
+        )
+    )
     prof = bin_cast(cast, 1.0)
     before = prof.copy(deep=True)
     out = fill_gaps(prof, max_gap=5.0)
@@ -52,22 +54,21 @@ def test_fill_gaps_flags_estimated():
 def test_add_sound_speed_teos10_against_gsw():
     z = np.arange(1.0, 101.0)
     t, s = 15.0 - 0.05 * z, 34.5 + 0.005 * z
-    cast = add_depth(make_cast(depth=z, temperature=t, salinity=s, latitude=20.0,
-                                  longitude=-30.0))
+    cast = add_depth(make_cast(depth=z, temperature=t, salinity=s, latitude=20.0, longitude=-30.0))
     prof = add_sound_speed(bin_cast(cast, 1.0), "teos10")
     p = prof["pressure"].values
     sa = gsw.SA_from_SP(s, p, -30.0, 20.0)
     # TEOS-10 (IOC, SCOR & IAPSO 2010) via gsw, computed independently: same library,
     # so agreement to round-off
-    np.testing.assert_allclose(prof["sound_speed"].values,
-                               gsw.sound_speed(sa, gsw.CT_from_t(sa, t, p), p), atol=1e-9)
+    np.testing.assert_allclose(
+        prof["sound_speed"].values, gsw.sound_speed(sa, gsw.CT_from_t(sa, t, p), p), atol=1e-9
+    )
     assert prof.attrs["equation"] == "teos10"
 
 
 def test_add_sound_speed_measured():
     z = np.arange(1.0, 11.0)
-    cast = add_depth(make_cast(depth=z, measured_sound_speed=1500 + z, latitude=0.0),
-                        latitude=0.0)
+    cast = add_depth(make_cast(depth=z, measured_sound_speed=1500 + z, latitude=0.0), latitude=0.0)
     binned = bin_cast(cast, 1.0)
     before = binned.copy(deep=True)
     prof = add_sound_speed(binned)
@@ -83,8 +84,9 @@ def test_sparse_samples_keep_their_own_levels():
     # dense 1 m samples to 20 m, then bottles every 10 m off the bin centres
     z = np.concatenate([np.arange(1.0, 21.0), [32.4, 41.7, 55.5]])
     t = 20.0 - 0.1 * z
-    cast = add_depth(make_cast(depth=z, temperature=t, salinity=np.full(z.size, 35.0),
-                               latitude=10.0))
+    cast = add_depth(
+        make_cast(depth=z, temperature=t, salinity=np.full(z.size, 35.0), latitude=10.0)
+    )
     prof = bin_cast(cast, 1.0)
     depth = prof["depth"].values
     assert (np.diff(depth) > 0).all()
@@ -103,8 +105,7 @@ def test_sparse_samples_keep_their_own_levels():
     np.testing.assert_allclose(filled["temperature"].values, 20.0 - 0.1 * depth, atol=1e-12)
     assert _cf.steps_of(filled.attrs)[-1]["largest_gap"] == pytest.approx(55.5 - 41.7)
     # everything binned when asked
-    assert _cf.steps_of(bin_cast(cast, 1.0, sparse_spacing=np.inf).attrs)[-1][
-        "levels_kept"] == 0
+    assert _cf.steps_of(bin_cast(cast, 1.0, sparse_spacing=np.inf).attrs)[-1]["levels_kept"] == 0
 
 
 def test_bin_size_is_validated_and_capped():
@@ -113,8 +114,9 @@ def test_bin_size_is_validated_and_capped():
     from seaprofile._validate import SeaprofileError
 
     z = np.linspace(0.0, 5000.0, 50)
-    cast = add_depth(make_cast(depth=z, temperature=np.full(50, 4.0),
-                               salinity=np.full(50, 35.0), latitude=10.0))
+    cast = add_depth(
+        make_cast(depth=z, temperature=np.full(50, 4.0), salinity=np.full(50, 35.0), latitude=10.0)
+    )
     for bad in (np.inf, np.nan, 0.0, -1.0, "one"):
         with pytest.raises(SeaprofileError, match="step"):
             bin_cast(cast, bad)
@@ -129,10 +131,18 @@ def test_pressure_bins_keep_the_casts_own_pressure_flags_at_kept_levels():
     # sparse bottles binned on pressure: each keeps its level; its pressure flag must be
     # the cast's pressure_qc, not depth_qc
     p = np.array([5.0, 50.0, 100.0, 200.0])
-    cast = add_depth(make_cast(pressure=p, temperature=[20.0, 15.0, 10.0, 8.0],
-                               salinity=[35.0, 35.1, 35.2, 35.3], latitude=30.0))
-    cast = cast.assign(pressure_qc=("sample", np.array([1, 2, 1, 2], np.int8)),
-                       depth_qc=("sample", np.array([5, 5, 5, 5], np.int8)))
+    cast = add_depth(
+        make_cast(
+            pressure=p,
+            temperature=[20.0, 15.0, 10.0, 8.0],
+            salinity=[35.0, 35.1, 35.2, 35.3],
+            latitude=30.0,
+        )
+    )
+    cast = cast.assign(
+        pressure_qc=("sample", np.array([1, 2, 1, 2], np.int8)),
+        depth_qc=("sample", np.array([5, 5, 5, 5], np.int8)),
+    )
     prof = bin_cast(cast, 1.0, "pressure")
     kept = prof["samples_per_bin"].values > 0
     assert prof["pressure_qc"].values[kept].tolist() == [1, 2, 1, 2]
@@ -147,7 +157,8 @@ def test_pressure_bins_keep_the_casts_own_pressure_flags_at_kept_levels():
 
 def test_one_memory_model_up_front_and_in_binning():
     import pytest
-    from hypothesis import given, settings, strategies as st
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
 
     from seaprofile import io
     from seaprofile.casts.binning import MAX_BINS, check_bin_count
@@ -169,8 +180,9 @@ def test_one_memory_model_up_front_and_in_binning():
             return False
 
         up_front = refused(lambda: check_build_options(bin_size=size))
-        binning = refused(lambda: check_bin_count(FULL_OCEAN_DEPTH / size + 1, size,
-                                                  FULL_OCEAN_DEPTH, "bin_size"))
+        binning = refused(
+            lambda: check_bin_count(FULL_OCEAN_DEPTH / size + 1, size, FULL_OCEAN_DEPTH, "bin_size")
+        )
         assert up_front == binning
 
     same_answer()

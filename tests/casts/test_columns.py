@@ -76,15 +76,17 @@ def test_recognises_common_spellings(header):
         assert g.unit.offset == pytest.approx(offset)
 
 
-@pytest.mark.parametrize("header", ["Temp_qc", "temperature_qc", "PRES QC", "sal flag",
-                                    "sound_speed_qc", "depth_QC"])
+@pytest.mark.parametrize(
+    "header", ["Temp_qc", "temperature_qc", "PRES QC", "sal flag", "sound_speed_qc", "depth_QC"]
+)
 def test_flag_columns(header):
     g = recognise_column(header)
     assert g is not None and g.is_flag
 
 
-@pytest.mark.parametrize("header", ["oxygen", "fluorescence [mg/m3]", "latitude", "id", "Q",
-                                    "turbidity (NTU)"])
+@pytest.mark.parametrize(
+    "header", ["oxygen", "fluorescence [mg/m3]", "latitude", "id", "Q", "turbidity (NTU)"]
+)
 def test_unknown_columns_are_not_recognised(header):
     assert recognise_column(header) is None
 
@@ -132,18 +134,23 @@ def test_unit_conversions_against_definitions():
 
 def test_parse_column_mapping():
     assert parse_column_mapping("temperature=T_deg, pressure=P") == {
-        "temperature": "T_deg", "pressure": "P"}
+        "temperature": "T_deg",
+        "pressure": "P",
+    }
     assert parse_column_mapping("depth=Depth [m]") == {"depth": "Depth [m]"}
 
 
-@pytest.mark.parametrize("text,match", [
-    ("temperature", "VARIABLE=VALUE"),
-    ("oxygen=O2", "unknown variable"),
-    ("temperature=T,temperature=U", "twice"),
-    ("temperature=T,pressure=T", "two variables"),
-    ("temperature=", "empty"),
-    ("", "no VARIABLE"),
-])
+@pytest.mark.parametrize(
+    "text,match",
+    [
+        ("temperature", "VARIABLE=VALUE"),
+        ("oxygen=O2", "unknown variable"),
+        ("temperature=T,temperature=U", "twice"),
+        ("temperature=T,pressure=T", "two variables"),
+        ("temperature=", "empty"),
+        ("", "no VARIABLE"),
+    ],
+)
 def test_parse_column_mapping_errors(text, match):
     with pytest.raises(SeaprofileError, match=match):
         parse_column_mapping(text)
@@ -155,23 +162,33 @@ def test_parse_unit_mapping():
         parse_unit_mapping("pressure=m")
 
 
-@pytest.mark.parametrize("text,which,expected", [
-    ("54.5", "latitude", 54.5),
-    ("-3.25", "longitude", -3.25),
-    ("54.5 N", "latitude", 54.5),
-    ("54 30.5 N", "latitude", 54 + 30.5 / 60),
-    ("54°30.5'N", "latitude", 54 + 30.5 / 60),
-    ("3 15 W", "longitude", -3.25),
-    ("12 06.0 S", "latitude", -12.1),
-    ("170 30 E", "longitude", 170.5),
-])
+@pytest.mark.parametrize(
+    "text,which,expected",
+    [
+        ("54.5", "latitude", 54.5),
+        ("-3.25", "longitude", -3.25),
+        ("54.5 N", "latitude", 54.5),
+        ("54 30.5 N", "latitude", 54 + 30.5 / 60),
+        ("54°30.5'N", "latitude", 54 + 30.5 / 60),
+        ("3 15 W", "longitude", -3.25),
+        ("12 06.0 S", "latitude", -12.1),
+        ("170 30 E", "longitude", 170.5),
+    ],
+)
 def test_parse_position(text, which, expected):
     assert parse_position(text, which) == pytest.approx(expected, abs=1e-12)
 
 
-@pytest.mark.parametrize("text,which", [("north", "latitude"), ("91", "latitude"),
-                                        ("54 61 N", "latitude"), ("10 E", "latitude"),
-                                        ("-10 W", "longitude")])
+@pytest.mark.parametrize(
+    "text,which",
+    [
+        ("north", "latitude"),
+        ("91", "latitude"),
+        ("54 61 N", "latitude"),
+        ("10 E", "latitude"),
+        ("-10 W", "longitude"),
+    ],
+)
 def test_parse_position_errors(text, which):
     with pytest.raises(SeaprofileError):
         parse_position(text, which)
@@ -187,14 +204,21 @@ def test_parse_time():
 
 
 def test_parse_column_mapping_by_position():
-    assert parse_column_mapping("1=depth,2=sound_speed") == {"depth": 1,
-                                                            "measured_sound_speed": 2}
+    assert parse_column_mapping("1=depth,2=sound_speed") == {"depth": 1, "measured_sound_speed": 2}
     assert parse_column_mapping({1: "depth", 2: "sound_speed"}) == {
-        "depth": 1, "measured_sound_speed": 2}
-    assert parse_column_mapping("#3=temperature,pressure=PRES") == {"temperature": 3,
-                                                                   "pressure": "PRES"}
-    for bad, match in (("0=depth", "start at 1"), ("1=depth,1=temperature", "two variables"),
-                       ("1=oxygen", "unknown variable"), ("1=depth,depth=D", "twice")):
+        "depth": 1,
+        "measured_sound_speed": 2,
+    }
+    assert parse_column_mapping("#3=temperature,pressure=PRES") == {
+        "temperature": 3,
+        "pressure": "PRES",
+    }
+    for bad, match in (
+        ("0=depth", "start at 1"),
+        ("1=depth,1=temperature", "two variables"),
+        ("1=oxygen", "unknown variable"),
+        ("1=depth,depth=D", "twice"),
+    ):
         with pytest.raises(SeaprofileError, match=match):
             parse_column_mapping(bad)
     with pytest.raises(SeaprofileError, match="str or dict"):

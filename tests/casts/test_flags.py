@@ -12,8 +12,10 @@ RANK = {0: 0, 1: 1, 2: 2, 5: 3, 3: 4, 4: 5}
 
 
 @settings(max_examples=60, deadline=None)
-@given(st.lists(st.sampled_from(FLAGS), min_size=1, max_size=40),
-       st.lists(st.sampled_from(FLAGS), min_size=1, max_size=40))
+@given(
+    st.lists(st.sampled_from(FLAGS), min_size=1, max_size=40),
+    st.lists(st.sampled_from(FLAGS), min_size=1, max_size=40),
+)
 def test_raise_flags_never_lowers(old, new):
     n = min(len(old), len(new))
     old, new = np.array(old[:n], np.int8), np.array(new[:n], np.int8)

@@ -6,23 +6,31 @@ import xarray as xr
 
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
-from seaprofile.casts.despike import _running_median, despike
 from seaprofile.casts import process as pr
+from seaprofile.casts.despike import _running_median, despike
 from seaprofile.casts.model import make_cast
 
 
 def soak_cast(rate_hz=8.0):
     """Invented cast: surface, soak at 10 dbar, back up to 1 dbar, descent to 200 dbar."""
-    p = np.concatenate([
-        np.linspace(0.0, 10.0, 40),       # 0..39 down to the soak depth
-        np.full(80, 10.0),                # 40..119 soak
-        np.linspace(10.0, 1.0, 40),       # 120..159 back up
-        np.linspace(1.0, 200.0, 800),     # 160..959 the descent
-        np.linspace(200.0, 0.0, 400),     # 960..1359 the ascent
-    ])
+    p = np.concatenate(
+        [
+            np.linspace(0.0, 10.0, 40),  # 0..39 down to the soak depth
+            np.full(80, 10.0),  # 40..119 soak
+            np.linspace(10.0, 1.0, 40),  # 120..159 back up
+            np.linspace(1.0, 200.0, 800),  # 160..959 the descent
+            np.linspace(200.0, 0.0, 400),  # 960..1359 the ascent
+        ]
+    )
     t = 20.0 - 0.05 * p
-    return make_cast(pressure=p, temperature=t, salinity=np.full(p.size, 35.0),
-                     elapsed_time=np.arange(p.size) / rate_hz, latitude=30.0, longitude=-40.0)
+    return make_cast(
+        pressure=p,
+        temperature=t,
+        salinity=np.full(p.size, 35.0),
+        elapsed_time=np.arange(p.size) / rate_hz,
+        latitude=30.0,
+        longitude=-40.0,
+    )
 
 
 def test_remove_soak_finds_the_start_of_the_descent():
@@ -95,9 +103,12 @@ def test_running_median_matches_numpy():
     x = rng.normal(size=300)
     x[rng.random(300) < 0.2] = np.nan
     for half in (1, 3, 7):
-        ref = [np.nanmedian(x[max(0, i - half): i + half + 1])
-               if np.isfinite(x[max(0, i - half): i + half + 1]).any() else np.nan
-               for i in range(x.size)]
+        ref = [
+            np.nanmedian(x[max(0, i - half) : i + half + 1])
+            if np.isfinite(x[max(0, i - half) : i + half + 1]).any()
+            else np.nan
+            for i in range(x.size)
+        ]
         np.testing.assert_allclose(_running_median(x, half), ref, rtol=0, atol=0)
 
 
@@ -145,8 +156,9 @@ def test_replace_salinity_where_bad_and_everywhere():
     z = np.arange(1.0, 11.0)
     s = np.full(10, 35.0)
     s[[2, 5]] = [60.0, np.nan]
-    cast = pr.add_depth(make_cast(depth=z, temperature=np.full(10, 10.0), salinity=s,
-                                  latitude=30.0))
+    cast = pr.add_depth(
+        make_cast(depth=z, temperature=np.full(10, 10.0), salinity=s, latitude=30.0)
+    )
     flags = cast["salinity_qc"].values.copy()
     flags[2] = 4
     cast["salinity_qc"] = cast["salinity_qc"].copy(data=flags)
@@ -188,8 +200,11 @@ def test_salinity_from_conductivity_flags_and_derivation():
     t = np.array([15.0, 14.0, 13.0, 12.0, 11.0])
     c = np.array([42.0, 41.0, np.nan, 40.0, 39.0])
     cast = make_cast(pressure=p, temperature=t, conductivity=c)
-    flags = {"conductivity": [4, 0, 9, 1, 5], "temperature": [8, 0, 0, 3, 1],
-             "pressure": [1, 0, 0, 5, 1]}
+    flags = {
+        "conductivity": [4, 0, 9, 1, 5],
+        "temperature": [8, 0, 0, 3, 1],
+        "pressure": [1, 0, 0, 5, 1],
+    }
     for v, f in flags.items():
         cast[f"{v}_qc"] = cast[f"{v}_qc"].copy(data=np.array(f, np.int8))
     values, q = pr.salinity_and_flags(cast)
@@ -210,8 +225,7 @@ def test_despike_passes_a_bad_conductivity_on_to_its_salinity():
     p = np.arange(1.0, 61.0, 0.25)
     c = np.full(p.size, 45.0)
     c[100] = 45.5  # an invented spike, well above the conductivity floor of 0.05 mS/cm
-    cast = pr.add_salinity(make_cast(pressure=p, temperature=np.full(p.size, 18.0),
-                                     conductivity=c))
+    cast = pr.add_salinity(make_cast(pressure=p, temperature=np.full(p.size, 18.0), conductivity=c))
     out = despike(cast, variables=["conductivity"])
     assert out["conductivity_qc"].values[100] == 4
     assert out["salinity_qc"].values[100] == 4
@@ -224,9 +238,17 @@ def test_despike_checks_threshold_and_window_naming_them():
 
     p = np.linspace(0.0, 100.0, 200)
     cast = make_cast(pressure=p, temperature=10.0 + 0.01 * p)
-    for name, bad in (("threshold", 0.0), ("threshold", -1.0), ("threshold", np.nan),
-                      ("threshold", "five"), ("window", 4), ("window", 1), ("window", 2.5),
-                      ("window", "wide"), ("max_span", 0.0)):
+    for name, bad in (
+        ("threshold", 0.0),
+        ("threshold", -1.0),
+        ("threshold", np.nan),
+        ("threshold", "five"),
+        ("window", 4),
+        ("window", 1),
+        ("window", 2.5),
+        ("window", "wide"),
+        ("max_span", 0.0),
+    ):
         with pytest.raises(ArgumentError) as err:
             despike(cast, **{name: bad})
         assert err.value.argument == name
@@ -234,8 +256,9 @@ def test_despike_checks_threshold_and_window_naming_them():
 
 def test_add_depth_gives_the_new_coordinate_its_own_flags():
     # depth's flags start as a copy of pressure's: raising one later never changes the other
-    cast = make_cast(pressure=np.linspace(0.0, 100.0, 5), temperature=np.full(5, 10.0),
-                     latitude=30.0)
+    cast = make_cast(
+        pressure=np.linspace(0.0, 100.0, 5), temperature=np.full(5, 10.0), latitude=30.0
+    )
     out = pr.add_depth(cast)
     out["depth_qc"].values[:] = 4
     assert (out["pressure_qc"].values == 0).all()

@@ -173,8 +173,12 @@ def test_bad_temperature_flags_salinity_from_conductivity():
     t = cast["temperature"].values.copy()
     t[40] = 55.0
     c = gsw.C_from_SP(cast["salinity"].values, t, cast["pressure"].values)
-    ds = make_cast(pressure=cast["pressure"].values, temperature=t,
-                   salinity=gsw.SP_from_C(c, t, cast["pressure"].values), conductivity=c)
+    ds = make_cast(
+        pressure=cast["pressure"].values,
+        temperature=t,
+        salinity=gsw.SP_from_C(c, t, cast["pressure"].values),
+        conductivity=c,
+    )
     out = qc.run_qc(ds, ["global_range"])
     assert out["temperature_qc"].values[40] == 4
     assert out["salinity_qc"].values[40] == 4
@@ -218,8 +222,9 @@ def test_run_qc_never_lowers_flags(data):
     ds["temperature"] = ds["temperature"].copy(data=t)
     old = {}
     for v in ("temperature", "salinity", "pressure"):
-        old[v] = np.array(data.draw(st.lists(st.sampled_from(FLAGS), min_size=n, max_size=n)),
-                          np.int8)
+        old[v] = np.array(
+            data.draw(st.lists(st.sampled_from(FLAGS), min_size=n, max_size=n)), np.int8
+        )
         ds[f"{v}_qc"] = ds[f"{v}_qc"].copy(data=old[v])
     out = qc.run_qc(ds)
     for v in old:
@@ -237,8 +242,16 @@ def test_tests_and_thresholds_are_public_in_qc():
     # seaprofile.casts._qc_tests; seaprofile.casts.qc is their public home
     from seaprofile.casts import _qc_tests
 
-    for name in ("GLOBAL_RANGE", "SPIKE_THRESHOLDS", "GRADIENT_THRESHOLDS", "MAX_OCEAN_DEPTH",
-                 "SPLIT_PRESSURE", "SOUND_SPEED_RANGE", "STUCK_MIN_VALUES", *qc.TESTS):
+    for name in (
+        "GLOBAL_RANGE",
+        "SPIKE_THRESHOLDS",
+        "GRADIENT_THRESHOLDS",
+        "MAX_OCEAN_DEPTH",
+        "SPLIT_PRESSURE",
+        "SOUND_SPEED_RANGE",
+        "STUCK_MIN_VALUES",
+        *qc.TESTS,
+    ):
         assert name in qc.__all__ and getattr(qc, name) is getattr(_qc_tests, name)
 
 
@@ -246,8 +259,9 @@ def test_stuck_value_spares_short_and_speed_only_profiles():
     # two or three identical planning nodes are not a stuck sensor (common practice, no
     # source: at least qc.STUCK_MIN_VALUES = 10 values are needed to call one stuck)
     for n in (2, 3, 9):
-        cast = make_cast(pressure=np.linspace(0, 100, n), temperature=np.full(n, 10.0),
-                         salinity=np.full(n, 35.0))
+        cast = make_cast(
+            pressure=np.linspace(0, 100, n), temperature=np.full(n, 10.0), salinity=np.full(n, 35.0)
+        )
         out = qc.stuck_value(cast)
         assert (out["temperature_qc"].values == 0).all()
     cast = make_cast(pressure=np.linspace(0, 100, 10), temperature=np.full(10, 10.0))

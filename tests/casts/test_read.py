@@ -62,8 +62,9 @@ def test_reads_ctd_csv_with_metadata(tmp_path):
     assert step["step"] == "read_cast" and step["columns"]["temperature"] == "Temp [degC]"
 
 
-@pytest.mark.parametrize("sep,delimiter", [("\t", None), (";", None), ("  ", None),
-                                           (" ", "whitespace"), ("\t", "tab")])
+@pytest.mark.parametrize(
+    "sep,delimiter", [("\t", None), (";", None), ("  ", None), (" ", "whitespace"), ("\t", "tab")]
+)
 def test_other_delimiters(tmp_path, sep, delimiter):
     text = sep.join(["pres", "temp", "sal"]) + "\n" + sep.join(["2", "10.5", "35.1"]) + "\n"
     cast = read_cast(put(tmp_path, text, "c.txt"), delimiter=delimiter)
@@ -71,8 +72,10 @@ def test_other_delimiters(tmp_path, sep, delimiter):
 
 
 def test_missing_values_are_nan_and_flagged(tmp_path):
-    text = ("# missing_value: -9999\npres,temp,sal,temperature_qc\n"
-            "1,10,35,1\n2,,35,1\n3,nan,35,1\n4,NA,35,1\n5,-9999,35,4\n6,11,-9999,2\n")
+    text = (
+        "# missing_value: -9999\npres,temp,sal,temperature_qc\n"
+        "1,10,35,1\n2,,35,1\n3,nan,35,1\n4,NA,35,1\n5,-9999,35,4\n6,11,-9999,2\n"
+    )
     cast = read_cast(put(tmp_path, text))
     t = cast["temperature"].values
     assert np.isnan(t[1:5]).all() and t[0] == 10 and t[5] == 11
@@ -104,9 +107,11 @@ def test_explicit_column_mapping(tmp_path):
     assert cast["temperature"].values[0] == 10
     assert cast["salinity"].values[0] == 35
     assert cast.attrs["ignored_columns"] == "Temp"
-    cast = read_cast(put(tmp_path, text, "b.csv"),
-                     columns={"temperature": "T_deg", "pressure": "P", "salinity": "salt"},
-                     units={"pressure": "kPa"})
+    cast = read_cast(
+        put(tmp_path, text, "b.csv"),
+        columns={"temperature": "T_deg", "pressure": "P", "salinity": "salt"},
+        units={"pressure": "kPa"},
+    )
     assert cast["pressure"].values[0] == pytest.approx(0.1)
 
 
@@ -133,8 +138,9 @@ def test_xbt_text_file(tmp_path):
     np.testing.assert_allclose(cast["depth"].values, 6.691 * t - 2.25e-3 * t**2, atol=1e-9)
     assert cast.attrs["salinity_source"] == "assumed constant 35"
     assert "pressure" in cast
-    cast = read_cast(put(tmp_path, text, "b.csv"), fall_rate=(6.0, 0.0),
-                     salinity=([0, 1000], [34.0, 35.0]))
+    cast = read_cast(
+        put(tmp_path, text, "b.csv"), fall_rate=(6.0, 0.0), salinity=([0, 1000], [34.0, 35.0])
+    )
     np.testing.assert_allclose(cast["depth"].values, 6.0 * t)
     np.testing.assert_allclose(cast["salinity"].values, 34.0 + 6.0 * t / 1000)
 
@@ -150,12 +156,15 @@ def test_ctd_with_assumed_salinity(tmp_path):
     assert cast["salinity"].values[0] == 34.5 and cast.attrs["salinity_assumed"] == "yes"
 
 
-@pytest.mark.parametrize("variables,expected", [
-    ({"pressure", "temperature", "salinity"}, "ctd"),
-    ({"elapsed_time", "temperature"}, "xbt"),
-    ({"elapsed_time", "temperature", "depth"}, "ctd"),
-    ({"depth", "measured_sound_speed", "temperature"}, "svp"),
-])
+@pytest.mark.parametrize(
+    "variables,expected",
+    [
+        ({"pressure", "temperature", "salinity"}, "ctd"),
+        ({"elapsed_time", "temperature"}, "xbt"),
+        ({"elapsed_time", "temperature", "depth"}, "ctd"),
+        ({"depth", "measured_sound_speed", "temperature"}, "svp"),
+    ],
+)
 def test_guess_instrument(variables, expected):
     assert guess_instrument(variables) == expected
 
@@ -168,11 +177,14 @@ BAD = [
     ("pres,temp,sal\n", "no data rows", 1, None),
     ("oxygen,nitrate\n1,2\n", "no recognisable columns", 1, None),
     ("pres,temp,sal\n1,10,35\n2,10\n", "ragged", 3, 3),
-    ("pres,Temp [degC],sal\n1,10,35\n2,abc,35\n", "expected a number, got 'abc'", 3,
-     "2 (Temp [degC])"),
+    (
+        "pres,Temp [degC],sal\n1,10,35\n2,abc,35\n",
+        "expected a number, got 'abc'",
+        3,
+        "2 (Temp [degC])",
+    ),
     ("pres,temp,sal\n1,inf,35\n", "expected a number", 2, "2 (temp)"),
-    ("pres,temp,temperature,sal\n1,2,3,4\n", "both look like temperature", 1,
-     "3 (temperature)"),
+    ("pres,temp,temperature,sal\n1,2,3,4\n", "both look like temperature", 1, "3 (temperature)"),
     ("pres,Temp [degF],sal\n1,2,3\n", "not recognised", 1, "2 (Temp [degF])"),
     ("# latitude: 95\npres,temp,sal\n1,2,3\n", "latitude", 1, None),
     ("# time: yesterday\npres,temp,sal\n1,2,3\n", "ISO 8601", 1, None),
@@ -230,8 +242,10 @@ def _instance_vars(nc, dim="profile", n=3):
     pid = nc.createVariable("station", "S1", (dim, "name_strlen"))
     pid.cf_role = "profile_id"
     pid[:] = netCDF4.stringtochar(np.array([f"st{k}" for k in range(n)], dtype="S8"))
-    for name, sn, units, vals in (("LAT", "latitude", "degrees_north", LAT),
-                                  ("LON", "longitude", "degrees_east", LON)):
+    for name, sn, units, vals in (
+        ("LAT", "latitude", "degrees_north", LAT),
+        ("LON", "longitude", "degrees_east", LON),
+    ):
         v = nc.createVariable(name, "f4", (dim,))
         v.standard_name, v.units = sn, units
         v[:] = vals[:n]
@@ -268,8 +282,9 @@ def test_contiguous_ragged_array(tmp_path):
         rs.sample_dimension = "obs"
         rs[:] = [3, 2, 4]
         _data_var(nc, "PR", "sea_water_pressure", "dbar", ("obs",), np.concatenate(PRES))
-        v = _data_var(nc, "TX", "sea_water_temperature", "K", ("obs",),
-                      np.concatenate(TEMP) + 273.15)
+        v = _data_var(
+            nc, "TX", "sea_water_temperature", "K", ("obs",), np.concatenate(TEMP) + 273.15
+        )
         v.ancillary_variables = "TX_FLAG"
         f = nc.createVariable("TX_FLAG", "i1", ("obs",))
         f.standard_name = "status_flag"
@@ -300,12 +315,18 @@ def test_indexed_ragged_array(tmp_path):
         ix = nc.createVariable("parentIndex", "i4", ("obs",))
         ix.instance_dimension = "profile"
         ix[:] = order
-        _data_var(nc, "PR", "sea_water_pressure", "dbar", ("obs",),
-                  [PRES[k][i] for k, i in picks])
-        _data_var(nc, "TX", "sea_water_temperature", "degree_Celsius", ("obs",),
-                  [TEMP[k][i] for k, i in picks])
-        _data_var(nc, "S", "sea_water_practical_salinity", "1", ("obs",),
-                  [SAL[k][i] for k, i in picks])
+        _data_var(nc, "PR", "sea_water_pressure", "dbar", ("obs",), [PRES[k][i] for k, i in picks])
+        _data_var(
+            nc,
+            "TX",
+            "sea_water_temperature",
+            "degree_Celsius",
+            ("obs",),
+            [TEMP[k][i] for k, i in picks],
+        )
+        _data_var(
+            nc, "S", "sea_water_practical_salinity", "1", ("obs",), [SAL[k][i] for k, i in picks]
+        )
     _check_three(read_casts(p))
 
 
@@ -323,10 +344,10 @@ def test_orthogonal_multidimensional_array(tmp_path):
         for k in range(3):
             temp[k, : TEMP[k].size] = TEMP[k]
             sal[k, : SAL[k].size] = SAL[k]
-        _data_var(nc, "TX", "sea_water_temperature", "degree_Celsius", ("profile", "z"),
-                  temp, fill=-999.0)
-        _data_var(nc, "S", "sea_water_practical_salinity", "1", ("profile", "z"), sal,
-                  fill=-999.0)
+        _data_var(
+            nc, "TX", "sea_water_temperature", "degree_Celsius", ("profile", "z"), temp, fill=-999.0
+        )
+        _data_var(nc, "S", "sea_water_practical_salinity", "1", ("profile", "z"), sal, fill=-999.0)
     casts = read_casts(p)
     _check_three(casts)  # trailing all-missing levels are padding, not samples
 
@@ -337,9 +358,11 @@ def test_incomplete_multidimensional_array(tmp_path):
         nc.createDimension("profile", 3)
         nc.createDimension("obs", 4)
         _instance_vars(nc)
-        for name, sn, unit, arrays in (("PR", "sea_water_pressure", "dbar", PRES),
-                                       ("TX", "sea_water_temperature", "degC", TEMP),
-                                       ("S", "sea_water_practical_salinity", "1", SAL)):
+        for name, sn, unit, arrays in (
+            ("PR", "sea_water_pressure", "dbar", PRES),
+            ("TX", "sea_water_temperature", "degC", TEMP),
+            ("S", "sea_water_practical_salinity", "1", SAL),
+        ):
             full = np.full((3, 4), -1e34)
             for k in range(3):
                 full[k, : arrays[k].size] = arrays[k]
@@ -353,14 +376,17 @@ def test_single_profile(tmp_path):
         nc.featureType = "profile"
         nc.createDimension("z", 3)
         nc.createDimension("name_strlen", 4)
-        for name, sn, units, val in (("lat", "latitude", "degrees_north", 1.5),
-                                     ("lon", "longitude", "degrees_east", 2.5)):
+        for name, sn, units, val in (
+            ("lat", "latitude", "degrees_north", 1.5),
+            ("lon", "longitude", "degrees_east", 2.5),
+        ):
             v = nc.createVariable(name, "f8", ())
             v.standard_name, v.units = sn, units
             v[...] = val
         _data_var(nc, "depth", "depth", "m", ("z",), [0.0, 5.0, 10.0])
-        _data_var(nc, "svel", "speed_of_sound_in_sea_water", "m s-1", ("z",),
-                  [1500.0, 1499.0, 1498.0])
+        _data_var(
+            nc, "svel", "speed_of_sound_in_sea_water", "m s-1", ("z",), [1500.0, 1499.0, 1498.0]
+        )
     cast = read_cast(p)
     assert cast.attrs["instrument"] == "svp"
     assert float(cast.latitude) == 1.5
@@ -420,9 +446,14 @@ def test_own_speed_table_reads_back(tmp_path):
     np.testing.assert_array_equal(back["sound_speed"].values, prof["sound_speed"].values)
 
 
-@pytest.mark.parametrize("columns", ["1=pressure,3=temperature,2=salinity",
-                                     {1: "pressure", 3: "temperature", 2: "salinity"},
-                                     "#1=pressure,#3=temperature,#2=salinity"])
+@pytest.mark.parametrize(
+    "columns",
+    [
+        "1=pressure,3=temperature,2=salinity",
+        {1: "pressure", 3: "temperature", 2: "salinity"},
+        "#1=pressure,#3=temperature,#2=salinity",
+    ],
+)
 def test_positional_column_mapping(tmp_path, columns):
     p = put(tmp_path, "1 35.0 10.5\n5 35.1 10.0\n10 35.2 9.5\n", "noheader.txt")
     cast = read_cast(p, columns=columns)
@@ -449,8 +480,11 @@ def _foreign_nc(path, names=("PRES", "TEMP", "PSAL"), units=True):
     """A netCDF without standard names, as many archives write (invented values)."""
     with netCDF4.Dataset(path, "w") as nc:
         nc.createDimension("N_LEVELS", 3)
-        for name, vals, unit in zip(names, ([0.0, 10.0, 20.0], [12.0, 11.5, 11.0],
-                                            [35.0, 35.1, 35.2]), ("dbar", "degC", "1")):
+        for name, vals, unit in zip(
+            names,
+            ([0.0, 10.0, 20.0], [12.0, 11.5, 11.0], [35.0, 35.1, 35.2]),
+            ("dbar", "degC", "1"),
+        ):
             v = nc.createVariable(name, "f8", ("N_LEVELS",))
             if units:
                 v.units = unit
@@ -458,8 +492,9 @@ def _foreign_nc(path, names=("PRES", "TEMP", "PSAL"), units=True):
     return path
 
 
-@pytest.mark.parametrize("names", [("PRES", "TEMP", "PSAL"), ("pres", "temp", "sal"),
-                                   ("P_dbar", "T90", "S")])
+@pytest.mark.parametrize(
+    "names", [("PRES", "TEMP", "PSAL"), ("pres", "temp", "sal"), ("P_dbar", "T90", "S")]
+)
 def test_netcdf_mapping_of_non_cf_names(tmp_path, names):
     p = _foreign_nc(tmp_path / "foreign.nc", names, units=False)
     with pytest.raises(InputFileError, match="columns=|needs temperature"):
@@ -500,15 +535,18 @@ def test_netcdf_mapped_variable_with_wrong_dimensions(tmp_path):
 
 
 def test_free_comment_text_never_becomes_attribute_names(tmp_path):
-    text = ("# Remark: the winch stalled: twice at 40 m\n"
-            "# plain remark without a colon\n"
-            "# latitude: 54.5\n"
-            "# bottom depth: 120\n"
-            "pres,temp,sal\n1,10,35\n2,9.9,35.01\n")
+    text = (
+        "# Remark: the winch stalled: twice at 40 m\n"
+        "# plain remark without a colon\n"
+        "# latitude: 54.5\n"
+        "# bottom depth: 120\n"
+        "pres,temp,sal\n1,10,35\n2,9.9,35.01\n"
+    )
     cast = read_cast(put(tmp_path, text))
     assert "Remark" not in cast.attrs and "plain_remark_without_a_colon" not in cast.attrs
-    assert cast.attrs["comment"] == ("Remark: the winch stalled: twice at 40 m\n"
-                                     "plain remark without a colon")
+    assert cast.attrs["comment"] == (
+        "Remark: the winch stalled: twice at 40 m\nplain remark without a colon"
+    )
     assert cast.attrs["bottom_depth"] == 120.0
     with pytest.raises(InputFileError, match="bottom_depth") as info:
         read_cast(put(tmp_path, "# water depth: deep\npres,temp,sal\n1,2,3\n", "b.csv"))
@@ -602,17 +640,26 @@ def test_empty_collections_and_broken_netcdf(tmp_path):
         read_cast(truncated)
 
 
-@pytest.mark.parametrize("doc,match", [
-    ('{"format": "seaprofile", "datasets": 5}', "list of objects"),
-    ('{"format": "seaprofile", "dataset": {"variables": []}}', "malformed"),
-    ('{"format": "seaprofile", "dataset": {"dimension": "sample", "attributes": {}, '
-     '"coordinates": {}, "variables": {"t": {"dims": ["sample"], "dtype": "O", '
-     '"attributes": {}, "values": [1]}}}}', "expected numbers"),
-    ('{"format": "seaprofile", "dataset": ' + "[" * 100000 + "]" * 100000 + "}", "JSON"),
-    ('{"format": "seaprofile", "dataset": {"dimension": "sample", "attributes": {}, '
-     '"coordinates": {}, "variables": {"pressure": {"dims": ["sample"], "dtype": "f8", '
-     '"attributes": {}, "values": [1]}}}}', "no flags"),
-])
+@pytest.mark.parametrize(
+    "doc,match",
+    [
+        ('{"format": "seaprofile", "datasets": 5}', "list of objects"),
+        ('{"format": "seaprofile", "dataset": {"variables": []}}', "malformed"),
+        (
+            '{"format": "seaprofile", "dataset": {"dimension": "sample", "attributes": {}, '
+            '"coordinates": {}, "variables": {"t": {"dims": ["sample"], "dtype": "O", '
+            '"attributes": {}, "values": [1]}}}}',
+            "expected numbers",
+        ),
+        ('{"format": "seaprofile", "dataset": ' + "[" * 100000 + "]" * 100000 + "}", "JSON"),
+        (
+            '{"format": "seaprofile", "dataset": {"dimension": "sample", "attributes": {}, '
+            '"coordinates": {}, "variables": {"pressure": {"dims": ["sample"], "dtype": "f8", '
+            '"attributes": {}, "values": [1]}}}}',
+            "no flags",
+        ),
+    ],
+)
 def test_malformed_json(tmp_path, doc, match):
     with pytest.raises(InputFileError, match=match):
         read_casts(put(tmp_path, doc, "odd.json"))

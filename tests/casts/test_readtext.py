@@ -24,8 +24,11 @@ def _both(path, delimiter=None, header=True):
             _readtext._plain_numbers = lambda *a: None
         try:
             t = _readtext._parse_text(path, delimiter, header)
-            result = ([t.numbers(j) for j in range(len(t.headers))], t.lines.tolist(),
-                      t.plain is not None)
+            result = (
+                [t.numbers(j) for j in range(len(t.headers))],
+                t.lines.tolist(),
+                t.plain is not None,
+            )
         except InputFileError as exc:
             result = (str(exc), exc.line, exc.column)
         finally:
@@ -50,19 +53,32 @@ CELL = st.one_of(
     NUMBER.map(lambda x: f"{x:.4f}"),
     NUMBER.map(lambda x: f"{x:.3e}"),
     st.integers(-99999, 99999).map(str),
-    st.sampled_from(["nan", "NaN", "-nan", "NA", "", "-", "inf", "1e", "abc", " 2.5 ",
-                     "+.5", "5.", "1_0"]),
+    st.sampled_from(
+        ["nan", "NaN", "-nan", "NA", "", "-", "inf", "1e", "abc", " 2.5 ", "+.5", "5.", "1_0"]
+    ),
 )
 
 
 @settings(max_examples=80, deadline=None)
-@given(rows=st.lists(st.lists(CELL, min_size=3, max_size=3), min_size=1, max_size=12),
-       plain=st.booleans(), sep=st.sampled_from([",", ";", "\t", " "]),
-       extra=st.sampled_from(["", "\n", "\n\n", "\n# comment\n"]))
+@given(
+    rows=st.lists(st.lists(CELL, min_size=3, max_size=3), min_size=1, max_size=12),
+    plain=st.booleans(),
+    sep=st.sampled_from([",", ";", "\t", " "]),
+    extra=st.sampled_from(["", "\n", "\n\n", "\n# comment\n"]),
+)
 def test_fast_and_careful_paths_agree(tmp_path_factory, rows, plain, sep, extra):
     if plain:  # mostly plain numbers, so the one-call parse is exercised
-        rows = [[c if c.strip() and c.strip()[0] in "+-.0123456789" and c.strip() not in
-                 ("-", "-nan", "1e", "1_0") else "1.5" for c in r] for r in rows]
+        rows = [
+            [
+                c
+                if c.strip()
+                and c.strip()[0] in "+-.0123456789"
+                and c.strip() not in ("-", "-nan", "1e", "1_0")
+                else "1.5"
+                for c in r
+            ]
+            for r in rows
+        ]
     if sep == " ":
         rows = [[c.strip() or "0" for c in r] for r in rows]
     body = "\n".join(sep.join(r) for r in rows)
@@ -85,11 +101,14 @@ def test_plain_block_takes_the_fast_path(tmp_path):
     np.testing.assert_array_equal(t.numbers(1), [10.5, 10.25])
 
 
-@pytest.mark.parametrize("text,line,column", [
-    ("pres,temp,sal\n1,2,3\n2,-nan,3\n", 3, "2 (temp)"),  # parses, but is not a missing word
-    ("pres,temp,sal\n1,2,3\n2,3\n", 3, 3),  # ragged
-    ("pres,temp,sal\n1,2,3\n\n# note\n2,x,3\n", 5, "2 (temp)"),
-])
+@pytest.mark.parametrize(
+    "text,line,column",
+    [
+        ("pres,temp,sal\n1,2,3\n2,-nan,3\n", 3, "2 (temp)"),  # parses, but is not a missing word
+        ("pres,temp,sal\n1,2,3\n2,3\n", 3, 3),  # ragged
+        ("pres,temp,sal\n1,2,3\n\n# note\n2,x,3\n", 5, "2 (temp)"),
+    ],
+)
 def test_errors_keep_line_and_column(tmp_path, text, line, column):
     p = tmp_path / "c.csv"
     p.write_text(text)
@@ -108,11 +127,14 @@ def test_missing_words_in_a_plain_block(tmp_path):
 
 # --- encodings, line ends, decimal commas, oversized cells (tracker defects) -------------
 
-TABLE = "# cast_name: Rook-2 (synthetic)\nPRES [dbar],Temp [degC],Sal\n1.0,12.5,34.9\n5.0,12.25,35.0\n"
+TABLE = (
+    "# cast_name: Rook-2 (synthetic)\nPRES [dbar],Temp [degC],Sal\n1.0,12.5,34.9\n5.0,12.25,35.0\n"
+)
 
 
-@pytest.mark.parametrize("encoding", ["utf-8", "utf-8-sig", "utf-16", "utf-16-le",
-                                      "utf-16-be", "utf-32"])
+@pytest.mark.parametrize(
+    "encoding", ["utf-8", "utf-8-sig", "utf-16", "utf-16-le", "utf-16-be", "utf-32"]
+)
 def test_unicode_encodings_and_byte_order_marks(tmp_path, encoding):
     path = tmp_path / "cast.csv"
     path.write_bytes(TABLE.replace("Temp [degC]", "Temp [°C]").encode(encoding))
@@ -141,8 +163,7 @@ def test_decimal_commas_where_the_delimiter_is_not_a_comma(tmp_path):
     np.testing.assert_array_equal(cast["salinity"].values, [34.9, 35.0])
     tab = tmp_path / "cast.tsv"
     tab.write_text("0\t1500,5\n10\t1499,25\n")  # headerless, tab: depth, sound speed
-    np.testing.assert_array_equal(read_cast(tab)["measured_sound_speed"].values,
-                                  [1500.5, 1499.25])
+    np.testing.assert_array_equal(read_cast(tab)["measured_sound_speed"].values, [1500.5, 1499.25])
 
 
 def test_other_encodings_and_binary_data_are_refused_with_a_line(tmp_path):

@@ -19,11 +19,24 @@ from hypothesis import strategies as st
 
 from seaprofile import SeaprofileError, _cf
 from seaprofile.casts.model import make_cast
-from seaprofile.casts.read import read_cast, read_casts, read_profile, read_profiles
-from seaprofile.casts.read import read_speed_table
-from seaprofile.casts.write import (FORMATS, NETCDF_LOCK, format_of, refuse_input_as_output,
-                                    write, write_csv, write_json, write_netcdf,
-                                    write_speed_table)
+from seaprofile.casts.read import (
+    read_cast,
+    read_casts,
+    read_profile,
+    read_profiles,
+    read_speed_table,
+)
+from seaprofile.casts.write import (
+    FORMATS,
+    NETCDF_LOCK,
+    format_of,
+    refuse_input_as_output,
+    write,
+    write_csv,
+    write_json,
+    write_netcdf,
+    write_speed_table,
+)
 
 # invented test data (synthetic)
 
@@ -32,10 +45,18 @@ def sample_cast(name="Gullet-3", n=6, instrument="ctd", **extra):
     p = np.linspace(0.5, 60.0, n)
     t = 14.0 - 0.1 * p
     t[2] = np.nan
-    cast = make_cast(pressure=p, temperature=t, salinity=np.full(n, 34.7),
-                     latitude=47.25, longitude=-8.5, time="2022-09-03T06:15:30",
-                     cast_name=name, vessel="RV Imaginary Petrel", instrument=instrument,
-                     **extra)
+    cast = make_cast(
+        pressure=p,
+        temperature=t,
+        salinity=np.full(n, 34.7),
+        latitude=47.25,
+        longitude=-8.5,
+        time="2022-09-03T06:15:30",
+        cast_name=name,
+        vessel="RV Imaginary Petrel",
+        instrument=instrument,
+        **extra,
+    )
     cast["temperature_qc"].values[:] = [1, 1, 9, 4, 2, 1][:n] + [1] * max(0, n - 6)
     cast.attrs = _cf.record_step(cast.attrs, "invented_step", threshold=0.5)
     return cast
@@ -43,8 +64,14 @@ def sample_cast(name="Gullet-3", n=6, instrument="ctd", **extra):
 
 def xbt_cast():
     t = np.arange(0.0, 5.0)
-    return make_cast(elapsed_time=t, temperature=20 - t, depth=6.691 * t - 2.25e-3 * t**2,
-                     latitude=np.nan, instrument="xbt", cast_name="drop-1")
+    return make_cast(
+        elapsed_time=t,
+        temperature=20 - t,
+        depth=6.691 * t - 2.25e-3 * t**2,
+        latitude=np.nan,
+        instrument="xbt",
+        cast_name="drop-1",
+    )
 
 
 def sample_profile(name="Gullet-3"):
@@ -52,12 +79,18 @@ def sample_profile(name="Gullet-3"):
     ds = xr.Dataset(
         {
             "sound_speed": ("depth", 1500 - 0.05 * z, _cf.attrs_for("sound_speed")),
-            "sound_speed_qc": ("depth", np.array([1, 1, 1, 8, 8], np.int8),
-                               _cf.flag_attrs("sound_speed")),
+            "sound_speed_qc": (
+                "depth",
+                np.array([1, 1, 1, 8, 8], np.int8),
+                _cf.flag_attrs("sound_speed"),
+            ),
             "temperature": ("depth", 14 - 0.1 * z, _cf.attrs_for("temperature")),
             "temperature_qc": ("depth", np.ones(5, np.int8), _cf.flag_attrs("temperature")),
-            "samples_per_bin": ("depth", np.array([3, 4, 4, 0, 0], np.int32),
-                                _cf.attrs_for("samples_per_bin")),
+            "samples_per_bin": (
+                "depth",
+                np.array([3, 4, 4, 0, 0], np.int32),
+                _cf.attrs_for("samples_per_bin"),
+            ),
         },
         coords={
             "depth": ("depth", z, _cf.attrs_for("depth")),
@@ -66,8 +99,12 @@ def sample_profile(name="Gullet-3"):
             "time": ((), np.datetime64("2022-09-03T06:15:30", "ns"), _cf.attrs_for("time")),
             "profile_id": ((), name, {"cf_role": "profile_id", "long_name": "cast name"}),
         },
-        attrs=_cf.base_attrs(featureType="profile", equation="chen_millero1977",
-                             depth_method="unesco1983", cast_max_depth=20.0),
+        attrs=_cf.base_attrs(
+            featureType="profile",
+            equation="chen_millero1977",
+            depth_method="unesco1983",
+            cast_max_depth=20.0,
+        ),
     )
     ds.attrs = _cf.record_step(ds.attrs, "bin_average", bin_size=10.0)
     return ds
@@ -118,9 +155,11 @@ def test_cast_round_trip(tmp_path, ext, make):
 
 
 def test_netcdf_collection_round_trip(tmp_path):
-    casts = [sample_cast("A", 6), sample_cast("B", 9, instrument="svp",
-                                               measured_sound_speed=np.full(9, 1501.0)),
-             sample_cast("C", 7)]
+    casts = [
+        sample_cast("A", 6),
+        sample_cast("B", 9, instrument="svp", measured_sound_speed=np.full(9, 1501.0)),
+        sample_cast("C", 7),
+    ]
     casts[2].attrs["vessel"] = "RV Other"
     path = write_netcdf(casts, tmp_path / "three.nc")
     back = read_casts(path)
@@ -152,12 +191,18 @@ def test_profile_collection_netcdf(tmp_path):
 
 
 @settings(max_examples=30, deadline=None)
-@given(st.lists(st.one_of(st.floats(-5, 40, allow_nan=False), st.just(float("nan"))),
-                min_size=1, max_size=40))
+@given(
+    st.lists(
+        st.one_of(st.floats(-5, 40, allow_nan=False), st.just(float("nan"))),
+        min_size=1,
+        max_size=40,
+    )
+)
 def test_csv_keeps_every_float_exactly(values):
     t = np.array(values)
-    cast = make_cast(pressure=np.arange(t.size, dtype=float), temperature=t,
-                     salinity=np.full(t.size, 35.0))
+    cast = make_cast(
+        pressure=np.arange(t.size, dtype=float), temperature=t, salinity=np.full(t.size, 35.0)
+    )
     cast["temperature_qc"].values[np.isnan(t)] = _cf.MISSING
     with tempfile.TemporaryDirectory() as d:
         back = read_cast(write_csv(cast, Path(d) / "c.csv"))
@@ -266,8 +311,14 @@ def test_dispatcher_errors(tmp_path):
 def test_round_trip_of_a_built_profile(tmp_path, ext):
     profile_module = pytest.importorskip("seaprofile.profile")
     p = np.linspace(0.5, 120.0, 240)
-    cast = make_cast(pressure=p, temperature=15 - p / 50, salinity=35 + p / 1000 + 1e-3 * np.sin(p),
-                     latitude=40.0, longitude=3.0, time="2024-01-01T00:00")
+    cast = make_cast(
+        pressure=p,
+        temperature=15 - p / 50,
+        salinity=35 + p / 1000 + 1e-3 * np.sin(p),
+        latitude=40.0,
+        longitude=3.0,
+        time="2024-01-01T00:00",
+    )
     prof = profile_module.build_profile(cast)
     back = read_profile(write(prof, tmp_path / f"built.{ext}"))
     assert_same(prof, back, check_attr_types=(ext != "csv"))
@@ -283,8 +334,14 @@ REPO = Path(__file__).resolve().parents[2]
 def run_python(code, *args, **kwargs):
     """Run ``code`` in a fresh interpreter with this checkout importable."""
     env = {**os.environ, "PYTHONPATH": str(REPO)}
-    return subprocess.run([sys.executable, "-c", textwrap.dedent(code), *map(str, args)],
-                          env=env, capture_output=True, text=True, timeout=300, **kwargs)
+    return subprocess.run(
+        [sys.executable, "-c", textwrap.dedent(code), *map(str, args)],
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=300,
+        **kwargs,
+    )
 
 
 def test_speed_table_suffix_is_our_own(tmp_path):
@@ -304,8 +361,12 @@ def test_refuse_input_as_output(tmp_path):
     (tmp_path / "sub").mkdir()
     (tmp_path / "alias.csv").symlink_to(src)
     os.link(src, tmp_path / "hard.csv")
-    for out in (src, tmp_path / "sub" / ".." / "cast.csv", tmp_path / "alias.csv",
-                tmp_path / "hard.csv"):
+    for out in (
+        src,
+        tmp_path / "sub" / ".." / "cast.csv",
+        tmp_path / "alias.csv",
+        tmp_path / "hard.csv",
+    ):
         with pytest.raises(SeaprofileError, match="is the input file"):
             refuse_input_as_output([src], [out])
     refuse_input_as_output([src], [tmp_path / "cast.nc", tmp_path / "sub" / "cast.csv"])
@@ -387,9 +448,14 @@ def test_sigterm_during_a_write_leaves_no_temporary_file(tmp_path):
         atomic_write(Path(sys.argv[1]) / "out.csv", False, fill)
     """
     env = {**os.environ, "PYTHONPATH": str(REPO)}
-    proc = subprocess.Popen([sys.executable, "-c", textwrap.dedent(code), str(tmp_path)],
-                            env=env, stdin=subprocess.PIPE, stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, text=True)
+    proc = subprocess.Popen(
+        [sys.executable, "-c", textwrap.dedent(code), str(tmp_path)],
+        env=env,
+        stdin=subprocess.PIPE,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
     try:
         assert proc.stdout.readline().strip() == "writing"
         assert any(n.endswith(".tmp") for n in os.listdir(tmp_path))  # mid-write
@@ -455,9 +521,16 @@ def test_two_writer_processes_into_one_folder(tmp_path, fmt):
         print(refused)
     """
     env = {**os.environ, "PYTHONPATH": str(REPO)}
-    procs = [subprocess.Popen([sys.executable, "-c", textwrap.dedent(code), str(tmp_path),
-                               who, fmt], env=env, stdout=subprocess.PIPE,
-                              stderr=subprocess.PIPE, text=True) for who in ("A", "B")]
+    procs = [
+        subprocess.Popen(
+            [sys.executable, "-c", textwrap.dedent(code), str(tmp_path), who, fmt],
+            env=env,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            text=True,
+        )
+        for who in ("A", "B")
+    ]
     outs = [p.communicate(timeout=300) for p in procs]
     assert [p.returncode for p in procs] == [0, 0], [o[1][-1500:] for o in outs]
     names = os.listdir(tmp_path)

@@ -118,8 +118,9 @@ def test_complete_xbt_cast():
 
 
 def test_complete_xbt_cast_without_latitude_has_no_pressure():
-    cast = complete_xbt_cast(make_cast(elapsed_time=[0, 1.0], temperature=[20, 20.0],
-                                       instrument="xbt"))
+    cast = complete_xbt_cast(
+        make_cast(elapsed_time=[0, 1.0], temperature=[20, 20.0], instrument="xbt")
+    )
     assert "pressure" not in cast and "depth" in cast
 
 
@@ -139,13 +140,20 @@ def test_joined_to_a_reference_the_probe_follows_its_measured_water():
         return 34.4 + 0.2 * np.exp(-z / 500.0)
 
     zr = np.arange(0.0, 3001.0, 1.0)
-    ref = make_cast(depth=zr, temperature=t_of(zr), salinity=s_of(zr), latitude=lat,
-                    longitude=lon, cast_name="deep-reference")
+    ref = make_cast(
+        depth=zr,
+        temperature=t_of(zr),
+        salinity=s_of(zr),
+        latitude=lat,
+        longitude=lon,
+        cast_name="deep-reference",
+    )
     ref = add_sound_speed(bin_cast(add_depth(ref), 1.0), "teos10")
     t = np.arange(0.0, 120.0, 0.1)
     z = hanawa(t)
-    xbt = make_cast(elapsed_time=t, temperature=t_of(z) + 0.05, instrument="xbt",
-                    latitude=lat, longitude=lon)
+    xbt = make_cast(
+        elapsed_time=t, temperature=t_of(z) + 0.05, instrument="xbt", latitude=lat, longitude=lon
+    )
     prof = build_profile(xbt, equation="teos10", extend_to=3000.0, reference=ref)
     depth = prof["depth"].values
     z_join = prof.attrs["cast_max_depth"]
@@ -163,8 +171,9 @@ def test_joined_to_a_reference_the_probe_follows_its_measured_water():
     # the probe's temperature offset (+0.05 degC) fades linearly over the 100 m below it
     below = (depth > z_join) & ~deep
     fade = 1.0 - (depth[below] - z_join) / 100.0
-    np.testing.assert_allclose(prof["temperature"].values[below] - t_of(depth[below]),
-                               0.05 * fade, atol=2e-3)
+    np.testing.assert_allclose(
+        prof["temperature"].values[below] - t_of(depth[below]), 0.05 * fade, atol=2e-3
+    )
     # every assumption is on the record, in attributes and in one line
     a = prof.attrs
     assert a["salinity_source"] == "assumed constant 35"
@@ -175,8 +184,12 @@ def test_joined_to_a_reference_the_probe_follows_its_measured_water():
     assert "salinity offset +0.557 fading" in a["extension_join"]
     assert "(the cast's was assumed)" in a["extension_join"]
     line = a["assumptions"]
-    for text in ("salinity assumed constant 35", "fall rate hanawa1995 (a=6.691 m/s",
-                 "reference deep-reference", "fading to zero over 100 m"):
+    for text in (
+        "salinity assumed constant 35",
+        "fall rate hanawa1995 (a=6.691 m/s",
+        "reference deep-reference",
+        "fading to zero over 100 m",
+    ):
         assert text in line
 
 

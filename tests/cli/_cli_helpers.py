@@ -5,8 +5,12 @@ from pathlib import Path
 DEMO = Path(__file__).resolve().parents[2] / "demo_casts"
 
 #: options that read the cast of the ``renamed_cast`` fixture
-RENAMED_OPTIONS = ["--columns", "pressure=col_a,temperature=col_b,salinity=col_c",
-                   "--units", "pressure=kPa"]
+RENAMED_OPTIONS = [
+    "--columns",
+    "pressure=col_a,temperature=col_b,salinity=col_c",
+    "--units",
+    "pressure=kPa",
+]
 
 
 def one_line_error(capsys):

@@ -3,15 +3,23 @@
 import json
 from pathlib import Path
 
-
 from seaprofile.cli import main
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_casts"
 
 
 def test_build_reports_bad_file_and_exits_1(tmp_path, capsys):
-    code = main(["build", str(DEMO / "shelf_summer_ctd.csv"), str(DEMO / "broken" / "bad_number.csv"),
-                 "--out", str(tmp_path), "--format", "csv"])
+    code = main(
+        [
+            "build",
+            str(DEMO / "shelf_summer_ctd.csv"),
+            str(DEMO / "broken" / "bad_number.csv"),
+            "--out",
+            str(tmp_path),
+            "--format",
+            "csv",
+        ]
+    )
     assert code == 2  # bad input: exit 2, the other files still built
     captured = capsys.readouterr()
     assert "VS31-S04" in captured.out and "FAILED" in captured.out
@@ -21,7 +29,9 @@ def test_build_reports_bad_file_and_exits_1(tmp_path, capsys):
 
 
 def test_build_json_summary(capsys):
-    assert main(["build", str(DEMO / "shelf_winter_ctd.csv"), "--json", "--extend-to", "bottom"]) == 0
+    assert (
+        main(["build", str(DEMO / "shelf_winter_ctd.csv"), "--json", "--extend-to", "bottom"]) == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     (row,) = doc["casts"]
     assert row["cast"] == "VS31-W02" and row["depth_range_m"].endswith("150")
@@ -33,8 +43,20 @@ def test_build_missing_file_exit_1(capsys):
 
 
 def test_inspect_raw_cast_json(capsys):
-    assert main(["inspect", str(DEMO / "deep_ocean_ctd.csv"), "--bottom-depth", "5012",
-                 "--source-depth", "60", "--json"]) == 0
+    assert (
+        main(
+            [
+                "inspect",
+                str(DEMO / "deep_ocean_ctd.csv"),
+                "--bottom-depth",
+                "5012",
+                "--source-depth",
+                "60",
+                "--json",
+            ]
+        )
+        == 0
+    )
     d = json.loads(capsys.readouterr().out)
     assert 500 < d["channel_axis_depth"] < 1200
     assert d["depth_excess_surface"] is not None
@@ -72,9 +94,21 @@ def test_demo_without_casts_exit_2(tmp_path, capsys):
 
 def test_build_fall_rate_and_reference(tmp_path, capsys):
     # the deep cast shapes the extension of the expendable-probe drop below its last sample
-    code = main(["build", str(DEMO / "xbt_drop.csv"), "--fall-rate", "6.691,0.00225",
-                 "--salinity", "35.2", "--extend-to", "3000",
-                 "--reference", str(DEMO / "deep_ocean_ctd.csv"), "--json"])
+    code = main(
+        [
+            "build",
+            str(DEMO / "xbt_drop.csv"),
+            "--fall-rate",
+            "6.691,0.00225",
+            "--salinity",
+            "35.2",
+            "--extend-to",
+            "3000",
+            "--reference",
+            str(DEMO / "deep_ocean_ctd.csv"),
+            "--json",
+        ]
+    )
     assert code == 0
     (row,) = json.loads(capsys.readouterr().out)["casts"]
     assert row["depth_range_m"].endswith("3000")

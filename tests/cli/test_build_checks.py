@@ -6,23 +6,37 @@ import shutil
 import numpy as np
 import pytest
 import xarray as xr
+from _cli_helpers import DEMO, RENAMED_OPTIONS, one_line_error
 
 import seaprofile.batch
 from seaprofile.cli import main
 
-from _cli_helpers import DEMO, RENAMED_OPTIONS, one_line_error
-
 TWO = [str(DEMO / "shelf_summer_ctd.csv"), str(DEMO / "shelf_winter_ctd.csv")]
 
 
-@pytest.mark.parametrize("option, value", [
-    ("--bin", "-1"), ("--bin", "0"), ("--fall-rate", "fast"), ("--fall-rate", "1,-1"),
-    ("--columns", "temperature"), ("--columns", "colour=red"), ("--units", "pressure=furlong"),
-    ("--latitude", "95"), ("--longitude", "-200"), ("--salinity", "50"),
-    ("--extend-to", "-5"), ("--extend-to", "deep"), ("--extend-to", "20000"),
-    ("--scheduler", "bogus"), ("--replace-salinity", "60"), ("--replace-salinity", "nan"),
-    ("--max-gap", "-3"), ("--max-gap", "wide"),
-])
+@pytest.mark.parametrize(
+    "option, value",
+    [
+        ("--bin", "-1"),
+        ("--bin", "0"),
+        ("--fall-rate", "fast"),
+        ("--fall-rate", "1,-1"),
+        ("--columns", "temperature"),
+        ("--columns", "colour=red"),
+        ("--units", "pressure=furlong"),
+        ("--latitude", "95"),
+        ("--longitude", "-200"),
+        ("--salinity", "50"),
+        ("--extend-to", "-5"),
+        ("--extend-to", "deep"),
+        ("--extend-to", "20000"),
+        ("--scheduler", "bogus"),
+        ("--replace-salinity", "60"),
+        ("--replace-salinity", "nan"),
+        ("--max-gap", "-3"),
+        ("--max-gap", "wide"),
+    ],
+)
 def test_bad_option_once_exit_2_before_any_file(tmp_path, capsys, option, value):
     out = tmp_path / "out"
     assert main(["build", *TWO, "--out", str(out), option, value]) == 2
@@ -56,8 +70,22 @@ def test_reference_file_is_never_an_output(tmp_path, capsys):
     (tmp_path / "VS31-D01.nc").rename(ref)
     before = ref.read_bytes()
     capsys.readouterr()
-    assert main(["build", str(DEMO / "xbt_drop.csv"), "--extend-to", "3000", "--reference",
-                 str(ref), "--out", str(tmp_path), "--overwrite"]) == 2
+    assert (
+        main(
+            [
+                "build",
+                str(DEMO / "xbt_drop.csv"),
+                "--extend-to",
+                "3000",
+                "--reference",
+                str(ref),
+                "--out",
+                str(tmp_path),
+                "--overwrite",
+            ]
+        )
+        == 2
+    )
     assert "is an input" in capsys.readouterr().err
     assert ref.read_bytes() == before
 
@@ -67,8 +95,10 @@ def test_missing_reference_named_as_the_option(tmp_path, capsys):
     # extend with but a deeper reference profile
     path = tmp_path / "probe.csv"
     rows = "\n".join(f"{z:.1f},{1510.0 - 0.02 * z:.3f}" for z in np.arange(1.0, 200.0))
-    path.write_text("# note: SYNTHETIC test cast\n# instrument: svp\n# latitude: 44.0\n"
-                    f"# longitude: -9.6\ndepth [m],sound speed [m/s]\n{rows}\n")
+    path.write_text(
+        "# note: SYNTHETIC test cast\n# instrument: svp\n# latitude: 44.0\n"
+        f"# longitude: -9.6\ndepth [m],sound speed [m/s]\n{rows}\n"
+    )
     assert main(["build", str(path), "--extend-to", "400"]) == 2
     err = capsys.readouterr().err
     assert "--reference" in err and "reference=" not in err
@@ -87,17 +117,33 @@ def test_reader_keyword_hints_name_the_option(renamed_cast, capsys):
 
 
 def test_summary_shows_every_assumption(capsys):
-    assert main(["build", str(DEMO / "xbt_drop.csv"), "--salinity", "35.2", "--fall-rate",
-                 "6.691,0.00225", "--extend-to", "3000", "--reference",
-                 str(DEMO / "deep_ocean_ctd.csv"), "--json"]) == 0
+    assert (
+        main(
+            [
+                "build",
+                str(DEMO / "xbt_drop.csv"),
+                "--salinity",
+                "35.2",
+                "--fall-rate",
+                "6.691,0.00225",
+                "--extend-to",
+                "3000",
+                "--reference",
+                str(DEMO / "deep_ocean_ctd.csv"),
+                "--json",
+            ]
+        )
+        == 0
+    )
     (row,) = json.loads(capsys.readouterr().out)["casts"]
     said = row["assumptions"]
     assert "salinity" in said and "35.2" in said
     assert "fall rate" in said and "6.691" in said
     # the extension: where it starts (the probe's last bin, 759 m), where it ends, and
     # the deep cast that shaped it, by name
-    assert "extended 759-3000 m with reference VS31-D01: its measured temperature and " \
-        "salinity" in said
+    assert (
+        "extended 759-3000 m with reference VS31-D01: its measured temperature and salinity" in said
+    )
     assert main(["build", str(DEMO / "xbt_drop.csv")]) == 0
     text = capsys.readouterr().out
     assert "assumptions" in text and "salinity assumed constant 35" in text
@@ -138,8 +184,9 @@ def test_failed_salinity_channel_replaced_from_the_command_line(tmp_path, capsys
     assert main(["build", stuck, "--json"]) == 0
     plain = json.loads(capsys.readouterr().out)["casts"][0]
     assert plain["status"] == "no usable sound speed"
-    assert main(["build", stuck, "--replace-salinity", "35.2", "--out", str(tmp_path),
-                 "--json"]) == 0
+    assert (
+        main(["build", stuck, "--replace-salinity", "35.2", "--out", str(tmp_path), "--json"]) == 0
+    )
     row = json.loads(capsys.readouterr().out)["casts"][0]
     assert row["status"] == "ok"
     assert "salinity replaced" in row["assumed"] and "35.2" in row["assumptions"]
@@ -150,11 +197,25 @@ def test_failed_salinity_channel_replaced_from_the_command_line(tmp_path, capsys
 def test_extend_to_bottom_without_a_bottom_depth_is_an_error_of_that_cast(tmp_path, capsys):
     # a cast file with no sea-floor depth in its header (invented, synthetic)
     bare = tmp_path / "no_floor.csv"
-    bare.write_text("# synthetic test cast\npressure [dbar],temperature [degC],salinity\n"
-                    + "".join(f"{p},{12 - 0.02 * p:.3f},35.0\n" for p in range(1, 80)))
+    bare.write_text(
+        "# synthetic test cast\npressure [dbar],temperature [degC],salinity\n"
+        + "".join(f"{p},{12 - 0.02 * p:.3f},35.0\n" for p in range(1, 80))
+    )
     with_floor = DEMO / "shelf_summer_ctd.csv"
-    assert main(["build", str(bare), str(with_floor), "--extend-to", "bottom",
-                 "--out", str(tmp_path / "out")]) == 2
+    assert (
+        main(
+            [
+                "build",
+                str(bare),
+                str(with_floor),
+                "--extend-to",
+                "bottom",
+                "--out",
+                str(tmp_path / "out"),
+            ]
+        )
+        == 2
+    )
     captured = capsys.readouterr()
     err = [line for line in captured.err.splitlines() if line.strip()]
     assert len(err) == 1 and "no_floor.csv" in err[0] and "--extend-to" in err[0]
@@ -163,8 +224,19 @@ def test_extend_to_bottom_without_a_bottom_depth_is_an_error_of_that_cast(tmp_pa
 
 
 def test_summary_table_keeps_assumptions_short(capsys):
-    assert main(["build", str(DEMO / "xbt_drop.csv"), "--extend-to", "bottom",
-                 "--reference", str(DEMO / "deep_ocean_ctd.csv")]) == 0
+    assert (
+        main(
+            [
+                "build",
+                str(DEMO / "xbt_drop.csv"),
+                "--extend-to",
+                "bottom",
+                "--reference",
+                str(DEMO / "deep_ocean_ctd.csv"),
+            ]
+        )
+        == 0
+    )
     out = capsys.readouterr().out
     row = next(line for line in out.splitlines() if line.startswith("xbt_drop.csv"))
     assert "salinity assumed" in row and "fall rate hanawa1995" in row
@@ -176,9 +248,11 @@ def test_max_gap_reaches_the_profile(tmp_path, capsys):
     # a dense cast (1 m) with its samples from 40 to 70 m lost (invented, synthetic)
     z = [float(d) for d in range(1, 120) if not 40 <= d <= 70]
     lossy = tmp_path / "lossy.csv"
-    lossy.write_text("# synthetic test cast\n# latitude: 44.0\n# longitude: -9.0\n"
-                     "depth [m],temperature [degC],salinity\n"
-                     + "".join(f"{d},{15 - 0.05 * d:.3f},35.0\n" for d in z))
+    lossy.write_text(
+        "# synthetic test cast\n# latitude: 44.0\n# longitude: -9.0\n"
+        "depth [m],temperature [degC],salinity\n"
+        + "".join(f"{d},{15 - 0.05 * d:.3f},35.0\n" for d in z)
+    )
     for option, unfilled in (("auto", True), ("all", False), ("40", False), ("10", True)):
         out = tmp_path / option
         assert main(["build", str(lossy), "--max-gap", option, "--out", str(out)]) == 0

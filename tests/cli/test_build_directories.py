@@ -3,10 +3,9 @@
 import json
 
 import pytest
+from _cli_helpers import DEMO
 
 import seaprofile.cli as cli
-
-from _cli_helpers import DEMO
 
 
 @pytest.fixture
@@ -31,8 +30,7 @@ def test_build_dot_names_every_cast(folder, capsys, monkeypatch):
     assert cli.main(["build", ".", "--out", "profiles", "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
     assert [r["cast"] for r in out["casts"]] == ["VS31-S04", "VS31-W02"]
-    assert sorted(p.name for p in (folder / "profiles").iterdir()) == ["VS31-S04.nc",
-                                                                       "VS31-W02.nc"]
+    assert sorted(p.name for p in (folder / "profiles").iterdir()) == ["VS31-S04.nc", "VS31-W02.nc"]
 
 
 def test_directory_without_cast_files_reported_clearly(tmp_path, capsys):

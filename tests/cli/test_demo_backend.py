@@ -15,14 +15,15 @@ import sys
 import matplotlib
 matplotlib.use("svg")
 import seaprofile.cli
-rc = seaprofile.cli.main(["demo", "--out", {str(tmp_path / 'demo')!r}, "--casts", {str(DEMO)!r}])
+rc = seaprofile.cli.main(["demo", "--out", {str(tmp_path / "demo")!r}, "--casts", {str(DEMO)!r}])
 assert rc == 0, rc
 print(matplotlib.get_backend())
 pyplot = sys.modules.get("matplotlib.pyplot")
 print(len(pyplot.get_fignums()) if pyplot else "no pyplot")
 """
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          cwd=ROOT, timeout=600)
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=600
+    )
     assert done.returncode == 0, done.stderr
     backend, figures = done.stdout.strip().splitlines()[-2:]
     assert backend == "svg"

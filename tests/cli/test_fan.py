@@ -28,8 +28,12 @@ def make_profile(z, c, lat=44.0, lon=-9.6, pid="p1", bottom=None):
         attrs["bottom_depth"] = float(bottom)
     return xr.Dataset(
         {"sound_speed": ("depth", np.asarray(c, float), _cf.attrs_for("sound_speed"))},
-        coords={"depth": ("depth", np.asarray(z, float), _cf.attrs_for("depth")),
-                "latitude": float(lat), "longitude": float(lon), "profile_id": pid},
+        coords={
+            "depth": ("depth", np.asarray(z, float), _cf.attrs_for("depth")),
+            "latitude": float(lat),
+            "longitude": float(lon),
+            "profile_id": pid,
+        },
         attrs=attrs,
     )
 
@@ -40,9 +44,14 @@ def write_raw_cast(path, lat=44.0, lon=-9.6, bottom=160.0, seed=1):
     p = np.arange(1.0, 150.0, 0.5)
     t = 12.0 + 5.0 / (1.0 + np.exp((p - 35.0) / 4.0)) + rng.normal(0, 0.002, p.size)
     s = 35.3 + 0.002 * p / 150 + rng.normal(0, 0.001, p.size)
-    lines = ["# note: SYNTHETIC test cast", "# instrument: ctd", f"# latitude: {lat}",
-             f"# longitude: {lon}", f"# bottom_depth: {bottom}",
-             "pressure [dbar],temperature [degC],salinity [PSS-78]"]
+    lines = [
+        "# note: SYNTHETIC test cast",
+        "# instrument: ctd",
+        f"# latitude: {lat}",
+        f"# longitude: {lon}",
+        f"# bottom_depth: {bottom}",
+        "pressure [dbar],temperature [degC],salinity [PSS-78]",
+    ]
     lines += [f"{a:.2f},{b:.4f},{c:.4f}" for a, b, c in zip(p, t, s)]
     path.write_text("\n".join(lines) + "\n")
     return path
@@ -64,8 +73,25 @@ def _one_line_error(capsys):
 def test_raw_cast_summary_and_outputs(main, tmp_path, capsys):
     cast = write_raw_cast(tmp_path / "cast.csv")
     out_nc, png = tmp_path / "rays.nc", tmp_path / "fan.png"
-    rc = main(["fan", str(cast), "--source-depth", "30", "--angles", "-10", "10", "--rays", "21",
-               "--range", "5km", "--out", str(out_nc), "--plot", str(png)])
+    rc = main(
+        [
+            "fan",
+            str(cast),
+            "--source-depth",
+            "30",
+            "--angles",
+            "-10",
+            "10",
+            "--rays",
+            "21",
+            "--range",
+            "5km",
+            "--out",
+            str(out_nc),
+            "--plot",
+            str(png),
+        ]
+    )
     out = capsys.readouterr().out
     assert rc == 0
     assert "raw cast, built with the default settings" in out
@@ -85,23 +111,62 @@ def test_sound_speed_probe_cast_with_depth_column_is_built(main, tmp_path, capsy
     rng = np.random.default_rng(3)
     z = np.arange(1.0, 120.0, 1.0)
     c = 1510.0 - 0.05 * z + rng.normal(0, 0.01, z.size)
-    lines = ["# note: SYNTHETIC test cast", "# instrument: svp", "# latitude: 44.0",
-             "# longitude: -9.6", "depth [m],sound speed [m/s]"]
+    lines = [
+        "# note: SYNTHETIC test cast",
+        "# instrument: svp",
+        "# latitude: 44.0",
+        "# longitude: -9.6",
+        "depth [m],sound speed [m/s]",
+    ]
     lines += [f"{a:.2f},{b:.3f}" for a, b in zip(z, c)]
     path = tmp_path / "probe.csv"
     path.write_text("\n".join(lines) + "\n")
-    assert main(["fan", str(path), "--source-depth", "10", "--angles", "-2", "2", "--rays", "3",
-                 "--range", "1km",
-                 "--json"]) == 0
+    assert (
+        main(
+            [
+                "fan",
+                str(path),
+                "--source-depth",
+                "10",
+                "--angles",
+                "-2",
+                "2",
+                "--rays",
+                "3",
+                "--range",
+                "1km",
+                "--json",
+            ]
+        )
+        == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     assert doc["input"].startswith("raw cast, built with the default settings")
 
 
 def test_uniform_water_surface_reflection_geometry(main, uniform_nc, tmp_path, capsys):
     out_nc = tmp_path / "rays.nc"
-    assert main(["fan", str(uniform_nc), "--source-depth", "50",
-                 "--angles", "-10", "10", "--rays", "2",
-                 "--range", "2km", "--out", str(out_nc), "--json"]) == 0
+    assert (
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--angles",
+                "-10",
+                "10",
+                "--rays",
+                "2",
+                "--range",
+                "2km",
+                "--out",
+                str(out_nc),
+                "--json",
+            ]
+        )
+        == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     assert doc["rays"] == 2 and doc["ended"] == {"range_reached": 2}
     fan = xr.load_dataset(out_nc)
@@ -118,9 +183,25 @@ def test_uniform_water_surface_reflection_geometry(main, uniform_nc, tmp_path, c
 
 
 def test_negative_angle_range_without_equals(main, uniform_nc, capsys):
-    assert main(["fan", str(uniform_nc), "--source-depth", "50",
-                 "--angles", "-5", "5", "--rays", "3",
-                 "--range", "1km", "--json"]) == 0
+    assert (
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--angles",
+                "-5",
+                "5",
+                "--rays",
+                "3",
+                "--range",
+                "1km",
+                "--json",
+            ]
+        )
+        == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     assert doc["launch_angles_deg"] == [-5.0, 5.0] and doc["rays"] == 3
 
@@ -128,8 +209,27 @@ def test_negative_angle_range_without_equals(main, uniform_nc, capsys):
 def test_built_profile_csv_and_bottom_option(main, tmp_path, capsys):
     path = tmp_path / "prof.csv"
     write(make_profile([0, 50, 300], [1510.0, 1495.0, 1500.0]), path)
-    assert main(["fan", str(path), "--source-depth", "20", "--bottom-depth", "250",
-                 "--angles", "-3", "3", "--rays", "7", "--range", "3000", "--json"]) == 0
+    assert (
+        main(
+            [
+                "fan",
+                str(path),
+                "--source-depth",
+                "20",
+                "--bottom-depth",
+                "250",
+                "--angles",
+                "-3",
+                "3",
+                "--rays",
+                "7",
+                "--range",
+                "3000",
+                "--json",
+            ]
+        )
+        == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     assert doc["input"].startswith("built profile")
     assert doc["environment"]["bottom_depth_at_source_m"] == 250.0
@@ -140,12 +240,40 @@ def test_section_directory_with_bathymetry_from_casts(main, tmp_path, capsys):
     folder = tmp_path / "line"
     folder.mkdir()
     for k in range(3):  # three casts 0.05 degree of latitude apart
-        write(make_profile([0, 40, 200], [1512.0 - k, 1500.0, 1497.0 + k], lat=44.0 + 0.05 * k,
-                           pid=f"c{k}", bottom=150.0 + 20 * k), folder / f"cast_{k}.nc")
+        write(
+            make_profile(
+                [0, 40, 200],
+                [1512.0 - k, 1500.0, 1497.0 + k],
+                lat=44.0 + 0.05 * k,
+                pid=f"c{k}",
+                bottom=150.0 + 20 * k,
+            ),
+            folder / f"cast_{k}.nc",
+        )
     png = tmp_path / "section.png"
-    assert main(["fan", str(folder), "--source-depth", "30", "--angles", "-4", "4", "--rays", "5",
-                 "--range", "6km", "--plot", str(png), "--shade", "reflections",
-                 "--json"]) == 0
+    assert (
+        main(
+            [
+                "fan",
+                str(folder),
+                "--source-depth",
+                "30",
+                "--angles",
+                "-4",
+                "4",
+                "--rays",
+                "5",
+                "--range",
+                "6km",
+                "--plot",
+                str(png),
+                "--shade",
+                "reflections",
+                "--json",
+            ]
+        )
+        == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     assert doc["environment"]["casts"] == 3
     assert doc["environment"]["range_dependent"] is True
@@ -157,11 +285,40 @@ def test_section_directory_with_bathymetry_from_casts(main, tmp_path, capsys):
 
 def test_one_file_of_several_profiles_is_a_section(main, tmp_path, capsys):
     path = tmp_path / "line.nc"
-    write([make_profile([0, 40, 200], [1510.0 + k, 1500.0, 1498.0], lat=44.0, lon=-9.6 + 0.05 * k,
-                        pid=f"c{k}") for k in range(2)], path)
-    assert main(["fan", str(path), "--source-depth", "30", "--angles", "-4", "4", "--rays", "3",
-                 "--range", "3km",
-                 "--bottom-depth", "180", "--json"]) == 0
+    write(
+        [
+            make_profile(
+                [0, 40, 200],
+                [1510.0 + k, 1500.0, 1498.0],
+                lat=44.0,
+                lon=-9.6 + 0.05 * k,
+                pid=f"c{k}",
+            )
+            for k in range(2)
+        ],
+        path,
+    )
+    assert (
+        main(
+            [
+                "fan",
+                str(path),
+                "--source-depth",
+                "30",
+                "--angles",
+                "-4",
+                "4",
+                "--rays",
+                "3",
+                "--range",
+                "3km",
+                "--bottom-depth",
+                "180",
+                "--json",
+            ]
+        )
+        == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     assert doc["environment"]["casts"] == 2
     assert doc["environment"]["bottom"] == "flat"
@@ -170,8 +327,13 @@ def test_one_file_of_several_profiles_is_a_section(main, tmp_path, capsys):
 
 def test_section_without_positions_is_refused(main, tmp_path, capsys):
     path = tmp_path / "nowhere.nc"
-    write([make_profile([0, 200], [1500.0, 1490.0], lat=np.nan, lon=np.nan, pid=f"c{k}")
-           for k in range(2)], path)
+    write(
+        [
+            make_profile([0, 200], [1500.0, 1490.0], lat=np.nan, lon=np.nan, pid=f"c{k}")
+            for k in range(2)
+        ],
+        path,
+    )
     assert main(["fan", str(path), "--source-depth", "30"]) == 2
     err = _one_line_error(capsys)
     assert "2 casts form a section" in err and "latitude/longitude" in err
@@ -180,9 +342,27 @@ def test_section_without_positions_is_refused(main, tmp_path, capsys):
 def test_bathymetry_file_in_km(main, uniform_nc, tmp_path, capsys):
     bathy = tmp_path / "bottom.txt"
     bathy.write_text("# invented track\nrange_km, depth_m\n0, 200\n2, 120\n")
-    assert main(["fan", str(uniform_nc), "--source-depth", "50",
-                 "--angles", "-2", "2", "--rays", "3",
-                 "--range", "2km", "--bathymetry", str(bathy), "--json"]) == 0
+    assert (
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--angles",
+                "-2",
+                "2",
+                "--rays",
+                "3",
+                "--range",
+                "2km",
+                "--bathymetry",
+                str(bathy),
+                "--json",
+            ]
+        )
+        == 0
+    )
     doc = json.loads(capsys.readouterr().out)
     assert doc["environment"]["bottom"] == "bathymetry"
     assert doc["environment"]["range_dependent"] is True
@@ -191,9 +371,21 @@ def test_bathymetry_file_in_km(main, uniform_nc, tmp_path, capsys):
 def test_existing_output_kept_unless_overwrite(main, uniform_nc, tmp_path, capsys):
     target = tmp_path / "rays.nc"
     target.write_text("keep me")
-    args = ["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-2", "2", "--rays", "3",
-            "--range", "1km",
-            "--out", str(target)]
+    args = [
+        "fan",
+        str(uniform_nc),
+        "--source-depth",
+        "50",
+        "--angles",
+        "-2",
+        "2",
+        "--rays",
+        "3",
+        "--range",
+        "1km",
+        "--out",
+        str(target),
+    ]
     assert main(args) == 2
     assert "--overwrite" in _one_line_error(capsys)
     assert target.read_text() == "keep me"
@@ -201,19 +393,22 @@ def test_existing_output_kept_unless_overwrite(main, uniform_nc, tmp_path, capsy
     assert xr.load_dataset(target).sizes["ray"] == 3
 
 
-@pytest.mark.parametrize("extra, words", [
-    (["--source-depth", "500"], "below the bottom"),
-    (["--source-depth", "50", "--angles", "-95", "95", "--rays", "11"], "--angles"),
-    (["--source-depth", "50", "--angles", "90", "90", "--rays", "1"], "--angles"),
-    (["--source-depth", "50", "--angles", "a", "b"], "--angles"),
-    (["--source-depth", "50", "--angles", "5", "-5"], "--angles"),
-    (["--source-depth", "50", "--rays", "0"], "--rays"),
-    (["--source-depth", "50", "--rays", "many"], "--rays"),
-    (["--source-depth", "50", "--angles", "-5", "5", "--rays", "1"], "--rays"),
-    (["--source-depth", "50", "--range", "far"], "--range"),
-    (["--source-depth", "-5"], "--source-depth"),
-    (["--source-depth", "50", "--bottom-depth", "-10"], "--bottom-depth"),
-])
+@pytest.mark.parametrize(
+    "extra, words",
+    [
+        (["--source-depth", "500"], "below the bottom"),
+        (["--source-depth", "50", "--angles", "-95", "95", "--rays", "11"], "--angles"),
+        (["--source-depth", "50", "--angles", "90", "90", "--rays", "1"], "--angles"),
+        (["--source-depth", "50", "--angles", "a", "b"], "--angles"),
+        (["--source-depth", "50", "--angles", "5", "-5"], "--angles"),
+        (["--source-depth", "50", "--rays", "0"], "--rays"),
+        (["--source-depth", "50", "--rays", "many"], "--rays"),
+        (["--source-depth", "50", "--angles", "-5", "5", "--rays", "1"], "--rays"),
+        (["--source-depth", "50", "--range", "far"], "--range"),
+        (["--source-depth", "-5"], "--source-depth"),
+        (["--source-depth", "50", "--bottom-depth", "-10"], "--bottom-depth"),
+    ],
+)
 def test_bad_input_one_line_exit_2(main, uniform_nc, capsys, extra, words):
     assert main(["fan", str(uniform_nc), "--range", "1km"] + extra) == 2
     assert words in _one_line_error(capsys)
@@ -241,8 +436,18 @@ def test_help_has_example_and_caution(main, capsys):
 def test_old_colon_angle_syntax_is_gone(main, uniform_nc, capsys):
     # argparse itself refuses one value for LOW HIGH: still one line, exit status 2
     with pytest.raises(SystemExit) as stop:
-        main(["fan", str(uniform_nc), "--source-depth", "50", "--angles", "-15:15:61",
-              "--range", "1km"])
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--angles",
+                "-15:15:61",
+                "--range",
+                "1km",
+            ]
+        )
     assert stop.value.code == 2
     assert "--angles" in _one_line_error(capsys)
 
@@ -250,8 +455,21 @@ def test_old_colon_angle_syntax_is_gone(main, uniform_nc, capsys):
 def test_bare_bathymetry_columns_refused(main, uniform_nc, tmp_path, capsys):
     bathy = tmp_path / "bottom.txt"
     bathy.write_text("0 200\n2 120\n")  # km or m? a file must say
-    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "2km",
-                 "--bathymetry", str(bathy)]) == 2
+    assert (
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--range",
+                "2km",
+                "--bathymetry",
+                str(bathy),
+            ]
+        )
+        == 2
+    )
     err = _one_line_error(capsys)
     assert "bottom.txt, line 1" in err and "range_km,depth_m" in err
 
@@ -259,16 +477,33 @@ def test_bare_bathymetry_columns_refused(main, uniform_nc, tmp_path, capsys):
 def test_reading_options_on_raw_casts(main, tmp_path, capsys):
     from _cli_helpers import DEMO, RENAMED_OPTIONS, rewrite_cast
 
-    renamed = rewrite_cast(DEMO / "shelf_summer_ctd.csv", tmp_path / "renamed.csv",
-                           header="col_a,col_b,col_c", pressure_scale=10.0)
-    argv = ["fan", str(renamed), "--source-depth", "20", "--angles", "-3", "3", "--rays", "5",
-            "--range", "2km", "--json"]
+    renamed = rewrite_cast(
+        DEMO / "shelf_summer_ctd.csv",
+        tmp_path / "renamed.csv",
+        header="col_a,col_b,col_c",
+        pressure_scale=10.0,
+    )
+    argv = [
+        "fan",
+        str(renamed),
+        "--source-depth",
+        "20",
+        "--angles",
+        "-3",
+        "3",
+        "--rays",
+        "5",
+        "--range",
+        "2km",
+        "--json",
+    ]
     assert main(argv) == 2
     assert "--columns" in _one_line_error(capsys)
     assert main(argv + RENAMED_OPTIONS) == 0
     assert json.loads(capsys.readouterr().out)["rays"] == 5
-    unplaced = rewrite_cast(DEMO / "shelf_summer_ctd.csv", tmp_path / "unplaced.csv",
-                            drop=("latitude", "longitude"))
+    unplaced = rewrite_cast(
+        DEMO / "shelf_summer_ctd.csv", tmp_path / "unplaced.csv", drop=("latitude", "longitude")
+    )
     argv[1] = str(unplaced)
     assert main(argv) == 2
     assert "latitude" in _one_line_error(capsys)
@@ -277,27 +512,84 @@ def test_reading_options_on_raw_casts(main, tmp_path, capsys):
 
 def test_unknown_figure_suffix_refused_before_any_work(main, uniform_nc, tmp_path, capsys):
     out_nc = tmp_path / "rays.nc"
-    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "1km",
-                 "--out", str(out_nc), "--plot", str(tmp_path / "fan.xyz")]) == 2
+    assert (
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--range",
+                "1km",
+                "--out",
+                str(out_nc),
+                "--plot",
+                str(tmp_path / "fan.xyz"),
+            ]
+        )
+        == 2
+    )
     err = _one_line_error(capsys)
     assert "--plot" in err and ".png" in err
     assert not out_nc.exists()
 
 
 def test_tiny_range_step_refused_with_the_memory(main, uniform_nc, capsys):
-    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "40km",
-                 "--range-step", "0.001"]) == 2
+    assert (
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--range",
+                "40km",
+                "--range-step",
+                "0.001",
+            ]
+        )
+        == 2
+    )
     err = _one_line_error(capsys)
     assert "--range-step" in err and "GB" in err and "memory" in err
 
 
 def test_outputs_never_over_inputs(main, uniform_nc, tmp_path, capsys):
     before = uniform_nc.read_bytes()
-    assert main(["fan", str(uniform_nc), "--source-depth", "50", "--range", "1km",
-                 "--out", str(uniform_nc), "--overwrite"]) == 2
+    assert (
+        main(
+            [
+                "fan",
+                str(uniform_nc),
+                "--source-depth",
+                "50",
+                "--range",
+                "1km",
+                "--out",
+                str(uniform_nc),
+                "--overwrite",
+            ]
+        )
+        == 2
+    )
     assert "input" in _one_line_error(capsys)
-    assert main(["fan", str(tmp_path), "--source-depth", "50", "--range", "1km",
-                 "--plot", str(uniform_nc.with_suffix(".png")), "--out",
-                 str(tmp_path / "uniform.nc"), "--overwrite"]) == 2
+    assert (
+        main(
+            [
+                "fan",
+                str(tmp_path),
+                "--source-depth",
+                "50",
+                "--range",
+                "1km",
+                "--plot",
+                str(uniform_nc.with_suffix(".png")),
+                "--out",
+                str(tmp_path / "uniform.nc"),
+                "--overwrite",
+            ]
+        )
+        == 2
+    )
     assert "--out" in _one_line_error(capsys)
     assert uniform_nc.read_bytes() == before

@@ -3,10 +3,9 @@
 import json
 
 import pytest
+from _cli_helpers import DEMO, RENAMED_OPTIONS, one_line_error
 
 from seaprofile.cli import main
-
-from _cli_helpers import DEMO, RENAMED_OPTIONS, one_line_error
 
 
 def test_column_mapping_and_units_like_build(renamed_cast, capsys):
@@ -32,8 +31,19 @@ def test_bad_column_mapping_names_the_option(capsys):
 def test_source_below_the_bottom_is_refused(capsys):
     assert main(["inspect", str(DEMO / "shelf_summer_ctd.csv"), "--source-depth", "500"]) == 2
     assert "--source-depth" in one_line_error(capsys)  # the cast's own bottom is 120 m
-    assert main(["inspect", str(DEMO / "deep_ocean_ctd.csv"), "--source-depth", "300",
-                 "--bottom-depth", "200"]) == 2
+    assert (
+        main(
+            [
+                "inspect",
+                str(DEMO / "deep_ocean_ctd.csv"),
+                "--source-depth",
+                "300",
+                "--bottom-depth",
+                "200",
+            ]
+        )
+        == 2
+    )
     assert "below the bottom" in one_line_error(capsys)
     assert main(["inspect", str(DEMO / "shelf_summer_ctd.csv"), "--bottom-depth", "-3"]) == 2
     assert "--bottom-depth" in one_line_error(capsys)
@@ -53,8 +63,9 @@ def test_latitude_alone_gives_usable_diagnostics(unplaced_cast, tmp_path, capsys
 
 
 def test_longitude_option(unplaced_cast, capsys):
-    assert main(["inspect", str(unplaced_cast), "--latitude", "54", "--longitude", "3",
-                 "--json"]) == 0
+    assert (
+        main(["inspect", str(unplaced_cast), "--latitude", "54", "--longitude", "3", "--json"]) == 0
+    )
     assert json.loads(capsys.readouterr().out)["mixed_layer_depth_density"] is not None
     assert main(["inspect", str(unplaced_cast), "--latitude", "54", "--longitude", "400"]) == 2
     assert "--longitude" in one_line_error(capsys)

@@ -26,11 +26,18 @@ def speed_only(pid="VS31-P02", n=150):
     """A synthetic speed-only Profile (invented station name)."""
     z = np.arange(0.0, float(n))
     return xr.Dataset(
-        {"sound_speed": ("depth", 1505.0 - 0.03 * z, _cf.attrs_for("sound_speed")),
-         "sound_speed_qc": ("depth", np.ones(z.size, np.int8), _cf.flag_attrs("sound_speed"))},
-        coords={"depth": ("depth", z, _cf.attrs_for("depth")), "latitude": 44.0,
-                "longitude": -9.6, "profile_id": pid},
-        attrs=_cf.base_attrs(featureType="profile", cast_name=pid, equation="measured"))
+        {
+            "sound_speed": ("depth", 1505.0 - 0.03 * z, _cf.attrs_for("sound_speed")),
+            "sound_speed_qc": ("depth", np.ones(z.size, np.int8), _cf.flag_attrs("sound_speed")),
+        },
+        coords={
+            "depth": ("depth", z, _cf.attrs_for("depth")),
+            "latitude": 44.0,
+            "longitude": -9.6,
+            "profile_id": pid,
+        },
+        attrs=_cf.base_attrs(featureType="profile", cast_name=pid, equation="measured"),
+    )
 
 
 def _one_line_error(capsys):
@@ -51,15 +58,22 @@ def test_registered_and_help_has_example_and_caution(capsys):
 def test_example_runs_as_written(tmp_path, monkeypatch, capsys):
     (tmp_path / "demo_casts").symlink_to(REPO / "demo_casts")
     monkeypatch.chdir(tmp_path)
-    commands = [line.strip() for line in plot_cmd.EXAMPLE.splitlines()
-                if line.strip().startswith("seaprofile ")]
+    commands = [
+        line.strip()
+        for line in plot_cmd.EXAMPLE.splitlines()
+        if line.strip().startswith("seaprofile ")
+    ]
     assert len(commands) >= 2
     for command in commands:
         argv = shlex.split(command)[1:]
         assert main(argv) == 0, capsys.readouterr().err
         target = tmp_path / argv[argv.index("--out") + 1]
         head = target.read_bytes()[:64]
-        assert head.startswith(PNG) if target.suffix == ".png" else b"<svg" in target.read_bytes()[:400]
+        assert (
+            head.startswith(PNG)
+            if target.suffix == ".png"
+            else b"<svg" in target.read_bytes()[:400]
+        )
     out = capsys.readouterr().out
     assert "Caution" in out and "raw cast" in out
 
@@ -125,12 +139,15 @@ def test_file_of_several_profiles_needs_a_name(tmp_path, capsys, drawn):
     assert "--name" in _one_line_error(capsys)
 
 
-@pytest.mark.parametrize("extra, words", [
-    (["--upper-panel", "deep"], "--upper-panel"),
-    (["--upper-panel", "-50"], "--upper-panel"),
-    (["--bottom-depth", "-3"], "--bottom-depth"),
-    (["--dpi", "0"], "--dpi"),
-])
+@pytest.mark.parametrize(
+    "extra, words",
+    [
+        (["--upper-panel", "deep"], "--upper-panel"),
+        (["--upper-panel", "-50"], "--upper-panel"),
+        (["--bottom-depth", "-3"], "--bottom-depth"),
+        (["--dpi", "0"], "--dpi"),
+    ],
+)
 def test_bad_options_name_themselves(tmp_path, capsys, extra, words):
     src = tmp_path / "p.nc"
     write(speed_only(), src)

@@ -6,14 +6,20 @@ import re
 from pathlib import Path
 
 import pytest
+from _cli_helpers import DEMO, one_line_error
 
 import seaprofile.cli as cli
 from seaprofile.cli._options import join_negative_values
 
-from _cli_helpers import DEMO, one_line_error
-
-READING = ("--columns", "--units", "--latitude", "--longitude", "--instrument", "--salinity",
-           "--fall-rate")
+READING = (
+    "--columns",
+    "--units",
+    "--latitude",
+    "--longitude",
+    "--instrument",
+    "--salinity",
+    "--fall-rate",
+)
 
 
 def _help(capsys, command):
@@ -41,8 +47,9 @@ def test_expendable_probe_drawn_and_inspected_with_its_own_fall_rate(tmp_path, c
     # Hanawa et al. (1995), Deep-Sea Res. I 42, T-7: z = 6.691 t - 2.25e-3 t^2 -> 759.4 m
     assert cli.main(["plot", str(xbt), "--out", str(tmp_path / "a.png")]) == 0
     # a fall rate of the user's, depth = A t - B t^2 with A = 6.0 m/s, B = 0: 709.2 m
-    assert cli.main(["plot", str(xbt), "--out", str(tmp_path / "b.png"),
-                     "--fall-rate", "6.0,0"]) == 0
+    assert (
+        cli.main(["plot", str(xbt), "--out", str(tmp_path / "b.png"), "--fall-rate", "6.0,0"]) == 0
+    )
     # 1 m bins: the deepest bin holds the deepest sample (bin centre within 1 m)
     assert abs(_deepest_drawn(drawn[0]) - 759.4) <= 1.0
     assert abs(_deepest_drawn(drawn[1]) - 709.2) <= 1.0
@@ -55,35 +62,76 @@ def test_salinity_and_instrument_reach_the_reader(capsys):
     xbt = str(DEMO / "xbt_drop.csv")
     speeds = []
     for salinity in ("35", "30"):
-        assert cli.main(["inspect", xbt, "--salinity", salinity, "--instrument", "xbt",
-                         "--json"]) == 0
+        assert (
+            cli.main(["inspect", xbt, "--salinity", salinity, "--instrument", "xbt", "--json"]) == 0
+        )
         speeds.append(json.loads(capsys.readouterr().out)["surface_sound_speed"])
     # Mackenzie (1981), J. Acoust. Soc. Am. 70, 807, eq. 1: the salinity terms are
     # 1.340 (S - 35) - 1.025e-2 T (S - 35), so 5 units less salinity at the surface
     # temperature of the cast are (1.340 - 1.025e-2 T) * 5 m/s slower. The profile uses
     # chen_millero1977; the two equations differ by about 0.1 m/s here (from memory), so
     # 0.2 m/s.
-    t0 = float(DEMO.joinpath("xbt_drop.csv").read_text().split("[degC]\n")[1].split(",")[1]
-               .split()[0])
+    t0 = float(
+        DEMO.joinpath("xbt_drop.csv").read_text().split("[degC]\n")[1].split(",")[1].split()[0]
+    )
     assert speeds[0] - speeds[1] == pytest.approx((1.340 - 1.025e-2 * t0) * 5, abs=0.2)
 
 
 def test_columns_by_position(tmp_path, capsys, drawn):
     bare = tmp_path / "plan.txt"
     bare.write_text("0 1500\n200 1490\n")  # an invented planning profile, no header
-    assert cli.main(["plot", str(bare), "--out", str(tmp_path / "p.png"),
-                     "--columns", "1=depth,2=sound_speed"]) == 0
+    assert (
+        cli.main(
+            [
+                "plot",
+                str(bare),
+                "--out",
+                str(tmp_path / "p.png"),
+                "--columns",
+                "1=depth,2=sound_speed",
+            ]
+        )
+        == 0
+    )
     assert len(drawn) == 1 and "sound speed given directly" in drawn[0]._suptitle.get_text()
     capsys.readouterr()
-    assert cli.main(["plot", str(bare), "--out", str(tmp_path / "q.png"),
-                     "--columns", "0=depth,2=sound_speed"]) == 2
+    assert (
+        cli.main(
+            [
+                "plot",
+                str(bare),
+                "--out",
+                str(tmp_path / "q.png"),
+                "--columns",
+                "0=depth,2=sound_speed",
+            ]
+        )
+        == 2
+    )
     assert "--columns" in one_line_error(capsys)
 
 
 def test_plain_negative_numbers_still_parse(capsys):
     cast = str(DEMO / "shelf_summer_ctd.csv")
-    assert cli.main(["fan", cast, "--source-depth", "10", "--angles", "-15", "15", "--rays", "3",
-                     "--range", "1km", "--json"]) == 0
+    assert (
+        cli.main(
+            [
+                "fan",
+                cast,
+                "--source-depth",
+                "10",
+                "--angles",
+                "-15",
+                "15",
+                "--rays",
+                "3",
+                "--range",
+                "1km",
+                "--json",
+            ]
+        )
+        == 0
+    )
     assert json.loads(capsys.readouterr().out)["launch_angles_deg"] == [-15.0, 15.0]
     assert cli.main(["build", cast, "--extend-to", "-5"]) == 2
     assert "--extend-to" in one_line_error(capsys)
@@ -119,8 +167,7 @@ def test_dpi_default_shows_a_whole_number(capsys):
 
 def test_upper_panel_deeper_than_the_profile_is_refused(tmp_path, capsys, drawn):
     cast = str(DEMO / "shelf_summer_ctd.csv")  # synthetic, 1..120 m
-    assert cli.main(["plot", cast, "--out", str(tmp_path / "a.png"),
-                     "--upper-panel", "99999"]) == 2
+    assert cli.main(["plot", cast, "--out", str(tmp_path / "a.png"), "--upper-panel", "99999"]) == 2
     err = one_line_error(capsys)
     assert "--upper-panel" in err and "deepest" in err
     assert not (tmp_path / "a.png").exists()

@@ -24,8 +24,9 @@ _HEAD = "# cast_name: Fuzz (synthetic test data)\n# latitude: 44.5\n# longitude:
 
 
 def _rows(n, start=1.0, step=2.0):
-    return "".join(f"{start + step * k:.1f},{14.0 - 0.02 * k:.3f},{34.8 + 0.001 * k:.4f}\n"
-                   for k in range(n))
+    return "".join(
+        f"{start + step * k:.1f},{14.0 - 0.02 * k:.3f},{34.8 + 0.001 * k:.4f}\n" for k in range(n)
+    )
 
 
 GOOD = _HEAD + "PRES [dbar],Temp [degC],Sal\n" + _rows(40)
@@ -55,43 +56,78 @@ def _text_cases():
         "cr_only.csv": (GOOD.replace("\n", "\r").encode(), "cast"),
         "no_final_newline.csv": (GOOD.rstrip("\n").encode(), "cast"),
         "decimal_comma_semicolon.csv": (
-            (_HEAD + "PRES;TEMP;SAL\n" + _rows(30).replace(",", ";").replace(".", ","))
-            .encode(), "cast"),
+            (_HEAD + "PRES;TEMP;SAL\n" + _rows(30).replace(",", ";").replace(".", ",")).encode(),
+            "cast",
+        ),
         "decimal_comma_in_csv.csv": (b"pres,temp,sal\n1,12,5,35\n", ("error", 2, None)),
         "text_in_numeric.csv": ((GOOD + "90.0,warm,35.0\n").encode(), ("error", 45, "2")),
         "inf_value.csv": (b"pres,temp,sal\n1,inf,35\n2,9,35\n", ("error", 2, None)),
         "minus_nan.csv": (b"pres,temp,sal\n1,-nan,35\n2,9,35\n", ("error", 2, None)),
-        "missing_words.csv": ((_HEAD + "pres,temp,sal\n" + _rows(20) + "41,NA,35\n42,null,-\n"
-                               "43,,35\n").encode(), "either"),
-        "all_missing.csv": (_HEAD.encode() + b"pres,temp,sal\n" + b"nan,nan,nan\n" * 20,
-                            "either"),
+        "missing_words.csv": (
+            (_HEAD + "pres,temp,sal\n" + _rows(20) + "41,NA,35\n42,null,-\n43,,35\n").encode(),
+            "either",
+        ),
+        "all_missing.csv": (_HEAD.encode() + b"pres,temp,sal\n" + b"nan,nan,nan\n" * 20, "either"),
         "fill_minus9999_undeclared.csv": (
-            (_HEAD + "pres,temp,sal\n" + _rows(20) + "41,-9999,-9999\n").encode(), "either"),
+            (_HEAD + "pres,temp,sal\n" + _rows(20) + "41,-9999,-9999\n").encode(),
+            "either",
+        ),
         "fill_minus9999_declared.csv": (
-            (_HEAD + "# missing_value: -9999\npres,temp,sal\n" + _rows(20)
-             + "41,-9999,-9999\n").encode(), "cast"),
-        "negative_pressures.csv": ((_HEAD + "pres,temp,sal\n" + _rows(20, -30.0)).encode(),
-                                   "either"),
-        "absurd_values.csv": ((_HEAD + "pres,temp,sal\n" + _rows(10)
-                               + "1e9,500,-3\n1e300,-1e300,1e300\n").encode(), "either"),
-        "huge_negative_pressure.csv": ((_HEAD + "PRES [dbar],Temp [degC],Sal\n1,10,35\n"
-                                        "2,10,35.01\n-1e7,10,35\n3,9.9,35.02\n").encode(),
-                                       "cast"),
+            (
+                _HEAD + "# missing_value: -9999\npres,temp,sal\n" + _rows(20) + "41,-9999,-9999\n"
+            ).encode(),
+            "cast",
+        ),
+        "negative_pressures.csv": (
+            (_HEAD + "pres,temp,sal\n" + _rows(20, -30.0)).encode(),
+            "either",
+        ),
+        "absurd_values.csv": (
+            (_HEAD + "pres,temp,sal\n" + _rows(10) + "1e9,500,-3\n1e300,-1e300,1e300\n").encode(),
+            "either",
+        ),
+        "huge_negative_pressure.csv": (
+            (
+                _HEAD + "PRES [dbar],Temp [degC],Sal\n1,10,35\n"
+                "2,10,35.01\n-1e7,10,35\n3,9.9,35.02\n"
+            ).encode(),
+            "cast",
+        ),
         "huge_negative_pressure_probe.csv": (
-            (_HEAD + "PRES [dbar],SV[m/s]\n" + "0.0,0.0\n" * 7
-             + "0.0,1499.93\n-8980452.0,1499.92\n1.0,1499.91\n").encode(), "cast"),
-        "huge_depth.csv": ((_HEAD + "depth [m],Temp [degC],Sal\n0,12,35\n1,11.9,35.01\n"
-                            "4503599627370496.0,11.8,35.02\n").encode(), "cast"),
-        "duplicated_depths.csv": ((_HEAD + "depth [m],temp,sal\n"
-                                   + "".join(f"{5 * (k // 3)},{12 - k / 10},35\n"
-                                             for k in range(30))).encode(), "either"),
-        "non_monotonic_depths.csv": ((_HEAD + "depth [m],temp,sal\n"
-                                      + "".join(f"{(k * 37) % 50},{12 - k / 10},35\n"
-                                                for k in range(30))).encode(), "either"),
+            (
+                _HEAD
+                + "PRES [dbar],SV[m/s]\n"
+                + "0.0,0.0\n" * 7
+                + "0.0,1499.93\n-8980452.0,1499.92\n1.0,1499.91\n"
+            ).encode(),
+            "cast",
+        ),
+        "huge_depth.csv": (
+            (
+                _HEAD + "depth [m],Temp [degC],Sal\n0,12,35\n1,11.9,35.01\n"
+                "4503599627370496.0,11.8,35.02\n"
+            ).encode(),
+            "cast",
+        ),
+        "duplicated_depths.csv": (
+            (
+                _HEAD
+                + "depth [m],temp,sal\n"
+                + "".join(f"{5 * (k // 3)},{12 - k / 10},35\n" for k in range(30))
+            ).encode(),
+            "either",
+        ),
+        "non_monotonic_depths.csv": (
+            (
+                _HEAD
+                + "depth [m],temp,sal\n"
+                + "".join(f"{(k * 37) % 50},{12 - k / 10},35\n" for k in range(30))
+            ).encode(),
+            "either",
+        ),
         "one_sample.csv": ((_HEAD + "pres,temp,sal\n1,10,35\n").encode(), "cast"),
         "two_samples.csv": ((_HEAD + "pres,temp,sal\n1,10,35\n2,9.9,35.01\n").encode(), "cast"),
-        "constant_values.csv": ((_HEAD + "pres,temp,sal\n" + "5,10,35\n" * 20).encode(),
-                                "either"),
+        "constant_values.csv": ((_HEAD + "pres,temp,sal\n" + "5,10,35\n" * 20).encode(), "either"),
         "unknown_unit.csv": (b"pres [furlong],temp,sal\n1,2,3\n", ("error", 1, None)),
         "wrong_unit_kind.csv": (b"pres [degC],temp,sal\n1,2,3\n", ("error", 1, None)),
         "ragged.csv": ((GOOD + "90,10\n").encode(), ("error", 45, 3)),
@@ -104,46 +140,76 @@ def _text_cases():
         "bad_flag_value.csv": (b"pres,temp,sal,temp_qc\n1,2,3,77\n", ("error", 2, None)),
         "headerless_pair.speed.txt": (
             "".join(f"{z:.3f} {1500 - 0.02 * z:.3f}\n" for z in range(0, 200, 5)).encode(),
-            "cast"),
+            "cast",
+        ),
         "headerless_three.txt": (b"1 2 3\n4 5 6\n", ("error", 1, None)),
         "headerless_one_column.txt": (b"1\n2\n3\n", ("error", 1, None)),
         "comment_with_colons.csv": (
-            (_HEAD + "# Remark: winch stalled: twice\n# Operator said: fine\n"
-             + "pres,temp,sal\n" + _rows(30)).encode(), "cast"),
+            (
+                _HEAD
+                + "# Remark: winch stalled: twice\n# Operator said: fine\n"
+                + "pres,temp,sal\n"
+                + _rows(30)
+            ).encode(),
+            "cast",
+        ),
         "latitude_without_longitude.csv": (
-            ("# latitude: 60.1\npres,temp,sal\n" + _rows(30)).encode(), "cast"),
+            ("# latitude: 60.1\npres,temp,sal\n" + _rows(30)).encode(),
+            "cast",
+        ),
         "longitude_without_latitude.csv": (
-            ("# longitude: 5.5\npres,temp,sal\n" + _rows(30)).encode(), "cast"),
+            ("# longitude: 5.5\npres,temp,sal\n" + _rows(30)).encode(),
+            "cast",
+        ),
         "bad_latitude.csv": (b"# latitude: 123\npres,temp,sal\n1,2,3\n", ("error", 1, None)),
         "bad_time.csv": (b"# time: sometime soon\npres,temp,sal\n1,2,3\n", ("error", 1, None)),
-        "year_3000.csv": ((_HEAD + "# time: 3000-01-01T00:00:00Z\npres,temp,sal\n"
-                           + _rows(10)).encode(), ("error", 4, None)),
-        "year_1500.csv": ((_HEAD + "# time: 1500-01-01\npres,temp,sal\n"
-                           + _rows(10)).encode(), ("error", 4, None)),
-        "bad_bottom_depth.csv": (b"# bottom_depth: -5\npres,temp,sal\n1,2,3\n",
-                                 ("error", 1, None)),
-        "xbt_no_depth.csv": (("# instrument: xbt\n" + _HEAD + "time [s],temp\n"
-                              + "".join(f"{t / 10:.1f},{15 - t / 50:.3f}\n"
-                                        for t in range(100))).encode(), "either"),
+        "year_3000.csv": (
+            (_HEAD + "# time: 3000-01-01T00:00:00Z\npres,temp,sal\n" + _rows(10)).encode(),
+            ("error", 4, None),
+        ),
+        "year_1500.csv": (
+            (_HEAD + "# time: 1500-01-01\npres,temp,sal\n" + _rows(10)).encode(),
+            ("error", 4, None),
+        ),
+        "bad_bottom_depth.csv": (b"# bottom_depth: -5\npres,temp,sal\n1,2,3\n", ("error", 1, None)),
+        "xbt_no_depth.csv": (
+            (
+                "# instrument: xbt\n"
+                + _HEAD
+                + "time [s],temp\n"
+                + "".join(f"{t / 10:.1f},{15 - t / 50:.3f}\n" for t in range(100))
+            ).encode(),
+            "either",
+        ),
         "svp_no_vertical.csv": (b"sound speed [m/s]\n1500\n1499\n", "error"),
         "long_line.csv": (b"pres,temp,sal\n" + b"1," * 3000 + b"\n", "error"),
-        "whitespace_delimited.txt": (GOOD.replace(",", " ").replace("PRES [dbar]", "PRES[dbar]")
-                                     .replace("Temp [degC]", "Temp[degC]").encode(), "cast"),
+        "whitespace_delimited.txt": (
+            GOOD.replace(",", " ")
+            .replace("PRES [dbar]", "PRES[dbar]")
+            .replace("Temp [degC]", "Temp[degC]")
+            .encode(),
+            "cast",
+        ),
         "tab_delimited.tsv": (GOOD.replace(",", "\t").encode(), "cast"),
-        "profile_dataset_csv.csv": (b"# dataset: profile\ndepth [m],sound_speed [m/s]\n"
-                                    b"0,1500\n1,1499\n", "error"),
+        "profile_dataset_csv.csv": (
+            b"# dataset: profile\ndepth [m],sound_speed [m/s]\n0,1500\n1,1499\n",
+            "error",
+        ),
     }
     return c
 
 
 def _json_cases():
-    good_cast = {"kind": "cast", "dimension": "sample", "attributes": {"instrument": "ctd"},
-                 "coordinates": {"latitude": {"dims": [], "dtype": "f8", "attributes": {},
-                                              "values": 1.0}},
-                 "variables": {"pressure": {"dims": ["sample"], "dtype": "f8",
-                                            "attributes": {}, "values": [1.0, 2.0]},
-                               "pressure_qc": {"dims": ["sample"], "dtype": "i1",
-                                               "attributes": {}, "values": [0, 0]}}}
+    good_cast = {
+        "kind": "cast",
+        "dimension": "sample",
+        "attributes": {"instrument": "ctd"},
+        "coordinates": {"latitude": {"dims": [], "dtype": "f8", "attributes": {}, "values": 1.0}},
+        "variables": {
+            "pressure": {"dims": ["sample"], "dtype": "f8", "attributes": {}, "values": [1.0, 2.0]},
+            "pressure_qc": {"dims": ["sample"], "dtype": "i1", "attributes": {}, "values": [0, 0]},
+        },
+    }
     doc = {"format": "seaprofile", "format_version": 1}
 
     def j(obj):
@@ -157,14 +223,20 @@ def _json_cases():
     two_d["variables"]["pressure"]["dims"] = ["sample", "x"]
     two_d["variables"]["pressure"]["values"] = [[1.0], [2.0]]
     far = json.loads(json.dumps(good_cast))
-    far["coordinates"]["time"] = {"dims": [], "dtype": "M8[ns]", "attributes": {},
-                                  "values": "3000-01-01T00:00:00Z"}
+    far["coordinates"]["time"] = {
+        "dims": [],
+        "dtype": "M8[ns]",
+        "attributes": {},
+        "values": "3000-01-01T00:00:00Z",
+    }
     return {
         "json_not_seaprofile.json": (b'{"hello": "world"}', "error"),
         "json_list_top.json": (b"[1, 2, 3]", "error"),
         "json_truncated.json": (j({**doc, "dataset": good_cast})[:60], ("error", 1, None)),
-        "json_deep_nesting.json": (b'{"format": "seaprofile", "dataset": ' + b"[" * 5000
-                                   + b"]" * 5000 + b"}", "error"),
+        "json_deep_nesting.json": (
+            b'{"format": "seaprofile", "dataset": ' + b"[" * 5000 + b"]" * 5000 + b"}",
+            "error",
+        ),
         "json_datasets_not_list.json": (j({**doc, "datasets": 7}), "error"),
         "json_empty_datasets.json": (j({**doc, "datasets": []}), "error"),
         "json_dataset_is_string.json": (j({**doc, "dataset": "cast"}), "error"),
@@ -173,8 +245,7 @@ def _json_cases():
         "json_year_3000.json": (j({**doc, "dataset": far}), "error"),
         "json_no_flags.json": (j({**doc, "dataset": no_flags}), "error"),
         "json_missing_keys.json": (j({**doc, "dataset": {"dimension": "sample"}}), "error"),
-        "json_utf16.json": (json.dumps({**doc, "dataset": good_cast}).encode("utf-16"),
-                            "cast"),
+        "json_utf16.json": (json.dumps({**doc, "dataset": good_cast}).encode("utf-16"), "cast"),
         "json_nan_literal.json": (b'{"format": "seaprofile", "dataset": NaN}', "error"),
     }
 
@@ -297,13 +368,21 @@ def expectations():
 #: netCDF corpus files and what the readers must do with them (kept in step with
 #: :func:`_netcdf_cases`; checked by the tests)
 NETCDF = {
-    "nc_zero_profiles.nc": "error", "nc_no_attributes.nc": "error",
-    "nc_no_variables.nc": "error", "nc_two_dimensional.nc": "error",
-    "nc_row_sizes_wrong.nc": "error", "nc_row_sizes_negative.nc": "error",
-    "nc_index_missing_dimension.nc": "error", "nc_mixed_dimensions.nc": "error",
-    "nc_bad_profile_attributes.nc": "error", "nc_year_3000.nc": "error",
-    "nc_text_data.nc": "error", "nc_classic_good.nc": "cast", "nc_truncated.nc": "error",
-    "nc_magic_only.nc": "error", "hdf5_magic_junk.nc": "error",
+    "nc_zero_profiles.nc": "error",
+    "nc_no_attributes.nc": "error",
+    "nc_no_variables.nc": "error",
+    "nc_two_dimensional.nc": "error",
+    "nc_row_sizes_wrong.nc": "error",
+    "nc_row_sizes_negative.nc": "error",
+    "nc_index_missing_dimension.nc": "error",
+    "nc_mixed_dimensions.nc": "error",
+    "nc_bad_profile_attributes.nc": "error",
+    "nc_year_3000.nc": "error",
+    "nc_text_data.nc": "error",
+    "nc_classic_good.nc": "cast",
+    "nc_truncated.nc": "error",
+    "nc_magic_only.nc": "error",
+    "hdf5_magic_junk.nc": "error",
 }
 
 

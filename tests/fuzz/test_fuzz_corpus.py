@@ -17,10 +17,10 @@ import shutil
 import stat
 from pathlib import Path
 
+import make_corpus
 import numpy as np
 import pytest
 
-import make_corpus
 from seaprofile import InputFileError, SeaprofileError
 from seaprofile.casts.read import read_cast, read_casts, read_profile
 from seaprofile.cli import main
@@ -41,8 +41,11 @@ def sha(path):
 
 
 def _case(name):
-    marks = [pytest.mark.xfail(strict=True, reason=OTHERS_DEFECTS[name])] \
-        if name in OTHERS_DEFECTS else []
+    marks = (
+        [pytest.mark.xfail(strict=True, reason=OTHERS_DEFECTS[name])]
+        if name in OTHERS_DEFECTS
+        else []
+    )
     return pytest.param(name, marks=marks, id=name)
 
 
@@ -136,8 +139,7 @@ def test_files_that_are_not_regular(kind, tmp_path, capsys):
 
 def test_cell_beyond_the_csv_field_limit(tmp_path, capsys):
     path = tmp_path / "huge_cell.csv"
-    path.write_text("pres,temp,sal\n1,2,3\n4,\"" + "5" * (csv.field_size_limit() + 1)
-                    + "\",6\n")
+    path.write_text('pres,temp,sal\n1,2,3\n4,"' + "5" * (csv.field_size_limit() + 1) + '",6\n')
     with pytest.raises(InputFileError) as info:
         read_cast(path)
     assert info.value.line == 3
@@ -169,7 +171,11 @@ def test_build_failure_exit_status_is_two(tmp_path, capsys):
 def test_readers_raise_only_input_errors_for_bad_arguments(tmp_path):
     path = tmp_path / "c.csv"
     path.write_text("pres,temp,sal\n1,2,3\n")
-    for bad in ({"columns": "0=depth"}, {"columns": 5}, {"units": "pressure=furlong"},
-                {"delimiter": "|"}):
+    for bad in (
+        {"columns": "0=depth"},
+        {"columns": 5},
+        {"units": "pressure=furlong"},
+        {"delimiter": "|"},
+    ):
         with pytest.raises(SeaprofileError):
             read_cast(path, **bad)

@@ -16,21 +16,50 @@ from hypothesis import strategies as st
 
 from seaprofile import InputFileError
 from seaprofile.casts.model import make_cast
-from seaprofile.casts.write import dataset_to_dict
 from seaprofile.casts.read import read_casts
+from seaprofile.casts.write import dataset_to_dict
 from seaprofile.cli import main
 
 _P = np.linspace(1.0, 100.0, 20)  # an invented, synthetic cast
-BASE = {"format": "seaprofile", "format_version": 1, "dataset": dataset_to_dict(
-    make_cast(pressure=_P, temperature=10 - _P / 50, salinity=35 + _P / 1e3, latitude=40.0))}
+BASE = {
+    "format": "seaprofile",
+    "format_version": 1,
+    "dataset": dataset_to_dict(
+        make_cast(pressure=_P, temperature=10 - _P / 50, salinity=35 + _P / 1e3, latitude=40.0)
+    ),
+}
 BASE = json.loads(json.dumps(BASE))
-VALUES = [None, 1, -1, 1.5, "x", [], {}, [1, 2], [[1]], True, "NaT", "3000-01-01", 1e308,
-          "i1", "M8[ns]", "O", "U3", ["sample"], ["depth"], "[1", "[]"]
+VALUES = [
+    None,
+    1,
+    -1,
+    1.5,
+    "x",
+    [],
+    {},
+    [1, 2],
+    [[1]],
+    True,
+    "NaT",
+    "3000-01-01",
+    1e308,
+    "i1",
+    "M8[ns]",
+    "O",
+    "U3",
+    ["sample"],
+    ["depth"],
+    "[1",
+    "[]",
+]
 
 
 def _paths(obj, prefix=()):
-    items = obj.items() if isinstance(obj, dict) else (
-        enumerate(obj) if isinstance(obj, list) and len(obj) < 5 else ())
+    items = (
+        obj.items()
+        if isinstance(obj, dict)
+        else (enumerate(obj) if isinstance(obj, list) and len(obj) < 5 else ())
+    )
     for key, value in items:
         yield prefix + (key,)
         yield from _paths(value, prefix + (key,))
@@ -57,8 +86,11 @@ def mutated(draw):
     return json.dumps(doc).encode()
 
 
-@settings(max_examples=60, deadline=None,
-          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+@settings(
+    max_examples=60,
+    deadline=None,
+    suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow],
+)
 @given(data=mutated())
 def test_mutated_json(tmp_path_factory, data):
     path = tmp_path_factory.mktemp("json", numbered=True) / "cast.json"

@@ -19,8 +19,17 @@ def munk(z):
     return 1500.0 * (1.0 + 0.00737 * (eta + np.exp(-eta) - 1.0))
 
 
-def make_profile(depth, *, temperature=None, salinity=None, sound=None, flags=None,
-                 latitude=45.0, longitude=-10.0, name="test cast"):
+def make_profile(
+    depth,
+    *,
+    temperature=None,
+    salinity=None,
+    sound=None,
+    flags=None,
+    latitude=45.0,
+    longitude=-10.0,
+    name="test cast",
+):
     """A Profile Dataset as described in DEVELOPERS.md ("The data model")."""
     z = np.asarray(depth, dtype=float)
     n = z.size
@@ -46,7 +55,11 @@ def make_profile(depth, *, temperature=None, salinity=None, sound=None, flags=No
         "profile_id": ((), name, {"cf_role": "profile_id"}),
     }
     est = z[q == _cf.ESTIMATED]
-    attrs = _cf.base_attrs(featureType="profile", equation="chen_millero1977",
-                           depth_method="unesco1983", cast_name=name,
-                           cast_max_depth=float(est.min() if est.size else z.max()))
+    attrs = _cf.base_attrs(
+        featureType="profile",
+        equation="chen_millero1977",
+        depth_method="unesco1983",
+        cast_name=name,
+        cast_max_depth=float(est.min() if est.size else z.max()),
+    )
     return xr.Dataset(data, coords=coords, attrs=attrs)

@@ -8,7 +8,6 @@ from scipy.optimize import brentq
 
 from seaprofile import layers
 
-
 # --- channels, critical depth, depth excess on the Munk profile -------------------------
 Z_MUNK = np.arange(0.0, 5001.0, 1.0)
 
@@ -34,8 +33,7 @@ def test_munk_critical_depth_and_depth_excess():
     assert layers.depth_excess(4000.0, got) < 0
     assert np.isnan(layers.depth_excess(5000.0, np.nan))  # was None: NaN is array-friendly
 
-    d = layers.describe(make_profile(Z_MUNK, sound=c), bottom_depth=5000.0,
-                        source_depth=300.0)
+    d = layers.describe(make_profile(Z_MUNK, sound=c), bottom_depth=5000.0, source_depth=300.0)
     assert d["channel_axis_depth"] == 1300.0
     assert d["critical_depth_surface"] == pytest.approx(expected, abs=0.01)
     assert d["depth_excess_surface"] == pytest.approx(5000.0 - expected, abs=0.01)

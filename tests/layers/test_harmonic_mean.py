@@ -11,8 +11,12 @@ from seaprofile import layers
 
 
 # --- harmonic mean ---------------------------------------------------------------------
-@given(c0=st.floats(1400.0, 1600.0), g=st.floats(-0.2, 0.2),
-       z1=st.floats(0.0, 400.0), dz=st.floats(0.5, 600.0))
+@given(
+    c0=st.floats(1400.0, 1600.0),
+    g=st.floats(-0.2, 0.2),
+    z1=st.floats(0.0, 400.0),
+    dz=st.floats(0.5, 600.0),
+)
 def test_harmonic_mean_linear_profile(c0, g, z1, dz):
     # Closed form for c = c0 + g z (textbook integral of 1/(c0 + g z)):
     # (z2 - z1) / integral(dz / c) = (z2 - z1) g / ln(c(z2) / c(z1)); c0 when g = 0.
@@ -37,17 +41,28 @@ def test_harmonic_mean_against_quadrature_and_vectorised():
     bottoms = np.array([10.0, 333.0, 1300.0, 4444.4])
     got = layers.harmonic_mean_sound_speed(c, z, 5.0, bottoms)
     for b, value in zip(bottoms, got):
-        integral, _ = quad(lambda x: 1.0 / np.interp(x, z, c), 5.0, b, points=z[z < b],
-                           limit=200, epsabs=0, epsrel=1e-13)
+        integral, _ = quad(
+            lambda x: 1.0 / np.interp(x, z, c),
+            5.0,
+            b,
+            points=z[z < b],
+            limit=200,
+            epsabs=0,
+            epsrel=1e-13,
+        )
         assert value == pytest.approx((b - 5.0) / integral, rel=1e-10)
     # equal depths give the local speed; below the profile gives NaN
     assert layers.harmonic_mean_sound_speed(c, z, 100.0, 100.0) == pytest.approx(
-        np.interp(100.0, z, c))
+        np.interp(100.0, z, c)
+    )
     assert np.isnan(layers.harmonic_mean_sound_speed(c, z, 0.0, 6000.0))
 
 
-@given(st.lists(st.floats(1450.0, 1550.0), min_size=3, max_size=30),
-       st.floats(0.0, 1.0), st.floats(0.0, 1.0))
+@given(
+    st.lists(st.floats(1450.0, 1550.0), min_size=3, max_size=30),
+    st.floats(0.0, 1.0),
+    st.floats(0.0, 1.0),
+)
 def test_harmonic_mean_between_extremes(speeds, a, b):
     z = np.arange(len(speeds), dtype=float) * 7.0
     c = np.array(speeds)

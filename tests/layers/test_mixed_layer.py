@@ -116,7 +116,10 @@ def test_dataarray_and_dask_layer():
     lazy = layers.mixed_layer_depth(arr.chunk({"station": 2}))
     assert isinstance(lazy.data, da.Array)
     np.testing.assert_allclose(lazy.compute().values, hs + 2.0, atol=1e-9)
-    c = xr.DataArray(np.where(z <= 35, 1500 + 0.016 * z, 1500.56 - 0.1 * (z - 35)),
-                     dims="depth", coords={"depth": z})
+    c = xr.DataArray(
+        np.where(z <= 35, 1500 + 0.016 * z, 1500.56 - 0.1 * (z - 35)),
+        dims="depth",
+        coords={"depth": z},
+    )
     sld, speed = layers.sonic_layer_depth(c)  # xarray: (depth, speed) as for numpy
     assert float(sld) == 35.0 and float(speed) == pytest.approx(1500.56)

@@ -29,13 +29,15 @@ def test_describe_summer_shelf_profile():
     assert 0.010 < d["in_layer_gradient"] < 0.020
     assert d["below_layer_gradient"] < -0.3  # fitted over 50 m: thermocline and below
     assert d["duct_cutoff_frequency"] == pytest.approx(
-        layers.duct_cutoff_frequency(29.5, d["sonic_layer_sound_speed"]))
+        layers.duct_cutoff_frequency(29.5, d["sonic_layer_sound_speed"])
+    )
     # isothermal water below 51.7 m: pressure alone raises c by ~1.07 m/s to the bottom,
     # enough (>= 1 m/s) for a weak channel on the first isothermal bin; never regains c(0)
     assert d["channel_axis_depth"] == 52.5
     assert d["critical_depth_surface"] is None
     assert d["harmonic_mean_sound_speed"] == pytest.approx(
-        layers.harmonic_mean_sound_speed(prof.sound_speed.values, z, 4.0, 119.5))
+        layers.harmonic_mean_sound_speed(prof.sound_speed.values, z, 4.0, 119.5)
+    )
     json.dumps(d)  # JSON-friendly
     assert d["caution"] == _cf.CAUTION and d["units"]["duct_cutoff_frequency"] == "Hz"
 
@@ -71,8 +73,10 @@ def test_describe_dataset_attributes():
     z, t = _summer_shelf()
     ds = layers.describe_dataset(make_profile(z, temperature=t), bottom_depth=119.5)
     # CF standard name table: the criterion-specific mixed layer names
-    assert ds["mixed_layer_depth_temperature"].attrs["standard_name"] == \
-        "ocean_mixed_layer_thickness_defined_by_temperature"
+    assert (
+        ds["mixed_layer_depth_temperature"].attrs["standard_name"]
+        == "ocean_mixed_layer_thickness_defined_by_temperature"
+    )
     assert ds["duct_cutoff_frequency"].attrs["units"] == "Hz"
     assert ds["bottom_depth"].attrs["standard_name"] == "sea_floor_depth_below_sea_surface"
     assert "describe" in ds.attrs["processing_steps"]

@@ -41,8 +41,10 @@ def drawn(fig):
 def tick_label_boxes(fig):
     """(axes, text, box) of every visible, non-empty tick label inside its axis' view."""
     renderer = drawn(fig)
-    return [(ax, label.get_text(), label.get_window_extent(renderer))
-            for ax, label, _ in _tick_labels(fig)]
+    return [
+        (ax, label.get_text(), label.get_window_extent(renderer))
+        for ax, label, _ in _tick_labels(fig)
+    ]
 
 
 def _tick_labels(fig):
@@ -64,9 +66,8 @@ def overlapping(boxes, pad=0.0):
     """Pairs of (name, box) items whose boxes intersect (touching edges do not count)."""
     pairs = []
     for i, (na, a) in enumerate(boxes):
-        for nb, b in boxes[i + 1:]:
-            if (a.x0 - pad < b.x1 and b.x0 < a.x1 + pad and
-                    a.y0 - pad < b.y1 and b.y0 < a.y1 + pad):
+        for nb, b in boxes[i + 1 :]:
+            if a.x0 - pad < b.x1 and b.x0 < a.x1 + pad and a.y0 - pad < b.y1 and b.y0 < a.y1 + pad:
                 pairs.append((na, nb))
     return pairs
 
@@ -84,8 +85,11 @@ def visible_texts(fig):
             for tick in axis.get_major_ticks() + axis.get_minor_ticks():
                 ticks.update((id(tick.label1), id(tick.label2)))
     shown = {id(label) for _, label, _ in _tick_labels(fig)}
-    return [t for t in fig.findobj(Text) if t.get_visible() and t.get_text().strip()
-            and (id(t) not in ticks or id(t) in shown)]
+    return [
+        t
+        for t in fig.findobj(Text)
+        if t.get_visible() and t.get_text().strip() and (id(t) not in ticks or id(t) in shown)
+    ]
 
 
 def texts_outside(fig, tolerance_px=1.0):
@@ -95,19 +99,29 @@ def texts_outside(fig, tolerance_px=1.0):
     out = []
     for t in visible_texts(fig):
         e = t.get_window_extent(renderer)
-        if (e.x0 < box.x0 - tolerance_px or e.x1 > box.x1 + tolerance_px or
-                e.y0 < box.y0 - tolerance_px or e.y1 > box.y1 + tolerance_px):
+        if (
+            e.x0 < box.x0 - tolerance_px
+            or e.x1 > box.x1 + tolerance_px
+            or e.y0 < box.y0 - tolerance_px
+            or e.y1 > box.y1 + tolerance_px
+        ):
             out.append(t.get_text())
     return out
 
 
 def texts_with_nan(fig):
     """Texts that print a missing number as the word nan (or NaT)."""
-    return [t.get_text() for t in visible_texts(fig)
-            if re.search(r"\bna[nt]\b", t.get_text(), flags=re.IGNORECASE)]
+    return [
+        t.get_text()
+        for t in visible_texts(fig)
+        if re.search(r"\bna[nt]\b", t.get_text(), flags=re.IGNORECASE)
+    ]
 
 
 def line_colours(ax):
     """Colours of the drawn (not marker-only) lines of ``ax``, alpha included."""
-    return [to_rgba(ln.get_color(), ln.get_alpha()) for ln in ax.get_lines()
-            if ln.get_linestyle() not in ("None", "none", "", " ") and ln.get_visible()]
+    return [
+        to_rgba(ln.get_color(), ln.get_alpha())
+        for ln in ax.get_lines()
+        if ln.get_linestyle() not in ("None", "none", "", " ") and ln.get_visible()
+    ]

@@ -4,18 +4,26 @@ that never overlap each other, the markers' panel title or the figure edge."""
 import numpy as np
 import pytest
 import xarray as xr
+from figure_checks import (
+    MIN_CONTRAST,
+    colliding_tick_labels,
+    contrast_on_white,
+    drawn,
+    overlapping,
+    texts_outside,
+)
 
-from figure_checks import (MIN_CONTRAST, colliding_tick_labels, contrast_on_white,
-                           drawn, overlapping, texts_outside)
 from seaprofile import SeaprofileError
 from seaprofile.plots.arrivals import KIND_COLOURS, plot_arrivals
 
 
 def crowded_arrivals():
     """Arrivals-shaped Dataset: 3 receivers; 12 arrivals within 40 ms at the second."""
-    t = [[20.87, 20.90, 20.95, 21.00, 23.78],
-         list(40.146 + np.linspace(0.0, 0.04, 12)) + [41.83],
-         [30.30, 30.32, 30.65, 30.68, 32.31]]
+    t = [
+        [20.87, 20.90, 20.95, 21.00, 23.78],
+        list(40.146 + np.linspace(0.0, 0.04, 12)) + [41.83],
+        [30.30, 30.32, 30.65, 30.68, 32.31],
+    ]
     n = [len(v) for v in t]
     rng = np.random.default_rng(4)
     total = sum(n)
@@ -83,9 +91,9 @@ def test_labels_follow_their_arrivals_in_time_order():
     assert np.all(np.diff(x) > 0)  # left to right, as the arrivals
     leaders = [ln for ln in ax.lines if ln.get_label() == "_leader"]
     starts = [ln.get_xdata()[0] for ln in leaders]
-    np.testing.assert_allclose(np.sort(starts),
-                               np.sort(crowded_arrivals()["travel_time"].values[5:18] - 40.146),
-                               atol=1e-9)
+    np.testing.assert_allclose(
+        np.sort(starts), np.sort(crowded_arrivals()["travel_time"].values[5:18] - 40.146), atol=1e-9
+    )
 
 
 def test_stem_colours_visible_on_white():

@@ -4,9 +4,14 @@ points, so that turning points are drawn round while every point stays on the ra
 import numpy as np
 import pytest
 
-from seaprofile.plots.rays import (DRAW_POINTS_PER_RAY, DRAW_POINTS_TOTAL,
-                                   MIN_DRAW_POINTS_PER_RAY, fan_for_drawing, plot_fan,
-                                   ray_segments)
+from seaprofile.plots.rays import (
+    DRAW_POINTS_PER_RAY,
+    DRAW_POINTS_TOTAL,
+    MIN_DRAW_POINTS_PER_RAY,
+    fan_for_drawing,
+    plot_fan,
+    ray_segments,
+)
 from seaprofile.propagation import Environment, trace_fan
 
 C0, G = 1500.0, 0.017  # m/s, 1/s: a constant sound-speed gradient (invented)
@@ -66,8 +71,13 @@ def test_event_points_are_kept_and_per_ray_results_unchanged(linear):
         assert np.isin(t_event, t_drawn).all()  # reflections and turning points included
         t = t_drawn[np.isfinite(t_drawn)]
         assert np.all(np.diff(t) >= 0)  # in order along the ray
-    for name in ("surface_reflections", "bottom_reflections", "turning_points", "end_reason",
-                 "launch_angle"):
+    for name in (
+        "surface_reflections",
+        "bottom_reflections",
+        "turning_points",
+        "end_reason",
+        "launch_angle",
+    ):
         np.testing.assert_array_equal(drawn[name].values, fan[name].values)
     assert drawn.attrs == fan.attrs
     fig = plot_fan(drawn, env)  # the figure takes it as it takes any RayFan

@@ -5,14 +5,19 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from figure_checks import (
+    MIN_CONTRAST,
+    colliding_tick_labels,
+    contrast_on_white,
+    line_colours,
+    texts_outside,
+)
 from matplotlib.collections import LineCollection
 
-from figure_checks import (MIN_CONTRAST, colliding_tick_labels, contrast_on_white,
-                           line_colours, texts_outside)
 from seaprofile.casts.read import read_casts
 from seaprofile.plots.rays import ANGLE_CMAP, REFLECTION_MAP, boundary_reflections, plot_fan
-from seaprofile.propagation import Environment, trace_fan
 from seaprofile.profile import build_profile
+from seaprofile.propagation import Environment, trace_fan
 from seaprofile.propagation.section import Section
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_casts"
@@ -44,8 +49,11 @@ def deep_fan():
 @pytest.fixture(scope="module")
 def section_fan():
     # a shelf section: every ray is reflected many times over 30 km in 200 m of water
-    sec = Section([0.0, 10_000.0, 20_000.0], [0.0, 40.0, 200.0],
-                  [[1512, 1500, 1497], [1510, 1499, 1497], [1508, 1498, 1497]])
+    sec = Section(
+        [0.0, 10_000.0, 20_000.0],
+        [0.0, 40.0, 200.0],
+        [[1512, 1500, 1497], [1510, 1499, 1497], [1508, 1498, 1497]],
+    )
     env = Environment.from_section(sec, 200.0)
     return env, trace_fan(env, 30.0, np.linspace(-10, 10, 31), 30_000.0)
 
@@ -58,8 +66,10 @@ def test_tick_labels_of_the_panels_never_collide(deep_fan, shade):
     assert texts_outside(fig) == []
 
 
-@pytest.mark.parametrize("shade, label", [("launch_angle", "launch angle (deg)"),
-                                          ("reflections", "boundary reflections per ray")])
+@pytest.mark.parametrize(
+    "shade, label",
+    [("launch_angle", "launch angle (deg)"), ("reflections", "boundary reflections per ray")],
+)
 def test_colour_bar_is_labelled(deep_fan, shade, label):
     env, fan, _ = deep_fan
     fig = plot_fan(fan, env, shade=shade)

@@ -1,12 +1,12 @@
 """Invariants of the label placer and the crowded-tick thinning used by every figure."""
 
 import numpy as np
+from figure_checks import colliding_tick_labels
 from hypothesis import given
 from hypothesis import strategies as st
 from matplotlib.figure import Figure
 from matplotlib.ticker import MaxNLocator
 
-from figure_checks import colliding_tick_labels
 from seaprofile.plots._layout import spread, thin_crowded_ticks
 
 positions = st.lists(st.floats(0.0, 1000.0, allow_nan=False), min_size=1, max_size=40)

@@ -8,10 +8,18 @@ from pathlib import Path
 import numpy as np
 import pytest
 import xarray as xr
+from figure_checks import (
+    MIN_CONTRAST,
+    colliding_tick_labels,
+    contrast_on_white,
+    drawn,
+    line_colours,
+    overlapping,
+    texts_outside,
+    texts_with_nan,
+)
 from matplotlib.figure import Figure
 
-from figure_checks import (MIN_CONTRAST, colliding_tick_labels, contrast_on_white, drawn,
-                           line_colours, overlapping, texts_outside, texts_with_nan)
 from seaprofile import _cf
 from seaprofile.casts.read import read_casts
 from seaprofile.plots.profile import FLAG_MARKERS, FLAG_WORDS, plot_profile
@@ -27,10 +35,13 @@ def speed_only(depth, speed, **coords):
     base = {"latitude": np.nan, "longitude": np.nan, "time": np.datetime64("NaT", "ns")}
     base.update(coords)
     return xr.Dataset(
-        {"sound_speed": ("depth", c, _cf.attrs_for("sound_speed")),
-         "sound_speed_qc": ("depth", np.ones(z.size, np.int8), _cf.flag_attrs("sound_speed"))},
+        {
+            "sound_speed": ("depth", c, _cf.attrs_for("sound_speed")),
+            "sound_speed_qc": ("depth", np.ones(z.size, np.int8), _cf.flag_attrs("sound_speed")),
+        },
         coords={"depth": ("depth", z, _cf.attrs_for("depth")), **base},
-        attrs=_cf.base_attrs(featureType="profile"))
+        attrs=_cf.base_attrs(featureType="profile"),
+    )
 
 
 def _check_layout(fig):
@@ -61,9 +72,14 @@ def test_speed_only_with_nan_diagnostics_and_position_half_known():
     z = np.arange(0.0, 120.0)
     prof = speed_only(z, 1500.0 + 0.017 * z, latitude=44.1)  # longitude unknown
     prof.attrs["cast_name"] = "VS31-P01"
-    d = {"surface_sound_speed": 1500.0, "below_layer_gradient": np.nan,
-         "critical_depth_surface": np.nan, "sonic_layer_depth": np.nan,
-         "harmonic_mean_sound_speed": 1501.0, "harmonic_mean_to_depth": np.nan}
+    d = {
+        "surface_sound_speed": 1500.0,
+        "below_layer_gradient": np.nan,
+        "critical_depth_surface": np.nan,
+        "sonic_layer_depth": np.nan,
+        "harmonic_mean_sound_speed": 1501.0,
+        "harmonic_mean_to_depth": np.nan,
+    }
     fig = plot_profile(prof, diagnostics=d)
     _check_layout(fig)
     assert any("44.1000° N" in t.get_text() for t in fig.texts)
@@ -82,8 +98,13 @@ def test_each_flag_class_has_its_own_marker_at_the_flagged_depths():
     z = np.arange(0.0, 100.0)
     prof = speed_only(z, 1500.0 - 0.02 * z)
     q = np.ones(z.size, np.int8)
-    where = {_cf.PROBABLY_BAD: [10, 11], _cf.BAD: [30], _cf.CHANGED: [50],
-             _cf.ESTIMATED: [60, 61, 62], _cf.MISSING: [80]}
+    where = {
+        _cf.PROBABLY_BAD: [10, 11],
+        _cf.BAD: [30],
+        _cf.CHANGED: [50],
+        _cf.ESTIMATED: [60, 61, 62],
+        _cf.MISSING: [80],
+    }
     for flag, idx in where.items():
         q[idx] = flag
     prof["sound_speed_qc"] = ("depth", q)
@@ -160,7 +181,8 @@ assert plt.get_fignums() == [], plt.get_fignums()  # nothing left open in pyplot
 print("ok")
 """
     env = {k: v for k, v in __import__("os").environ.items() if k != "MPLBACKEND"}
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          env=env, check=False)
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, env=env, check=False
+    )
     assert done.returncode == 0, done.stderr
     assert done.stdout.strip().endswith("ok")

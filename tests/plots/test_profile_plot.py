@@ -15,24 +15,35 @@ from seaprofile.casts.model import make_cast  # noqa: E402
 from seaprofile.plots.profile import plot_profile  # noqa: E402
 
 
-def make_profile(depth, temperature, salinity, sound, flags=None, *, extended_below=None,
-                 name="VS31-T01"):
+def make_profile(
+    depth, temperature, salinity, sound, flags=None, *, extended_below=None, name="VS31-T01"
+):
     """A Profile Dataset as in DEVELOPERS.md ("The data model")."""
     z = np.asarray(depth, float)
     q = np.ones(z.size, np.int8) if flags is None else np.asarray(flags, np.int8)
     if extended_below is not None:
         q = np.where(z > extended_below, _cf.ESTIMATED, q).astype(np.int8)
-    data = {"sound_speed": ("depth", np.asarray(sound, float), _cf.attrs_for("sound_speed")),
-            "temperature": ("depth", np.asarray(temperature, float)),
-            "salinity": ("depth", np.asarray(salinity, float)),
-            "pressure": ("depth", z * 1.01)}
+    data = {
+        "sound_speed": ("depth", np.asarray(sound, float), _cf.attrs_for("sound_speed")),
+        "temperature": ("depth", np.asarray(temperature, float)),
+        "salinity": ("depth", np.asarray(salinity, float)),
+        "pressure": ("depth", z * 1.01),
+    }
     for v in ("sound_speed", "temperature", "salinity", "pressure"):
         data[f"{v}_qc"] = ("depth", q.copy())
-    attrs = _cf.base_attrs(featureType="profile", equation="chen_millero1977",
-                           cast_name=name, depth_method="unesco1983",
-                           cast_max_depth=float(extended_below if extended_below else z[-1]))
-    coords = {"depth": z, "latitude": 44.06, "longitude": -9.62,
-              "time": np.datetime64("2031-07-14T09:12", "ns")}
+    attrs = _cf.base_attrs(
+        featureType="profile",
+        equation="chen_millero1977",
+        cast_name=name,
+        depth_method="unesco1983",
+        cast_max_depth=float(extended_below if extended_below else z[-1]),
+    )
+    coords = {
+        "depth": z,
+        "latitude": 44.06,
+        "longitude": -9.62,
+        "time": np.datetime64("2031-07-14T09:12", "ns"),
+    }
     return xr.Dataset(data, coords=coords, attrs=attrs)
 
 
@@ -76,8 +87,11 @@ def test_layer_lines_are_drawn_and_labelled():
     texts = _texts(fig)
     assert any(t.startswith("mixed layer 31 m") for t in texts)  # 30 + 0.2/0.3 m
     assert any(t.startswith("sonic layer") for t in texts)
-    hlines = [ln for ln in fig.axes[2].get_lines()
-              if len(set(ln.get_ydata())) == 1 and len(ln.get_ydata()) == 2]
+    hlines = [
+        ln
+        for ln in fig.axes[2].get_lines()
+        if len(set(ln.get_ydata())) == 1 and len(ln.get_ydata()) == 2
+    ]
     assert len(hlines) >= 2
     title = fig._suptitle.get_text()
     assert "VS31-T01" in title and "chen_millero1977" in title
@@ -132,8 +146,13 @@ def test_deep_profile_channel_axis_critical_depth_and_upper_panel(tmp_path):
 def test_cast_overlay_and_given_figure():
     prof = shelf()
     z = np.linspace(0.5, 110, 300)
-    cast = make_cast(depth=z, temperature=np.interp(z, prof.depth, prof.temperature),
-                     salinity=np.full(z.size, 35.2), latitude=44.06, longitude=-9.62)
+    cast = make_cast(
+        depth=z,
+        temperature=np.interp(z, prof.depth, prof.temperature),
+        salinity=np.full(z.size, 35.2),
+        latitude=44.06,
+        longitude=-9.62,
+    )
     cast["temperature_qc"][:] = _cf.GOOD
     cast["temperature_qc"][40] = _cf.BAD
     cast["temperature"][40] = 99.0  # off scale: drawn at the panel edge

@@ -12,8 +12,13 @@ from matplotlib.collections import LineCollection, PolyCollection
 from seaprofile import SeaprofileError
 from seaprofile._cf import CAUTION
 from seaprofile.plots.arrivals import PATH_KINDS, path_kind, plot_arrivals
-from seaprofile.plots.rays import (MAX_REFLECTION_BINS, boundary_reflections, plot_fan,
-                                   ray_segments, reflection_bins)
+from seaprofile.plots.rays import (
+    MAX_REFLECTION_BINS,
+    boundary_reflections,
+    plot_fan,
+    ray_segments,
+    reflection_bins,
+)
 from seaprofile.propagation import Environment, trace_fan
 from seaprofile.propagation.section import Section
 
@@ -114,8 +119,9 @@ def test_fan_bottom_filled_to_the_bottom_depth():
 
 
 def test_fan_bathymetry_follows_the_slope():
-    env = Environment.from_arrays([0, 100, 300], [1500, 1490, 1495],
-                                  bathymetry=([0, 10_000], [150, 300]))
+    env = Environment.from_arrays(
+        [0, 100, 300], [1500, 1490, 1495], bathymetry=([0, 10_000], [150, 300])
+    )
     fig = plot_fan(fake_fan(bottom=300.0), env)
     ax = _fan_axes(fig)
     line = [ln for ln in ax.lines if len(ln.get_xdata()) > 10][0]
@@ -186,8 +192,11 @@ def test_ten_thousand_rays_form_one_collection():
 
 
 def test_section_casts_marked_and_profiles_drawn():
-    sec = Section([0.0, 4000.0, 8000.0], [0.0, 100.0, 200.0],
-                  [[1500, 1490, 1495], [1502, 1491, 1495], [1504, 1492, 1495]])
+    sec = Section(
+        [0.0, 4000.0, 8000.0],
+        [0.0, 100.0, 200.0],
+        [[1500, 1490, 1495], [1502, 1491, 1495], [1504, 1492, 1495]],
+    )
     env = Environment.from_section(sec, 200.0)
     fig = plot_fan(fake_fan(), env)
     (prof,) = [a for a in fig.axes if a.get_xlabel() == "sound speed (m/s)"]

@@ -17,8 +17,10 @@ MIXED = ([0.0, 100.0, 200.0, 300.0], [1500.0, 1510.0, 1505.0, 1520.0])
 
 
 def _tracers():
-    return [lambda env, *a, **k: trace_fan(env, *a, **k),
-            lambda env, *a, **k: trace_fan_integrated(env, *a, **k)]
+    return [
+        lambda env, *a, **k: trace_fan(env, *a, **k),
+        lambda env, *a, **k: trace_fan_integrated(env, *a, **k),
+    ]
 
 
 def _valid(fan, ray=0):
@@ -31,12 +33,17 @@ def _valid(fan, ray=0):
 @pytest.mark.parametrize("where", ["surface", "bottom", "node", "inside"])
 @pytest.mark.parametrize("theta", [0.0, 90.0, -90.0, 1e-12, -1e-12])
 @pytest.mark.parametrize("range_step", [None, 500.0])
-def test_special_launches_and_sources_are_finite_and_in_the_water(solver, profile, where, theta,
-                                                                  range_step):
+def test_special_launches_and_sources_are_finite_and_in_the_water(
+    solver, profile, where, theta, range_step
+):
     env = Environment.from_arrays(*profile)
     bottom = env.bottom_depth
-    zs = {"surface": 0.0, "bottom": bottom, "node": float(env.depth[1]) if env.depth.size > 2
-          else 0.0, "inside": 0.37 * bottom}[where]
+    zs = {
+        "surface": 0.0,
+        "bottom": bottom,
+        "node": float(env.depth[1]) if env.depth.size > 2 else 0.0,
+        "inside": 0.37 * bottom,
+    }[where]
     fan = _tracers()[solver](env, zs, [theta], 4000.0, range_step=range_step, max_bounces=20)
     pts = _valid(fan)
     for v in pts.values():
@@ -82,48 +89,65 @@ def test_huge_range_keeps_the_image_geometry():
     z = np.mod(50.0 + r * np.tan(np.radians(theta)), 200.0)
     z = np.where(z > 100.0, 200.0 - z, z)
     np.testing.assert_allclose(fan.depth.values[0], z, atol=1e-6)
-    np.testing.assert_allclose(fan.travel_time.values[0],
-                               r / np.cos(np.radians(theta)) / 1500.0, rtol=1e-12)
+    np.testing.assert_allclose(
+        fan.travel_time.values[0], r / np.cos(np.radians(theta)) / 1500.0, rtol=1e-12
+    )
     assert int(fan.end_reason[0]) == 0
 
 
-@pytest.mark.parametrize("depth, speed, name", [
-    ([0.0, np.nan], [1500.0, 1500.0], "depth"),
-    ([0.0, 100.0], [1500.0, np.nan], "sound_speed"),
-    ([0.0, 100.0], [1500.0, np.inf], "sound_speed"),
-])
+@pytest.mark.parametrize(
+    "depth, speed, name",
+    [
+        ([0.0, np.nan], [1500.0, 1500.0], "depth"),
+        ([0.0, 100.0], [1500.0, np.nan], "sound_speed"),
+        ([0.0, 100.0], [1500.0, np.inf], "sound_speed"),
+    ],
+)
 def test_nan_in_the_profile_is_refused(depth, speed, name):
     with pytest.raises(SeaprofileError, match=name):
         Environment.from_arrays(depth, speed)
 
 
-@pytest.mark.parametrize("call, name", [
-    (lambda env: trace_fan(env, np.nan, [1.0], 1000.0), "source_depth"),
-    (lambda env: trace_fan(env, 101.0, [1.0], 1000.0), "source_depth"),
-    (lambda env: trace_fan(env, 50.0, [np.nan], 1000.0), "angles"),
-    (lambda env: trace_fan(env, 50.0, [1.0], np.inf), "max_range"),
-    (lambda env: trace_fan(env, 50.0, [1.0], 1000.0, max_bounces=np.nan), "max_bounces"),
-    (lambda env: trace_fan(env, 50.0, [1.0], 1000.0, max_bounces=2.5), "max_bounces"),
-    (lambda env: eigenrays(env, 50.0, [1000.0], [100.5]), "receiver_depths"),
-    (lambda env: eigenrays(env, 50.0, [1000.0], [np.nan]), "receiver_depths"),
-    (lambda env: eigenrays(env, 50.0, [1000.0], [10.0], max_reflections=np.nan),
-     "max_reflections"),
-])
+@pytest.mark.parametrize(
+    "call, name",
+    [
+        (lambda env: trace_fan(env, np.nan, [1.0], 1000.0), "source_depth"),
+        (lambda env: trace_fan(env, 101.0, [1.0], 1000.0), "source_depth"),
+        (lambda env: trace_fan(env, 50.0, [np.nan], 1000.0), "angles"),
+        (lambda env: trace_fan(env, 50.0, [1.0], np.inf), "max_range"),
+        (lambda env: trace_fan(env, 50.0, [1.0], 1000.0, max_bounces=np.nan), "max_bounces"),
+        (lambda env: trace_fan(env, 50.0, [1.0], 1000.0, max_bounces=2.5), "max_bounces"),
+        (lambda env: eigenrays(env, 50.0, [1000.0], [100.5]), "receiver_depths"),
+        (lambda env: eigenrays(env, 50.0, [1000.0], [np.nan]), "receiver_depths"),
+        (
+            lambda env: eigenrays(env, 50.0, [1000.0], [10.0], max_reflections=np.nan),
+            "max_reflections",
+        ),
+    ],
+)
 def test_bad_arguments_raise_naming_them(call, name):
     env = Environment.from_arrays(*ISO)
     with pytest.raises(SeaprofileError, match=name):
         call(env)
 
 
-@pytest.mark.parametrize("call, name", [
-    (lambda env: trace_fan(env, 50.0, np.linspace(-10, 10, 1000), 1e7, range_step=1.0),
-     "range_step"),
-    (lambda env: trace_fan(env, 50.0, [1.0], 1e300, range_step=1e-300), "range_step"),
-    (lambda env: trace_fan_integrated(env, 50.0, np.linspace(-10, 10, 1000), 1e7,
-                                      range_step=1.0), "range_step"),
-    (lambda env: eigenrays(env, 50.0, np.linspace(1.0, 1e6, 10**6), [10.0]),
-     "receiver_ranges"),
-])
+@pytest.mark.parametrize(
+    "call, name",
+    [
+        (
+            lambda env: trace_fan(env, 50.0, np.linspace(-10, 10, 1000), 1e7, range_step=1.0),
+            "range_step",
+        ),
+        (lambda env: trace_fan(env, 50.0, [1.0], 1e300, range_step=1e-300), "range_step"),
+        (
+            lambda env: trace_fan_integrated(
+                env, 50.0, np.linspace(-10, 10, 1000), 1e7, range_step=1.0
+            ),
+            "range_step",
+        ),
+        (lambda env: eigenrays(env, 50.0, np.linspace(1.0, 1e6, 10**6), [10.0]), "receiver_ranges"),
+    ],
+)
 def test_oversized_requests_are_refused_before_allocating(call, name):
     # refused from the estimate alone: these would need hundreds of GB (or an infinite
     # count); the message names the argument and the memory asked for
@@ -142,8 +166,11 @@ def test_range_dependent_eigenrays_say_what_to_do():
 layered = st.integers(1, 5).flatmap(
     lambda n: st.tuples(
         st.lists(st.floats(5.0, 300.0), min_size=n, max_size=n),
-        st.lists(st.sampled_from([1480.0, 1490.0, 1500.0, 1510.0]) | st.floats(1450.0, 1550.0),
-                 min_size=n + 1, max_size=n + 1),
+        st.lists(
+            st.sampled_from([1480.0, 1490.0, 1500.0, 1510.0]) | st.floats(1450.0, 1550.0),
+            min_size=n + 1,
+            max_size=n + 1,
+        ),
     )
 )
 
@@ -180,8 +207,7 @@ def test_travel_time_reciprocity_path_by_path(profile, fs, fr, r):
     zs, zr = fs * z[-1], fr * z[-1]
     e = eigenrays(env, zs, [r], [zr], max_reflections=2)
     for k in range(e.sizes["path"]):
-        back = trace_fan(env, zr, [-float(e.arrival_angle[k])], r, range_step=r,
-                         max_bounces=3)
+        back = trace_fan(env, zr, [-float(e.arrival_angle[k])], r, range_step=r, max_bounces=3)
         assert int(back.end_reason[0]) == 0
         # Both rays end a little off the exact eigenray (the forward one within its 1 um
         # depth tolerance, the backward one by that miss magnified by the ray tubes): move
@@ -189,8 +215,12 @@ def test_travel_time_reciprocity_path_by_path(profile, fs, fr, r):
         # vertical slowness, Jensen et al. 2011, ch. 3); what remains is second order in
         # the misses (< 1e-12 s here) and rounding
         c_r, c_s = env.sound_speed_at(zr), env.sound_speed_at(zs)
-        t_fwd = float(e.travel_time[k]) - float(e.depth_miss[k]) * np.sin(
-            np.radians(float(e.arrival_angle[k]))) / c_r
-        t_back = back.travel_time.values[0, -1] + (zs - back.depth.values[0, -1]) * np.sin(
-            np.radians(back.angle.values[0, -1])) / c_s
+        t_fwd = (
+            float(e.travel_time[k])
+            - float(e.depth_miss[k]) * np.sin(np.radians(float(e.arrival_angle[k]))) / c_r
+        )
+        t_back = (
+            back.travel_time.values[0, -1]
+            + (zs - back.depth.values[0, -1]) * np.sin(np.radians(back.angle.values[0, -1])) / c_s
+        )
         np.testing.assert_allclose(t_back, t_fwd, rtol=1e-10)

@@ -24,8 +24,11 @@ def _images(zs, zr, r, depth, max_reflections, count_zs=None, count_zr=None):
             zi = 2 * n * depth + sign * zs
             zc = 2 * n * depth + sign * count_zs
             lo, hi = min(zc, count_zr), max(zc, count_zr)
-            ks = [k for k in range(int(np.floor(lo / depth)) - 1, int(np.ceil(hi / depth)) + 2)
-                  if lo < k * depth < hi]
+            ks = [
+                k
+                for k in range(int(np.floor(lo / depth)) - 1, int(np.ceil(hi / depth)) + 2)
+                if lo < k * depth < hi
+            ]
             if len(ks) > max_reflections:
                 continue
             surface = sum(1 for k in ks if k % 2 == 0)
@@ -35,11 +38,18 @@ def _images(zs, zr, r, depth, max_reflections, count_zs=None, count_zr=None):
     return sorted(out)
 
 
-@pytest.mark.parametrize("zs, zr, r", [(30.0, 60.0, 1000.0), (10.0, 95.0, 250.0),
-                                       (50.0, 50.0, 5000.0),
-                                       # receivers a hair from the surface / bottom: pairs
-                                       # of eigenrays on both sides of a reflection kink
-                                       (50.0, 0.05, 20000.0), (20.0, 99.9, 30000.0)])
+@pytest.mark.parametrize(
+    "zs, zr, r",
+    [
+        (30.0, 60.0, 1000.0),
+        (10.0, 95.0, 250.0),
+        (50.0, 50.0, 5000.0),
+        # receivers a hair from the surface / bottom: pairs
+        # of eigenrays on both sides of a reflection kink
+        (50.0, 0.05, 20000.0),
+        (20.0, 99.9, 30000.0),
+    ],
+)
 def test_isovelocity_against_images(zs, zr, r):
     c, depth = 1500.0, 100.0
     env = Environment.from_arrays([0.0, depth], [c, c])
@@ -55,8 +65,12 @@ def _assert_matches_images(e, ref, c):
     # equal times (symmetric geometry, merging pairs) come in any order: sort both by
     # time, launch angle and counts
     ref = sorted(ref, key=lambda x: (round(x[0] / c, 9), round(x[1], 6), x[3], x[4]))
-    key = (e.bottom_reflections.values, e.surface_reflections.values,
-           np.round(e.launch_angle.values, 6), np.round(e.travel_time.values, 9))
+    key = (
+        e.bottom_reflections.values,
+        e.surface_reflections.values,
+        np.round(e.launch_angle.values, 6),
+        np.round(e.travel_time.values, 9),
+    )
     e = e.isel(path=np.lexsort(key))
     slant = np.array([x[0] for x in ref])
     # Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
@@ -78,13 +92,24 @@ def _assert_matches_images(e, ref, c):
 _INSIDE = 1e-9  # m: how far inside the water a boundary source or receiver is counted
 
 
-@pytest.mark.parametrize("zs, zr, r", [
-    (30.0, 0.0, 1000.0), (30.0, 100.0, 1000.0), (70.0, 0.0, 25000.0), (70.0, 100.0, 25000.0),
-    (0.0, 40.0, 1000.0), (100.0, 40.0, 1000.0), (0.0, 100.0, 3000.0), (0.0, 0.0, 1000.0),
-    (100.0, 100.0, 1000.0),
-    # a huge range: every family is far narrower than the 0.05 degree search fan
-    (50.0, 20.0, 1e7), (50.0, 0.0, 1e7), (50.0, 100.0, 1e7),
-])
+@pytest.mark.parametrize(
+    "zs, zr, r",
+    [
+        (30.0, 0.0, 1000.0),
+        (30.0, 100.0, 1000.0),
+        (70.0, 0.0, 25000.0),
+        (70.0, 100.0, 25000.0),
+        (0.0, 40.0, 1000.0),
+        (100.0, 40.0, 1000.0),
+        (0.0, 100.0, 3000.0),
+        (0.0, 0.0, 1000.0),
+        (100.0, 100.0, 1000.0),
+        # a huge range: every family is far narrower than the 0.05 degree search fan
+        (50.0, 20.0, 1e7),
+        (50.0, 0.0, 1e7),
+        (50.0, 100.0, 1e7),
+    ],
+)
 def test_source_or_receiver_on_the_surface_or_bottom_against_images(zs, zr, r):
     # a seafloor target or a receiver at the surface is a normal case (tracker defect: no
     # path was found to a receiver exactly at depth 0 or at the bottom depth)
@@ -116,8 +141,9 @@ def test_merged_paths_at_a_boundary_receiver_sum_to_the_boundary_field(zr, expec
             continue  # the partner has one reflection more than allowed
         pairs += 1
         # rounding of the loss (1e-8 dB) and phase: 1e-9 of one path's amplitude
-        np.testing.assert_allclose(abs(group.sum()), expected * abs(group[0]),
-                                   atol=1e-9 * abs(group[0]))
+        np.testing.assert_allclose(
+            abs(group.sum()), expected * abs(group[0]), atol=1e-9 * abs(group[0])
+        )
     assert pairs >= 3
 
 
@@ -141,12 +167,15 @@ def test_travel_time_reciprocity(munk_env):
     a = eigenrays(munk_env, 800.0, [42000.0], [2700.0], max_reflections=2, angles=fan)
     b = eigenrays(munk_env, 2700.0, [42000.0], [800.0], max_reflections=2, angles=fan)
     assert a.sizes["path"] == b.sizes["path"] > 3
-    np.testing.assert_allclose(np.sort(a.travel_time.values), np.sort(b.travel_time.values),
-                               rtol=1e-10)
-    np.testing.assert_allclose(np.sort(a.launch_angle.values), np.sort(-b.arrival_angle.values),
-                               atol=1e-6)
-    np.testing.assert_allclose(np.sort(a.spreading_loss.values), np.sort(b.spreading_loss.values),
-                               atol=1e-4)
+    np.testing.assert_allclose(
+        np.sort(a.travel_time.values), np.sort(b.travel_time.values), rtol=1e-10
+    )
+    np.testing.assert_allclose(
+        np.sort(a.launch_angle.values), np.sort(-b.arrival_angle.values), atol=1e-6
+    )
+    np.testing.assert_allclose(
+        np.sort(a.spreading_loss.values), np.sort(b.spreading_loss.values), atol=1e-4
+    )
 
 
 def test_spreading_matches_neighbouring_rays(munk_env):
@@ -159,8 +188,10 @@ def test_spreading_matches_neighbouring_rays(munk_env):
     for i in range(e.sizes["path"]):
         th = float(e.launch_angle[i])
         fan = trace_fan(munk_env, 1000.0, [th - d, th + d], r, range_step=r)
-        if fan.surface_reflections[0] != fan.surface_reflections[1] or \
-                fan.bottom_reflections[0] != fan.bottom_reflections[1]:
+        if (
+            fan.surface_reflections[0] != fan.surface_reflections[1]
+            or fan.bottom_reflections[0] != fan.bottom_reflections[1]
+        ):
             continue
         dz = (fan.depth.values[1, -1] - fan.depth.values[0, -1]) / np.radians(2 * d)
         # 1 / (r |dz/dtheta0|): squared pressure re 1 m of a point source (ray tube)
@@ -171,19 +202,34 @@ def test_spreading_matches_neighbouring_rays(munk_env):
 
 
 def test_layout_and_netcdf_round_trip(tmp_path, munk_env):
-    e = eigenrays(munk_env, 1000.0, [10000.0, 20000.0, 30000.0], [500.0, 1500.0],
-                  max_reflections=2)
+    e = eigenrays(munk_env, 1000.0, [10000.0, 20000.0, 30000.0], [500.0, 1500.0], max_reflections=2)
     assert set(e.dims) == {"path", "receiver_range", "receiver_depth"}
     # the PathTable record: our own names, in the documented order (pathtable.py)
     assert list(e.data_vars) == [
-        "path_kind", "launch_angle", "arrival_angle", "travel_time", "spreading_loss",
-        "surface_reflections", "bottom_reflections", "caustics", "turning_points", "phase",
-        "depth_miss", "receiver_range_index", "receiver_depth_index", "path_count"]
+        "path_kind",
+        "launch_angle",
+        "arrival_angle",
+        "travel_time",
+        "spreading_loss",
+        "surface_reflections",
+        "bottom_reflections",
+        "caustics",
+        "turning_points",
+        "phase",
+        "depth_miss",
+        "receiver_range_index",
+        "receiver_depth_index",
+        "path_count",
+    ]
     kind = (e.surface_reflections.values > 0) + 2 * (e.bottom_reflections.values > 0)
     np.testing.assert_array_equal(e.path_kind.values, kind)
     assert e.path_kind.dtype == np.int8 and set(kind) == {0, 1, 2, 3}
     assert e.path_kind.attrs["flag_meanings"].split() == [
-        "refracted", "surface_reflected", "bottom_reflected", "surface_and_bottom_reflected"]
+        "refracted",
+        "surface_reflected",
+        "bottom_reflected",
+        "surface_and_bottom_reflected",
+    ]
     assert int(e.path_count.sum()) == e.sizes["path"]
     assert e.travel_time.attrs["units"] == "s" and e.spreading_loss.attrs["units"] == "dB"
     assert "caution" in e.attrs and "eigenrays" in e.attrs["processing_steps"]
@@ -211,8 +257,13 @@ def test_bad_input_names_argument(kwargs, name, munk_env):
     args = dict(source_depth=100.0, receiver_ranges=[1000.0], receiver_depths=[100.0])
     args.update(kwargs)
     with pytest.raises(SeaprofileError, match=name):
-        eigenrays(munk_env, args.pop("source_depth"), args.pop("receiver_ranges"),
-                  args.pop("receiver_depths"), **args)
+        eigenrays(
+            munk_env,
+            args.pop("source_depth"),
+            args.pop("receiver_ranges"),
+            args.pop("receiver_depths"),
+            **args,
+        )
 
 
 def _duct_env():
@@ -238,14 +289,14 @@ def _brute_force_arrivals(env, zs, r, zr, max_reflections, half_width=4.0, step=
 
     zn, cn = env.layers()
     dense = np.arange(-half_width, half_width + step / 2, step)
-    out = trace_layers(zn, cn, zs, dense, r, max_reflections + 1, samp_r=np.array([r]),
-                       counts=True)
+    out = trace_layers(zn, cn, zs, dense, r, max_reflections + 1, samp_r=np.array([r]), counts=True)
     z = out["sample_depth"][:, 0] - zr
     fam = out["sample_counts"][:, 0, :2]
 
     def miss(theta):
-        one = trace_layers(zn, cn, zs, np.array([theta]), r, max_reflections + 1,
-                           samp_r=np.array([r]))
+        one = trace_layers(
+            zn, cn, zs, np.array([theta]), r, max_reflections + 1, samp_r=np.array([r])
+        )
         return one["sample_depth"][0, 0] - zr
 
     roots = []
@@ -268,8 +319,13 @@ def test_default_search_finds_the_narrow_surface_duct_arrival():
     assert any(abs(x[0] + 0.281) < 0.001 and x[1:] == (1, 0) for x in ref)
     assert any(abs(x[0] - 0.338) < 0.001 and x[1:] == (1, 1) for x in ref)
     within = np.abs(e.launch_angle.values) < 4.0
-    got = sorted(zip(e.launch_angle.values[within], e.surface_reflections.values[within],
-                     e.bottom_reflections.values[within]))
+    got = sorted(
+        zip(
+            e.launch_angle.values[within],
+            e.surface_reflections.values[within],
+            e.bottom_reflections.values[within],
+        )
+    )
     ref = sorted(ref)
     assert len(got) == len(ref)
     # brentq stops at 1e-13 rad; the eigenray search at a 1 micrometre depth miss: with

@@ -48,8 +48,14 @@ def test_layers_cut_at_bottom():
         (dict(depth=[0.0, 10.0, 5.0], sound_speed=[1500.0] * 3), "depth"),
         (dict(depth=[0.0, 10.0], sound_speed=[1500.0] * 2, bottom_depth=-5.0), "bottom_depth"),
         (dict(depth=[0.0, 10.0], sound_speed=[1500.0] * 2, bottom_depth=0.0), "bottom_depth"),
-        (dict(depth=[0.0, 10.0], sound_speed=[1500.0] * 2,
-              bathymetry=([0.0, 10.0, 5.0], [10.0, 20.0, 30.0])), "bathymetry"),
+        (
+            dict(
+                depth=[0.0, 10.0],
+                sound_speed=[1500.0] * 2,
+                bathymetry=([0.0, 10.0, 5.0], [10.0, 20.0, 30.0]),
+            ),
+            "bathymetry",
+        ),
         (dict(depth=[0.0, 10.0], sound_speed=[1500.0] * 2, thin_tolerance=-1.0), "thin_tolerance"),
     ],
 )
@@ -73,8 +79,9 @@ def test_from_profile_skips_bad_flags_and_nan():
     depth = np.array([0.0, 10.0, 20.0, 30.0, 40.0])
     ss = np.array([1500.0, 1499.0, 1600.0, np.nan, 1497.0])
     qc = np.array([1, 1, _cf.BAD, 9, _cf.ESTIMATED], dtype=np.int8)
-    prof = xr.Dataset({"sound_speed": ("depth", ss), "sound_speed_qc": ("depth", qc)},
-                      coords={"depth": depth})
+    prof = xr.Dataset(
+        {"sound_speed": ("depth", ss), "sound_speed_qc": ("depth", qc)}, coords={"depth": depth}
+    )
     env = Environment.from_profile(prof)
     np.testing.assert_allclose(env.depth, [0, 10, 40])
     np.testing.assert_allclose(env.sound_speed, [1500, 1499, 1497])
@@ -97,8 +104,7 @@ def test_thinning_keeps_tolerance_and_shrinks_a_dense_cast():
     assert "thin_nodes" in env.attrs["processing_steps"]
 
 
-@given(st.lists(st.floats(1450.0, 1550.0), min_size=3, max_size=60),
-       st.floats(0.0, 5.0))
+@given(st.lists(st.floats(1450.0, 1550.0), min_size=3, max_size=60), st.floats(0.0, 5.0))
 def test_thinning_guarantee_random(speeds, tol):
     c = np.array(speeds)
     z = np.arange(c.size, dtype=float) * 7.0

@@ -11,8 +11,16 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from seaprofile._validate import SeaprofileError
-from seaprofile.propagation import (Bathymetry, Environment, LayeredSpeed, Seabed, Section,
-                                    Surface, eigenrays, trace_fan)
+from seaprofile.propagation import (
+    Bathymetry,
+    Environment,
+    LayeredSpeed,
+    Seabed,
+    Section,
+    Surface,
+    eigenrays,
+    trace_fan,
+)
 from seaprofile.propagation import section as section_module
 from seaprofile.propagation.integrate import _medium_of, trace_fan_integrated
 
@@ -22,19 +30,27 @@ SEABED = Seabed(sound_speed=1650.0, density=1800.0, attenuation=0.5, name="test 
 
 
 def _env():
-    return Environment.from_arrays([0.0, 100.0, 300.0], [1500.0, 1490.0, 1495.0], 300.0,
-                                   seabed=SEABED, surface=Surface(rms_wave_height=0.4))
+    return Environment.from_arrays(
+        [0.0, 100.0, 300.0],
+        [1500.0, 1490.0, 1495.0],
+        300.0,
+        seabed=SEABED,
+        surface=Surface(rms_wave_height=0.4),
+    )
 
 
 # ---- frozen ---------------------------------------------------------------------------
-@pytest.mark.parametrize("obj, name", [
-    (Surface(), "rms_wave_height"),
-    (SEABED, "density"),
-    (Bathymetry([0.0, 10.0], [50.0, 60.0]), "depths"),
-    (LayeredSpeed([0.0, 10.0], [1500.0, 1501.0]), "depth"),
-    (_env(), "seabed"),
-    (_env(), "speed"),
-])
+@pytest.mark.parametrize(
+    "obj, name",
+    [
+        (Surface(), "rms_wave_height"),
+        (SEABED, "density"),
+        (Bathymetry([0.0, 10.0], [50.0, 60.0]), "depths"),
+        (LayeredSpeed([0.0, 10.0], [1500.0, 1501.0]), "depth"),
+        (_env(), "seabed"),
+        (_env(), "speed"),
+    ],
+)
 def test_assignment_raises(obj, name):
     with pytest.raises(dataclasses.FrozenInstanceError):
         setattr(obj, name, None)
@@ -53,31 +69,39 @@ def test_arrays_are_read_only_copies():
 
 
 # ---- validation names the argument ----------------------------------------------------
-@pytest.mark.parametrize("make, name", [
-    (lambda: Surface(rms_wave_height=-0.1), "rms_wave_height"),
-    (lambda: Surface(rms_wave_height=np.nan), "rms_wave_height"),
-    (lambda: Surface(rms_wave_height="x"), "rms_wave_height"),
-    (lambda: Seabed(sound_speed=0.0, density=1800.0, attenuation=0.5), "sound_speed"),
-    (lambda: Seabed(sound_speed=np.inf, density=1800.0, attenuation=0.5), "sound_speed"),
-    (lambda: Seabed(sound_speed=1650.0, density=-1.0, attenuation=0.5), "density"),
-    (lambda: Seabed(sound_speed=1650.0, density=np.nan, attenuation=0.5), "density"),
-    (lambda: Seabed(sound_speed=1650.0, density=1800.0, attenuation=-0.1), "attenuation"),
-    (lambda: Seabed(sound_speed=1650.0, density=1800.0, attenuation=0.5, name=3), "name"),
-    (lambda: Bathymetry([0.0, 0.0], [50.0, 60.0]), "ranges"),
-    (lambda: Bathymetry([0.0, 10.0], [50.0, 0.0]), "depths"),
-    (lambda: Bathymetry([0.0, 10.0], [50.0]), "ranges and depths"),
-    (lambda: Bathymetry.flat(-3.0), "bottom_depth"),
-    (lambda: LayeredSpeed([0.0, 10.0], [1500.0, -1.0]), "sound_speed"),
-    (lambda: Environment("c(z)", Bathymetry.flat(100.0)), "speed"),
-    (lambda: Environment(LayeredSpeed([0, 10], [1500, 1500]), 100.0, surface="calm"),
-     "surface"),
-    (lambda: Environment(LayeredSpeed([0, 10], [1500, 1500]), 100.0, seabed="sand"),
-     "seabed"),
-    (lambda: Environment.from_arrays([0, 10], [1500, 1500], seabed="sand"), "seabed"),
-    (lambda: Environment.from_arrays([0, 10], [1500, 1500], 80.0,
-                                     bathymetry=([0, 1000], [100, 50])), "bottom_depth"),
-    (lambda: Environment.from_arrays([0, 10], [1500, 1500], bathymetry="deep"), "bathymetry"),
-])
+@pytest.mark.parametrize(
+    "make, name",
+    [
+        (lambda: Surface(rms_wave_height=-0.1), "rms_wave_height"),
+        (lambda: Surface(rms_wave_height=np.nan), "rms_wave_height"),
+        (lambda: Surface(rms_wave_height="x"), "rms_wave_height"),
+        (lambda: Seabed(sound_speed=0.0, density=1800.0, attenuation=0.5), "sound_speed"),
+        (lambda: Seabed(sound_speed=np.inf, density=1800.0, attenuation=0.5), "sound_speed"),
+        (lambda: Seabed(sound_speed=1650.0, density=-1.0, attenuation=0.5), "density"),
+        (lambda: Seabed(sound_speed=1650.0, density=np.nan, attenuation=0.5), "density"),
+        (lambda: Seabed(sound_speed=1650.0, density=1800.0, attenuation=-0.1), "attenuation"),
+        (lambda: Seabed(sound_speed=1650.0, density=1800.0, attenuation=0.5, name=3), "name"),
+        (lambda: Bathymetry([0.0, 0.0], [50.0, 60.0]), "ranges"),
+        (lambda: Bathymetry([0.0, 10.0], [50.0, 0.0]), "depths"),
+        (lambda: Bathymetry([0.0, 10.0], [50.0]), "ranges and depths"),
+        (lambda: Bathymetry.flat(-3.0), "bottom_depth"),
+        (lambda: LayeredSpeed([0.0, 10.0], [1500.0, -1.0]), "sound_speed"),
+        (lambda: Environment("c(z)", Bathymetry.flat(100.0)), "speed"),
+        (
+            lambda: Environment(LayeredSpeed([0, 10], [1500, 1500]), 100.0, surface="calm"),
+            "surface",
+        ),
+        (lambda: Environment(LayeredSpeed([0, 10], [1500, 1500]), 100.0, seabed="sand"), "seabed"),
+        (lambda: Environment.from_arrays([0, 10], [1500, 1500], seabed="sand"), "seabed"),
+        (
+            lambda: Environment.from_arrays(
+                [0, 10], [1500, 1500], 80.0, bathymetry=([0, 1000], [100, 50])
+            ),
+            "bottom_depth",
+        ),
+        (lambda: Environment.from_arrays([0, 10], [1500, 1500], bathymetry="deep"), "bathymetry"),
+    ],
+)
 def test_validation_names_the_argument(make, name):
     with pytest.raises(SeaprofileError, match=name):
         make()
@@ -98,8 +122,9 @@ def test_surface_is_pressure_release():
 
 def test_bathymetry_depth_at_is_linear_and_holds_ends():
     b = Bathymetry([0.0, 1000.0, 3000.0], [100.0, 200.0, 150.0])
-    np.testing.assert_array_equal(b.depth_at([-5.0, 500.0, 2000.0, 9e9]),
-                                  [100.0, 150.0, 175.0, 150.0])
+    np.testing.assert_array_equal(
+        b.depth_at([-5.0, 500.0, 2000.0, 9e9]), [100.0, 150.0, 175.0, 150.0]
+    )
     assert not b.is_flat and b.deepest == 200.0
     assert Bathymetry.flat(80.0).is_flat and Bathymetry.flat(80.0).depth_at(1e6) == 80.0
     assert Bathymetry.coerce((b.ranges, b.depths)) == b
@@ -114,7 +139,8 @@ def test_from_section_and_from_profile_give_the_kernels_the_same_inputs():
     profile = xr.Dataset({"sound_speed": ("depth", C)}, coords={"depth": Z})
     by_profile = Environment.from_profile(profile, 1000.0)
     by_section = Environment.from_section(
-        Section([0.0], Z, C[None, :], range_interpolation="linear"), 1000.0)
+        Section([0.0], Z, C[None, :], range_interpolation="linear"), 1000.0
+    )
     direct = Environment(LayeredSpeed(Z, C), Bathymetry.flat(1000.0))
     for env in (by_section, direct):
         np.testing.assert_array_equal(env.depth, by_profile.depth)
@@ -132,8 +158,12 @@ def test_from_section_and_from_profile_give_the_kernels_the_same_inputs():
 
 
 @settings(max_examples=30, deadline=None)
-@given(st.lists(st.floats(1450.0, 1550.0), min_size=2, max_size=20),
-       st.floats(1.0, 50.0), st.floats(0.0, 30.0), st.floats(1.0, 3.0))
+@given(
+    st.lists(st.floats(1450.0, 1550.0), min_size=2, max_size=20),
+    st.floats(1.0, 50.0),
+    st.floats(0.0, 30.0),
+    st.floats(1.0, 3.0),
+)
 def test_direct_and_classmethod_construction_agree(speeds, spacing, top, bottom_factor):
     z = top + spacing * np.arange(len(speeds))
     bottom = float(z[-1] * bottom_factor)
@@ -188,8 +218,13 @@ def test_path_table_records_product_and_environment():
     assert Surface.from_attrs(table.attrs) == Surface()
 
 
-@given(st.floats(0.0, 10.0), st.floats(1.0, 6000.0), st.floats(1.0, 4000.0),
-       st.floats(0.0, 20.0), st.text(max_size=20))
+@given(
+    st.floats(0.0, 10.0),
+    st.floats(1.0, 6000.0),
+    st.floats(1.0, 4000.0),
+    st.floats(0.0, 20.0),
+    st.text(max_size=20),
+)
 def test_surface_and_seabed_round_trip_through_attrs(wave, speed, density, attenuation, name):
     surface = Surface(rms_wave_height=wave)
     seabed = Seabed(sound_speed=speed, density=density, attenuation=attenuation, name=name)

@@ -15,15 +15,18 @@ from seaprofile.propagation import Environment, trace_fan
 
 def _points(fan, ray, kind=None):
     n = int(fan.point_count[ray])
-    sel = {k: fan[k].values[ray, :n] for k in ("range", "depth", "travel_time", "angle", "point_kind")}
+    sel = {
+        k: fan[k].values[ray, :n] for k in ("range", "depth", "travel_time", "angle", "point_kind")
+    }
     if kind is not None:
         m = sel["point_kind"] == kind
         sel = {k: v[m] for k, v in sel.items()}
     return sel
 
 
-@pytest.mark.parametrize("g, zs, theta", [(0.05, 100.0, 10.0), (0.05, 100.0, 3.0),
-                                          (-0.03, 2000.0, -8.0)])
+@pytest.mark.parametrize(
+    "g, zs, theta", [(0.05, 100.0, 10.0), (0.05, 100.0, 3.0), (-0.03, 2000.0, -8.0)]
+)
 def test_constant_gradient_circle(g, zs, theta):
     c0 = 1500.0 if g > 0 else 1550.0
     bottom = 5000.0
@@ -52,8 +55,9 @@ def test_constant_gradient_circle(g, zs, theta):
     np.testing.assert_allclose(turn["depth"], z_turn, rtol=1e-9)
     assert turn["range"].size > 2
     np.testing.assert_allclose(np.diff(turn["range"]), np.diff(turn["range"])[0], rtol=1e-9)
-    np.testing.assert_allclose(np.diff(turn["travel_time"]), np.diff(turn["travel_time"])[0],
-                               rtol=1e-9)
+    np.testing.assert_allclose(
+        np.diff(turn["travel_time"]), np.diff(turn["travel_time"])[0], rtol=1e-9
+    )
     if int(fan.surface_reflections[0]) == 0 and int(fan.bottom_reflections[0]) == 0:
         np.testing.assert_allclose(np.diff(turn["range"]), 2 * r_turn, rtol=1e-9)
         np.testing.assert_allclose(np.diff(turn["travel_time"]), 2 * t_turn, rtol=1e-9)
@@ -127,10 +131,12 @@ def test_munk_cycle_exact_in_the_layered_model():
     # in a turning layer 1 - p c(x) = p |g| |x - z_turn|, so cot * sqrt|x - z_turn| is smooth
     end_u = lambda x: p * c(x) / np.sqrt(p * abs(g[iu]) * (1.0 + p * c(x)))  # noqa: E731
     end_l = lambda x: p * c(x) / np.sqrt(p * abs(g[il]) * (1.0 + p * c(x)))  # noqa: E731
-    total = integrate.quad(end_u, z_up, inner[0], weight="alg", wvar=(-0.5, 0.0),
-                           epsabs=0, epsrel=1e-13)[0]
-    total += integrate.quad(end_l, inner[-1], z_low, weight="alg", wvar=(0.0, -0.5),
-                            epsabs=0, epsrel=1e-13)[0]
+    total = integrate.quad(
+        end_u, z_up, inner[0], weight="alg", wvar=(-0.5, 0.0), epsabs=0, epsrel=1e-13
+    )[0]
+    total += integrate.quad(
+        end_l, inner[-1], z_low, weight="alg", wvar=(0.0, -0.5), epsabs=0, epsrel=1e-13
+    )[0]
     for a, b in zip(inner[:-1], inner[1:]):
         total += integrate.quad(cot, a, b, epsabs=0, epsrel=1e-13)[0]
     # both sides exact for the model; 1e-9 covers quadrature and rounding
@@ -173,8 +179,9 @@ def test_isovelocity_paths_are_straight():
     zs = np.mod(zs, 400.0)
     zs = np.where(zs > 200.0, 400.0 - zs, zs)
     np.testing.assert_allclose(fan.depth.values[0], zs, rtol=1e-12, atol=1e-9)
-    np.testing.assert_allclose(fan.travel_time.values[0],
-                               r / np.cos(np.radians(20.0)) / 1500.0, rtol=1e-12)
+    np.testing.assert_allclose(
+        fan.travel_time.values[0], r / np.cos(np.radians(20.0)) / 1500.0, rtol=1e-12
+    )
     assert int(fan.bottom_reflections[0]) == 1 and int(fan.surface_reflections[0]) == 1
 
 
@@ -187,9 +194,21 @@ def test_horizontal_launch_at_sound_speed_minimum_stays_on_axis():
     assert int(fan.end_reason[0]) == 0
 
 
-@pytest.mark.parametrize("zs, theta", [(50.0, 0.0), (100.0, 0.0), (100.0, 3.0), (100.0, -3.0),
-                                       (0.0, -5.0), (0.0, 0.0), (300.0, 5.0), (300.0, 0.0),
-                                       (150.0, 90.0), (150.0, -90.0)])
+@pytest.mark.parametrize(
+    "zs, theta",
+    [
+        (50.0, 0.0),
+        (100.0, 0.0),
+        (100.0, 3.0),
+        (100.0, -3.0),
+        (0.0, -5.0),
+        (0.0, 0.0),
+        (300.0, 5.0),
+        (300.0, 0.0),
+        (150.0, 90.0),
+        (150.0, -90.0),
+    ],
+)
 def test_special_launches_never_nan(zs, theta):
     env = Environment.from_arrays([0.0, 100.0, 200.0, 300.0], [1500.0, 1510.0, 1505.0, 1520.0])
     fan = trace_fan(env, zs, [theta], 4000.0, max_bounces=20)
@@ -261,8 +280,12 @@ def test_huge_path_fan_asks_for_range_step(monkeypatch):
     env = Environment.from_arrays(z, 1500.0 + 0.016 * z)
     with pytest.raises(SeaprofileError, match="range_step"):
         trace_fan(env, 100.0, np.linspace(-60.0, 60.0, 50), 10000.0)
-    assert trace_fan(env, 100.0, np.linspace(-60.0, 60.0, 50), 10000.0, range_step=100.0).sizes[
-        "point"] == 101
+    assert (
+        trace_fan(env, 100.0, np.linspace(-60.0, 60.0, 50), 10000.0, range_step=100.0).sizes[
+            "point"
+        ]
+        == 101
+    )
 
 
 # --- grazing at a boundary or node when the source lies within rounding of it ----------
@@ -314,8 +337,7 @@ def test_grazing_source_within_rounding_of_a_boundary(nodes, speeds, zs, theta, 
     inv = np.cos(np.radians(pts["angle"])) / env.sound_speed_at(pts["depth"])
     np.testing.assert_allclose(inv, p, rtol=1e-12)
     # travel time of a horizontal ray along the node: range / c there (to rounding)
-    np.testing.assert_allclose(pts["travel_time"][-1], 3000.0 / env.sound_speed_at(zs),
-                               rtol=1e-12)
+    np.testing.assert_allclose(pts["travel_time"][-1], 3000.0 / env.sound_speed_at(zs), rtol=1e-12)
 
 
 def test_grazing_rays_near_the_bottom_are_continuous_in_launch_angle():
@@ -352,7 +374,9 @@ def test_rays_within_a_micrometre_of_a_speed_minimum_run_along_it():
     # c sin^2 / (2 |g|) ~ 2e-11 m about the node in ~1e7 arcs over 3 km; it runs along the
     # node instead (codes.RIDE_DEPTH = 1 micrometre). At 0.5 deg (excursion ~0.06 m) it
     # oscillates as usual.
-    env = Environment.from_arrays([0.0, 1.0, 2.0, 3.0, 4.0], [1450.0, 1451.0, 1450.0, 1451.0, 1450.0])
+    env = Environment.from_arrays(
+        [0.0, 1.0, 2.0, 3.0, 4.0], [1450.0, 1451.0, 1450.0, 1451.0, 1450.0]
+    )
     fan = trace_fan(env, 2.0, [1e-5, 0.5], 3000.0, max_bounces=30)
     assert np.all(fan.end_reason.values == 0)
     flat = _points(fan, 0)
@@ -364,8 +388,9 @@ def test_rays_within_a_micrometre_of_a_speed_minimum_run_along_it():
     assert int(fan.turning_points[1]) > 100
     # Jensen et al. (2011), ch. 3: the turning depth where p c = 1, i.e. c = c_s / cos th0
     c_turn = 1450.0 / np.cos(np.radians(0.5))
-    np.testing.assert_allclose(steep["depth"][steep["point_kind"] == 2].max(), 2.0 + (c_turn - 1450.0),
-                               rtol=1e-9)
+    np.testing.assert_allclose(
+        steep["depth"][steep["point_kind"] == 2].max(), 2.0 + (c_turn - 1450.0), rtol=1e-9
+    )
 
 
 def test_near_horizontal_ray_in_isovelocity_keeps_range_and_time_consistent():

@@ -52,8 +52,13 @@ def test_identical_casts_reproduce_the_exact_layered_solver():
     np.testing.assert_allclose(ti, te, rtol=1e-6)
     np.testing.assert_allclose(_ends(fan, "depth"), _ends(exact, "depth"), atol=1e-3)
     np.testing.assert_allclose(_ends(fan, "range"), 50000.0, rtol=0, atol=0)
-    for name in ("surface_reflections", "bottom_reflections", "turning_points", "caustics",
-                 "end_reason"):
+    for name in (
+        "surface_reflections",
+        "bottom_reflections",
+        "turning_points",
+        "caustics",
+        "end_reason",
+    ):
         np.testing.assert_array_equal(fan[name], exact[name], err_msg=name)
 
 
@@ -74,15 +79,15 @@ def test_snell_invariant_along_integrated_rays():
     # Snell's law in a range-independent medium: cos(theta)/c(z) is constant along a ray
     # (Jensen et al. 2011, Computational Ocean Acoustics, 2nd ed., ch. 3)
     env = Environment.from_section(
-        Section([0.0, 25000.0], Z, np.vstack([C, C]), range_interpolation="spline"), 4000.0)
+        Section([0.0, 25000.0], Z, np.vstack([C, C]), range_interpolation="spline"), 4000.0
+    )
     angles = np.linspace(-12.0, 12.0, 13)
     fan = trace_fan_integrated(env, 800.0, angles, 40000.0, tolerance=1e-8)
     c0 = np.interp(800.0, Z, C)
     inv0 = np.cos(np.radians(angles)) / c0
     inv = np.cos(np.radians(fan["angle"].values)) / np.interp(fan["depth"].values, Z, C)
     ok = np.isfinite(inv)
-    np.testing.assert_allclose(inv[ok], np.broadcast_to(inv0[:, None], inv.shape)[ok],
-                               rtol=1e-9)
+    np.testing.assert_allclose(inv[ok], np.broadcast_to(inv0[:, None], inv.shape)[ok], rtol=1e-9)
 
 
 @settings(max_examples=50, deadline=None)
@@ -92,8 +97,7 @@ def test_sloping_bottom_reflection_law(slope_deg, angle, up):
     # after (theta_r - a = -(theta_i - a), a the bottom's angle below the horizontal)
     a = np.radians(slope_deg)
     env = _isovelocity(([0.0, 10000.0], [2000.0, 2000.0 + 10000.0 * np.tan(a)]))
-    fan = trace_fan_integrated(env, 200.0, [-angle if up else angle], 10000.0,
-                               max_bounces=20)
+    fan = trace_fan_integrated(env, 200.0, [-angle if up else angle], 10000.0, max_bounces=20)
     kind = fan["point_kind"].values[0]
     th = fan["angle"].values[0]
     r = fan["range"].values[0]
@@ -133,8 +137,7 @@ def test_spreading_is_the_path_length_in_isovelocity_water():
     # Jensen et al. 2011, ch. 3, dynamic ray equations with q(0) = 0, p(0) = 1/c); flat
     # boundaries, also sloping, keep it (image sources)
     env = _isovelocity(([0.0, 6000.0, 12000.0], [900.0, 500.0, 700.0]))
-    fan = trace_fan_integrated(env, 100.0, np.linspace(-40, 40, 17), 15000.0,
-                               max_bounces=500)
+    fan = trace_fan_integrated(env, 100.0, np.linspace(-40, 40, 17), 15000.0, max_bounces=500)
     s = 1500.0 * fan["travel_time"].values
     q = fan["tube_width"].values
     ok = np.isfinite(q)
@@ -149,13 +152,11 @@ def test_spreading_in_a_linear_gradient_matches_the_circular_arc_solution():
     # width per radian is q = -dR/dtheta0|_z sin(theta); dR/dtheta0 by central differences
     # of this closed form.
     c0, g = 1480.0, 0.05
-    env = Environment.from_section(Section([0.0], [0.0, 5000.0], [[c0, c0 + g * 5000.0]]),
-                                   5000.0)
+    env = Environment.from_section(Section([0.0], [0.0, 5000.0], [[c0, c0 + g * 5000.0]]), 5000.0)
     zs = 300.0
     cs = c0 + g * zs
     angles = np.array([5.0, 10.0, 20.0])
-    fan = trace_fan_integrated(env, zs, angles, 60000.0,
-                               tolerance=1e-9)
+    fan = trace_fan_integrated(env, zs, angles, 60000.0, tolerance=1e-9)
 
     def rng(theta0, z, sign):
         cos_t = np.cos(theta0) * (c0 + g * z) / cs
@@ -186,16 +187,20 @@ def test_spreading_matches_neighbouring_rays_in_a_range_dependent_section():
     rng = np.random.default_rng(3)
     casts = C[None, :] + rng.normal(0, 1.5, (4, Z.size)).cumsum(axis=1) * 0.2
     sec = Section([0.0, 10000.0, 22000.0, 35000.0], Z, casts)
-    env = Environment.from_section(sec, bathymetry=([0.0, 15000.0, 30000.0],
-                                                    [3500.0, 2600.0, 3000.0]))
+    env = Environment.from_section(
+        sec, bathymetry=([0.0, 15000.0, 30000.0], [3500.0, 2600.0, 3000.0])
+    )
     step = 1000.0
     d = 1e-5
     checked = 0
     for a0 in (-11.0, -6.0, 4.0, 8.0, 13.0):
         th = np.radians(a0)
-        fans = [trace_fan_integrated(env, 150.0, [np.degrees(th + e)], 35000.0,
-                                     range_step=step,
-                                     tolerance=1e-10) for e in (-d, 0.0, d)]
+        fans = [
+            trace_fan_integrated(
+                env, 150.0, [np.degrees(th + e)], 35000.0, range_step=step, tolerance=1e-10
+            )
+            for e in (-d, 0.0, d)
+        ]
         counts = [int(f.surface_reflections[0] + f.bottom_reflections[0]) for f in fans]
         z = [f["depth"].values[0] for f in fans]
         n = min(len(v) for v in z)
@@ -215,9 +220,12 @@ def test_range_dependent_ray_matches_scipy_solve_ivp():
     # 2011, ch. 3) and the same field (Section.gradient_at, tested against scipy's
     # interpolators in test_section.py). One depth layer and a C2 range spline, so the
     # right-hand side is smooth for the reference solver.
-    sec = Section([0.0, 8000.0, 20000.0], [0.0, 5000.0],
-                  [[1490.0, 1560.0], [1500.0, 1555.0], [1485.0, 1570.0]],
-                  range_interpolation="spline")
+    sec = Section(
+        [0.0, 8000.0, 20000.0],
+        [0.0, 5000.0],
+        [[1490.0, 1560.0], [1500.0, 1555.0], [1485.0, 1570.0]],
+        range_interpolation="spline",
+    )
     env = Environment.from_section(sec, 5000.0)
     zs, a, rmax = 2500.0, 4.0, 20000.0
     fan = trace_fan_integrated(env, zs, [a], rmax)
@@ -236,8 +244,7 @@ def test_range_dependent_ray_matches_scipy_solve_ivp():
     th = np.radians(a)
     y0 = [0.0, zs, np.cos(th) / c0, np.sin(th) / c0, 0.0, 0.0, 1 / c0]
     atol = [1e-9, 1e-9, 1e-16, 1e-16, 1e-13, 1e-9, 1e-16]
-    sol = solve_ivp(rhs, (0, 2 * rmax), y0, method="DOP853", rtol=1e-12, atol=atol,
-                    events=end)
+    sol = solve_ivp(rhs, (0, 2 * rmax), y0, method="DOP853", rtol=1e-12, atol=atol, events=end)
     ref = sol.y_events[0][0]
     assert _ends(fan, "range")[0] == rmax
     assert _ends(fan, "depth")[0] == pytest.approx(ref[1], abs=1e-4)
@@ -295,8 +302,12 @@ def test_bad_options_raise():
 def test_random_sections_stay_in_the_water_and_finish(seed, source, angles):
     rng = np.random.default_rng(seed)
     casts = C[None, :] + rng.normal(0.0, 3.0, (3, Z.size))
-    sec = Section(np.sort(rng.uniform(0, 20000, 3)) + [0, 1, 2], Z, casts,
-                  range_interpolation=["pchip", "spline", "linear"][seed % 3])
+    sec = Section(
+        np.sort(rng.uniform(0, 20000, 3)) + [0, 1, 2],
+        Z,
+        casts,
+        range_interpolation=["pchip", "spline", "linear"][seed % 3],
+    )
     br = np.array([0.0, 5000.0, 12000.0, 20000.0])
     bz = rng.uniform(300.0, 3900.0, 4)
     env = Environment.from_section(sec, bathymetry=(br, bz))
@@ -341,8 +352,7 @@ def test_grazing_starts_run_along_the_boundary_like_the_exact_solver(nodes, spee
     np.testing.assert_allclose(fan.depth.values[0, :n], zs, atol=1e-12)
     assert np.all(np.abs(fan.angle.values[0, :n]) < 1e-5)
     # travel time along the node: range / c there, as the exact solver
-    np.testing.assert_allclose(_ends(fan, "travel_time"), _ends(exact, "travel_time"),
-                               rtol=1e-12)
+    np.testing.assert_allclose(_ends(fan, "travel_time"), _ends(exact, "travel_time"), rtol=1e-12)
 
 
 def test_ray_riding_a_speed_minimum_leaves_it_where_the_minimum_ends():
@@ -388,10 +398,15 @@ _NEAR_BOUNDARY = {
     angle=st.sampled_from([0.0, 1e-300, -1e-300, 1e-12, -1e-12, 1e-7, -1e-7, 1e-4, -1e-4]),
 )
 @example([50.0, 250.0], [1500.0, 1495.0, 1530.0, 0, 0, 0], "surface", 0.0)  # z < 0 before
-@example([14.6, 157.8], [1507.4081435959938, 1486.2538659961435, 1495.426313786302, 0, 0, 0],
-         "bottom", 1e-300)  # 2.8e-6 m below the bottom before
-def test_grazing_returns_to_the_surface_or_bottom_stay_in_the_water(thickness, speeds, where,
-                                                                    angle):
+@example(
+    [14.6, 157.8],
+    [1507.4081435959938, 1486.2538659961435, 1495.426313786302, 0, 0, 0],
+    "bottom",
+    1e-300,
+)  # 2.8e-6 m below the bottom before
+def test_grazing_returns_to_the_surface_or_bottom_stay_in_the_water(
+    thickness, speeds, where, angle
+):
     nodes = np.concatenate([[0.0], np.cumsum(thickness)])
     cn = np.asarray(speeds[: nodes.size], dtype=np.float64)
     # grazing returns to an interior node (its speed equal to the surface or bottom speed)
@@ -402,8 +417,7 @@ def test_grazing_returns_to_the_surface_or_bottom_stay_in_the_water(thickness, s
     exact_env = Environment.from_arrays(nodes, cn)
     env = Environment.from_section(Section([0.0, 5000.0], nodes, np.vstack([cn, cn])), bottom)
     for tolerance in (1e-6, 1e-9):
-        fan = trace_fan_integrated(env, zs, [angle], 20000.0, max_bounces=2000,
-                                   tolerance=tolerance)
+        fan = trace_fan_integrated(env, zs, [angle], 20000.0, max_bounces=2000, tolerance=tolerance)
         n = int(fan.point_count[0])
         z = fan.depth.values[0, :n]
         assert np.all(z >= 0.0) and np.all(z <= bottom)
@@ -418,8 +432,7 @@ def test_grazing_returns_to_the_surface_or_bottom_stay_in_the_water(thickness, s
     # after 20 km over 1600 random cases of this kind were < 1.3e-2 m in depth and < 9e-8
     # relative in travel time; the bounds are about 4x and 6x that
     np.testing.assert_allclose(_ends(fan, "depth"), _ends(exact, "depth"), rtol=0, atol=5e-2)
-    np.testing.assert_allclose(_ends(fan, "travel_time"), _ends(exact, "travel_time"),
-                               rtol=5e-7)
+    np.testing.assert_allclose(_ends(fan, "travel_time"), _ends(exact, "travel_time"), rtol=5e-7)
     # same events, except that a ray the integrator rides along the boundary from the
     # launch may first take a micrometre turn and reflection in the exact solver
     events = ("surface_reflections", "bottom_reflections", "turning_points")
@@ -452,8 +465,10 @@ def test_point_buffer_growth_gives_the_same_record():
     # record assembled from the rounds must equal one traced with room enough at once
     from seaprofile.propagation.integrate import _medium_of, _trace_arrays
 
-    env = Environment.from_section(Section([0.0, 20000.0], Z, np.vstack([C, C + 1.0])),
-                                   bathymetry=([0.0, 20000.0], [4000.0, 3000.0]))
+    env = Environment.from_section(
+        Section([0.0, 20000.0], Z, np.vstack([C, C + 1.0])),
+        bathymetry=([0.0, 20000.0], [4000.0, 3000.0]),
+    )
     angles = [-30.0, -5.0, 0.0, 2.0, 25.0]
     small = _trace_arrays(*_medium_of(env), 800.0, angles, 20000.0, first_buffer=16)
     large = _trace_arrays(*_medium_of(env), 800.0, angles, 20000.0, first_buffer=100000)

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 import xarray as xr
 
-from seaprofile.propagation import Environment, POINT_KINDS, trace_fan
+from seaprofile.propagation import POINT_KINDS, Environment, trace_fan
 from seaprofile.propagation.integrate import trace_fan_integrated
 
 
@@ -65,8 +65,9 @@ def test_no_import_circles_inside_propagation():
         deps = set()
         for node in ast.walk(ast.parse(f.read_text())):
             if isinstance(node, ast.ImportFrom) and node.level == 1:
-                deps.update([node.module.split(".")[0]] if node.module
-                            else [a.name for a in node.names])
+                deps.update(
+                    [node.module.split(".")[0]] if node.module else [a.name for a in node.names]
+                )
         graph[f.stem] = deps - {f.stem}
     done, active = set(), []
 
@@ -93,15 +94,15 @@ def test_both_solvers_fill_the_ray_record_isovelocity(solver, range_step):
     # Porter & Schmidt 2011, Computational Ocean Acoustics, ch. 3)
     env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0])
     trace = trace_fan if solver == "exact" else trace_fan_integrated
-    fan = trace(env, 30.0, [-20.0, -2.0, 0.0, 7.0], 3000.0, range_step=range_step,
-                max_bounces=50)
+    fan = trace(env, 30.0, [-20.0, -2.0, 0.0, 7.0], 3000.0, range_step=range_step, max_bounces=50)
     ok = fan.point_kind.values >= 0
     np.testing.assert_array_equal(np.isfinite(fan.sound_speed.values), ok)
     np.testing.assert_allclose(fan.sound_speed.values[ok], 1500.0, rtol=1e-15)
     # exact solver: rounding only; integrator: its 1e-6 m local tolerance over ~30 steps
     rtol = 1e-12 if solver == "exact" else 1e-7
-    np.testing.assert_allclose(fan.tube_width.values[ok],
-                               1500.0 * fan.travel_time.values[ok], rtol=rtol, atol=1e-9)
+    np.testing.assert_allclose(
+        fan.tube_width.values[ok], 1500.0 * fan.travel_time.values[ok], rtol=rtol, atol=1e-9
+    )
     np.testing.assert_allclose(fan.tube_slowness.values[ok], 1.0 / 1500.0, rtol=rtol)
 
 
@@ -111,22 +112,27 @@ def test_both_solvers_fill_the_same_ray_record_in_a_layered_profile():
     env = _env()
     angles = [-12.0, -4.0, 3.0, 9.0]
     exact = trace_fan(env, 50.0, angles, 6000.0, range_step=500.0, max_bounces=20)
-    integ = trace_fan_integrated(env, 50.0, angles, 6000.0, range_step=500.0,
-                                 max_bounces=20, tolerance=1e-9)
+    integ = trace_fan_integrated(
+        env, 50.0, angles, 6000.0, range_step=500.0, max_bounces=20, tolerance=1e-9
+    )
     assert list(exact.data_vars) == list(integ.data_vars)
     ok = exact.point_kind.values >= 0
     # c at each point is the profile's, to rounding (exact) and to the depth error of the
     # integrator (< 1e-5 m here, times |dc/dz| <= 0.15 1/s)
-    np.testing.assert_allclose(exact.sound_speed.values[ok],
-                               env.sound_speed_at(exact.depth.values[ok]), rtol=1e-13)
-    np.testing.assert_allclose(integ.sound_speed.values[ok], exact.sound_speed.values[ok],
-                               rtol=1e-8)
+    np.testing.assert_allclose(
+        exact.sound_speed.values[ok], env.sound_speed_at(exact.depth.values[ok]), rtol=1e-13
+    )
+    np.testing.assert_allclose(
+        integ.sound_speed.values[ok], exact.sound_speed.values[ok], rtol=1e-8
+    )
     # q and p: the integrator's global error at tolerance 1e-9 m is well below 1e-5 relative
     # (tests/propagation/test_integrate.py measures it against the circular-arc solution)
-    np.testing.assert_allclose(integ.tube_width.values[ok], exact.tube_width.values[ok],
-                               rtol=1e-5, atol=1e-6)
-    np.testing.assert_allclose(integ.tube_slowness.values[ok], exact.tube_slowness.values[ok],
-                               rtol=1e-5, atol=1e-12)
+    np.testing.assert_allclose(
+        integ.tube_width.values[ok], exact.tube_width.values[ok], rtol=1e-5, atol=1e-6
+    )
+    np.testing.assert_allclose(
+        integ.tube_slowness.values[ok], exact.tube_slowness.values[ok], rtol=1e-5, atol=1e-12
+    )
 
 
 @pytest.mark.parametrize("range_step", [None, 400.0])
@@ -149,8 +155,9 @@ def test_reflections_of_the_ray_record_against_images(solver, range_step, monkey
     k = np.arange(n)
     # exact arcs: rounding; integrator: 1e-6 m local tolerance over ~40 legs
     atol = 1e-9 if solver == "exact" else 1e-4
-    np.testing.assert_allclose(fan.reflection_range.values[0],
-                               (30.0 + 100.0 * k) / np.tan(np.radians(20.0)), atol=atol)
+    np.testing.assert_allclose(
+        fan.reflection_range.values[0], (30.0 + 100.0 * k) / np.tan(np.radians(20.0)), atol=atol
+    )
     np.testing.assert_allclose(fan.grazing_angle.values[0], 20.0, atol=atol)
     np.testing.assert_array_equal(fan.reflection_boundary.values[0], k % 2)
     # the horizontal ray never reflects: padding only
@@ -163,8 +170,9 @@ def test_reflections_on_a_sloping_bottom_steepen_by_the_slope_each_time():
     # theta meets the bottom (tilted up by alpha) at theta + alpha and leaves it at
     # theta + 2 alpha to the horizontal; the flat surface keeps that angle. So the n-th
     # reflection, at either boundary, grazes at theta_0 + n alpha
-    env = Environment.from_arrays([0.0, 100.0], [1500.0, 1500.0],
-                                  bathymetry=([0.0, 5000.0], [100.0, 60.0]))
+    env = Environment.from_arrays(
+        [0.0, 100.0], [1500.0, 1500.0], bathymetry=([0.0, 5000.0], [100.0, 60.0])
+    )
     fan = trace_fan(env, 30.0, [8.0], 5000.0, max_bounces=100)
     alpha = np.degrees(np.arctan(40.0 / 5000.0))
     g = fan.grazing_angle.values[0]

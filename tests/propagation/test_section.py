@@ -30,8 +30,12 @@ R3 = np.array([0.0, 12000.0, 30000.0])
 def _profile(depth, c, lat, lon, pid):
     return xr.Dataset(
         {"sound_speed": ("depth", np.asarray(c, float))},
-        coords={"depth": np.asarray(depth, float), "latitude": lat, "longitude": lon,
-                "profile_id": pid},
+        coords={
+            "depth": np.asarray(depth, float),
+            "latitude": lat,
+            "longitude": lon,
+            "profile_id": pid,
+        },
     )
 
 
@@ -67,8 +71,10 @@ def test_identical_casts_give_a_range_independent_field(method):
 def test_range_interpolation_matches_scipy_at_the_depth_nodes():
     # scipy's PchipInterpolator / natural CubicSpline are the reference implementations
     r = np.linspace(0.0, 29999.0, 301)  # at 30000 m the (constant) cell beyond applies
-    for method, ref in (("pchip", PchipInterpolator(R3, C3, axis=0)),
-                        ("spline", CubicSpline(R3, C3, axis=0, bc_type="natural"))):
+    for method, ref in (
+        ("pchip", PchipInterpolator(R3, C3, axis=0)),
+        ("spline", CubicSpline(R3, C3, axis=0, bc_type="natural")),
+    ):
         sec = Section(R3, DEPTH, C3, range_interpolation=method)
         for k, z in enumerate(DEPTH):
             c, cr, _, crr, _ = sec.gradient_at(r, z)
@@ -113,23 +119,22 @@ def test_gradients_match_finite_differences_inside_cells():
 def test_great_circle_distance_textbook_cases():
     # one degree of longitude on the equator, and equator to pole: arcs of a sphere
     # (2 pi R / 360 and pi R / 2; exact geometry)
-    assert great_circle_distance(0, 10, 0, 11) == pytest.approx(2 * np.pi * EARTH_MEAN_RADIUS / 360,
-                                                                 rel=1e-12)
-    assert great_circle_distance(0, 0, 90, 0) == pytest.approx(np.pi * EARTH_MEAN_RADIUS / 2,
-                                                               rel=1e-12)
+    assert great_circle_distance(0, 10, 0, 11) == pytest.approx(
+        2 * np.pi * EARTH_MEAN_RADIUS / 360, rel=1e-12
+    )
+    assert great_circle_distance(0, 0, 90, 0) == pytest.approx(
+        np.pi * EARTH_MEAN_RADIUS / 2, rel=1e-12
+    )
     assert great_circle_distance(12.5, -30.0, 12.5, -30.0) == 0.0
 
 
 @settings(max_examples=60, deadline=None)
-@given(
-    st.floats(-80, 80), st.floats(-180, 180), st.floats(-80, 80), st.floats(-180, 180)
-)
+@given(st.floats(-80, 80), st.floats(-180, 180), st.floats(-80, 80), st.floats(-180, 180))
 def test_haversine_agrees_with_the_spherical_law_of_cosines(lat1, lon1, lat2, lon2):
     # independent formula: central angle = acos(sin p1 sin p2 + cos p1 cos p2 cos dl);
     # ill-conditioned for short arcs, so only compared beyond 10 km
     p1, p2, dl = np.radians(lat1), np.radians(lat2), np.radians(lon2 - lon1)
-    ang = np.arccos(np.clip(np.sin(p1) * np.sin(p2) + np.cos(p1) * np.cos(p2) * np.cos(dl),
-                            -1, 1))
+    ang = np.arccos(np.clip(np.sin(p1) * np.sin(p2) + np.cos(p1) * np.cos(p2) * np.cos(dl), -1, 1))
     d = great_circle_distance(lat1, lon1, lat2, lon2)
     assert d == pytest.approx(great_circle_distance(lat2, lon2, lat1, lon1), rel=1e-12)
     if EARTH_MEAN_RADIUS * ang > 1e4:
@@ -145,8 +150,9 @@ def test_from_profiles_ranges_from_positions_and_common_grid():
     np.testing.assert_allclose(sec.ranges, [0.0, 0.1 * deg, 0.25 * deg], rtol=1e-9)
     np.testing.assert_array_equal(sec.depth, [0, 50, 100, 200, 800, 1000])
     # every cast exact at its own nodes; held below its deepest value
-    np.testing.assert_allclose(sec.sound_speed_at(sec.ranges[1], [0, 50, 200, 1000]),
-                               [1502, 1496, 1488, 1486])
+    np.testing.assert_allclose(
+        sec.sound_speed_at(sec.ranges[1], [0, 50, 200, 1000]), [1502, 1496, 1488, 1486]
+    )
     np.testing.assert_allclose(sec.sound_speed[2, -1], 1484.0)
     assert sec.profile_ids == ["a", "b", "c"]
     assert "section_from_profiles" in sec.attrs["processing_steps"]

@@ -50,22 +50,33 @@ def outputs():
         other = "depth" if eq.needs == "pressure" else "pressure"
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            out[f"{name}/converted"] = sound_speed(t, s, equation=name, latitude=lat,
-                                                   **{other: v})
-            out[f"{name}/mask"] = validity_mask(t, s, equation=name, latitude=lat,
-                                                **{other: v}).astype(np.float64)
-        out[f"{name}/2d"] = sound_speed(t[:600].reshape(20, 30), s[:30], equation=name,
-                                        latitude=45.0, **{eq.needs: v[:20, None]})
+            out[f"{name}/converted"] = sound_speed(t, s, equation=name, latitude=lat, **{other: v})
+            out[f"{name}/mask"] = validity_mask(
+                t, s, equation=name, latitude=lat, **{other: v}
+            ).astype(np.float64)
+        out[f"{name}/2d"] = sound_speed(
+            t[:600].reshape(20, 30),
+            s[:30],
+            equation=name,
+            latitude=45.0,
+            **{eq.needs: v[:20, None]},
+        )
         if eq.uses_position:
-            out[f"{name}/position"] = sound_speed(t[:999], s[:999], v[:999], latitude=lat[:999],
-                                                  longitude=rng.uniform(-180, 360, 999),
-                                                  equation=name)
+            out[f"{name}/position"] = sound_speed(
+                t[:999],
+                s[:999],
+                v[:999],
+                latitude=lat[:999],
+                longitude=rng.uniform(-180, 360, 999),
+                equation=name,
+            )
     p, lat = rng.uniform(-1, 11000, n), rng.uniform(-90, 90, n)
     for m in dp.METHODS:
         out[f"depth/{m}"] = dp.depth_from_pressure(p, lat, m)
         out[f"pressure/{m}"] = dp.pressure_from_depth(p, lat, m)
-    out["depth/common"] = dp.depth_from_pressure(p, lat, "leroy_parthiot1998",
-                                                 correction="common_ocean")
+    out["depth/common"] = dp.depth_from_pressure(
+        p, lat, "leroy_parthiot1998", correction="common_ocean"
+    )
     t, s, p = rng.uniform(0, 25, 5000), rng.uniform(30, 38, 5000), rng.uniform(0, 5000, 5000)
     out["state/sp"] = state.salinity_from_conductivity(rng.uniform(20, 60, 5000), t, p)
     for pos in ((), (24.0, -38.0)):
@@ -79,10 +90,11 @@ def outputs():
     from _layer_test_profiles import make_profile, munk
 
     z = np.arange(0.0, 5001.0, 5.0)
-    profiles = {"munk": munk(z),
-                "dip": munk(z) - 4.0 * np.exp(-(((z - 400.0) / 40.0) ** 2)),
-                "duct": np.where(z <= 35, 1500 + 0.016 * z, 1500.56 - 0.01 * (z - 35)) + 0.001
-                * np.sin(z)}
+    profiles = {
+        "munk": munk(z),
+        "dip": munk(z) - 4.0 * np.exp(-(((z - 400.0) / 40.0) ** 2)),
+        "duct": np.where(z <= 35, 1500 + 0.016 * z, 1500.56 - 0.01 * (z - 35)) + 0.001 * np.sin(z),
+    }
     for key, c in profiles.items():
         cn = c.copy()
         cn[rng.integers(0, z.size, 40)] = np.nan
@@ -93,30 +105,46 @@ def outputs():
             out[f"layers/grad/{tag}"] = np.array(_call(layers.layer_gradients, cc, z, sld))
             ch = _call(layers.sound_channels, cc, z, below=sld)
             out[f"layers/channels/{tag}"] = np.array([float(v) for v in ch.values()])
-            crit = _call(layers.critical_depth, cc, z, float(cc[0]) if np.isfinite(cc[0])
-                         else 1500.0, ch["axis_depth"])
+            crit = _call(
+                layers.critical_depth,
+                cc,
+                z,
+                float(cc[0]) if np.isfinite(cc[0]) else 1500.0,
+                ch["axis_depth"],
+            )
             out[f"layers/critical/{tag}"] = np.array([crit])
-            out[f"layers/at/{tag}"] = np.asarray(_call(layers.speed_at, cc, z,
-                                                       [3.0, 777.7, 4999.0]))
-            out[f"layers/hm/{tag}"] = np.asarray(_call(layers.harmonic_mean_sound_speed, cc, z,
-                                                       4.0, np.array([10.0, 333.0, 4444.4])))
+            out[f"layers/at/{tag}"] = np.asarray(
+                _call(layers.speed_at, cc, z, [3.0, 777.7, 4999.0])
+            )
+            out[f"layers/hm/{tag}"] = np.asarray(
+                _call(layers.harmonic_mean_sound_speed, cc, z, 4.0, np.array([10.0, 333.0, 4444.4]))
+            )
             temp = 20.0 - 0.01 * np.maximum(z - 37.0, 0.0) + 0.0 * cc
-            out[f"layers/mld/{tag}"] = np.array(layers.mixed_layer_depth(temp, z,
-                                                                         return_reached_end=True))
-            out[f"layers/mldd/{tag}"] = np.array(layers.mixed_layer_depth_density(
-                26.0 + 0.001 * np.maximum(z - 41.0, 0.0), z, return_reached_end=True))
-    out["layers/duct"] = np.asarray(layers.duct_cutoff_frequency(np.array([1.0, 30.0, 0.0]),
-                                                                 1499.0))
+            out[f"layers/mld/{tag}"] = np.array(
+                layers.mixed_layer_depth(temp, z, return_reached_end=True)
+            )
+            out[f"layers/mldd/{tag}"] = np.array(
+                layers.mixed_layer_depth_density(
+                    26.0 + 0.001 * np.maximum(z - 41.0, 0.0), z, return_reached_end=True
+                )
+            )
+    out["layers/duct"] = np.asarray(
+        layers.duct_cutoff_frequency(np.array([1.0, 30.0, 0.0]), 1499.0)
+    )
     out["layers/excess"] = np.array([layers.depth_excess(5000.0, 4321.0)])
     zs = np.arange(0.5, 120.0, 1.0)
     t = np.where(zs <= 30.0, 17.0, 17.0 - 0.3 * (zs - 30.0)).clip(10.5)
-    for key, prof in (("shelf", make_profile(zs, temperature=t, salinity=np.full(zs.size, 35.2))),
-                      ("munk", make_profile(z, sound=munk(z)))):
-        d = layers.describe(prof, bottom_depth=float(prof.depth[-1]), source_depth=300.0,
-                            transducer_depth=4.0)
+    for key, prof in (
+        ("shelf", make_profile(zs, temperature=t, salinity=np.full(zs.size, 35.2))),
+        ("munk", make_profile(z, sound=munk(z))),
+    ):
+        d = layers.describe(
+            prof, bottom_depth=float(prof.depth[-1]), source_depth=300.0, transducer_depth=4.0
+        )
         keys = sorted(d["units"])
-        out[f"describe/{key}"] = np.array([np.nan if d[k] is None else d[k] for k in keys],
-                                          dtype=float)
+        out[f"describe/{key}"] = np.array(
+            [np.nan if d[k] is None else d[k] for k in keys], dtype=float
+        )
     return out
 
 
@@ -128,12 +156,18 @@ def main(argv):
         print(f"saved {len(got)} arrays to {path}")
         return 0
     ref = np.load(path)
-    bad = [k for k in ref.files
-           if k not in got or ref[k].shape != got[k].shape
-           or not np.array_equal(ref[k].view(np.uint64), got[k].view(np.uint64))]
+    bad = [
+        k
+        for k in ref.files
+        if k not in got
+        or ref[k].shape != got[k].shape
+        or not np.array_equal(ref[k].view(np.uint64), got[k].view(np.uint64))
+    ]
     total = sum(ref[k].size for k in ref.files)
-    print(f"compared {len(ref.files)} arrays ({total:,} numbers) bit for bit: "
-          f"{len(bad)} differ" + (f": {', '.join(bad)}" if bad else ""))
+    print(
+        f"compared {len(ref.files)} arrays ({total:,} numbers) bit for bit: "
+        f"{len(bad)} differ" + (f": {', '.join(bad)}" if bad else "")
+    )
     return 1 if bad else 0
 
 

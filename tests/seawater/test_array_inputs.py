@@ -29,14 +29,34 @@ C = 1.00 * T + 35.0  # a conductivity-like field, mS/cm (synthetic)
 
 # (label, function, positional inputs, keyword inputs, CF standard name of the result)
 POINTWISE = [
-    *[(f"sound_speed/{name}", ss.sound_speed, (T, S),
-       {eq.needs: np.minimum(Z if eq.needs == "depth" else P, eq.vertical_range[1]),
-        "latitude": LAT, "equation": name}, "speed_of_sound_in_sea_water")
-      for name, eq in ss.EQUATIONS.items()],
-    ("sound_speed/converted", ss.sound_speed, (T, S), {"depth": Z, "latitude": LAT},
-     "speed_of_sound_in_sea_water"),
-    ("sound_speed/teos10_position", ss.sound_speed, (T, S, P),
-     {"latitude": LAT, "longitude": LON, "equation": "teos10"}, "speed_of_sound_in_sea_water"),
+    *[
+        (
+            f"sound_speed/{name}",
+            ss.sound_speed,
+            (T, S),
+            {
+                eq.needs: np.minimum(Z if eq.needs == "depth" else P, eq.vertical_range[1]),
+                "latitude": LAT,
+                "equation": name,
+            },
+            "speed_of_sound_in_sea_water",
+        )
+        for name, eq in ss.EQUATIONS.items()
+    ],
+    (
+        "sound_speed/converted",
+        ss.sound_speed,
+        (T, S),
+        {"depth": Z, "latitude": LAT},
+        "speed_of_sound_in_sea_water",
+    ),
+    (
+        "sound_speed/teos10_position",
+        ss.sound_speed,
+        (T, S, P),
+        {"latitude": LAT, "longitude": LON, "equation": "teos10"},
+        "speed_of_sound_in_sea_water",
+    ),
     ("validity_mask", ss.validity_mask, (T, S), {"depth": Z, "latitude": LAT}, None),
     ("mackenzie1981", ss.mackenzie1981, (T, S, Z), {}, "speed_of_sound_in_sea_water"),
     ("chen_millero1977", ss.chen_millero1977, (T, S, P), {}, "speed_of_sound_in_sea_water"),
@@ -46,21 +66,48 @@ POINTWISE = [
     ("medwin1975", ss.medwin1975, (T, S, Z / 4.0), {}, "speed_of_sound_in_sea_water"),
     ("leroy2008", ss.leroy2008, (T, S, Z, LAT), {}, "speed_of_sound_in_sea_water"),
     ("teos10", ss.teos10, (T, S, P, LAT, LON), {}, "speed_of_sound_in_sea_water"),
-    *[(f"depth_from_pressure/{m}", dp.depth_from_pressure, (P, LAT), {"method": m}, "depth")
-      for m in dp.METHODS],
-    *[(f"pressure_from_depth/{m}", dp.pressure_from_depth, (Z, LAT), {"method": m},
-       "sea_water_pressure") for m in dp.METHODS],
+    *[
+        (f"depth_from_pressure/{m}", dp.depth_from_pressure, (P, LAT), {"method": m}, "depth")
+        for m in dp.METHODS
+    ],
+    *[
+        (
+            f"pressure_from_depth/{m}",
+            dp.pressure_from_depth,
+            (Z, LAT),
+            {"method": m},
+            "sea_water_pressure",
+        )
+        for m in dp.METHODS
+    ],
     *[(f"{m}_depth", getattr(dp, f"{m}_depth"), (P, LAT), {}, "depth") for m in dp.METHODS],
-    *[(f"{m}_pressure", getattr(dp, f"{m}_pressure"), (Z, LAT), {}, "sea_water_pressure")
-      for m in dp.METHODS],
-    ("salinity_from_conductivity", state.salinity_from_conductivity, (C, T, P), {},
-     "sea_water_practical_salinity"),
-    ("absolute_salinity", state.absolute_salinity, (S, P, LAT, LON), {},
-     "sea_water_absolute_salinity"),
+    *[
+        (f"{m}_pressure", getattr(dp, f"{m}_pressure"), (Z, LAT), {}, "sea_water_pressure")
+        for m in dp.METHODS
+    ],
+    (
+        "salinity_from_conductivity",
+        state.salinity_from_conductivity,
+        (C, T, P),
+        {},
+        "sea_water_practical_salinity",
+    ),
+    (
+        "absolute_salinity",
+        state.absolute_salinity,
+        (S, P, LAT, LON),
+        {},
+        "sea_water_absolute_salinity",
+    ),
     ("reference_salinity", state.absolute_salinity, (S, P), {}, "sea_water_reference_salinity"),
     ("density", state.density, (T, S, P, LAT, LON), {}, "sea_water_density"),
-    ("potential_density_anomaly", state.potential_density_anomaly, (T, S, P), {},
-     "sea_water_sigma_theta"),
+    (
+        "potential_density_anomaly",
+        state.potential_density_anomaly,
+        (T, S, P),
+        {},
+        "sea_water_sigma_theta",
+    ),
 ]
 
 
@@ -71,10 +118,12 @@ def _convert(array_kind, args, kwargs):
     return [one(a) for a in args], {k: one(v) for k, v in kwargs.items()}
 
 
-@pytest.mark.parametrize("label, func, args, kwargs, standard_name", POINTWISE,
-                         ids=[c[0] for c in POINTWISE])
-def test_pointwise_functions_on_every_array_kind(array_kind, count_tasks, label, func, args,
-                                                 kwargs, standard_name):
+@pytest.mark.parametrize(
+    "label, func, args, kwargs, standard_name", POINTWISE, ids=[c[0] for c in POINTWISE]
+)
+def test_pointwise_functions_on_every_array_kind(
+    array_kind, count_tasks, label, func, args, kwargs, standard_name
+):
     expected = func(*args, **kwargs)
     a, kw = _convert(array_kind, args, kwargs)
     with count_tasks() as counter:
@@ -124,15 +173,18 @@ _B = xr.DataArray([35.0, 35.0, 35.0], dims="z", coords={"z": [1.0, 2.0, 3.0]})
 _SHORT = xr.DataArray([35.0, 35.0], dims="z")
 
 
-@pytest.mark.parametrize("func, args, names", [
-    (ss.sound_speed, (_A, _B, 100.0), "temperature and salinity"),
-    (ss.chen_millero1977, (_A, _B, 100.0), "temperature and salinity"),
-    (ss.teos10, (_A, _B, 100.0), "temperature and salinity"),
-    (ss.validity_mask, (_A, _B, 100.0), "temperature and salinity"),
-    (state.density, (_A, _B, 100.0), "temperature and salinity"),
-    (dp.depth_from_pressure, (_A, _B), "pressure and latitude"),
-    (dp.teos10_pressure, (_A * 10, _B), "depth and latitude"),
-])
+@pytest.mark.parametrize(
+    "func, args, names",
+    [
+        (ss.sound_speed, (_A, _B, 100.0), "temperature and salinity"),
+        (ss.chen_millero1977, (_A, _B, 100.0), "temperature and salinity"),
+        (ss.teos10, (_A, _B, 100.0), "temperature and salinity"),
+        (ss.validity_mask, (_A, _B, 100.0), "temperature and salinity"),
+        (state.density, (_A, _B, 100.0), "temperature and salinity"),
+        (dp.depth_from_pressure, (_A, _B), "pressure and latitude"),
+        (dp.teos10_pressure, (_A * 10, _B), "depth and latitude"),
+    ],
+)
 def test_misaligned_xarray_inputs_name_the_arguments(func, args, names):
     # one policy: xarray inputs align exactly (no silent inner join, no raw xarray error)
     with pytest.raises(SeaprofileError, match=f"{names} do not align along dimension 'z'"):
@@ -146,8 +198,9 @@ def test_misaligned_xarray_inputs_name_the_arguments(func, args, names):
 # --- one position rule ----------------------------------------------------------------------
 
 _POSITION_CALLS = [
-    lambda lat, lon: ss.sound_speed(10.0, 35.0, 100.0, latitude=lat, longitude=lon,
-                                    equation="teos10"),
+    lambda lat, lon: ss.sound_speed(
+        10.0, 35.0, 100.0, latitude=lat, longitude=lon, equation="teos10"
+    ),
     lambda lat, lon: ss.sound_speed(10.0, 35.0, depth=100.0, latitude=lat, longitude=lon),
     lambda lat, lon: ss.teos10(10.0, 35.0, 100.0, lat, lon),
     lambda lat, lon: state.density(10.0, 35.0, 100.0, lat, lon),
@@ -157,14 +210,17 @@ _POSITION_CALLS = [
 
 
 @pytest.mark.parametrize("call", _POSITION_CALLS)
-@pytest.mark.parametrize("lat, lon, message", [
-    (np.nan, 10.0, "latitude is NaN"),
-    (10.0, np.nan, "longitude is NaN"),
-    (10.0, np.inf, "longitude must be finite"),
-    (-np.inf, 10.0, "latitude must be finite"),
-    (91.0, 10.0, "latitude must lie within -90..90"),
-    (10.0, 361.0, "longitude must lie within -180..360"),
-])
+@pytest.mark.parametrize(
+    "lat, lon, message",
+    [
+        (np.nan, 10.0, "latitude is NaN"),
+        (10.0, np.nan, "longitude is NaN"),
+        (10.0, np.inf, "longitude must be finite"),
+        (-np.inf, 10.0, "latitude must be finite"),
+        (91.0, 10.0, "latitude must lie within -90..90"),
+        (10.0, 361.0, "longitude must lie within -180..360"),
+    ],
+)
 def test_one_position_rule_before_any_library(call, lat, lon, message):
     # an infinite longitude used to crash inside the TEOS-10 library; NaN gave NaN in one
     # function, an error in another and reference salinity in a third
@@ -172,8 +228,13 @@ def test_one_position_rule_before_any_library(call, lat, lon, message):
         call(lat, lon)
 
 
-@pytest.mark.parametrize("func", [ss.leroy2008, lambda t, s, z, lat: ss.sound_speed(
-    t, s, depth=z, latitude=lat, equation="leroy2008")])
+@pytest.mark.parametrize(
+    "func",
+    [
+        ss.leroy2008,
+        lambda t, s, z, lat: ss.sound_speed(t, s, depth=z, latitude=lat, equation="leroy2008"),
+    ],
+)
 def test_nan_latitude_refused_by_equation_functions_too(func):
     with pytest.raises(SeaprofileError, match="latitude is NaN at 1 of 2 points"):
         func(10.0, 35.0, 100.0, np.array([45.0, np.nan]))

@@ -87,8 +87,9 @@ def test_wong_zhu1995_reproduces_chen_millero1977():
     # last-digit rounding alone allows |dA01| T S <= 0.5e-5*40*40 = 0.008 m/s plus
     # |dA04| T^4 S <= 0.5e-10*40^4*40 = 0.005 m/s, plus ~0.001 m/s in the pure-water terms:
     # tolerance 0.015 m/s over the whole box (measured maximum 0.0095 m/s).
-    t, s, p = np.meshgrid(np.linspace(0, 40, 41), np.linspace(0, 40, 21),
-                          np.linspace(0, 10000, 21), indexing="ij")
+    t, s, p = np.meshgrid(
+        np.linspace(0, 40, 41), np.linspace(0, 40, 21), np.linspace(0, 10000, 21), indexing="ij"
+    )
     wz = sound_speed(t, s, p, equation="wong_zhu1995")
     cm = sound_speed(t, s, p, equation="chen_millero1977")
     assert np.max(np.abs(wz - cm)) <= 0.015
@@ -98,13 +99,27 @@ def _del_grosso_its90(t, s, p_dbar):
     """Del Grosso (1974) in the ITS-90 coefficient form of Wong & Zhu (1995), JASA 97(3),
     1732 (table number not checked; written out here as an independent reference; P in kg/cm^2)."""
     p = p_dbar / 9.80665
-    return (1402.392 + 0.5012285e1 * t - 0.551184e-1 * t**2 + 0.221649e-3 * t**3
-            + 0.1329530e1 * s + 0.1288598e-3 * s**2
-            + 0.1560592 * p + 0.2449993e-4 * p**2 - 0.8833959e-8 * p**3
-            - 0.1275936e-1 * s * t + 0.6353509e-2 * t * p + 0.2656174e-7 * t**2 * p**2
-            - 0.1593895e-5 * t * p**2 + 0.5222483e-9 * t * p**3 - 0.4383615e-6 * t**3 * p
-            - 0.1616745e-8 * s**2 * p**2 + 0.9688441e-4 * s * t**2
-            + 0.4857614e-5 * s**2 * t * p - 0.3406824e-3 * s * t * p)
+    return (
+        1402.392
+        + 0.5012285e1 * t
+        - 0.551184e-1 * t**2
+        + 0.221649e-3 * t**3
+        + 0.1329530e1 * s
+        + 0.1288598e-3 * s**2
+        + 0.1560592 * p
+        + 0.2449993e-4 * p**2
+        - 0.8833959e-8 * p**3
+        - 0.1275936e-1 * s * t
+        + 0.6353509e-2 * t * p
+        + 0.2656174e-7 * t**2 * p**2
+        - 0.1593895e-5 * t * p**2
+        + 0.5222483e-9 * t * p**3
+        - 0.4383615e-6 * t**3 * p
+        - 0.1616745e-8 * s**2 * p**2
+        + 0.9688441e-4 * s * t**2
+        + 0.4857614e-5 * s**2 * t * p
+        - 0.3406824e-3 * s * t * p
+    )
 
 
 def test_del_grosso1974_matches_its90_form():
@@ -112,8 +127,9 @@ def test_del_grosso1974_matches_its90_form():
     # Measured agreement with the 1974 set at T68 = 1.00024 T90 is 0.0009 m/s; the
     # tolerance 0.002 m/s is 8x below what a missing T68 conversion causes (0.016 m/s) and
     # 250x below the dropped-digit CP3 error (~0.5 m/s), so it checks both.
-    t, s, p = np.meshgrid(np.linspace(0, 30, 31), np.linspace(30, 40, 11),
-                          np.linspace(0, 9806.65, 41), indexing="ij")
+    t, s, p = np.meshgrid(
+        np.linspace(0, 30, 31), np.linspace(30, 40, 11), np.linspace(0, 9806.65, 41), indexing="ij"
+    )
     ours = sound_speed(t, s, p, equation="del_grosso1974")
     assert np.max(np.abs(ours - _del_grosso_its90(t, s, p))) <= 0.002
 
@@ -199,8 +215,12 @@ def test_teos10_thermodynamic_identity():
     # eq. 2.17.1): central differences of gsw.rho in pressure at fixed SA and CT (fixed CT
     # at fixed SA is fixed entropy), p in Pa = dbar * 1e4. Step 1 dbar: truncation error
     # ~1e-9 and round-off ~1e-11 relative, so 1e-6 relative is a safe bound.
-    t, s, p = np.meshgrid([-1.0, 2.0, 10.0, 20.0, 29.0], [33.0, 35.0, 37.0],
-                          [1.0, 100.0, 1000.0, 4000.0, 7000.0], indexing="ij")
+    t, s, p = np.meshgrid(
+        [-1.0, 2.0, 10.0, 20.0, 29.0],
+        [33.0, 35.0, 37.0],
+        [1.0, 100.0, 1000.0, 4000.0, 7000.0],
+        indexing="ij",
+    )
     sa = gsw.SR_from_SP(s)
     ct = gsw.CT_from_t(sa, t, p)
     h = 1.0
@@ -276,8 +296,7 @@ def test_nan_propagates(equation):
     # a NaN latitude is an unknown position, refused by every equation (one rule), even
     # where the equation would not use it; it never becomes NaN results or a fallback
     with pytest.raises(SeaprofileError, match="latitude is NaN at 1 of 2 points"):
-        sound_speed(10.0, 35.0, depth=[100.0, 200.0], latitude=[np.nan, 45.0],
-                    equation=equation)
+        sound_speed(10.0, 35.0, depth=[100.0, 200.0], latitude=[np.nan, 45.0], equation=equation)
 
 
 def test_broadcasting_and_bad_shapes():
@@ -286,8 +305,7 @@ def test_broadcasting_and_bad_shapes():
     with pytest.raises(SeaprofileError, match="temperature.*salinity"):
         sound_speed(np.ones(3), np.ones(4) * 35, 100.0)
     with pytest.raises(SeaprofileError, match="temperature"):
-        sound_speed(xr.DataArray(np.ones(3), dims="z"), xr.DataArray(np.ones(4), dims="z"),
-                    100.0)
+        sound_speed(xr.DataArray(np.ones(3), dims="z"), xr.DataArray(np.ones(4), dims="z"), 100.0)
     with pytest.raises(SeaprofileError, match="temperature"):
         sound_speed("warm", 35.0, 100.0)
 
@@ -338,9 +356,16 @@ def test_validity_mask_edges(equation):
 
 
 def test_registry_entries():
-    assert set(EQUATIONS) == {"mackenzie1981", "chen_millero1977", "wong_zhu1995",
-                              "del_grosso1974", "coppens1981", "medwin1975", "leroy2008",
-                              "teos10"}
+    assert set(EQUATIONS) == {
+        "mackenzie1981",
+        "chen_millero1977",
+        "wong_zhu1995",
+        "del_grosso1974",
+        "coppens1981",
+        "medwin1975",
+        "leroy2008",
+        "teos10",
+    }
     for name, eq in EQUATIONS.items():
         assert eq.name == name and eq.needs in ("pressure", "depth")
         assert callable(eq.function) and eq.reference
@@ -355,8 +380,13 @@ def test_registry_entries():
 
 def _in_box(eq):
     (tl, th), (sl, sh), (vl, vh) = eq.temperature_range, eq.salinity_range, eq.vertical_range
-    return (st.floats(tl, th), st.floats(sl, sh), st.floats(vl, vh), st.floats(vl, vh),
-            st.floats(-80.0, 80.0))
+    return (
+        st.floats(tl, th),
+        st.floats(sl, sh),
+        st.floats(vl, vh),
+        st.floats(vl, vh),
+        st.floats(-80.0, 80.0),
+    )
 
 
 @pytest.mark.parametrize("equation", list(EQUATIONS))
@@ -389,7 +419,8 @@ def test_validity_mask_xarray_and_dask():
     expected = [True, False, False, False]
     np.testing.assert_array_equal(validity_mask(t, 35.0, p), expected)
     xt = xr.DataArray(t, dims="z")
-    np.testing.assert_array_equal(validity_mask(xt, 35.0, xr.DataArray(p, dims="z")).values,
-                                  expected)
+    np.testing.assert_array_equal(
+        validity_mask(xt, 35.0, xr.DataArray(p, dims="z")).values, expected
+    )
     lazy = validity_mask(da.from_array(t, chunks=2), 35.0, depth=p * 0.99, latitude=30.0)
     np.testing.assert_array_equal(lazy.compute(), expected)

@@ -40,9 +40,7 @@ def test_salinity_from_conductivity_is_gsw():
 
 def test_absolute_salinity_with_and_without_position():
     # gsw: SA_from_SP with a position, SR_from_SP (35.16504/35 * SP) without one
-    np.testing.assert_array_equal(
-        absolute_salinity(S, P, LAT, LON), gsw.SA_from_SP(S, P, LON, LAT)
-    )
+    np.testing.assert_array_equal(absolute_salinity(S, P, LAT, LON), gsw.SA_from_SP(S, P, LON, LAT))
     np.testing.assert_array_equal(absolute_salinity(S, P), gsw.SR_from_SP(S))
     # a NaN position is unknown and refused (one rule for every function); a Cast without
     # a fix passes None, which means reference salinity
@@ -55,9 +53,7 @@ def test_density_and_sigma0_are_gsw():
     ct = gsw.CT_from_t(sa, T, P)
     # gsw (TEOS-10 reference library): rho(SA, CT, p) and sigma0(SA, CT)
     np.testing.assert_array_equal(density(T, S, P, LAT, LON), gsw.rho(sa, ct, P))
-    np.testing.assert_array_equal(
-        potential_density_anomaly(T, S, P, LAT, LON), gsw.sigma0(sa, ct)
-    )
+    np.testing.assert_array_equal(potential_density_anomaly(T, S, P, LAT, LON), gsw.sigma0(sa, ct))
     sr = gsw.SR_from_SP(S)
     np.testing.assert_array_equal(density(T, S, P), gsw.rho(sr, gsw.CT_from_t(sr, T, P), P))
 
