@@ -67,7 +67,7 @@ def _inside_package(py_file) -> bool:
 class _PackageCacheLocator(caching._SourceFileBackedLocatorMixin, caching._CacheLocator):
     """Cache locator for seaprofile's kernels: a per-user folder, outside the package."""
 
-    _base: Path = None  # chosen once per process, on the first kernel that compiles
+    _base: Path | None = None  # chosen once per process, on the first kernel that compiles
 
     def __init__(self, py_func, py_file):
         self._py_file = py_file

@@ -85,7 +85,7 @@ def parse_position(text, which):
     Raises
     ------
     SeaprofileError
-        Unparseable text, minutes >= 60, a wrong hemisphere letter, or out of range.
+        Unparsable text, minutes >= 60, a wrong hemisphere letter, or out of range.
     """
     if str(text).strip().lower() in ("", "nan", "unknown", "none"):
         return float("nan")

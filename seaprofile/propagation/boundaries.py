@@ -243,7 +243,7 @@ class Bathymetry:
             self.depths, other.depths
         )
 
-    __hash__ = None
+    __hash__ = None  # type: ignore[assignment]
 
     def to_attrs(self):
         """A summary (``bathymetry_*``): kind, points, depth and range span, m."""

@@ -7,12 +7,14 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import numba
 import numpy as np
 
 from ._apply import run_loop
 
-_JIT = {"cache": True, "nogil": True, "error_model": "numpy"}
+_JIT: dict[str, Any] = {"cache": True, "nogil": True, "error_model": "numpy"}
 
 
 @numba.njit(**_JIT)

@@ -12,12 +12,14 @@ cache afterwards; nothing is compiled when the package is imported.
 
 from __future__ import annotations
 
+from typing import Any
+
 import numba
 import numpy as np
 
 # error_model="numpy": division by zero gives inf/NaN as in numpy, never an exception;
 # nogil: the loops release the GIL, as numpy ufunc loops do (dask threads run in parallel)
-_JIT = {"cache": True, "nogil": True, "error_model": "numpy"}
+_JIT: dict[str, Any] = {"cache": True, "nogil": True, "error_model": "numpy"}
 
 _DEG = np.pi / 180.0
 _NEWTON_STEPS = 4  # from a first guess good to ~1 m, 2 steps already reach < 1e-9 m

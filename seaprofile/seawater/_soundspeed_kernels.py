@@ -18,6 +18,7 @@ is the checked entry point. (Kept here, beside the coefficients, so each module 
 from __future__ import annotations
 
 import math
+from typing import Any
 
 import gsw
 import numba
@@ -27,7 +28,7 @@ from ._apply import output_attrs, pointwise, run_loop
 
 # error_model="numpy": division by zero gives inf/NaN as in numpy, never an exception;
 # nogil: the loops release the GIL, as numpy ufunc loops do (dask threads run in parallel)
-_JIT = {"cache": True, "nogil": True, "error_model": "numpy"}
+_JIT: dict[str, Any] = {"cache": True, "nogil": True, "error_model": "numpy"}
 
 # IPTS-68 from ITS-90 in the oceanographic range (Saunders 1990): T68 = 1.00024 T90.
 _T68_PER_T90 = 1.00024
