@@ -366,7 +366,14 @@ def build_files(
         for p in paths:
             if is_same_file(out_dir, p):
                 raise ArgumentError("out_dir", f"{out_dir} is an input file of this batch")
-        Path(out_dir).mkdir(parents=True, exist_ok=True)
+        if Path(out_dir).exists() and not Path(out_dir).is_dir():
+            raise ArgumentError("out_dir", f"{out_dir} exists and is not a directory")
+        try:
+            Path(out_dir).mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise ArgumentError(
+                "out_dir", f"cannot create the directory {out_dir}: {exc.strerror or exc}"
+            ) from None
     build_options = dict(
         equation=equation,
         bin_size=float(bin_size),

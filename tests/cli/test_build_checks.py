@@ -259,3 +259,13 @@ def test_max_gap_reaches_the_profile(tmp_path, capsys):
         profile = xr.open_dataset(next(out.glob("*.nc")))
         assert (profile.attrs["unfilled_gaps"] != "none") == unfilled, option
     capsys.readouterr()
+
+
+def test_output_directory_that_cannot_be_one(tmp_path, capsys):
+    a_file = tmp_path / "a_file"
+    a_file.write_text("not a directory")
+    for out in (a_file, a_file / "below"):
+        assert main(["build", TWO[0], "--out", str(out)]) == 2
+        err = one_line_error(capsys)
+        assert err.startswith("seaprofile build: error: --out") and "Errno" not in err
+    assert a_file.read_text() == "not a directory"
