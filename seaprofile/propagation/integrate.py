@@ -67,7 +67,7 @@ from .codes import (
     STEP_LIMIT,
     check_memory,
 )
-from .rayfan import check_fan_args, rayfan_dataset
+from .rayfan import check_fan_args, rayfan_from_output
 from .section import Section
 
 
@@ -307,28 +307,14 @@ def trace_fan_integrated(
         max_bounces=mb,
     )
     section = environment.section
-    ds = rayfan_dataset(
-        out["range"],
-        out["depth"],
-        out["travel_time"],
-        out["angle"],
-        out["point_count"],
+    ds = rayfan_from_output(
+        out,
         a,
-        out["surface_reflections"],
-        out["bottom_reflections"],
-        out["turning_points"],
-        out["end_reason"],
         source_depth=zs,
         max_range=rmax,
         max_bounces=mb,
         environment=environment,
         solver="integrated",
-        point_kind=out["point_kind"],
-        sound_speed=out["sound_speed"],
-        tube_width=out["tube_width"],
-        tube_slowness=out["tube_slowness"],
-        reflections=(out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
-        caustics=out["caustics"],
         range_step=range_step,
         step_parameters={
             "tolerance_m": tol,

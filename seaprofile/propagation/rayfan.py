@@ -54,7 +54,7 @@ from .codes import (
 )
 from .environment import Environment
 
-__all__ = ["check_fan_args", "rayfan_dataset"]
+__all__ = ["check_fan_args", "rayfan_dataset", "rayfan_from_output"]
 
 
 def _flag_attrs(codes, long_name):
@@ -63,6 +63,40 @@ def _flag_attrs(codes, long_name):
         "flag_values": np.array(sorted(codes), dtype=np.int8),
         "flag_meanings": " ".join(codes[k] for k in sorted(codes)),
     }
+
+
+def rayfan_from_output(out, launch_angle, **settings):
+    """A RayFan Dataset from the output dict both solvers return (keys as the record).
+
+    Parameters
+    ----------
+    out : dict of ndarray
+        ``range``, ``depth``, ``travel_time``, ``angle``, ``point_count``,
+        ``surface_reflections``, ``bottom_reflections``, ``turning_points``, ``end_reason``,
+        ``point_kind``, ``caustics``, ``sound_speed``, ``tube_width``, ``tube_slowness``,
+        ``reflection_boundary``, ``reflection_range``, ``grazing_angle``; units as in
+        :func:`rayfan_dataset`.
+    launch_angle : ndarray (ray,)
+        Launch angles, degrees, positive down.
+    **settings
+        The keyword arguments of :func:`rayfan_dataset` (``source_depth`` m, ``max_range``
+        m, ``max_bounces``, ``environment``, ``solver``, ``range_step`` m,
+        ``step_parameters``).
+    """
+    columns = ("range", "depth", "travel_time", "angle", "point_count")
+    counts = ("surface_reflections", "bottom_reflections", "turning_points", "end_reason")
+    return rayfan_dataset(
+        *(out[k] for k in columns),
+        launch_angle,
+        *(out[k] for k in counts),
+        point_kind=out["point_kind"],
+        caustics=out["caustics"],
+        sound_speed=out["sound_speed"],
+        tube_width=out["tube_width"],
+        tube_slowness=out["tube_slowness"],
+        reflections=(out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
+        **settings,
+    )
 
 
 def rayfan_dataset(

@@ -12,7 +12,7 @@ import numpy as np
 
 from . import integrate, kernels
 from .codes import DEFAULT_MAX_BOUNCES
-from .rayfan import check_fan_args, rayfan_dataset
+from .rayfan import check_fan_args, rayfan_from_output
 
 __all__ = ["trace_fan"]
 
@@ -73,28 +73,14 @@ def trace_fan(
         n = int(np.ceil(rmax / float(range_step) - 1e-9))
         ranges = np.minimum(np.arange(n + 1) * float(range_step), rmax)
         out = kernels.fan_samples(zn, cn, zs, a, ranges, mb)
-    return rayfan_dataset(
-        out["range"],
-        out["depth"],
-        out["travel_time"],
-        out["angle"],
-        out["point_count"],
+    return rayfan_from_output(
+        out,
         a,
-        out["surface_reflections"],
-        out["bottom_reflections"],
-        out["turning_points"],
-        out["end_reason"],
         source_depth=zs,
         max_range=rmax,
         max_bounces=mb,
         environment=environment,
         solver="exact_layered",
-        point_kind=out["point_kind"],
-        caustics=out["caustics"],
         range_step=range_step,
         step_parameters={"layers": int(zn.size - 1)},
-        sound_speed=out["sound_speed"],
-        tube_width=out["tube_width"],
-        tube_slowness=out["tube_slowness"],
-        reflections=(out["reflection_boundary"], out["reflection_range"], out["grazing_angle"]),
     )
