@@ -12,6 +12,13 @@ from .environment import Environment, LayeredSpeed, thin_nodes
 from .integrate import trace_fan_integrated
 from .rayfan import rayfan_dataset
 from .rays import trace_fan
+from .reflection import (
+    SEDIMENTS,
+    rayleigh_reflection,
+    reflection_loss,
+    roughness_factor,
+    surface_reflection,
+)
 from .section import Section, great_circle_distance, track_ranges
 
 __all__ = [
@@ -20,6 +27,7 @@ __all__ = [
     "Environment",
     "LayeredSpeed",
     "POINT_KINDS",
+    "SEDIMENTS",
     "Seabed",
     "Section",
     "Surface",
@@ -28,6 +36,10 @@ __all__ = [
     "trace_fan_integrated",
     "eigenrays",
     "rayfan_dataset",
+    "rayleigh_reflection",
+    "reflection_loss",
+    "roughness_factor",
+    "surface_reflection",
     "thin_nodes",
     "trace_fan",
 ]

@@ -8,13 +8,16 @@ ray tracers and the later loss computations read from an
   optional root-mean-square wave height (m) kept for a coherent roughness loss;
 * :class:`Seabed`: a fluid half-space below the bottom: compressional sound speed (m/s),
   density (**kg m-3**, SI, the unit of ``_cf`` density) and attenuation (dB per wavelength),
-  with a free-text ``name`` ("sand", "silty clay" ...). No table of named sediments is
-  built in: give the values of the site (they are not invented here);
+  with a free-text ``name`` ("sand", "silty clay" ...); :meth:`Seabed.named` gives an entry
+  of a small table of sediment types recalled from a published compilation (from memory;
+  give the values of the site whenever known);
 * :class:`Bathymetry`: bottom depth (m, > 0) at ranges (m, strictly increasing), piecewise
   linear in range, the end depths held outside; a flat bottom is one depth at range 0.
 
 Each one writes itself into flat, netCDF-safe attributes (``to_attrs``) and reads back
-(``from_attrs``), so a RayFan or PathTable records the environment it was traced in.
+(``from_attrs``), so a RayFan or PathTable records the environment it was traced in. Their
+plane-wave reflection coefficients (``reflection_coefficient``) are computed in
+:mod:`~seaprofile.propagation.reflection`.
 """
 
 from __future__ import annotations
@@ -25,6 +28,7 @@ from typing import ClassVar
 import numpy as np
 
 from .._validate import SeaprofileError, as_float_array
+from . import reflection
 
 __all__ = ["Bathymetry", "Seabed", "Surface"]
 
@@ -58,13 +62,14 @@ class Surface:
     -----
     A pressure-release boundary reflects a plane wave with coefficient -1 at every grazing
     angle (Jensen, Kuperman, Porter & Schmidt, *Computational Ocean Acoustics*, 2nd ed.,
-    Springer 2011, ch. 1): :attr:`reflection_coefficient`.
+    Springer 2011, ch. 1): :attr:`PRESSURE_RELEASE`. :meth:`reflection_coefficient` adds
+    the coherent roughness loss of ``rms_wave_height``.
     """
 
     rms_wave_height: float = 0.0
 
-    #: Plane-wave reflection coefficient of a pressure-release surface.
-    reflection_coefficient: ClassVar[float] = -1.0
+    #: Plane-wave reflection coefficient of a smooth pressure-release surface.
+    PRESSURE_RELEASE: ClassVar[float] = -1.0
 
     def __post_init__(self):
         object.__setattr__(
@@ -77,9 +82,35 @@ class Surface:
         """Flat attributes (``surface_*``) recording this surface."""
         return {
             "surface": "pressure_release",
-            "surface_reflection_coefficient": self.reflection_coefficient,
+            "surface_reflection_coefficient": self.PRESSURE_RELEASE,
             "surface_rms_wave_height": self.rms_wave_height,
         }
+
+    def reflection_coefficient(self, grazing_angle, frequency=None, sound_speed=1500.0):
+        """Plane-wave reflection coefficient, ``-exp(-2 (k h sin theta)^2)``.
+
+        Parameters
+        ----------
+        grazing_angle : float or array_like
+            Grazing angle, degrees from horizontal (0..90); numpy, dask or xarray.
+        frequency : float, optional
+            Frequency, Hz (> 0); needed when ``rms_wave_height > 0``.
+        sound_speed : float
+            Sound speed of the water at the surface, m/s (default 1500).
+
+        Returns
+        -------
+        complex array (or DataArray)
+            R, dimensionless: -1 for a smooth surface.
+
+        Notes
+        -----
+        :func:`~seaprofile.propagation.reflection.surface_reflection`: pressure release times
+        the coherent roughness factor (Kirchhoff approximation; Eckart 1953, from memory).
+        """
+        return reflection.surface_reflection(
+            grazing_angle, frequency, self.rms_wave_height, sound_speed
+        )
 
     @classmethod
     def from_attrs(cls, attrs):
@@ -106,10 +137,11 @@ class Seabed:
 
     Notes
     -----
-    No values are built in: a named sediment table (with its published source) belongs to
-    the boundary-loss computation. The ray tracers take the bottom as a reflector; the
-    Seabed is carried for the loss (Rayleigh reflection coefficient of a fluid half-space,
-    Jensen et al. 2011, ch. 1).
+    The ray tracers take the bottom as a reflector; the Seabed is carried for the loss:
+    :meth:`reflection_coefficient` (Rayleigh reflection coefficient of a fluid half-space,
+    Jensen et al. 2011, ch. 1). :meth:`named` gives a sediment type of
+    :data:`~seaprofile.propagation.reflection.SEDIMENTS` (values from memory of Jensen et al.
+    2011, ch. 1); the values of the site are better whenever known.
     """
 
     sound_speed: float
@@ -143,6 +175,60 @@ class Seabed:
             "seabed_density": self.density,
             "seabed_attenuation": self.attenuation,
         }
+
+    @classmethod
+    def named(cls, name):
+        """The sediment type ``name`` of :data:`~seaprofile.propagation.reflection.SEDIMENTS`.
+
+        Values from memory of the sediment table in Jensen et al. (2011), *Computational
+        Ocean Acoustics*, ch. 1; an unknown name raises SeaprofileError listing the known ones.
+        """
+        key, values = reflection.sediment(name)
+        return cls(name=key, **values)
+
+    def reflection_coefficient(
+        self, grazing_angle, frequency=None, water_sound_speed=1500.0, water_density=1025.0
+    ):
+        """Rayleigh plane-wave reflection coefficient of this seabed below the water.
+
+        Parameters
+        ----------
+        grazing_angle : float or array_like
+            Grazing angle in the water, degrees from horizontal (0..90); numpy, dask or
+            xarray.
+        frequency : float, optional
+            Frequency, Hz (> 0 when given). The attenuation is per wavelength, so a fluid
+            half-space reflects alike at every frequency: checked, not used.
+        water_sound_speed : float
+            Sound speed of the water at the bottom, m/s (default 1500).
+        water_density : float
+            Density of the water at the bottom, kg m-3 (default 1025).
+
+        Returns
+        -------
+        complex array (or DataArray)
+            R, dimensionless, ``|R| <= 1``; the loss is ``-20 log10 |R|``
+            (:func:`~seaprofile.propagation.reflection.reflection_loss`).
+
+        Notes
+        -----
+        :func:`~seaprofile.propagation.reflection.rayleigh_reflection` (Jensen et al. 2011,
+        ch. 1).
+        """
+        if frequency is not None:
+            _number("Seabed", "frequency (Hz)", frequency, positive=True)
+        return reflection.rayleigh_reflection(
+            grazing_angle,
+            water_sound_speed,
+            water_density,
+            self.sound_speed,
+            self.density,
+            self.attenuation,
+        )
+
+    def reflection_loss(self, grazing_angle, **water):
+        """Bottom reflection loss, dB, ``-20 log10 |R|`` (see :meth:`reflection_coefficient`)."""
+        return reflection.reflection_loss(self.reflection_coefficient(grazing_angle, **water))
 
     @staticmethod
     def attrs_of(seabed):
