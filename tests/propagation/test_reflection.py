@@ -195,3 +195,15 @@ def test_named_seabed_and_rough_surface_round_trip_through_attrs():
     assert attrs["surface_reflection_coefficient"] == -1.0
     assert Surface.from_attrs(attrs) == surface
     assert Seabed.from_attrs(attrs) == seabed
+
+
+def test_every_array_kind_gives_the_numpy_numbers(array_kind, count_tasks):
+    # the one dispatcher (seawater._apply.pointwise): numpy, xarray, dask, xarray on dask
+    theta = np.linspace(0.0, 90.0, 12).reshape(3, 4)
+    expected = rayleigh_reflection(theta, C1, RHO1, 1650.0, 1900.0, 0.8)
+    with count_tasks() as counter:
+        lazy = rayleigh_reflection(array_kind(theta), C1, RHO1, 1650.0, 1900.0, 0.8)
+        rough = roughness_factor(array_kind(theta), 500.0, 0.3)
+        assert counter.tasks == 0  # nothing computed before asked
+    np.testing.assert_array_equal(array_kind.values(lazy), expected)
+    np.testing.assert_array_equal(array_kind.values(rough), roughness_factor(theta, 500.0, 0.3))
