@@ -87,26 +87,13 @@ class Surface:
         }
 
     def reflection_coefficient(self, grazing_angle, frequency=None, sound_speed=1500.0):
-        """Plane-wave reflection coefficient, ``-exp(-2 (k h sin theta)^2)``.
+        """Plane-wave reflection coefficient R = ``-exp(-2 (k h sin theta)^2)`` of this surface.
 
-        Parameters
-        ----------
-        grazing_angle : float or array_like
-            Grazing angle, degrees from horizontal (0..90); numpy, dask or xarray.
-        frequency : float, optional
-            Frequency, Hz (> 0); needed when ``rms_wave_height > 0``.
-        sound_speed : float
-            Sound speed of the water at the surface, m/s (default 1500).
-
-        Returns
-        -------
-        complex array (or DataArray)
-            R, dimensionless: -1 for a smooth surface.
-
-        Notes
-        -----
-        :func:`~seaprofile.propagation.reflection.surface_reflection`: pressure release times
-        the coherent roughness factor (Kirchhoff approximation; Eckart 1953, from memory).
+        ``grazing_angle`` in degrees from horizontal (0..90; numpy, dask or xarray),
+        ``frequency`` in Hz (needed when ``rms_wave_height > 0``), ``sound_speed`` of the water
+        at the surface in m/s; R is complex and dimensionless, -1 for a smooth surface. See
+        :func:`~seaprofile.propagation.reflection.surface_reflection` (pressure release times
+        the coherent roughness factor; Kirchhoff approximation, Eckart 1953, from memory).
         """
         return reflection.surface_reflection(
             grazing_angle, frequency, self.rms_wave_height, sound_speed

@@ -15,6 +15,8 @@ coefficients are complex: the phase is kept for coherent sums of arrivals. Time 
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from .._validate import SeaprofileError
@@ -32,7 +34,7 @@ __all__ = [
 
 #: Imaginary fraction of the wavenumber per dB/wavelength: 1 / (40 pi log10 e), about
 #: 0.01833 (Jensen, Kuperman, Porter & Schmidt 2011, ch. 1).
-DB_PER_WAVELENGTH = 1.0 / (40.0 * np.pi * np.log10(np.e))
+DB_PER_WAVELENGTH = 1.0 / (40.0 * math.pi * math.log10(math.e))
 
 _JENSEN = (
     "Jensen, F.B., Kuperman, W.A., Porter, M.B. & Schmidt, H. (2011), Computational Ocean "
