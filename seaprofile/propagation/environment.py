@@ -247,10 +247,13 @@ class Environment:
         if not isinstance(self.surface, Surface):
             raise SeaprofileError(f"surface must be a Surface, got {self.surface!r}")
         if isinstance(self.seabed, str):
+            from .reflection import SEDIMENTS
+
             raise SeaprofileError(
-                f"seabed must be a Seabed or None, got the name {self.seabed!r}: no table of "
-                "named sediments is built in; give Seabed(sound_speed=..., density=..., "
-                "attenuation=..., name=...) with the values of the site"
+                f"seabed must be a Seabed or None, got the name {self.seabed!r}: use "
+                f"Seabed.named({self.seabed!r}) (known: {', '.join(SEDIMENTS)}) or "
+                "Seabed(sound_speed=..., density=..., attenuation=..., name=...) with the "
+                "values of the site"
             )
         if self.seabed is not None and not isinstance(self.seabed, Seabed):
             raise SeaprofileError(f"seabed must be a Seabed or None, got {self.seabed!r}")
