@@ -1,15 +1,16 @@
 """Compiled arc kernels of the exact layered ray solver (:mod:`.kernels`).
 
 One ray traced piece by piece along circular arcs (:func:`_trace_ray`), and a fan of
-them in parallel (:func:`_fan_kernel`). The loop calls one helper per job, all inlined into
-it (``inline="always"``, numba IR level; left to LLVM the fan kernel ran ~2x slower): the
-launch (:func:`_launch`), one piece to the layer's node or turning point
+them in parallel (:func:`_fan_kernel`). The loop calls one helper per job, each inlined
+into it (``inline="always"``, numba IR level; left to LLVM's inlining an early split ran
+~40% slower): the launch (:func:`_launch`), one piece to the layer's node or turning point
 (:func:`_layer_piece`), a point inside a piece for samples and the end
 (:func:`_inside_piece`), a reflection at the surface or the bottom (:func:`_reflect`,
 :func:`_store_reflection`) and the writing of path points and samples. The crossing of an
-inner node stays in the loop: as a helper it cost ~7% of the fan kernel. The closed forms (range, travel time, dynamic ray
-q and P per piece) and the grazing rules they implement are written out in the docstring
-of :mod:`seaprofile.propagation.kernels`, which also holds the numpy entry points.
+inner node stays in the loop: as a helper it cost ~7% of the fan kernel. The closed
+forms (range, travel time, dynamic ray q and P per piece) and the grazing rules they
+implement are written out in the docstring of :mod:`seaprofile.propagation.kernels`,
+which also holds the numpy entry points.
 """
 
 from __future__ import annotations
