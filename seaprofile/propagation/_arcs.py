@@ -1,9 +1,16 @@
 """Compiled arc kernels of the exact layered ray solver (:mod:`.kernels`).
 
 One ray traced piece by piece along circular arcs (:func:`_trace_ray`), and a fan of
-them in parallel (:func:`_fan_kernel`). The closed forms (range, travel time, dynamic ray
-q and P per piece) and the grazing rules they implement are written out in the docstring
-of :mod:`seaprofile.propagation.kernels`, which also holds the numpy entry points.
+them in parallel (:func:`_fan_kernel`). The loop calls one helper per job, each inlined
+into it (``inline="always"``, numba IR level; left to LLVM's inlining an early split ran
+~40% slower): the launch (:func:`_launch`), one piece to the layer's node or turning point
+(:func:`_layer_piece`), a point inside a piece for samples and the end
+(:func:`_inside_piece`), a reflection at the surface or the bottom (:func:`_reflect`,
+:func:`_store_reflection`) and the writing of path points and samples. The crossing of an
+inner node stays in the loop: as a helper it cost ~7% of the fan kernel. The closed
+forms (range, travel time, dynamic ray q and P per piece) and the grazing rules they
+implement are written out in the docstring of :mod:`seaprofile.propagation.kernels`,
+which also holds the numpy entry points.
 """
 
 from __future__ import annotations
@@ -93,7 +100,7 @@ def _store_reflection(rf_r, rf_a, rf_k, m, r, sa, cosv, boundary):
         rf_k[m] = boundary
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, inline="always")
 def _start_direction(zn, gn, j, n):
     """Direction of a horizontal ray at node j: +1 down, -1 up, 0 stays (local minimum)."""
     if j < n and gn[j] < 0.0:
@@ -103,25 +110,10 @@ def _start_direction(zn, gn, j, n):
     return 0
 
 
-@numba.njit(cache=True, fastmath=_FM)
-def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
-               s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k,
-               rf_r, rf_a, rf_k, max_steps):
-    """Trace one ray exactly; write samples at ``samp_r`` and (up to len(p_r)) path points.
-
-    Per sample (``s_*``, length of ``samp_r`` or 0) and per path point (``p_*``): depth,
-    time, angle (degrees), sound speed, the dynamic-ray q and P; path points also range and
-    kind; ``s_cnt`` (0 rows, or one per sample) the counts of reflections, turning points
-    and caustics so far; per reflection (up to len(rf_r)) its range, grazing angle and
-    boundary (``REFLECTION_BOUNDARIES``).
-
-    Returns (npoints, surface, bottom, turning, caustics, end_reason, steps).
-    """
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _launch(zn, cn, gn, zs, theta):
+    """Start of a ray: (layer, direction +1 down / -1 up / 0 level, c, p, |sin|)."""
     n = zn.size - 1  # layers
-    maxpts = p_r.size
-    nsamp = samp_r.size
-    want_cnt = s_cnt.shape[0] > 0
-    # source sound speed and layer
     jr = np.searchsorted(zn, zs, side="right") - 1
     if jr > n - 1:
         jr = n - 1
@@ -135,19 +127,6 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
     p = cth / cs
     sa = abs(sth)
     d = 1 if sth > 0.0 else (-1 if sth < 0.0 else 0)
-    z = zs
-    c = cs
-    r = 0.0
-    t = 0.0
-    q = 0.0
-    pp = 1.0 / cs
-    qsign = 0
-    ns = 0
-    nb = 0
-    nt = 0
-    nc = 0
-    reason = RANGE_REACHED
-    # layer and direction
     jl = np.searchsorted(zn, zs, side="left")  # first node >= zs
     at_node = jl <= n and zn[jl] == zs
     if d > 0:
@@ -170,31 +149,162 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                 d = 0
     if i > n - 1:
         i = n - 1
+    return i, d, cs, p, sa
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _layer_piece(z, c, sa, p, gm, zb, cb, tli, on_node):
+    """The arc from depth z (sound speed c, |sin| sa) towards the node zb (cb) of its layer.
+
+    ``gm``: the layer gradient in the direction of travel; ``tli``: int dz / c across the
+    layer (used when the piece crosses it whole). Ends at the node or at the turning point
+    inside the layer. Returns (turning, dz, |sin| at the end, c at the end, K, dt).
+    """
+    cosa = p * c
+    cosb = p * cb
+    dzb = abs(zb - z)
+    turning = False
+    dzt = 0.0
+    if gm > 0.0 and cosa > 0.0:
+        # depth to the turning point, from s_a^2 (accurate near grazing, where
+        # 1 - p c_b is not): the ray turns inside the layer when it is shorter than the
+        # way to the node, or when p c_b >= 1
+        dzt = c * sa * sa / (cosa * (1.0 + cosa) * gm)
+        turning = cosb >= 1.0 or dzt < dzb
+    if not turning:
+        # small sines from Snell's law as an increment, s_b^2 = s_a^2 - p^2 g dz
+        # (c_a + c_b): exact where 1 - (p c_b)^2 has lost its digits (it rounds a sine
+        # below ~1e-8 to 0 or to noise; a near-horizontal ray in an isovelocity layer
+        # then got twice its range)
+        sb2 = sa * sa - p * p * gm * dzb * (c + cb)
+        if sb2 < _SMALL_SINE2:
+            sb = np.sqrt(sb2) if sb2 > 0.0 else 0.0
+        else:
+            sb = _sin_from_cos(cosb)
+        dz = dzb
+        ce = cb
+    else:
+        dz = dzt
+        if dz > dzb:
+            dz = dzb
+        sb = 0.0
+        ce = c + gm * dz
+    if on_node and not turning and sa + sb > 0.0:
+        kk, dt = _piece_full(dz, c, ce, sa, sb, gm, p, tli)
+    else:
+        kk, dt = _piece(dz, c, ce, sa, sb, gm, p)
+    return turning, dz, sb, ce, kk, dt
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _inside_piece(drk, c, sa, p, gm, dz):
+    """A point ``drk`` m in range into a piece that starts with (c, sa) and is dz deep.
+
+    Returns (depth offset along the piece, |sin|, c, K, dt) there.
+    """
+    sk = sa - p * gm * drk
+    if sk < 0.0:
+        sk = 0.0
+    elif sk > 1.0:
+        sk = 1.0
+    cok = _sin_from_cos(sk)
+    den = p * c + cok
+    dzk = drk * (sa + sk) / den if den > 0.0 else 0.0
+    if dzk > dz:
+        dzk = dz
+    ck = c + gm * dzk
+    kk2, dt2 = _piece(dzk, c, ck, sa, sk, gm, p)
+    return dzk, sk, ck, kk2, dt2
+
+
+@numba.njit(cache=True, inline="always")
+def _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, m, r, z, t, a, c, q, pp, kind):
+    """Write path point m (the caller checks m < len(p_r))."""
+    p_r[m] = r
+    p_z[m] = z
+    p_t[m] = t
+    p_a[m] = a
+    p_c[m] = c
+    p_q[m] = q
+    p_p[m] = pp
+    p_k[m] = kind
+
+
+@numba.njit(cache=True, inline="always")
+def _put_sample(s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, k, z, t, a, q, c, pp, ns, nb, nt, nc):
+    """Write sample k, and its counts when ``s_cnt`` has rows."""
+    s_z[k] = z
+    s_t[k] = t
+    s_a[k] = a
+    s_q[k] = q
+    s_c[k] = c
+    s_p[k] = pp
+    if s_cnt.shape[0] > 0:
+        s_cnt[k, 0] = ns
+        s_cnt[k, 1] = nb
+        s_cnt[k, 2] = nt
+        s_cnt[k, 3] = nc
+
+
+@numba.njit(cache=True, inline="always")
+def _sign_change(qn, qsign):
+    """1 when q changes sign against ``qsign`` (a caustic), else 0."""
+    return 1 if (qn > 0.0 and qsign < 0) or (qn < 0.0 and qsign > 0) else 0
+
+
+@numba.njit(cache=True, inline="always", fastmath=_FM)
+def _reflect(gin, c, sa, q, p2, pp):
+    """Reflection at the surface or the bottom, whose gradient ``gin`` (> 0 bends the ray
+    back into the water) holds a ray this near grazing along it (|sin| 0 then).
+
+    Returns (|sin|, P after the reflection); ``p2`` = p^2.
+    """
+    if gin > 0.0 and sa < RIDE_SINE and c * sa * sa < 2.0 * gin * RIDE_DEPTH:
+        sa = 0.0
+    if sa > 0.0:
+        pp -= q * 2.0 * gin * p2 / sa
+    return sa, pp
+
+
+@numba.njit(cache=True, fastmath=_FM)
+def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
+               s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k,
+               rf_r, rf_a, rf_k, max_steps):
+    """Trace one ray exactly; write samples at ``samp_r`` and (up to len(p_r)) path points.
+
+    Per sample (``s_*``, length of ``samp_r`` or 0) and per path point (``p_*``): depth,
+    time, angle (degrees), sound speed, the dynamic-ray q and P; path points also range and
+    kind; ``s_cnt`` (0 rows, or one per sample) the counts of reflections, turning points
+    and caustics so far; per reflection (up to len(rf_r)) its range, grazing angle and
+    boundary (``REFLECTION_BOUNDARIES``).
+
+    Returns (npoints, surface, bottom, turning, caustics, end_reason, steps).
+    """
+    n = zn.size - 1  # layers
+    maxpts = p_r.size
+    nsamp = samp_r.size
+    i, d, c, p, sa = _launch(zn, cn, gn, zs, theta)
+    z = zs
+    r = 0.0
+    t = 0.0
+    q = 0.0
+    pp = 1.0 / c
+    qsign = 0
+    ns = 0
+    nb = 0
+    nt = 0
+    nc = 0
+    reason = RANGE_REACHED
     npts = 0
     k = 0
     # start point and samples at r = 0
     if npts < maxpts:
-        p_r[npts] = 0.0
-        p_z[npts] = z
-        p_t[npts] = 0.0
-        p_a[npts] = np.degrees(theta)
-        p_c[npts] = c
-        p_q[npts] = 0.0
-        p_p[npts] = pp
-        p_k[npts] = START
+        _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, 0.0, z, 0.0,
+                   np.degrees(theta), c, 0.0, pp, START)
     npts += 1
     while k < nsamp and samp_r[k] <= 0.0:
-        s_z[k] = z
-        s_t[k] = 0.0
-        s_a[k] = np.degrees(theta)
-        s_q[k] = 0.0
-        s_c[k] = c
-        s_p[k] = pp
-        if want_cnt:
-            s_cnt[k, 0] = 0
-            s_cnt[k, 1] = 0
-            s_cnt[k, 2] = 0
-            s_cnt[k, 3] = 0
+        _put_sample(s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, k, z, 0.0, np.degrees(theta), 0.0,
+                    c, pp, 0, 0, 0, 0)
         k += 1
     steps = 0
     on_node = False
@@ -207,164 +317,64 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             # horizontal straight travel along a node or in an isovelocity layer
             while k < nsamp:
                 dr = samp_r[k] - r
-                s_z[k] = z
-                s_t[k] = t + dr / c
-                s_a[k] = 0.0
-                s_q[k] = q + pp * c * dr
-                s_c[k] = c
-                s_p[k] = pp
-                if want_cnt:
-                    s_cnt[k, 0] = ns
-                    s_cnt[k, 1] = nb
-                    s_cnt[k, 2] = nt
-                    s_cnt[k, 3] = nc
+                _put_sample(s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, k, z, t + dr / c, 0.0,
+                            q + pp * c * dr, c, pp, ns, nb, nt, nc)
                 k += 1
             dr = rmax - r
             t += dr / c
             q += pp * c * dr
             r = rmax
             if npts < maxpts:
-                p_r[npts] = r
-                p_z[npts] = z
-                p_t[npts] = t
-                p_a[npts] = 0.0
-                p_c[npts] = c
-                p_q[npts] = q
-                p_p[npts] = pp
-                p_k[npts] = END
+                _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, r, z, t, 0.0, c, q,
+                           pp, END)
             npts += 1
             reason = RANGE_REACHED
             break
-        g = gn[i]
-        gm = g * d
+        gm = gn[i] * d
         if d > 0:
             zb = zn[i + 1]
             cb = cn[i + 1]
         else:
             zb = zn[i]
             cb = cn[i]
-        cosa = p * c
-        cosb = p * cb
-        dzb = abs(zb - z)
-        turning = False
-        dzt = 0.0
-        if gm > 0.0 and cosa > 0.0:
-            # depth to the turning point, from s_a^2 (accurate near grazing, where
-            # 1 - p c_b is not): the ray turns inside the layer when it is shorter than the
-            # way to the node, or when p c_b >= 1
-            dzt = c * sa * sa / (cosa * (1.0 + cosa) * gm)
-            turning = cosb >= 1.0 or dzt < dzb
-        if not turning:
-            # small sines from Snell's law as an increment, s_b^2 = s_a^2 - p^2 g dz
-            # (c_a + c_b): exact where 1 - (p c_b)^2 has lost its digits (it rounds a sine
-            # below ~1e-8 to 0 or to noise; a near-horizontal ray in an isovelocity layer
-            # then got twice its range)
-            sb2 = sa * sa - p * p * gm * dzb * (c + cb)
-            if sb2 < _SMALL_SINE2:
-                sb = np.sqrt(sb2) if sb2 > 0.0 else 0.0
-            else:
-                sb = _sin_from_cos(cosb)
-            dz = dzb
-            ce = cb
-        else:
-            dz = dzt
-            if dz > dzb:
-                dz = dzb
-            sb = 0.0
-            ce = c + gm * dz
-        if on_node and not turning and sa + sb > 0.0:
-            kk, dt = _piece_full(dz, c, ce, sa, sb, gm, p, tl[i])
-        else:
-            kk, dt = _piece(dz, c, ce, sa, sb, gm, p)
-        dr = p * kk
+        turning, dz, sb, ce, kk, dt = _layer_piece(z, c, sa, p, gm, zb, cb, tl[i], on_node)
         # samples inside this piece (and the end of the ray)
-        rend = r + dr
-        hit_end = rend >= rmax
+        rend = r + p * kk
         while k < nsamp and samp_r[k] <= rend:
-            drk = samp_r[k] - r
-            sk = sa - p * gm * drk
-            if sk < 0.0:
-                sk = 0.0
-            elif sk > 1.0:
-                sk = 1.0
-            cok = _sin_from_cos(sk)
-            den = cosa + cok
-            dzk = drk * (sa + sk) / den if den > 0.0 else 0.0
-            if dzk > dz:
-                dzk = dz
-            ck = c + gm * dzk
-            kk2, dt2 = _piece(dzk, c, ck, sa, sk, gm, p)
-            s_z[k] = z + d * dzk
-            s_t[k] = t + dt2
-            s_a[k] = d * np.degrees(np.arctan2(sk, p * ck))
-            s_q[k] = q + pp * kk2
-            s_c[k] = ck
-            s_p[k] = pp
-            if want_cnt:
-                qk = q + pp * kk2
-                extra = 0
-                if (qk > 0.0 and qsign < 0) or (qk < 0.0 and qsign > 0):
-                    extra = 1
-                s_cnt[k, 0] = ns
-                s_cnt[k, 1] = nb
-                s_cnt[k, 2] = nt
-                s_cnt[k, 3] = nc + extra
+            dzk, sk, ck, kk2, dt2 = _inside_piece(samp_r[k] - r, c, sa, p, gm, dz)
+            qk = q + pp * kk2
+            _put_sample(s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, k, z + d * dzk, t + dt2,
+                        d * np.degrees(np.arctan2(sk, p * ck)), qk, ck, pp, ns, nb, nt,
+                        nc + _sign_change(qk, qsign))
             k += 1
-        if hit_end:
-            drk = rmax - r
-            sk = sa - p * gm * drk
-            if sk < 0.0:
-                sk = 0.0
-            elif sk > 1.0:
-                sk = 1.0
-            cok = _sin_from_cos(sk)
-            den = cosa + cok
-            dzk = drk * (sa + sk) / den if den > 0.0 else 0.0
-            if dzk > dz:
-                dzk = dz
-            ck = c + gm * dzk
-            kk2, dt2 = _piece(dzk, c, ck, sa, sk, gm, p)
-            qn = q + pp * kk2
-            if (qn > 0.0 and qsign < 0) or (qn < 0.0 and qsign > 0):
-                nc += 1
+        if rend >= rmax:
+            dzk, sa, c, kk2, dt2 = _inside_piece(rmax - r, c, sa, p, gm, dz)
+            q = q + pp * kk2
+            nc += _sign_change(q, qsign)
             r = rmax
             z = z + d * dzk
             t = t + dt2
-            c = ck
-            sa = sk
-            q = qn
             if npts < maxpts:
-                p_r[npts] = r
-                p_z[npts] = z
-                p_t[npts] = t
-                p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
-                p_c[npts] = c
-                p_q[npts] = q
-                p_p[npts] = pp
-                p_k[npts] = END
+                _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, r, z, t,
+                           d * np.degrees(np.arctan2(sa, p * c)), c, q, pp, END)
             npts += 1
             reason = RANGE_REACHED
             break
         # advance to the end of the piece
-        qn = q + pp * kk
-        if qn > 0.0:
-            if qsign < 0:
-                nc += 1
+        q = q + pp * kk
+        nc += _sign_change(q, qsign)
+        if q > 0.0:
             qsign = 1
-        elif qn < 0.0:
-            if qsign > 0:
-                nc += 1
+        elif q < 0.0:
             qsign = -1
-        q = qn
         r = rend
         t += dt
         z = z + d * dz
         c = ce
         sa = sb
-        kind = LAYER_CROSSING
         stop = False
-        on_node = not turning
         if turning:
+            on_node = False
             nt += 1
             d = -d
             sa = 0.0
@@ -373,42 +383,36 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             z = zb
             c = cb
             p2 = p * p  # cos^2(theta) / c^2 at the node
+            on_node = True
             if d > 0 and i == n - 1:
                 nb += 1
-                d = -1
                 kind = BOTTOM_REFLECTION
                 _store_reflection(rf_r, rf_a, rf_k, ns + nb - 1, r, sa, p * c, AT_BOTTOM)
-                if (gn[n - 1] < 0.0 and sa < RIDE_SINE
-                        and c * sa * sa < -2.0 * gn[n - 1] * RIDE_DEPTH):
-                    sa = 0.0
-                if sa > 0.0:
-                    pp += q * 2.0 * gn[n - 1] * p2 / sa
-                else:
-                    # grazing the bottom (horizontal within rounding): the ray goes on
-                    # as a horizontal ray started there (along the bottom when the layer
-                    # above would bend it straight back down)
+                sa, pp = _reflect(-gn[n - 1], c, sa, q, p2, pp)
+                d = -1
+                if not sa > 0.0:
+                    # grazing the bottom (horizontal within rounding): the ray goes on as
+                    # a horizontal ray started there (along the bottom when the layer above
+                    # would bend it straight back down)
                     on_node = False
                     d = _start_direction(zn, gn, n, n)
             elif d < 0 and i == 0:
                 ns += 1
-                d = 1
                 kind = SURFACE_REFLECTION
                 _store_reflection(rf_r, rf_a, rf_k, ns + nb - 1, r, sa, p * c, AT_SURFACE)
-                if (gn[0] > 0.0 and sa < RIDE_SINE
-                        and c * sa * sa < 2.0 * gn[0] * RIDE_DEPTH):
-                    sa = 0.0
-                if sa > 0.0:
-                    pp -= q * 2.0 * gn[0] * p2 / sa
-                else:
-                    # grazing the surface: likewise
-                    on_node = False
+                sa, pp = _reflect(gn[0], c, sa, q, p2, pp)
+                d = 1
+                if not sa > 0.0:
+                    on_node = False  # grazing the surface: likewise
                     d = _start_direction(zn, gn, 0, n)
             else:
+                kind = LAYER_CROSSING
+                # an inner node (kept inline: as a helper it cost ~7% of the fan kernel)
                 j = i + 1 if d > 0 else i
                 if sa > 0.0 and gn[j - 1] < 0.0 < gn[j]:
-                    # a sound-speed minimum: the ray oscillates about the node, rising
-                    # and sinking c s^2 / (2 |g|) at most; below RIDE_DEPTH it is a ray
-                    # along the node (else ~1e6 tiny arcs per km)
+                    # a sound-speed minimum: the ray oscillates about the node, rising and
+                    # sinking c s^2 / (2 |g|) at most; below RIDE_DEPTH it is a ray along
+                    # the node (else ~1e6 tiny arcs per km)
                     gmin = min(-gn[j - 1], gn[j])
                     if sa < RIDE_SINE and c * sa * sa < 2.0 * gmin * RIDE_DEPTH:
                         sa = 0.0
@@ -422,17 +426,10 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                         i = j
                     elif d < 0:
                         i = j - 1
-            if ns + nb > max_bounces:
-                stop = True
+            stop = ns + nb > max_bounces
         if npts < maxpts:
-            p_r[npts] = r
-            p_z[npts] = z
-            p_t[npts] = t
-            p_a[npts] = d * np.degrees(np.arctan2(sa, p * c))
-            p_c[npts] = c
-            p_q[npts] = q
-            p_p[npts] = pp
-            p_k[npts] = kind
+            _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, r, z, t,
+                       d * np.degrees(np.arctan2(sa, p * c)), c, q, pp, kind)
         npts += 1
         if stop:
             reason = ABSORBED

@@ -3,8 +3,11 @@
 One ray (:func:`_trace_one`) or a fan in parallel (:func:`_trace_rays`): Dormand-Prince
 5(4) steps in arc length, each inside one cell of the medium, boundaries located on the
 dense output and landed on exactly, reflections and interface jumps of the dynamic ray
-applied there. The per-cell helpers are in :mod:`._integrate_cells`; the equations, the
-method and the references in the docstring of :mod:`seaprofile.propagation.integrate`.
+applied there. The loop (:func:`_trace_one`) calls one helper per job: the step and its
+control (in :mod:`._integrate_steps`), the cell's boundaries and the first one crossed, the
+landing on it, the reflection about the local normal, the cell entered and the output row.
+The per-cell helpers are in :mod:`._integrate_cells`; the equations, the method and the
+references in the docstring of :mod:`seaprofile.propagation.integrate`.
 """
 
 from __future__ import annotations
@@ -14,45 +17,16 @@ import math
 import numba
 import numpy as np
 
+from ._arcs import _sign_change
 from ._integrate_cells import (_bottom_at, _g, _interface_dynamic, _locate,
                                _reflect_dynamic, _rhs, _root, _start_layer, _trapped)
+from ._integrate_steps import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
+                               _dense_coefficients, _dense_state, _dp_error, _dp_stages,
+                               _step_control)
 from .codes import (ABSORBED, AT_BOTTOM, AT_SURFACE, BOTTOM_REFLECTION, END, LAYER_CROSSING, LEFT_DOMAIN,  # noqa: F401
                     MAX_STEPS, RANGE_REACHED, RANGE_SAMPLE, RIDE_SINE, START, STEP_LIMIT,
                     SURFACE_REFLECTION, TURNING_POINT)
 from .section import _cell_eval, _find_interval
-
-# --------------------------------------------------------------------------------------
-# Dormand-Prince 5(4) tableau (Dormand & Prince 1980) and Shampine (1986) dense
-# output; checked against scipy.integrate.RK45 in the tests.
-# --------------------------------------------------------------------------------------
-_DP_A = np.array(
-    [
-        [0.0, 0.0, 0.0, 0.0, 0.0],
-        [1 / 5, 0.0, 0.0, 0.0, 0.0],
-        [3 / 40, 9 / 40, 0.0, 0.0, 0.0],
-        [44 / 45, -56 / 15, 32 / 9, 0.0, 0.0],
-        [19372 / 6561, -25360 / 2187, 64448 / 6561, -212 / 729, 0.0],
-        [9017 / 3168, -355 / 33, 46732 / 5247, 49 / 176, -5103 / 18656],
-    ]
-)
-_DP_B = np.array([35 / 384, 0.0, 500 / 1113, 125 / 192, -2187 / 6784, 11 / 84])
-_DP_E = np.array(
-    [-71 / 57600, 0.0, 71 / 16695, -71 / 1920, 17253 / 339200, -22 / 525, 1 / 40]
-)
-_DP_P = np.array(
-    [
-        [1.0, -8048581381 / 2820520608, 8663915743 / 2820520608, -12715105075 / 11282082432],
-        [0.0, 0.0, 0.0, 0.0],
-        [0.0, 131558114200 / 32700410799, -68118460800 / 10900136933,
-         87487479700 / 32700410799],
-        [0.0, -1754552775 / 470086768, 14199869525 / 1410260304, -10690763975 / 1880347072],
-        [0.0, 127303824393 / 49829197408, -318862633887 / 49829197408,
-         701980252875 / 199316789632],
-        [0.0, -282668133 / 205662961, 2019193451 / 616988883, -1453857185 / 822651844],
-        [0.0, 40617522 / 29380423, -110615467 / 29380423, 69997945 / 29380423],
-    ]
-)
-
 
 # boundaries of a cell searched on every step
 _B_TOP, _B_NODE, _B_SEABED, _B_RHI, _B_RLO, _B_TURN = 0, 1, 2, 3, 4, 5
@@ -64,7 +38,203 @@ _SAMPLES = 8  # sub-intervals of a step searched for a boundary crossing
 # back runs along it (rounding level; the exact solver uses a 1 micrometre excursion,
 # codes.RIDE_DEPTH)
 _GRAZING = float(np.sqrt(8.0 * np.finfo(np.float64).eps))
-_RIDE_STEP = 50.0  # m: longest step of a ray running along a node or a boundary
+
+
+@numba.njit(cache=True, inline="always")
+def _cell_boundaries(gc, y, edges, depth, br, bz, i, j, b, next_range, range_kind):
+    """Boundary functions g >= 0 of cell (i, j, b) from state y (rows of ``gc``).
+
+    ``next_range``: a range sample or the maximum range ahead, of kind ``range_kind``
+    (_R_SAMPLE or _R_MAX), when it comes before the cell's far range face.
+    Returns (top, top is the surface, bottom of the layer, seabed slope, far range, what
+    it is, near range, sign of zeta).
+    """
+    ztop = depth[j - 1] if j >= 1 else -np.inf
+    top_surface = ztop <= 0.0
+    if top_surface:
+        ztop = 0.0
+    gc[_B_TOP, 1] = 1.0
+    gc[_B_TOP, 3] = max(y[1] - ztop, 0.0)
+    zbot = depth[j] if j < depth.shape[0] else np.inf
+    gc[_B_NODE, 1] = -1.0
+    gc[_B_NODE, 3] = max(zbot - y[1], 0.0)
+    dbot, slope = _bottom_at(br, bz, b, y[0])
+    gc[_B_SEABED, 0] = slope
+    gc[_B_SEABED, 1] = -1.0
+    gc[_B_SEABED, 3] = max(dbot - y[1], 0.0)
+    rhi = edges[i] if i < edges.shape[0] else np.inf
+    if b < br.shape[0] and br[b] < rhi:
+        rhi = br[b]
+    hi_kind = _R_FACE
+    if next_range <= rhi:
+        rhi = next_range
+        hi_kind = range_kind
+    gc[_B_RHI, 0] = -1.0
+    gc[_B_RHI, 3] = max(rhi - y[0], 0.0)
+    rlo = edges[i - 1] if i >= 1 else -np.inf
+    if b >= 1 and br[b - 1] > rlo:
+        rlo = br[b - 1]
+    gc[_B_RLO, 0] = 1.0
+    gc[_B_RLO, 3] = max(y[0] - rlo, 0.0)
+    zsign = 1.0 if y[3] > 0.0 else (-1.0 if y[3] < 0.0 else 0.0)
+    gc[_B_TURN, 2] = zsign
+    gc[_B_TURN, 3] = abs(y[3])
+    return ztop, top_surface, zbot, slope, rhi, hi_kind, rlo, zsign
+
+
+@numba.njit(cache=True, inline="always")
+def _first_crossing(gc, qd, zsign, top_surface, slope, tol):
+    """The first boundary the step crosses: (which, or -1 for none; fraction of the step)."""
+    best = 2.0
+    which = -1
+    xa = 0.0
+    for sidx in range(1, _SAMPLES + 1):
+        xb = sidx / _SAMPLES
+        for w in range(6):
+            if not math.isfinite(gc[w, 3]) or (w == _B_TURN and zsign == 0.0):
+                continue
+            if _g(w, gc, qd, xb)[0] < 0.0:
+                x = _root(w, gc, qd, xa, xb)
+                # a bottom on a depth node: reflect rather than enter the layer below
+                if x < best or (x == best and w == _B_SEABED):
+                    best = x
+                    which = w
+        if which >= 0:
+            break
+        xa = xb
+    if which == _B_TURN:
+        # a ray coming back to the surface or the bottom near grazing can turn just beyond
+        # it, its depth dipping out of the water between the sampled points. Deeper than
+        # ``tol`` (or at a sloping bottom) the dip is real: the ray crossed the boundary
+        # before turning and reflects there. Within ``tol`` it is the integration error of
+        # a ray that turns on the boundary (one launched horizontally there comes back
+        # exactly grazing): see the turning point in _trace_one.
+        for w in (_B_TOP, _B_SEABED):
+            if w == _B_TOP and not top_surface:
+                continue
+            gw = _g(w, gc, qd, best)[0]
+            if gw < -tol or (gw < 0.0 and w == _B_SEABED and slope != 0.0):
+                x = _root(w, gc, qd, xa, best)
+                if x <= best:
+                    best = x
+                    which = w
+    return which, best
+
+
+@numba.njit(cache=True, inline="always")
+def _mirror(tr, tz, nur, nuz, cb, gr, gz, yt):
+    """Reflect the unit tangent (tr, tz) about the boundary with unit normal (nur, nuz);
+    the dynamic ray (q, p in yt[5], yt[6]) jumps with it. Returns (ur, uz, t . n)."""
+    tn = tr * nur + tz * nuz
+    ur = tr - 2.0 * tn * nur
+    uz = tz - 2.0 * tn * nuz
+    yt[5], yt[6] = _reflect_dynamic(yt[5], yt[6], cb, gr, gz, tr, tz, ur, uz,
+                                    nur, nuz, nuz, -nur)
+    return ur, uz, tn
+
+
+@numba.njit(cache=True, inline="always")
+def _put_row(out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, m, y, c, kind):
+    """Write output row m from state y (sound speed c there)."""
+    out_r[m] = y[0]
+    out_z[m] = y[1]
+    out_t[m] = y[4]
+    out_a[m] = math.degrees(math.atan2(y[3], y[2]))
+    out_q[m] = y[5]
+    out_c[m] = c
+    out_p[m] = y[6]
+    out_k[m] = kind
+
+
+@numba.njit(cache=True, inline="always")
+def _land(which, yt, ztop, top_surface, zbot, br, bz, b, rhi, hi_kind, rlo, max_range):
+    """Put the state ``yt`` found on boundary ``which`` exactly on it.
+
+    Returns (point kind, reflects there, the ray ends there).
+    """
+    reflect = False
+    end = False
+    if which == _B_TOP:
+        yt[1] = ztop
+        kind = SURFACE_REFLECTION if top_surface else LAYER_CROSSING
+        reflect = top_surface
+    elif which == _B_NODE:
+        yt[1] = zbot
+        kind = LAYER_CROSSING
+    elif which == _B_SEABED:
+        yt[1] = _bottom_at(br, bz, b, yt[0])[0]
+        kind = BOTTOM_REFLECTION
+        reflect = True
+    elif which == _B_RHI:
+        yt[0] = rhi
+        kind = LAYER_CROSSING
+        if hi_kind == _R_MAX:
+            kind = END
+            end = True
+        elif hi_kind == _R_SAMPLE:
+            kind = RANGE_SAMPLE
+            end = rhi >= max_range
+    elif which == _B_RLO:
+        yt[0] = rlo
+        kind = LAYER_CROSSING
+    else:
+        yt[3] = 0.0
+        kind = TURNING_POINT
+        # a turning point found (within ``tol``) above the surface or below a flat bottom
+        # is a grazing reflection: put it on the boundary, where the reflection of a
+        # horizontal ray leaves it unchanged. Counted as a turning point, as the exact
+        # solver counts a ray that reaches a boundary with p c = 1 there (a horizontal
+        # launch on the surface that comes back).
+        if top_surface and yt[1] < 0.0:
+            yt[1] = 0.0
+        dturn = _bottom_at(br, bz, b, yt[0])[0]
+        if yt[1] > dturn:
+            yt[1] = dturn
+    return kind, reflect, end
+
+
+@numba.njit(cache=True, inline="always")
+def _enter_cell(coef, ref, edges, depth, br, bz, i, j, b, which, top_surface, yt, tr, tz,
+                cb, gr, gz, ride):
+    """The cell a ray leaving boundary ``which`` of cell (i, j, b) at yt along (tr, tz)
+    enters, whether it rides a node or a boundary there, and the jump of the dynamic-ray
+    p (yt[6]) for the change of grad c. Returns (i, j, b, ride, tr, tz)."""
+    i2, j2, b2 = _locate(edges, depth, br, yt[0], yt[1], tr, tz)
+    # the layer entered follows from the boundary crossed, not from the nudged point: a
+    # grazing ray (|tz| * _NUDGE below the rounding of z) would otherwise be put back into
+    # the layer it leaves, or below the bottom, and stall there
+    if which == _B_TOP and not top_surface:
+        j2 = j - 1
+    elif which == _B_NODE:
+        j2 = j + 1
+    else:
+        j2 = j
+    dbot2, slope2 = _bottom_at(br, bz, b2, yt[0])
+    if ride and (i2 != i or b2 != b):
+        # riding along a node / boundary: does it still hold the ray in this cell?
+        ride = _trapped(coef, ref, depth, i2, j2, yt[0], yt[1], dbot2, slope2)
+        if not ride:
+            j2 = _start_layer(coef, ref, depth, i2, _find_interval(depth, yt[1]),
+                              yt[1], 0.0, dbot2, yt[0])
+    elif (not ride and abs(tz) < RIDE_SINE
+          and (which == _B_TOP or which == _B_NODE or which == _B_SEABED)):
+        # grazing a node or a boundary that bends it straight back: run along it
+        ride = _trapped(coef, ref, depth, i2, j2, yt[0], yt[1], dbot2, slope2,
+                        0.0 if abs(tz) < _GRAZING else abs(tz))
+    if ride:
+        tr = 1.0
+        tz = 0.0
+    if i2 != i or j2 != j:
+        # entering another cell (also right after a reflection on a bottom that lies on a
+        # depth node): jump of p for the change of grad c
+        c2, gr2, gz2, _, _ = _cell_eval(coef, ref, depth, i2, j2, yt[0], yt[1])
+        if j2 != j:
+            yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 0.0, 1.0,
+                                       gr2 - gr, gz2 - gz)
+        else:
+            yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 1.0, 0.0,
+                                       gr2 - gr, gz2 - gz)
+    return i2, j2, b2, ride, tr, tz
 
 
 @numba.njit(cache=True)
@@ -83,9 +253,6 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
     k = np.empty((7, 7))
     qd = np.empty((3, 4))
     gc = np.zeros((6, 4))  # per boundary: coefficients of dr, dz, dzeta, and g0
-    ne = edges.shape[0]
-    nd = depth.shape[0]
-    nb = br.shape[0]
 
     ct = math.cos(theta0)
     st = math.sin(theta0)
@@ -102,14 +269,9 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
     y[5] = 0.0
     y[6] = 1.0 / c0
     _rhs(coef, ref, depth, i, j, y, f, ride)
-    out_r[0] = 0.0
-    out_z[0] = z0
-    out_t[0] = 0.0
+    _put_row(out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, 0, y, c0,
+             RANGE_SAMPLE if sampled else START)
     out_a[0] = math.degrees(theta0)
-    out_q[0] = 0.0
-    out_c[0] = c0
-    out_p[0] = y[6]
-    out_k[0] = RANGE_SAMPLE if sampled else START
     count = 1
     next_sample = 1
     n_surf = 0
@@ -125,129 +287,20 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
         if steps > max_steps:
             code = STEP_LIMIT
             break
-        c = 1.0 / f[4]
-        # ---- one Dormand-Prince step of length h, all stages in cell (i, j) -----------
-        for m in range(7):
-            k[0, m] = f[m]
-        for s in range(1, 6):
-            for m in range(7):
-                acc = 0.0
-                for l in range(s):
-                    acc += _DP_A[s, l] * k[l, m]
-                yt[m] = y[m] + h * acc
-            _rhs(coef, ref, depth, i, j, yt, k[s], ride)
-        for m in range(7):
-            acc = 0.0
-            for l in range(6):
-                acc += _DP_B[l] * k[l, m]
-            yn[m] = y[m] + h * acc
-        _rhs(coef, ref, depth, i, j, yn, k[6], ride)
-        err = 0.0
-        for m in range(5):
-            acc = 0.0
-            for l in range(7):
-                acc += _DP_E[l] * k[l, m]
-            e = abs(h * acc)
-            if m == 2 or m == 3:
-                e *= dir_scale * c
-            elif m == 4:
-                e *= c
-            if e > err or e != e:
-                err = e  # a NaN component makes the estimate NaN (never skipped)
-            if err != err:
-                break
-        err /= tol
-        if err != err:
-            # no error estimate (NaN): a stage went where the cell's polynomials extend to
-            # nonsense (a long step into a short range interval of a spline section);
-            # reject and shrink, never accept it
-            h *= 0.2
+        _dp_stages(coef, ref, depth, i, j, y, f, h, k, yt, yn, ride)
+        accepted, hnext = _step_control(h, _dp_error(k, h, 1.0 / f[4], dir_scale, tol),
+                                        max_step, ride)
+        if not accepted:
+            h = hnext
             continue
-        if err > 1.0 and h > 1e-6:
-            h *= max(0.2, 0.9 * err ** -0.2)
-            continue
-        hnext = 5.0 * h if err == 0.0 else h * min(5.0, max(0.2, 0.9 * err ** -0.2))
-        if hnext > max_step:
-            hnext = max_step
-        if ride and hnext > _RIDE_STEP:
-            hnext = _RIDE_STEP  # where the node stops holding the ray is found to this
-        # ---- dense-output polynomials of r, z, zeta over the step --------------------
-        for row in range(3):
-            comp = row if row < 2 else 3
-            for m in range(4):
-                acc = 0.0
-                for l in range(7):
-                    acc += k[l, comp] * _DP_P[l, m]
-                qd[row, m] = h * acc
-        # ---- boundaries of the cell: g >= 0 inside ----------------------------------
-        ztop = depth[j - 1] if j >= 1 else -np.inf
-        top_surface = ztop <= 0.0
-        if top_surface:
-            ztop = 0.0
-        gc[_B_TOP, 1] = 1.0
-        gc[_B_TOP, 3] = max(y[1] - ztop, 0.0)
-        zbot = depth[j] if j < nd else np.inf
-        gc[_B_NODE, 1] = -1.0
-        gc[_B_NODE, 3] = max(zbot - y[1], 0.0)
-        dbot, slope = _bottom_at(br, bz, b, y[0])
-        gc[_B_SEABED, 0] = slope
-        gc[_B_SEABED, 1] = -1.0
-        gc[_B_SEABED, 3] = max(dbot - y[1], 0.0)
-        rhi = edges[i] if i < ne else np.inf
-        if b < nb and br[b] < rhi:
-            rhi = br[b]
-        hi_kind = _R_FACE
+        _dense_coefficients(k, h, qd)
         if sampled:
-            rs = min(next_sample * range_step, max_range)
-            if rs <= rhi:
-                rhi = rs
-                hi_kind = _R_SAMPLE
-        elif max_range <= rhi:
-            rhi = max_range
-            hi_kind = _R_MAX
-        gc[_B_RHI, 0] = -1.0
-        gc[_B_RHI, 3] = max(rhi - y[0], 0.0)
-        rlo = edges[i - 1] if i >= 1 else -np.inf
-        if b >= 1 and br[b - 1] > rlo:
-            rlo = br[b - 1]
-        gc[_B_RLO, 0] = 1.0
-        gc[_B_RLO, 3] = max(y[0] - rlo, 0.0)
-        zsign = 1.0 if y[3] > 0.0 else (-1.0 if y[3] < 0.0 else 0.0)
-        gc[_B_TURN, 2] = zsign
-        gc[_B_TURN, 3] = abs(y[3])
-        best = 2.0
-        which = -1
-        xa = 0.0
-        for sidx in range(1, _SAMPLES + 1):
-            xb = sidx / _SAMPLES
-            for w in range(6):
-                if not math.isfinite(gc[w, 3]) or (w == _B_TURN and zsign == 0.0):
-                    continue
-                if _g(w, gc, qd, xb)[0] < 0.0:
-                    x = _root(w, gc, qd, xa, xb)
-                    # a bottom on a depth node: reflect rather than enter the layer below
-                    if x < best or (x == best and w == _B_SEABED):
-                        best = x
-                        which = w
-            if which >= 0:
-                break
-            xa = xb
-        if which == _B_TURN:
-            # a ray coming back to the surface or the bottom near grazing can turn just
-            # beyond it, its depth dipping out of the water between the sampled points.
-            # Deeper than ``tol`` (or at a sloping bottom) the dip is real: the ray crossed
-            # the boundary before turning and reflects there. Within ``tol`` it is the
-            # integration error of a ray that turns on the boundary (one launched
-            # horizontally there comes back exactly grazing): see the turning point below.
-            for w in (_B_TOP, _B_SEABED):
-                if w == _B_TOP and not top_surface:
-                    continue
-                gw = _g(w, gc, qd, best)[0]
-                if gw < -tol or (gw < 0.0 and w == _B_SEABED and slope != 0.0):
-                    x = _root(w, gc, qd, xa, best)
-                    if x <= best:
-                        best = x
-                        which = w
+            next_range = min(next_sample * range_step, max_range)
+        else:
+            next_range = max_range
+        ztop, top_surface, zbot, slope, rhi, hi_kind, rlo, zsign = _cell_boundaries(
+            gc, y, edges, depth, br, bz, i, j, b, next_range, _R_SAMPLE if sampled else _R_MAX)
+        which, best = _first_crossing(gc, qd, zsign, top_surface, slope, tol)
         kind = RANGE_SAMPLE
         if which < 0:
             for m in range(7):
@@ -263,53 +316,15 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                     _rhs(coef, ref, depth, i, j, y, f, ride)
         else:
             # state on the boundary, from the dense output
-            x = best
-            for m in range(7):
-                acc = 0.0
-                for l in range(7):
-                    acc += k[l, m] * x * (_DP_P[l, 0] + x * (_DP_P[l, 1] + x * (
-                        _DP_P[l, 2] + x * _DP_P[l, 3])))
-                yt[m] = y[m] + h * acc
-            reflect = False
-            if which == _B_TOP:
-                yt[1] = ztop
-                kind = SURFACE_REFLECTION if top_surface else LAYER_CROSSING
-                reflect = top_surface
-            elif which == _B_NODE:
-                yt[1] = zbot
-                kind = LAYER_CROSSING
-            elif which == _B_SEABED:
-                yt[1] = _bottom_at(br, bz, b, yt[0])[0]
-                kind = BOTTOM_REFLECTION
-                reflect = True
-            elif which == _B_RHI:
-                yt[0] = rhi
-                kind = LAYER_CROSSING
-                if hi_kind == _R_MAX:
-                    kind = END
-                    code = RANGE_REACHED
-                elif hi_kind == _R_SAMPLE:
-                    kind = RANGE_SAMPLE
-                    next_sample += 1
-                    if rhi >= max_range:
-                        code = RANGE_REACHED
-            elif which == _B_RLO:
-                yt[0] = rlo
-                kind = LAYER_CROSSING
-            else:
-                yt[3] = 0.0
-                kind = TURNING_POINT
+            _dense_state(k, y, h, best, yt)
+            kind, reflect, end = _land(which, yt, ztop, top_surface, zbot, br, bz, b, rhi,
+                                       hi_kind, rlo, max_range)
+            if end:
+                code = RANGE_REACHED
+            if kind == RANGE_SAMPLE:
+                next_sample += 1
+            elif kind == TURNING_POINT:
                 n_turn += 1
-                # a turning point found (within ``tol``) above the surface or below a
-                # flat bottom is a grazing reflection: put it on the boundary, where the
-                # reflection of a horizontal ray leaves it unchanged. Counted as a turning
-                # point, as the exact solver counts a ray that reaches a boundary with
-                # p c = 1 there (a horizontal launch on the surface that comes back).
-                if top_surface and yt[1] < 0.0:
-                    yt[1] = 0.0
-                dturn = _bottom_at(br, bz, b, yt[0])[0]
-                if yt[1] > dturn:
-                    yt[1] = dturn
             cb, gr, gz, _, _ = _cell_eval(coef, ref, depth, i, j, yt[0], yt[1])
             tr = cb * yt[2]
             tz = cb * yt[3]
@@ -326,59 +341,18 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                     nur = -slope / nn
                     nuz = 1.0 / nn
                     n_bot += 1
-                tn = tr * nur + tz * nuz
+                tr, tz, tn = _mirror(tr, tz, nur, nuz, cb, gr, gz, yt)
                 m_rf = n_surf + n_bot - 1
                 if m_rf < rf_r.shape[0]:
                     # grazing angle: between the incident ray and the (local) boundary
                     rf_r[m_rf] = yt[0]
                     rf_a[m_rf] = math.degrees(math.asin(min(1.0, abs(tn))))
                     rf_k[m_rf] = AT_SURFACE if which == _B_TOP else AT_BOTTOM
-                ur = tr - 2.0 * tn * nur
-                uz = tz - 2.0 * tn * nuz
-                yt[5], yt[6] = _reflect_dynamic(yt[5], yt[6], cb, gr, gz, tr, tz, ur, uz,
-                                                nur, nuz, nuz, -nur)
-                tr = ur
-                tz = uz
                 if n_surf + n_bot > max_bounces:
                     code = ABSORBED
-            i2, j2, b2 = _locate(edges, depth, br, yt[0], yt[1], tr, tz)
-            # the layer entered follows from the boundary crossed, not from the nudged
-            # point: a grazing ray (|tz| * _NUDGE below the rounding of z) would otherwise
-            # be put back into the layer it leaves, or below the bottom, and stall there
-            if which == _B_TOP and not top_surface:
-                j2 = j - 1
-            elif which == _B_NODE:
-                j2 = j + 1
-            else:
-                j2 = j
-            dbot2, slope2 = _bottom_at(br, bz, b2, yt[0])
-            if ride and (i2 != i or b2 != b):
-                # riding along a node / boundary: does it still hold the ray in this cell?
-                ride = _trapped(coef, ref, depth, i2, j2, yt[0], yt[1], dbot2, slope2)
-                if not ride:
-                    j2 = _start_layer(coef, ref, depth, i2, _find_interval(depth, yt[1]),
-                                      yt[1], 0.0, dbot2, yt[0])
-            elif (not ride and abs(tz) < RIDE_SINE
-                  and (which == _B_TOP or which == _B_NODE or which == _B_SEABED)):
-                # grazing a node or a boundary that bends it straight back: run along it
-                ride = _trapped(coef, ref, depth, i2, j2, yt[0], yt[1], dbot2, slope2,
-                                0.0 if abs(tz) < _GRAZING else abs(tz))
-            if ride:
-                tr = 1.0
-                tz = 0.0
-            if i2 != i or j2 != j:
-                # entering another cell (also right after a reflection on a bottom that
-                # lies on a depth node): jump of p for the change of grad c
-                c2, gr2, gz2, _, _ = _cell_eval(coef, ref, depth, i2, j2, yt[0], yt[1])
-                if j2 != j:
-                    yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 0.0, 1.0,
-                                               gr2 - gr, gz2 - gz)
-                else:
-                    yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 1.0, 0.0,
-                                               gr2 - gr, gz2 - gz)
-            i = i2
-            j = j2
-            b = b2
+            i, j, b, ride, tr, tz = _enter_cell(coef, ref, edges, depth, br, bz, i, j, b,
+                                                which, top_surface, yt, tr, tz, cb, gr, gz,
+                                                ride)
             yt[2] = tr / cb
             yt[3] = tz / cb
             for m in range(7):
@@ -386,31 +360,18 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
             _rhs(coef, ref, depth, i, j, y, f, ride)
         if y[2] < 0.0 and code < 0:
             code = LEFT_DOMAIN  # turned back in range
-        # ---- bookkeeping -------------------------------------------------------------
+        # ---- bookkeeping: caustics, and the row (every point, or only range samples) ----
+        n_caus += _sign_change(y[5], qsign)
         if y[5] > 0.0:
-            if qsign < 0:
-                n_caus += 1
             qsign = 1
         elif y[5] < 0.0:
-            if qsign > 0:
-                n_caus += 1
             qsign = -1
-        if sampled and kind != RANGE_SAMPLE:
-            pass  # only the range samples are kept
-        elif sampled and which != _B_RHI:
-            pass  # an ordinary step end
-        else:
+        if not sampled or (kind == RANGE_SAMPLE and which == _B_RHI):
             if count >= npts:
                 code = STEP_LIMIT
                 break
-            out_r[count] = y[0]
-            out_z[count] = y[1]
-            out_t[count] = y[4]
-            out_a[count] = math.degrees(math.atan2(y[3], y[2]))
-            out_q[count] = y[5]
-            out_c[count] = 1.0 / f[4]
-            out_p[count] = y[6]
-            out_k[count] = kind
+            _put_row(out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, count, y,
+                     1.0 / f[4], kind)
             count += 1
         h = hnext
     stats[0] = count
