@@ -20,9 +20,21 @@ import numpy as np
 from numba import prange
 
 # point kinds, end reasons, the grazing rule (see there) and the step limit
-from .codes import (ABSORBED, AT_BOTTOM, AT_SURFACE, BOTTOM_REFLECTION, END, LAYER_CROSSING,
-                    RANGE_REACHED, RANGE_SAMPLE, RIDE_DEPTH, RIDE_SINE, START, STEP_LIMIT,
-                    SURFACE_REFLECTION, TURNING_POINT)
+from .codes import (
+    ABSORBED,
+    AT_BOTTOM,
+    AT_SURFACE,
+    BOTTOM_REFLECTION,
+    END,
+    LAYER_CROSSING,
+    RANGE_REACHED,
+    RIDE_DEPTH,
+    RIDE_SINE,
+    START,
+    STEP_LIMIT,
+    SURFACE_REFLECTION,
+    TURNING_POINT,
+)
 
 # value-safe fast-math: fused multiply-add and reciprocal only (no NaN/inf assumptions)
 _FM = {"contract", "arcp"}
@@ -35,8 +47,19 @@ _SMALL_SINE2 = 1e-4
 def _l1(x):
     """log1p(x) / x; Taylor series (error < 2e-17) for |x| < 0.01, 1 at x = 0."""
     if abs(x) < 0.01:
-        return 1.0 + x * (-0.5 + x * (1.0 / 3.0 + x * (-0.25 + x * (0.2 + x * (
-            -1.0 / 6.0 + x * (1.0 / 7.0 + x * (-0.125 + x * (1.0 / 9.0))))))))
+        return 1.0 + x * (
+            -0.5
+            + x
+            * (
+                1.0 / 3.0
+                + x
+                * (
+                    -0.25
+                    + x
+                    * (0.2 + x * (-1.0 / 6.0 + x * (1.0 / 7.0 + x * (-0.125 + x * (1.0 / 9.0)))))
+                )
+            )
+        )
     return np.log1p(x) / x
 
 
@@ -267,9 +290,36 @@ def _reflect(gin, c, sa, q, p2, pp):
 
 
 @numba.njit(cache=True, fastmath=_FM)
-def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
-               s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k,
-               rf_r, rf_a, rf_k, max_steps):
+def _trace_ray(
+    zn,
+    cn,
+    gn,
+    tl,
+    zs,
+    theta,
+    rmax,
+    max_bounces,
+    samp_r,
+    s_z,
+    s_t,
+    s_a,
+    s_q,
+    s_c,
+    s_p,
+    s_cnt,
+    p_r,
+    p_z,
+    p_t,
+    p_a,
+    p_c,
+    p_q,
+    p_p,
+    p_k,
+    rf_r,
+    rf_a,
+    rf_k,
+    max_steps,
+):
     """Trace one ray exactly; write samples at ``samp_r`` and (up to len(p_r)) path points.
 
     Per sample (``s_*``, length of ``samp_r`` or 0) and per path point (``p_*``): depth,
@@ -299,12 +349,47 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
     k = 0
     # start point and samples at r = 0
     if npts < maxpts:
-        _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, 0.0, z, 0.0,
-                   np.degrees(theta), c, 0.0, pp, START)
+        _put_point(
+            p_r,
+            p_z,
+            p_t,
+            p_a,
+            p_c,
+            p_q,
+            p_p,
+            p_k,
+            npts,
+            0.0,
+            z,
+            0.0,
+            np.degrees(theta),
+            c,
+            0.0,
+            pp,
+            START,
+        )
     npts += 1
     while k < nsamp and samp_r[k] <= 0.0:
-        _put_sample(s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, k, z, 0.0, np.degrees(theta), 0.0,
-                    c, pp, 0, 0, 0, 0)
+        _put_sample(
+            s_z,
+            s_t,
+            s_a,
+            s_q,
+            s_c,
+            s_p,
+            s_cnt,
+            k,
+            z,
+            0.0,
+            np.degrees(theta),
+            0.0,
+            c,
+            pp,
+            0,
+            0,
+            0,
+            0,
+        )
         k += 1
     steps = 0
     on_node = False
@@ -317,16 +402,35 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             # horizontal straight travel along a node or in an isovelocity layer
             while k < nsamp:
                 dr = samp_r[k] - r
-                _put_sample(s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, k, z, t + dr / c, 0.0,
-                            q + pp * c * dr, c, pp, ns, nb, nt, nc)
+                _put_sample(
+                    s_z,
+                    s_t,
+                    s_a,
+                    s_q,
+                    s_c,
+                    s_p,
+                    s_cnt,
+                    k,
+                    z,
+                    t + dr / c,
+                    0.0,
+                    q + pp * c * dr,
+                    c,
+                    pp,
+                    ns,
+                    nb,
+                    nt,
+                    nc,
+                )
                 k += 1
             dr = rmax - r
             t += dr / c
             q += pp * c * dr
             r = rmax
             if npts < maxpts:
-                _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, r, z, t, 0.0, c, q,
-                           pp, END)
+                _put_point(
+                    p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, r, z, t, 0.0, c, q, pp, END
+                )
             npts += 1
             reason = RANGE_REACHED
             break
@@ -343,9 +447,26 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
         while k < nsamp and samp_r[k] <= rend:
             dzk, sk, ck, kk2, dt2 = _inside_piece(samp_r[k] - r, c, sa, p, gm, dz)
             qk = q + pp * kk2
-            _put_sample(s_z, s_t, s_a, s_q, s_c, s_p, s_cnt, k, z + d * dzk, t + dt2,
-                        d * np.degrees(np.arctan2(sk, p * ck)), qk, ck, pp, ns, nb, nt,
-                        nc + _sign_change(qk, qsign))
+            _put_sample(
+                s_z,
+                s_t,
+                s_a,
+                s_q,
+                s_c,
+                s_p,
+                s_cnt,
+                k,
+                z + d * dzk,
+                t + dt2,
+                d * np.degrees(np.arctan2(sk, p * ck)),
+                qk,
+                ck,
+                pp,
+                ns,
+                nb,
+                nt,
+                nc + _sign_change(qk, qsign),
+            )
             k += 1
         if rend >= rmax:
             dzk, sa, c, kk2, dt2 = _inside_piece(rmax - r, c, sa, p, gm, dz)
@@ -355,8 +476,25 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
             z = z + d * dzk
             t = t + dt2
             if npts < maxpts:
-                _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, r, z, t,
-                           d * np.degrees(np.arctan2(sa, p * c)), c, q, pp, END)
+                _put_point(
+                    p_r,
+                    p_z,
+                    p_t,
+                    p_a,
+                    p_c,
+                    p_q,
+                    p_p,
+                    p_k,
+                    npts,
+                    r,
+                    z,
+                    t,
+                    d * np.degrees(np.arctan2(sa, p * c)),
+                    c,
+                    q,
+                    pp,
+                    END,
+                )
             npts += 1
             reason = RANGE_REACHED
             break
@@ -428,8 +566,25 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
                         i = j - 1
             stop = ns + nb > max_bounces
         if npts < maxpts:
-            _put_point(p_r, p_z, p_t, p_a, p_c, p_q, p_p, p_k, npts, r, z, t,
-                       d * np.degrees(np.arctan2(sa, p * c)), c, q, pp, kind)
+            _put_point(
+                p_r,
+                p_z,
+                p_t,
+                p_a,
+                p_c,
+                p_q,
+                p_p,
+                p_k,
+                npts,
+                r,
+                z,
+                t,
+                d * np.degrees(np.arctan2(sa, p * c)),
+                c,
+                q,
+                pp,
+                kind,
+            )
         npts += 1
         if stop:
             reason = ABSORBED
@@ -438,15 +593,69 @@ def _trace_ray(zn, cn, gn, tl, zs, theta, rmax, max_bounces, samp_r,
 
 
 @numba.njit(cache=True, parallel=True)
-def _fan_kernel(zn, cn, gn, tl, zs, thetas, rmax, max_bounces, samp_r,
-                S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p, P_k,
-                RF_r, RF_a, RF_k, out_int, max_steps):
+def _fan_kernel(
+    zn,
+    cn,
+    gn,
+    tl,
+    zs,
+    thetas,
+    rmax,
+    max_bounces,
+    samp_r,
+    S_z,
+    S_t,
+    S_a,
+    S_q,
+    S_c,
+    S_p,
+    S_cnt,
+    P_r,
+    P_z,
+    P_t,
+    P_a,
+    P_c,
+    P_q,
+    P_p,
+    P_k,
+    RF_r,
+    RF_a,
+    RF_k,
+    out_int,
+    max_steps,
+):
     nray = thetas.size
     for j in prange(nray):
         cnt = S_cnt[j]
-        res = _trace_ray(zn, cn, gn, tl, zs, thetas[j], rmax, max_bounces, samp_r,
-                         S_z[j], S_t[j], S_a[j], S_q[j], S_c[j], S_p[j], cnt,
-                         P_r[j], P_z[j], P_t[j], P_a[j], P_c[j], P_q[j], P_p[j], P_k[j],
-                         RF_r[j], RF_a[j], RF_k[j], max_steps)
+        res = _trace_ray(
+            zn,
+            cn,
+            gn,
+            tl,
+            zs,
+            thetas[j],
+            rmax,
+            max_bounces,
+            samp_r,
+            S_z[j],
+            S_t[j],
+            S_a[j],
+            S_q[j],
+            S_c[j],
+            S_p[j],
+            cnt,
+            P_r[j],
+            P_z[j],
+            P_t[j],
+            P_a[j],
+            P_c[j],
+            P_q[j],
+            P_p[j],
+            P_k[j],
+            RF_r[j],
+            RF_a[j],
+            RF_k[j],
+            max_steps,
+        )
         for m in range(7):
             out_int[j, m] = res[m]

@@ -18,14 +18,46 @@ import numba
 import numpy as np
 
 from ._arcs import _sign_change
-from ._integrate_cells import (_bottom_at, _g, _interface_dynamic, _locate,
-                               _reflect_dynamic, _rhs, _root, _start_layer, _trapped)
-from ._integrate_steps import (_DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP,  # noqa: F401
-                               _dense_coefficients, _dense_state, _dp_error, _dp_stages,
-                               _step_control)
-from .codes import (ABSORBED, AT_BOTTOM, AT_SURFACE, BOTTOM_REFLECTION, END, LAYER_CROSSING, LEFT_DOMAIN,  # noqa: F401
-                    MAX_STEPS, RANGE_REACHED, RANGE_SAMPLE, RIDE_SINE, START, STEP_LIMIT,
-                    SURFACE_REFLECTION, TURNING_POINT)
+from ._integrate_cells import (
+    _bottom_at,
+    _g,
+    _interface_dynamic,
+    _locate,
+    _reflect_dynamic,
+    _rhs,
+    _root,
+    _start_layer,
+    _trapped,
+)
+from ._integrate_steps import (  # noqa: F401
+    _DP_A,
+    _DP_B,
+    _DP_E,
+    _DP_P,
+    _RIDE_STEP,
+    _dense_coefficients,
+    _dense_state,
+    _dp_error,
+    _dp_stages,
+    _step_control,
+)
+from .codes import (  # noqa: F401
+    ABSORBED,
+    AT_BOTTOM,
+    AT_SURFACE,
+    BOTTOM_REFLECTION,
+    END,
+    LAYER_CROSSING,
+    LEFT_DOMAIN,
+    MAX_STEPS,
+    RANGE_REACHED,
+    RANGE_SAMPLE,
+    RIDE_SINE,
+    START,
+    STEP_LIMIT,
+    SURFACE_REFLECTION,
+    TURNING_POINT,
+)
 from .section import _cell_eval, _find_interval
 
 # boundaries of a cell searched on every step
@@ -128,8 +160,7 @@ def _mirror(tr, tz, nur, nuz, cb, gr, gz, yt):
     tn = tr * nur + tz * nuz
     ur = tr - 2.0 * tn * nur
     uz = tz - 2.0 * tn * nuz
-    yt[5], yt[6] = _reflect_dynamic(yt[5], yt[6], cb, gr, gz, tr, tz, ur, uz,
-                                    nur, nuz, nuz, -nur)
+    yt[5], yt[6] = _reflect_dynamic(yt[5], yt[6], cb, gr, gz, tr, tz, ur, uz, nur, nuz, nuz, -nur)
     return ur, uz, tn
 
 
@@ -194,8 +225,9 @@ def _land(which, yt, ztop, top_surface, zbot, br, bz, b, rhi, hi_kind, rlo, max_
 
 
 @numba.njit(cache=True, inline="always")
-def _enter_cell(coef, ref, edges, depth, br, bz, i, j, b, which, top_surface, yt, tr, tz,
-                cb, gr, gz, ride):
+def _enter_cell(
+    coef, ref, edges, depth, br, bz, i, j, b, which, top_surface, yt, tr, tz, cb, gr, gz, ride
+):
     """The cell a ray leaving boundary ``which`` of cell (i, j, b) at yt along (tr, tz)
     enters, whether it rides a node or a boundary there, and the jump of the dynamic-ray
     p (yt[6]) for the change of grad c. Returns (i, j, b, ride, tr, tz)."""
@@ -214,13 +246,27 @@ def _enter_cell(coef, ref, edges, depth, br, bz, i, j, b, which, top_surface, yt
         # riding along a node / boundary: does it still hold the ray in this cell?
         ride = _trapped(coef, ref, depth, i2, j2, yt[0], yt[1], dbot2, slope2)
         if not ride:
-            j2 = _start_layer(coef, ref, depth, i2, _find_interval(depth, yt[1]),
-                              yt[1], 0.0, dbot2, yt[0])
-    elif (not ride and abs(tz) < RIDE_SINE
-          and (which == _B_TOP or which == _B_NODE or which == _B_SEABED)):
+            j2 = _start_layer(
+                coef, ref, depth, i2, _find_interval(depth, yt[1]), yt[1], 0.0, dbot2, yt[0]
+            )
+    elif (
+        not ride
+        and abs(tz) < RIDE_SINE
+        and (which == _B_TOP or which == _B_NODE or which == _B_SEABED)
+    ):
         # grazing a node or a boundary that bends it straight back: run along it
-        ride = _trapped(coef, ref, depth, i2, j2, yt[0], yt[1], dbot2, slope2,
-                        0.0 if abs(tz) < _GRAZING else abs(tz))
+        ride = _trapped(
+            coef,
+            ref,
+            depth,
+            i2,
+            j2,
+            yt[0],
+            yt[1],
+            dbot2,
+            slope2,
+            0.0 if abs(tz) < _GRAZING else abs(tz),
+        )
     if ride:
         tr = 1.0
         tz = 0.0
@@ -229,19 +275,42 @@ def _enter_cell(coef, ref, edges, depth, br, bz, i, j, b, which, top_surface, yt
         # depth node): jump of p for the change of grad c
         c2, gr2, gz2, _, _ = _cell_eval(coef, ref, depth, i2, j2, yt[0], yt[1])
         if j2 != j:
-            yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 0.0, 1.0,
-                                       gr2 - gr, gz2 - gz)
+            yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 0.0, 1.0, gr2 - gr, gz2 - gz)
         else:
-            yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 1.0, 0.0,
-                                       gr2 - gr, gz2 - gz)
+            yt[6] = _interface_dynamic(yt[5], yt[6], cb, tr, tz, 1.0, 0.0, gr2 - gr, gz2 - gz)
     return i2, j2, b2, ride, tr, tz
 
 
 @numba.njit(cache=True)
-def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_step, tol,
-               max_step, dir_scale, max_bounces, max_steps,
-               out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, rf_r, rf_a, rf_k,
-               stats):
+def _trace_one(
+    coef,
+    ref,
+    edges,
+    depth,
+    br,
+    bz,
+    z0,
+    theta0,
+    max_range,
+    range_step,
+    tol,
+    max_step,
+    dir_scale,
+    max_bounces,
+    max_steps,
+    out_r,
+    out_z,
+    out_t,
+    out_a,
+    out_q,
+    out_c,
+    out_p,
+    out_k,
+    rf_r,
+    rf_a,
+    rf_k,
+    stats,
+):
     """Trace one ray. Fills the point rows (full path, or samples every ``range_step`` m
     when it is > 0) and stats = (points, surface, bottom, turning, caustics, end, steps)."""
     npts = out_r.shape[0]
@@ -269,8 +338,20 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
     y[5] = 0.0
     y[6] = 1.0 / c0
     _rhs(coef, ref, depth, i, j, y, f, ride)
-    _put_row(out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, 0, y, c0,
-             RANGE_SAMPLE if sampled else START)
+    _put_row(
+        out_r,
+        out_z,
+        out_t,
+        out_a,
+        out_q,
+        out_c,
+        out_p,
+        out_k,
+        0,
+        y,
+        c0,
+        RANGE_SAMPLE if sampled else START,
+    )
     out_a[0] = math.degrees(theta0)
     count = 1
     next_sample = 1
@@ -288,8 +369,9 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
             code = STEP_LIMIT
             break
         _dp_stages(coef, ref, depth, i, j, y, f, h, k, yt, yn, ride)
-        accepted, hnext = _step_control(h, _dp_error(k, h, 1.0 / f[4], dir_scale, tol),
-                                        max_step, ride)
+        accepted, hnext = _step_control(
+            h, _dp_error(k, h, 1.0 / f[4], dir_scale, tol), max_step, ride
+        )
         if not accepted:
             h = hnext
             continue
@@ -299,7 +381,8 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
         else:
             next_range = max_range
         ztop, top_surface, zbot, slope, rhi, hi_kind, rlo, zsign = _cell_boundaries(
-            gc, y, edges, depth, br, bz, i, j, b, next_range, _R_SAMPLE if sampled else _R_MAX)
+            gc, y, edges, depth, br, bz, i, j, b, next_range, _R_SAMPLE if sampled else _R_MAX
+        )
         which, best = _first_crossing(gc, qd, zsign, top_surface, slope, tol)
         kind = RANGE_SAMPLE
         if which < 0:
@@ -311,14 +394,16 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                 dbot1, slope1 = _bottom_at(br, bz, b, y[0])
                 if not _trapped(coef, ref, depth, i, j, y[0], y[1], dbot1, slope1):
                     ride = False
-                    j = _start_layer(coef, ref, depth, i, _find_interval(depth, y[1]),
-                                     y[1], 0.0, dbot1, y[0])
+                    j = _start_layer(
+                        coef, ref, depth, i, _find_interval(depth, y[1]), y[1], 0.0, dbot1, y[0]
+                    )
                     _rhs(coef, ref, depth, i, j, y, f, ride)
         else:
             # state on the boundary, from the dense output
             _dense_state(k, y, h, best, yt)
-            kind, reflect, end = _land(which, yt, ztop, top_surface, zbot, br, bz, b, rhi,
-                                       hi_kind, rlo, max_range)
+            kind, reflect, end = _land(
+                which, yt, ztop, top_surface, zbot, br, bz, b, rhi, hi_kind, rlo, max_range
+            )
             if end:
                 code = RANGE_REACHED
             if kind == RANGE_SAMPLE:
@@ -350,9 +435,26 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
                     rf_k[m_rf] = AT_SURFACE if which == _B_TOP else AT_BOTTOM
                 if n_surf + n_bot > max_bounces:
                     code = ABSORBED
-            i, j, b, ride, tr, tz = _enter_cell(coef, ref, edges, depth, br, bz, i, j, b,
-                                                which, top_surface, yt, tr, tz, cb, gr, gz,
-                                                ride)
+            i, j, b, ride, tr, tz = _enter_cell(
+                coef,
+                ref,
+                edges,
+                depth,
+                br,
+                bz,
+                i,
+                j,
+                b,
+                which,
+                top_surface,
+                yt,
+                tr,
+                tz,
+                cb,
+                gr,
+                gz,
+                ride,
+            )
             yt[2] = tr / cb
             yt[3] = tz / cb
             for m in range(7):
@@ -370,8 +472,9 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
             if count >= npts:
                 code = STEP_LIMIT
                 break
-            _put_row(out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, count, y,
-                     1.0 / f[4], kind)
+            _put_row(
+                out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, count, y, 1.0 / f[4], kind
+            )
             count += 1
         h = hnext
     stats[0] = count
@@ -384,13 +487,63 @@ def _trace_one(coef, ref, edges, depth, br, bz, z0, theta0, max_range, range_ste
 
 
 @numba.njit(cache=True, parallel=True)
-def _trace_rays(coef, ref, edges, depth, br, bz, z0, angles, max_range, range_step, tol,
-                max_step, dir_scale, max_bounces, max_steps,
-                out_r, out_z, out_t, out_a, out_q, out_c, out_p, out_k, rf_r, rf_a, rf_k,
-                stats):
+def _trace_rays(
+    coef,
+    ref,
+    edges,
+    depth,
+    br,
+    bz,
+    z0,
+    angles,
+    max_range,
+    range_step,
+    tol,
+    max_step,
+    dir_scale,
+    max_bounces,
+    max_steps,
+    out_r,
+    out_z,
+    out_t,
+    out_a,
+    out_q,
+    out_c,
+    out_p,
+    out_k,
+    rf_r,
+    rf_a,
+    rf_k,
+    stats,
+):
     """Trace every ray (prange over rays); row n of each output is ray n."""
     for n in numba.prange(angles.shape[0]):
-        _trace_one(coef, ref, edges, depth, br, bz, z0, angles[n], max_range, range_step,
-                   tol, max_step, dir_scale, max_bounces, max_steps, out_r[n], out_z[n],
-                   out_t[n], out_a[n], out_q[n], out_c[n], out_p[n], out_k[n], rf_r[n],
-                   rf_a[n], rf_k[n], stats[n])
+        _trace_one(
+            coef,
+            ref,
+            edges,
+            depth,
+            br,
+            bz,
+            z0,
+            angles[n],
+            max_range,
+            range_step,
+            tol,
+            max_step,
+            dir_scale,
+            max_bounces,
+            max_steps,
+            out_r[n],
+            out_z[n],
+            out_t[n],
+            out_a[n],
+            out_q[n],
+            out_c[n],
+            out_p[n],
+            out_k[n],
+            rf_r[n],
+            rf_a[n],
+            rf_k[n],
+            stats[n],
+        )

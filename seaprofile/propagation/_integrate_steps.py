@@ -27,18 +27,14 @@ _DP_A = np.array(
     ]
 )
 _DP_B = np.array([35 / 384, 0.0, 500 / 1113, 125 / 192, -2187 / 6784, 11 / 84])
-_DP_E = np.array(
-    [-71 / 57600, 0.0, 71 / 16695, -71 / 1920, 17253 / 339200, -22 / 525, 1 / 40]
-)
+_DP_E = np.array([-71 / 57600, 0.0, 71 / 16695, -71 / 1920, 17253 / 339200, -22 / 525, 1 / 40])
 _DP_P = np.array(
     [
         [1.0, -8048581381 / 2820520608, 8663915743 / 2820520608, -12715105075 / 11282082432],
         [0.0, 0.0, 0.0, 0.0],
-        [0.0, 131558114200 / 32700410799, -68118460800 / 10900136933,
-         87487479700 / 32700410799],
+        [0.0, 131558114200 / 32700410799, -68118460800 / 10900136933, 87487479700 / 32700410799],
         [0.0, -1754552775 / 470086768, 14199869525 / 1410260304, -10690763975 / 1880347072],
-        [0.0, 127303824393 / 49829197408, -318862633887 / 49829197408,
-         701980252875 / 199316789632],
+        [0.0, 127303824393 / 49829197408, -318862633887 / 49829197408, 701980252875 / 199316789632],
         [0.0, -282668133 / 205662961, 2019193451 / 616988883, -1453857185 / 822651844],
         [0.0, 40617522 / 29380423, -110615467 / 29380423, 69997945 / 29380423],
     ]
@@ -60,14 +56,14 @@ def _dp_stages(coef, ref, depth, i, j, y, f, h, k, yt, yn, ride):
     for s in range(1, 6):
         for m in range(7):
             acc = 0.0
-            for l in range(s):
-                acc += _DP_A[s, l] * k[l, m]
+            for st in range(s):
+                acc += _DP_A[s, st] * k[st, m]
             yt[m] = y[m] + h * acc
         _rhs(coef, ref, depth, i, j, yt, k[s], ride)
     for m in range(7):
         acc = 0.0
-        for l in range(6):
-            acc += _DP_B[l] * k[l, m]
+        for st in range(6):
+            acc += _DP_B[st] * k[st, m]
         yn[m] = y[m] + h * acc
     _rhs(coef, ref, depth, i, j, yn, k[6], ride)
 
@@ -79,8 +75,8 @@ def _dp_error(k, h, c, dir_scale, tol):
     err = 0.0
     for m in range(5):
         acc = 0.0
-        for l in range(7):
-            acc += _DP_E[l] * k[l, m]
+        for st in range(7):
+            acc += _DP_E[st] * k[st, m]
         e = abs(h * acc)
         if m == 2 or m == 3:
             e *= dir_scale * c
@@ -102,8 +98,8 @@ def _step_control(h, err, max_step, ride):
         # and shrink, never accept it
         return False, h * 0.2
     if err > 1.0 and h > 1e-6:
-        return False, h * max(0.2, 0.9 * err ** -0.2)
-    hnext = 5.0 * h if err == 0.0 else h * min(5.0, max(0.2, 0.9 * err ** -0.2))
+        return False, h * max(0.2, 0.9 * err**-0.2)
+    hnext = 5.0 * h if err == 0.0 else h * min(5.0, max(0.2, 0.9 * err**-0.2))
     if hnext > max_step:
         hnext = max_step
     if ride and hnext > _RIDE_STEP:
@@ -118,8 +114,8 @@ def _dense_coefficients(k, h, qd):
         comp = row if row < 2 else 3
         for m in range(4):
             acc = 0.0
-            for l in range(7):
-                acc += k[l, comp] * _DP_P[l, m]
+            for st in range(7):
+                acc += k[st, comp] * _DP_P[st, m]
             qd[row, m] = h * acc
 
 
@@ -128,7 +124,10 @@ def _dense_state(k, y, h, x, out):
     """State at fraction x of the step, from the dense output."""
     for m in range(7):
         acc = 0.0
-        for l in range(7):
-            acc += k[l, m] * x * (_DP_P[l, 0] + x * (_DP_P[l, 1] + x * (
-                _DP_P[l, 2] + x * _DP_P[l, 3])))
+        for st in range(7):
+            acc += (
+                k[st, m]
+                * x
+                * (_DP_P[st, 0] + x * (_DP_P[st, 1] + x * (_DP_P[st, 2] + x * _DP_P[st, 3])))
+            )
         out[m] = y[m] + h * acc
