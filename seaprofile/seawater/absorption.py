@@ -19,6 +19,7 @@ sonar decision. Not for navigation on its own.
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -38,7 +39,7 @@ __all__ = [
 ]
 
 # 1 Np/m = 20 log10(e) dB per m = 8.686 dB/m = 8686 dB/km
-_DB_KM_PER_NP_M = 20.0 * np.log10(np.e) * 1000.0
+_DB_KM_PER_NP_M = 20.0 / math.log(10.0) * 1000.0
 # gauge pressure in standard atmospheres per metre of sea water (rho g / 101325 Pa,
 # rho = 1025 kg/m3, g = 9.80665 m/s2): an approximation, adequate for F&S's P factors
 _ATM_PER_M = 1025.0 * 9.80665 / 101325.0
