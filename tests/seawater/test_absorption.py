@@ -96,16 +96,14 @@ def test_ten_kilohertz_about_one_decibel_per_kilometre():
 
 def test_pure_water_branches_meet_at_twenty_degrees():
     # Francois & Garrison (1982, Part I) give A3 in two branches, T <= 20 and T > 20 degC.
-    # At 1 MHz the pure-water term dominates; the jump across 20 degC we find is 2.7e-5
-    # relative at 100 kHz and about 5e-4 of A3 itself; bound 1e-3 (well below the
-    # formula's own accuracy of several per cent).
-    for f in (1.0e5, 1.0e6):
+    # Found jump across 20 degC (from-memory coefficients): A3 2.2010e-4 below and
+    # 2.2000e-4 above (-4.5e-4 relative); total absorption -1.4e-5 relative at 10 kHz,
+    # -2.6e-5 at 100 kHz, -3.2e-4 at 1 MHz where the pure-water term dominates. Bound
+    # 1e-3, far below the formula's own accuracy of several per cent.
+    for f in (1.0e4, 1.0e5, 1.0e6):
         below = francois_garrison1982(f, 20.0, 35.0, 0.0)
         above = francois_garrison1982(f, np.nextafter(20.0, 21.0), 35.0, 0.0)
         assert abs(above / below - 1.0) < 1e-3
-    # the high branch is the one used just above 20 degC (the two differ at 25 degC)
-    a = francois_garrison1982(1.0e6, 25.0, 35.0, 0.0)
-    assert np.isfinite(a)
 
 
 # --- (c) physical invariants ------------------------------------------------------------
