@@ -8,8 +8,8 @@ xarray DataArrays through the one dispatcher (:func:`._apply.pointwise`).
 
 Units everywhere: frequency Hz, temperature degC, practical salinity, depth m positive
 down, pH (dimensionless); absorption dB/km. Formulas written in kHz, km or atm convert
-inside. The formulas are closed-form expressions, evaluated with numpy array operations
-(no loop over samples); no compiled kernel is needed.
+inside their compiled kernels (``_absorption_kernels``: one scalar numba kernel and one
+flat loop per formula, run by :func:`._apply.run_loop`; NaN in gives NaN out).
 
 Coefficients are written from memory of the publications (each docstring says which we
 are sure of); verify against the originals before relying on them for a survey or a
@@ -19,14 +19,14 @@ sonar decision. Not for navigation on its own.
 from __future__ import annotations
 
 import functools
-import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
 from .._validate import SeaprofileError, is_lazy, warn_outside
-from ._apply import output_attrs, pointwise
+from . import _absorption_kernels as _k
+from ._apply import output_attrs, pointwise, run_loop
 
 __all__ = [
     "ABSORPTION",
@@ -37,12 +37,6 @@ __all__ = [
     "fisher_simmons1977",
     "thorp1967",
 ]
-
-# 1 Np/m = 20 log10(e) dB per m = 8.686 dB/m = 8686 dB/km
-_DB_KM_PER_NP_M = 20.0 / math.log(10.0) * 1000.0
-# gauge pressure in standard atmospheres per metre of sea water (rho g / 101325 Pa,
-# rho = 1025 kg/m3, g = 9.80665 m/s2): an approximation, adequate for F&S's P factors
-_ATM_PER_M = 1025.0 * 9.80665 / 101325.0
 
 _ATTRS = {"long_name": "sound absorption coefficient", "units": "dB km-1"}
 
@@ -103,29 +97,7 @@ def francois_garrison1982(frequency, temperature, salinity, depth, ph=8.0):
     All coefficients are written from memory; they agree with the widely reproduced form
     of the equation as we recall it, but have not been checked against the original here.
     """
-    f = np.asarray(frequency, dtype=np.float64) * 1e-3
-    t = np.asarray(temperature, dtype=np.float64)
-    s = np.asarray(salinity, dtype=np.float64)
-    d = np.asarray(depth, dtype=np.float64)
-    f2sq = f * f
-    with np.errstate(invalid="ignore"):
-        c = 1412.0 + 3.21 * t + 1.19 * s + 0.0167 * d
-        a1 = 8.86 / c * 10.0 ** (0.78 * np.asarray(ph, dtype=np.float64) - 5.0)
-        f1 = 2.8 * np.sqrt(s / 35.0) * 10.0 ** (4.0 - 1245.0 / (t + 273.0))
-        a2 = 21.44 * s / c * (1.0 + 0.025 * t)
-        p2 = 1.0 - 1.37e-4 * d + 6.2e-9 * d * d
-        f2 = 8.17 * 10.0 ** (8.0 - 1990.0 / (t + 273.0)) / (1.0 + 0.0018 * (s - 35.0))
-        a3 = np.where(
-            t <= 20.0,
-            4.937e-4 + t * (-2.59e-5 + t * (9.11e-7 + t * -1.50e-8)),
-            3.964e-4 + t * (-1.146e-5 + t * (1.45e-7 + t * -6.5e-10)),
-        )
-        p3 = 1.0 - 3.83e-5 * d + 4.9e-10 * d * d
-        return (
-            a1 * f1 * f2sq / (f1 * f1 + f2sq)
-            + a2 * p2 * f2 * f2sq / (f2 * f2 + f2sq)
-            + a3 * p3 * f2sq
-        )
+    return run_loop(_k._francois_garrison1982_loop, (frequency, temperature, salinity, depth, ph))
 
 
 def ainslie_mccolm1998(frequency, temperature, salinity, depth, ph=8.0):
@@ -168,20 +140,7 @@ def ainslie_mccolm1998(frequency, temperature, salinity, depth, ph=8.0):
     -6..35 degC, salinity 5..50, depth 0..7 km, pH 7.7..8.3. We are confident of these
     coefficients (a short formula, widely reproduced), but they are still from memory.
     """
-    f = np.asarray(frequency, dtype=np.float64) * 1e-3
-    t = np.asarray(temperature, dtype=np.float64)
-    s = np.asarray(salinity, dtype=np.float64)
-    z = np.asarray(depth, dtype=np.float64) * 1e-3
-    fsq = f * f
-    with np.errstate(invalid="ignore"):
-        f1 = 0.78 * np.sqrt(s / 35.0) * np.exp(t / 26.0)
-        f2 = 42.0 * np.exp(t / 17.0)
-        boric = (
-            0.106 * f1 * fsq / (f1 * f1 + fsq) * np.exp((np.asarray(ph, np.float64) - 8.0) / 0.56)
-        )
-        mgso4 = 0.52 * (1.0 + t / 43.0) * (s / 35.0) * f2 * fsq / (f2 * f2 + fsq) * np.exp(-z / 6.0)
-        water = 0.00049 * fsq * np.exp(-(t / 27.0 + z / 17.0))
-        return boric + mgso4 + water
+    return run_loop(_k._ainslie_mccolm1998_loop, (frequency, temperature, salinity, depth, ph))
 
 
 def fisher_simmons1977(frequency, temperature, depth):
@@ -228,20 +187,7 @@ def fisher_simmons1977(frequency, temperature, depth):
     the pure-water term matches Francois & Garrison's to a few per cent at 4 degC, which
     supports the Np/m reading.
     """
-    f = np.asarray(frequency, dtype=np.float64)
-    t = np.asarray(temperature, dtype=np.float64)
-    p = np.asarray(depth, dtype=np.float64) * _ATM_PER_M
-    theta = t + 273.1
-    fsq = f * f
-    f1 = 1.32e3 * theta * np.exp(-1700.0 / theta)
-    f2 = 1.55e7 * theta * np.exp(-3052.0 / theta)
-    a1 = 1.03e-8 + t * (2.36e-10 - 5.22e-12 * t)
-    a2 = 5.62e-8 + 7.52e-10 * t
-    a3 = (55.9 + t * (-2.37 + t * (4.77e-2 - 3.48e-4 * t))) * 1e-15
-    p2 = 1.0 - 10.3e-4 * p + 3.7e-7 * p * p
-    p3 = 1.0 - 3.84e-4 * p + 7.57e-8 * p * p
-    alpha = a1 * f1 * fsq / (f1 * f1 + fsq) + a2 * p2 * f2 * fsq / (f2 * f2 + fsq) + a3 * p3 * fsq
-    return alpha * _DB_KM_PER_NP_M
+    return run_loop(_k._fisher_simmons1977_loop, (frequency, temperature, depth))
 
 
 def thorp1967(frequency):
@@ -273,9 +219,7 @@ def thorp1967(frequency):
     Thorp's original is in dB/kyd without the constant and pure-water terms. Validity as
     registered (common practice): 100 Hz-50 kHz.
     """
-    f = np.asarray(frequency, dtype=np.float64) * 1e-3
-    fsq = f * f
-    return 3.3e-3 + 0.11 * fsq / (1.0 + fsq) + 44.0 * fsq / (4100.0 + fsq) + 3.0e-4 * fsq
+    return run_loop(_k._thorp1967_loop, (frequency,))
 
 
 # --- registry --------------------------------------------------------------------------------
