@@ -1,7 +1,8 @@
 """Throughput of every sound-speed equation against gsw.sound_speed, measured in one run.
 
 Also each absorption formula in ``ABSORPTION``: the public ``absorption`` (checks,
-dispatcher) against the numpy evaluation of the same formula (``ratio_vs_function``).
+dispatcher) against the formula's own function, its compiled kernel without checks
+(``ratio_vs_function``).
 
 For each equation in ``EQUATIONS``: random points drawn uniformly inside that equation's
 validity box, timed through the public ``sound_speed`` (validation, range check, kernel)
@@ -103,7 +104,7 @@ def main(argv=None):
         rows.append({"equation": name, "route": "function", "seconds": raw})
         del t, s, v, lat
 
-    # absorption: the public entry point against the numpy formula it calls, in-box points
+    # absorption: the public entry point against the formula function it calls, in-box points
     for name, form in ABSORPTION.items():
         box = form.validity
         f = np.exp(rng.uniform(*np.log(box["frequency"][:2]), n))
