@@ -1,5 +1,9 @@
 """Throughput of every sound-speed equation against gsw.sound_speed, measured in one run.
 
+Also each absorption formula in ``ABSORPTION``: the public ``absorption`` (checks,
+dispatcher) against the formula's own function, its compiled kernel without checks
+(``ratio_vs_function``).
+
 For each equation in ``EQUATIONS``: random points drawn uniformly inside that equation's
 validity box, timed through the public ``sound_speed`` (validation, range check, kernel)
 and through the equation's own function (kernel only). The baseline is
@@ -26,6 +30,7 @@ import numba
 import numpy as np
 
 from seaprofile import __version__
+from seaprofile.seawater.absorption import ABSORPTION, absorption
 from seaprofile.seawater.soundspeed import EQUATIONS, sound_speed
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -99,6 +104,22 @@ def main(argv=None):
         rows.append({"equation": name, "route": "function", "seconds": raw})
         del t, s, v, lat
 
+    # absorption: the public entry point against the formula function it calls, in-box points
+    for name, form in ABSORPTION.items():
+        box = form.validity
+        f = np.exp(rng.uniform(*np.log(box["frequency"][:2]), n))
+        kw = {k: rng.uniform(box[k][0], box[k][1], n) for k in form.inputs}
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")  # in-range points must not warn
+            absorption(f, equation=name, **kw)  # warm-up at full size
+            public = best_of(args.repeats, absorption, f, equation=name, **kw)
+        raw = best_of(args.repeats, form.function, f, *kw.values())
+        label = f"absorption:{name}"
+        rows.append({"equation": label, "route": "absorption", "seconds": public})
+        rows.append({"equation": label, "route": "function", "seconds": raw})
+        rows[-2]["ratio_vs_function"] = public / raw
+        del f, kw
+
     for r in rows:
         r["mpoints_per_s"] = n / r["seconds"] / 1e6
         r["speedup_vs_gsw"] = t_gsw / r["seconds"]
@@ -108,12 +129,12 @@ def main(argv=None):
         "speed-up = gsw.sound_speed time / time"
     )
     print(
-        f"{'equation':18s} {'route':12s} {'seconds':>9s} {'Mpoints/s':>10s} "
+        f"{'equation':34s} {'route':12s} {'seconds':>9s} {'Mpoints/s':>10s} "
         f"{'speed-up vs gsw':>16s}"
     )
     for r in rows:
         print(
-            f"{r['equation']:18s} {r['route']:12s} {r['seconds']:9.4f} "
+            f"{r['equation']:34s} {r['route']:12s} {r['seconds']:9.4f} "
             f"{r['mpoints_per_s']:10.1f} {r['speedup_vs_gsw']:16.2f}"
         )
 

@@ -12,6 +12,7 @@ from .io.write import write
 from .layers import describe
 from .profile import build_profile, compare_profiles, extend_to
 from .propagation import Environment, Section, eigenrays, trace_fan
+from .seawater.absorption import ABSORPTION, absorption
 from .seawater.depth import depth_from_pressure, pressure_from_depth
 from .seawater.soundspeed import EQUATIONS, sound_speed, validity_mask
 
@@ -21,6 +22,8 @@ __all__ = [
     "OutsideValidityWarning",
     "SeaprofileError",
     "EQUATIONS",
+    "ABSORPTION",
+    "absorption",
     "sound_speed",
     "validity_mask",
     "depth_from_pressure",
