@@ -169,6 +169,7 @@ def main():
     numba.set_num_threads(1)
     t_kernel_1, _ = best(lambda: kernels.trace_layers(zn, cn, zs, angles, rmax, 100), repeat=3)
     t_bare_1, _ = best(bare, repeat=3)
+    t_fan_1, _ = best(lambda: trace_fan(env, zs, angles, rmax, range_step=1000.0), repeat=3)
     numba.set_num_threads(nthreads)
     t_fan, fan = best(lambda: trace_fan(env, zs, angles, rmax, range_step=1000.0), repeat=3)
     t_eig, eig = best(lambda: eigenrays(env, zs, rr, zr, max_reflections=3), repeat=3)
@@ -214,6 +215,8 @@ def main():
         "bare_arc_kernel_1thread_s": t_bare_1,
         "fan_kernel_over_bare_1thread": t_kernel_1 / t_bare_1,
         "fan_dataset_over_bare": t_fan / t_bare,
+        "fan_dataset_1thread_s": t_fan_1,
+        "fan_dataset_over_bare_1thread": t_fan_1 / t_bare_1,
         "fan_kernel_s": t_kernel,
         "fan_dataset_1km_samples_s": t_fan,
         "fan_layer_crossings": steps,
@@ -245,6 +248,11 @@ def main():
             f"{steps / t_kernel_1 / 1e6:.1f} M crossings/s",
         ),
         ("fan Dataset, 1 km samples", f"{t_fan:.3f} s", f"x{t_fan / t_bare:.2f} the bare kernel"),
+        (
+            "fan Dataset, 1 km samples, 1 thread",
+            f"{t_fan_1:.3f} s",
+            f"x{t_fan_1 / t_bare_1:.2f} the bare kernel (1 thread each), target <= 2",
+        ),
         (
             "bare arc kernel (range, time only)",
             f"{t_bare:.3f} s",
