@@ -1,0 +1,117 @@
+"""Numba kernels behind survey/refraction.py: exact rays through constant-gradient layers.
+
+Angles here are from the vertical (nadir 0). In a layer c = c_a + g (z - z_a) a ray with
+ray parameter p = sin(theta) / c is a circular arc of radius 1 / (|g| p). The closed forms
+below are written so that they stay exact and finite as g -> 0 and p -> 0.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numba
+import numpy as np
+
+OK = 0
+TURNED = 1
+MISSING = 2
+
+_FLAT = 1e-12  # 1/s: below this gradient a layer is treated as isovelocity
+
+
+@numba.njit(cache=True, inline="always")
+def _log_ratio(x):
+    """ln(1 + x) / x, finite at x = 0."""
+    if abs(x) > 1e-9:
+        return math.log1p(x) / x
+    return 1.0 - 0.5 * x
+
+
+@numba.njit(cache=True, inline="always")
+def _layer_piece(p, za, ca, cosa, zb, cb, cosb):
+    """Horizontal range (m) and time (s) from (za, ca) to (zb, cb), both ends below turning.
+
+    dx = p dz (c_a + c_b) / (cos a + cos b)   (= (cos a - cos b) / (g p), the arc chord)
+    dt = [ln(c_b / c_a) + ln((1 + cos a) / (1 + cos b))] / g
+    """
+    dz = zb - za
+    dx = p * dz * (ca + cb) / (cosa + cosb)
+    g = (cb - ca) / dz
+    t1 = dz / ca * _log_ratio(g * dz / ca)
+    y = (cosa - cosb) / (1.0 + cosb)
+    t2 = p * p * dz * (ca + cb) / ((cosa + cosb) * (1.0 + cosb)) * _log_ratio(y)
+    return dx, t1 + t2
+
+
+@numba.njit(cache=True, inline="always")
+def _point_after(p, za, ca, cosa, g, tau):
+    """Depth increment (m) and range increment (m) after time tau (s) from (za, ca).
+
+    tan(theta/2) = tan(theta_a/2) exp(g tau), hence
+    c(tau) = 2 c_a E / ((1 + cos a)(1 + s_a^2 E^2)), E = exp(g tau), s_a = tan(theta_a / 2).
+    """
+    if abs(g) < _FLAT:
+        return ca * tau * cosa, ca * tau * p * ca
+    e = math.exp(g * tau)
+    sa = p * ca / (1.0 + cosa)
+    c = 2.0 * ca * e / ((1.0 + cosa) * (1.0 + sa * sa * e * e))
+    dz = (c - ca) / g
+    u = p * c
+    cosb = math.sqrt(max(0.0, 1.0 - u * u))
+    if cosa + cosb <= 0.0:
+        return dz, 0.0
+    return dz, p * dz * (ca + c) / (cosa + cosb)
+
+
+@numba.njit(cache=True, inline="always")
+def _one_sounding(p, tau, z, c):
+    """Depth (m), range (m), flag for one beam of ray parameter p and one-way time tau."""
+    n = z.shape[0]
+    za = z[0]
+    ca = c[0]
+    ua = p * ca
+    if ua >= 1.0:
+        return np.nan, np.nan, TURNED
+    cosa = math.sqrt(1.0 - ua * ua)
+    x = 0.0
+    for k in range(n - 1):
+        zb = z[k + 1]
+        cb = c[k + 1]
+        ub = p * cb
+        g = (cb - ca) / (zb - za)
+        if ub >= 1.0:
+            # the ray turns inside this layer, at p c = 1
+            zt = za + (1.0 / p - ca) / g
+            dx, dt = _layer_piece(p, za, ca, cosa, zt, 1.0 / p, 0.0)
+            if tau <= dt:
+                ddz, ddx = _point_after(p, za, ca, cosa, g, tau)
+                return za + ddz, x + ddx, OK
+            return np.nan, np.nan, TURNED
+        cosb = math.sqrt(1.0 - ub * ub)
+        dx, dt = _layer_piece(p, za, ca, cosa, zb, cb, cosb)
+        if tau <= dt:
+            ddz, ddx = _point_after(p, za, ca, cosa, g, tau)
+            return za + ddz, x + ddx, OK
+        tau -= dt
+        x += dx
+        za, ca, cosa = zb, cb, cosb
+    # below the deepest node the speed is held constant
+    return za + ca * tau * cosa, x + ca * tau * p * ca, OK
+
+
+@numba.njit(cache=True, parallel=True)
+def _soundings_kernel(sin_angle, one_way_time, launch_speed, z, c, depth, across, flag):
+    """Fill depth, across (m) and flag for every beam (flattened pings x beams)."""
+    for i in numba.prange(sin_angle.shape[0]):
+        tau = one_way_time[i]
+        s = sin_angle[i]
+        if not (math.isfinite(tau) and math.isfinite(s)):
+            depth[i] = np.nan
+            across[i] = np.nan
+            flag[i] = MISSING
+            continue
+        p = abs(s) / launch_speed
+        d, x, f = _one_sounding(p, tau, z, c)
+        depth[i] = d
+        across[i] = x if s >= 0.0 else -x
+        flag[i] = f
