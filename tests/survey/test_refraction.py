@@ -1,0 +1,215 @@
+"""Soundings from beam angle and travel time against analytic ray geometry.
+
+All profiles here are synthetic.
+"""
+
+import math
+import warnings
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy.optimize import brentq
+
+from seaprofile.io.errors import ArgumentError
+from seaprofile.survey import (
+    TurnedBeamWarning,
+    beam_to_sounding,
+    depth_from_harmonic_mean,
+    straight_ray_sounding,
+)
+
+# a synthetic shelf-edge profile: warm surface layer, thermocline, slow deep increase
+Z = np.array([0.0, 8.0, 25.0, 60.0, 120.0, 300.0, 800.0, 1500.0])
+C = np.array([1512.0, 1511.5, 1505.0, 1492.0, 1488.0, 1484.5, 1482.0, 1490.0])
+ANGLES = np.linspace(-70.0, 70.0, 29)
+
+
+def test_isovelocity_is_straight_ray_geometry():
+    # Straight-ray geometry in uniform water (Snell's law with c constant):
+    # depth = z0 + c t/2 cos(beam), across = c t/2 sin(beam)
+    c, z0 = 1500.0, 4.5
+    t = np.linspace(0.01, 2.0, 7)[:, None]
+    depth, across = beam_to_sounding(
+        [0.0, 3000.0], [c, c], ANGLES, t, transducer_depth=z0
+    )
+    theta = np.radians(ANGLES)
+    # tolerance: rounding only (1e-9 relative on ~1 km)
+    np.testing.assert_allclose(depth, z0 + c * t / 2 * np.cos(theta), rtol=1e-12, atol=1e-9)
+    np.testing.assert_allclose(across, c * t / 2 * np.sin(theta), rtol=1e-12, atol=1e-9)
+    d2, a2 = straight_ray_sounding(ANGLES, t, c, transducer_depth=z0)
+    np.testing.assert_allclose(depth, d2, rtol=1e-12, atol=1e-9)
+    np.testing.assert_allclose(across, a2, rtol=1e-12, atol=1e-9)
+
+
+def _arc_point(c0, g, theta0, tau):
+    """One constant-gradient layer c = c0 + g z: the circle of radius R = 1/(|g| p).
+
+    Jensen, Kuperman, Porter & Schmidt (2011), Computational Ocean Acoustics, 2nd ed.,
+    ch. 3 (ray in a linear profile is a circular arc): with theta from the vertical,
+    sin(theta) = p c, the centre lies where c = 0 (z_c = -c0/g), z - z_c = sin(theta)/(g p),
+    x = (cos(theta0) - cos(theta))/(g p), and t = (1/g) ln[tan(theta/2)/tan(theta0/2)].
+    """
+    p = math.sin(theta0) / c0
+    theta = 2.0 * math.atan(math.tan(theta0 / 2.0) * math.exp(g * tau))
+    zc = -c0 / g
+    z = zc + math.sin(theta) / (g * p)
+    x = (math.cos(theta0) - math.cos(theta)) / (g * p)
+    return z, x
+
+
+@pytest.mark.parametrize("g", [0.017, -0.05, 0.3])
+@pytest.mark.parametrize("beam", [5.0, 30.0, 55.0])
+def test_single_gradient_layer_is_a_circular_arc(g, beam):
+    c0, tau = 1500.0, 0.4
+    bottom = 5000.0
+    depth, across = beam_to_sounding(
+        [0.0, bottom], [c0, c0 + g * bottom], beam, tau, two_way=False
+    )
+    z, x = _arc_point(c0, g, math.radians(beam), tau)
+    # closed form (Jensen et al. 2011, ch. 3); tolerance 1e-6 m: the textbook form loses
+    # digits to cancellation in cos(theta0) - cos(theta) near nadir, not the kernel
+    assert depth == pytest.approx(z, abs=1e-6)
+    assert across == pytest.approx(x, abs=1e-6)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    angle=st.floats(0.0, 80.0),
+    time=st.floats(0.0, 3.0),
+    z0=st.floats(0.0, 20.0),
+)
+def test_mirrored_beams_give_mirrored_soundings(angle, time, z0):
+    # invariant: the port and starboard beams of a level transducer see the same water
+    d, a = beam_to_sounding(Z, C, [angle, -angle], time, transducer_depth=z0)
+    np.testing.assert_array_equal(d[0], d[1])
+    np.testing.assert_array_equal(a[0], -a[1])
+
+
+def _forward_ray(z, c, theta0, z_end):
+    """Range (m) and one-way time (s) of a ray from z[0] at theta0 to depth z_end.
+
+    Layer by layer with the closed forms of Jensen et al. (2011) ch. 3 written with
+    angles (x = (cos a - cos b)/(g p), t = ln[tan(b/2)/tan(a/2)]/g), independent of the
+    package's kernel; no turning allowed.
+    """
+    p = math.sin(theta0) / c[0]
+    x = t = 0.0
+    for k in range(len(z) - 1):
+        za, zb = z[k], min(z[k + 1], z_end)
+        cb = c[k] + (c[k + 1] - c[k]) * (zb - z[k]) / (z[k + 1] - z[k])
+        ca = c[k]
+        a, b = math.asin(p * ca), math.asin(p * cb)
+        g = (c[k + 1] - c[k]) / (z[k + 1] - z[k])
+        x += (math.cos(a) - math.cos(b)) / (g * p)
+        t += math.log(math.tan(b / 2) / math.tan(a / 2)) / g
+        if zb >= z_end:
+            return x, t
+    raise AssertionError("end depth below the profile")
+
+
+@pytest.mark.parametrize("target", [(150.0, 400.0), (-600.0, 1200.0), (40.0, 90.0)])
+def test_round_trip_to_a_known_seafloor_point(target):
+    across_true, depth_true = target
+    # launch angle that reaches the point: brentq on the forward closed forms (scipy)
+    side = math.copysign(1.0, across_true)
+    theta = brentq(
+        lambda th: _forward_ray(Z, C, th, depth_true)[0] - abs(across_true),
+        1e-4,
+        math.radians(75.0),
+        xtol=1e-15,
+    )
+    t_one_way = _forward_ray(Z, C, theta, depth_true)[1]
+    depth, across = beam_to_sounding(Z, C, side * math.degrees(theta), 2.0 * t_one_way)
+    # tolerance 1e-5 m: the angle root to 1e-15 rad and the textbook forms' cancellation
+    assert depth == pytest.approx(depth_true, abs=1e-5)
+    assert across == pytest.approx(across_true, abs=1e-5)
+
+
+def test_nadir_matches_harmonic_mean_depth():
+    # at nadir the exact ray and the harmonic mean (exact integral of dz/c, the package's
+    # layers.harmonic_mean_sound_speed) must agree: the definition of the harmonic mean
+    t = np.array([0.05, 0.2, 0.8, 1.5])
+    d_ray, x_ray = beam_to_sounding(Z, C, 0.0, t, transducer_depth=3.0)
+    d_hm = depth_from_harmonic_mean(Z, C, t, transducer_depth=3.0)
+    np.testing.assert_allclose(d_ray, d_hm, atol=1e-6)
+    np.testing.assert_array_equal(x_ray, 0.0)
+
+
+@pytest.mark.parametrize("beam", [15.0, 45.0, 60.0])
+def test_wrong_transducer_sound_speed_small_error_rule(beam):
+    # Small-error rule, derived here from Snell's law (the rule as usually quoted in
+    # hydrography texts is from memory): a flat face steers with sin(theta)/c_s fixed, so
+    # if the water at the face is c = c_s (1 + e) the beam leaves at
+    # sin(theta') = sin(theta) (1 + e), i.e. d(theta) = tan(theta) e to first order. Along
+    # a slant range r = c t/2 in uniform water, depth r cos(theta') changes by
+    # -r sin(theta) d(theta) = -d tan(theta) d(theta) = -d tan^2(theta) e (d = r cos theta),
+    # and the across-track distance by r cos(theta) d(theta) = d d(theta).
+    c, e, t = 1500.0, 2e-4, 0.6
+    theta = math.radians(beam)
+    d0, x0 = beam_to_sounding([0.0, 2000.0], [c, c], beam, t)
+    d1, x1 = beam_to_sounding([0.0, 2000.0], [c, c], beam, t, transducer_sound_speed=c / (1 + e))
+    dtheta = math.tan(theta) * e
+    # first-order rule: tolerance 2 % of the change (the second-order term is ~e tan^2)
+    assert d1 - d0 == pytest.approx(-d0 * math.tan(theta) * dtheta, rel=2e-2)
+    assert x1 - x0 == pytest.approx(d0 * dtheta, rel=2e-2)
+
+
+def test_turned_beam_is_nan_and_counted():
+    # a strong speed increase: a 70 degree beam reaches p c = 1 near 480 m (about 1.9 s
+    # one-way along its arc) and turns upward
+    z, c = [0.0, 1000.0], [1500.0, 1700.0]
+    with pytest.warns(TurnedBeamWarning, match="^2 beam"):
+        d, x, f = beam_to_sounding(z, c, [0.0, 70.0, -70.0], 8.0, return_flags=True)
+    assert np.isfinite(d[0]) and f[0] == 0
+    assert np.all(np.isnan(d[1:])) and np.all(np.isnan(x[1:]))
+    np.testing.assert_array_equal(f, [0, 1, 1])
+    # before the turning point the same beam still gives a number
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        d, x, f = beam_to_sounding(z, c, 70.0, 0.1, return_flags=True)
+    assert np.isfinite(d) and f == 0
+
+
+def test_missing_beams_are_flagged():
+    d, x, f = beam_to_sounding(Z, C, [np.nan, 10.0], [0.5, np.nan], return_flags=True)
+    assert np.all(np.isnan(d)) and np.all(np.isnan(x))
+    np.testing.assert_array_equal(f, [2, 2])
+
+
+def test_swath_shape_and_inputs_untouched():
+    angles = np.linspace(-60, 60, 11)
+    times = np.full((4, 11), 0.3)
+    z, c = Z.copy(), C.copy()
+    d, x = beam_to_sounding(z, c, angles, times)
+    assert d.shape == x.shape == (4, 11)
+    np.testing.assert_array_equal(z, Z)
+    np.testing.assert_array_equal(c, C)
+
+
+@pytest.mark.parametrize(
+    "kwargs, argument",
+    [
+        ({"beam_angle": 90.0}, "beam_angle"),
+        ({"beam_angle": -95.0}, "beam_angle"),
+        ({"beam_angle": np.inf}, "beam_angle"),
+        ({"travel_time": -0.1}, "travel_time"),
+        ({"profile_depth": [0.0, 10.0, 10.0]}, "profile_depth"),
+        ({"profile_sound_speed": [1500.0, -1.0, 1500.0]}, "profile_sound_speed"),
+        ({"profile_sound_speed": [1500.0, 1500.0]}, "profile_sound_speed"),
+        ({"transducer_sound_speed": 0.0}, "transducer_sound_speed"),
+        ({"transducer_depth": np.nan}, "transducer_depth"),
+    ],
+)
+def test_bad_arguments_are_named(kwargs, argument):
+    args = {
+        "profile_depth": [0.0, 10.0, 20.0],
+        "profile_sound_speed": [1500.0, 1501.0, 1502.0],
+        "beam_angle": 10.0,
+        "travel_time": 0.1,
+    }
+    args.update(kwargs)
+    with pytest.raises(ArgumentError) as err:
+        beam_to_sounding(**args)
+    assert err.value.argument == argument
