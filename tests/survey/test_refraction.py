@@ -31,9 +31,7 @@ def test_isovelocity_is_straight_ray_geometry():
     # depth = z0 + c t/2 cos(beam), across = c t/2 sin(beam)
     c, z0 = 1500.0, 4.5
     t = np.linspace(0.01, 2.0, 7)[:, None]
-    depth, across = beam_to_sounding(
-        [0.0, 3000.0], [c, c], ANGLES, t, transducer_depth=z0
-    )
+    depth, across = beam_to_sounding([0.0, 3000.0], [c, c], ANGLES, t, transducer_depth=z0)
     theta = np.radians(ANGLES)
     # tolerance: rounding only (1e-9 relative on ~1 km)
     np.testing.assert_allclose(depth, z0 + c * t / 2 * np.cos(theta), rtol=1e-12, atol=1e-9)
@@ -64,9 +62,7 @@ def _arc_point(c0, g, theta0, tau):
 def test_single_gradient_layer_is_a_circular_arc(g, beam):
     c0, tau = 1500.0, 0.4
     bottom = 5000.0
-    depth, across = beam_to_sounding(
-        [0.0, bottom], [c0, c0 + g * bottom], beam, tau, two_way=False
-    )
+    depth, across = beam_to_sounding([0.0, bottom], [c0, c0 + g * bottom], beam, tau, two_way=False)
     z, x = _arc_point(c0, g, math.radians(beam), tau)
     # closed form (Jensen et al. 2011, ch. 3); tolerance 1e-6 m: the textbook form loses
     # digits to cancellation in cos(theta0) - cos(theta) near nadir, not the kernel
@@ -97,7 +93,7 @@ def _forward_ray(z, c, theta0, z_end):
     p = math.sin(theta0) / c[0]
     x = t = 0.0
     for k in range(len(z) - 1):
-        za, zb = z[k], min(z[k + 1], z_end)
+        zb = min(z[k + 1], z_end)
         cb = c[k] + (c[k + 1] - c[k]) * (zb - z[k]) / (z[k + 1] - z[k])
         ca = c[k]
         a, b = math.asin(p * ca), math.asin(p * cb)
