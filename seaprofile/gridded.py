@@ -3,8 +3,8 @@
 A gridded field is an ``xarray.Dataset`` with temperature and salinity on
 ``(time?, depth or pressure, latitude, longitude)`` (any order), as ocean model output
 and climatologies come. The variables are found by their CF ``standard_name``
-(``sea_water_temperature`` / ``sea_water_potential_temperature`` is *not* accepted for
-in-situ temperature, ``sea_water_practical_salinity``, vertical ``depth`` /
+(``sea_water_temperature``, in situ: potential temperature is not taken for it;
+``sea_water_practical_salinity``, vertical ``depth`` /
 ``sea_water_pressure`` or ``axis: Z``, ``latitude``, ``longitude``); ``names=`` maps a
 role (``"temperature"``, ``"salinity"``, ``"vertical"``, ``"latitude"``, ``"longitude"``)
 to a variable name for files that lack them.
@@ -83,7 +83,9 @@ def _find(ds, role, names, required=True):
                 f"(it has {', '.join(map(str, ds.variables))})"
             )
         return ds[names[role]]
-    hits = [k for k, v in ds.variables.items() if v.attrs.get("standard_name") in _STANDARD_NAMES[role]]
+    hits = [
+        k for k, v in ds.variables.items() if v.attrs.get("standard_name") in _STANDARD_NAMES[role]
+    ]
     if not hits and role == "vertical":
         hits = [k for k, v in ds.variables.items() if v.attrs.get("axis") == "Z"]
     if not hits:
@@ -302,15 +304,15 @@ def layer_maps(ds_or_sound_speed, *, bathymetry=None, names=None, equation="chen
     channels = sound_channels(c, depth, below=sld, dim=dim)
     maps["channel_axis_depth"] = channels["axis_depth"]
     maps["channel_axis_speed"] = channels["axis_speed"]
-    maps["critical_depth"] = critical_depth(
-        c, depth, sld_speed, channels["axis_depth"], dim=dim
-    )
+    maps["critical_depth"] = critical_depth(c, depth, sld_speed, channels["axis_depth"], dim=dim)
     if bathymetry is not None:
         if not isinstance(bathymetry, xr.DataArray):
             raise SeaprofileError("bathymetry must be an xarray.DataArray on the horizontal grid")
         maps["depth_excess"] = depth_excess(bathymetry, maps["critical_depth"])
     order = [d for d in c.dims if d != dim]
-    out = xr.Dataset({k: v.transpose(*[d for d in order if d in v.dims], ...) for k, v in maps.items()})
+    out = xr.Dataset(
+        {k: v.transpose(*[d for d in order if d in v.dims], ...) for k, v in maps.items()}
+    )
     out.attrs = _provenance(obj.attrs, "layer_maps", vertical=dim)
     out.attrs["product"] = "layer_maps"
     return out

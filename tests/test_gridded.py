@@ -91,7 +91,9 @@ def test_lazy_until_compute(count_tasks):
     ).chunk({"longitude": 2})
     with count_tasks() as counter:
         speed = gridded.sound_speed_field(ds)
-        maps = gridded.layer_maps(speed.assign(temperature=ds["temperature"]), bathymetry=bathymetry)
+        maps = gridded.layer_maps(
+            speed.assign(temperature=ds["temperature"]), bathymetry=bathymetry
+        )
     assert counter.tasks == 0
     assert maps["depth_excess"].chunks is not None
     eager = gridded.layer_maps(ds.compute(), bathymetry=bathymetry.compute())
@@ -190,9 +192,12 @@ def test_local_cluster_gives_the_numpy_numbers():
     ds = gridded.synthetic_field(nlat=2, nlon=4, ndepth=30, chunks={"longitude": 2})
     eager = gridded.layer_maps(ds.compute())
     # processes=False: in-process transport only, no network port; closed by the with
-    with distributed.LocalCluster(
-        n_workers=1, threads_per_worker=1, processes=False, dashboard_address=None
-    ) as cluster, distributed.Client(cluster) as client:
+    with (
+        distributed.LocalCluster(
+            n_workers=1, threads_per_worker=1, processes=False, dashboard_address=None
+        ) as cluster,
+        distributed.Client(cluster) as client,
+    ):
         speed = gridded.sound_speed_field(ds)
         maps = gridded.layer_maps(ds)
         c, m = client.compute([speed, maps], sync=True)
