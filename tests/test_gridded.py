@@ -206,3 +206,13 @@ def test_local_cluster_gives_the_numpy_numbers():
     )
     for name in MAP_NAMES:
         np.testing.assert_array_equal(m[name].values, eager[name].values, name)
+
+
+def test_zarr_round_trip(tmp_path):
+    pytest.importorskip("zarr")
+    ds = gridded.synthetic_field(nlat=2, nlon=2, ndepth=10)
+    path = gridded.write_field(ds, tmp_path / "field.zarr")
+    back = gridded.open_field(path)
+    np.testing.assert_array_equal(back["temperature"].values, ds["temperature"].values)
+    with pytest.raises(SeaprofileError, match="overwrite"):
+        gridded.write_field(ds, path)
