@@ -18,6 +18,7 @@ import numpy as np
 from . import _cf
 from ._validate import InputFileError, SeaprofileError
 from .casts import qc as _qc
+from .casts._atomic import file_identities, is_among
 from .casts._common import usable_sound_speed
 from .casts.read import read_casts
 from .casts.write import FORMATS, write
@@ -199,12 +200,11 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
     """
     name = _safe_name(res.cast.attrs.get("cast_name") or Path(path).stem)
     target = Path(out_dir) / f"{name}{FORMATS[fmt][0]}"
-    for source in keep:
-        if is_same_file(target, source):
-            raise SeaprofileError(
-                f"output {target} is an input of this batch; an input is "
-                "never written over (give another output directory)"
-            )
+    if is_among(target, keep):
+        raise SeaprofileError(
+            f"output {target} is an input of this batch; an input is "
+            "never written over (give another output directory)"
+        )
     if used is not None:
         if str(target) in used:  # two casts of one name in this batch
             raise _clash(target, name)
@@ -361,7 +361,7 @@ def build_files(
     check_scheduler(scheduler)
     check_replacement_salinity(replacement_salinity, replace_salinity)
     paths = _expand_directories(paths)
-    keep = [*paths, *(str(p) for p in protect)]
+    keep = file_identities([*paths, *(str(p) for p in protect)])  # found once, not per cast
     if out_dir is not None:
         for p in paths:
             if is_same_file(out_dir, p):

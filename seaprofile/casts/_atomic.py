@@ -20,6 +20,32 @@ from .._validate import SeaprofileError
 NETCDF_LOCK = threading.RLock()
 
 
+def _identities(path):
+    """The keys under which ``path`` is one file: its resolved name, and (when it exists)
+    its device and inode, so that symbolic and hard links are the same file."""
+    keys = {("path", os.path.realpath(path))}
+    try:
+        st = os.stat(path)
+    except OSError:
+        return keys
+    keys.add(("inode", st.st_dev, st.st_ino))
+    return keys
+
+
+def file_identities(paths):
+    """The identities of ``paths`` as one frozen set: found once, checked in O(1) with
+    :func:`is_among` (a batch of thousands of files compares each output to it)."""
+    out = set()
+    for p in paths:
+        out |= _identities(p)
+    return frozenset(out)
+
+
+def is_among(path, identities):
+    """True when ``path`` is (or links to) one of the files of :func:`file_identities`."""
+    return not _identities(path).isdisjoint(identities)
+
+
 def refuse_input_as_output(inputs, outputs):
     """Raise :class:`SeaprofileError` when an output path is (or links to) an input file.
 
@@ -30,20 +56,12 @@ def refuse_input_as_output(inputs, outputs):
         A path is the same file as another when both resolve to one path (symbolic links
         followed) or, for existing files, share device and inode (hard links).
     """
-
-    def ident(p):
-        try:
-            st = os.stat(p)
-            return ("inode", st.st_dev, st.st_ino)
-        except OSError:
-            return ("path", os.path.realpath(p))
-
     seen = {}
     for p in inputs:
-        seen.setdefault(ident(p), str(p))
-        seen.setdefault(("path", os.path.realpath(p)), str(p))
+        for key in _identities(p):
+            seen.setdefault(key, str(p))
     for out in outputs:
-        hit = seen.get(ident(out)) or seen.get(("path", os.path.realpath(out)))
+        hit = next((seen[k] for k in _identities(out) if k in seen), None)
         if hit is not None:
             raise SeaprofileError(
                 f"{out}: is the input file {hit}; an input is never "
