@@ -428,10 +428,87 @@ def broken(out):
     _write(out / "broken" / "bad_number.csv", "\n".join(lines))
 
 
+# --- the swath line: a later shelf cast and beam records traced through it ---------------
+def shelf_summer_late(z):
+    """The summer shelf some hours later: the top 10 m or so warmed by the sun."""
+    t, s = shelf_summer(z)
+    return t + 1.8 * np.exp(-z / 7.0), s
+
+
+def shelf_summer_late_cast(out):
+    rng = np.random.default_rng(3104)
+    lat, lon = 44.06480, -9.60910
+    z = ctd_path(rng, 117.0, soak_depth=6.0, soak_s=60, speed=0.8, heave=0.3)
+    p, t, s = ctd_record(rng, shelf_summer_late, z, lat)
+    h = _header(
+        "VS31-S05",
+        lat,
+        lon,
+        "2031-07-14T16:05:00Z",
+        "ctd",
+        120.0,
+        comment="summer shelf station, afternoon: warmer surface layer than VS31-S04",
+    )
+    _write(out / "shelf_summer_late_ctd.csv", ctd_text(h, p, t, s))
+
+
+SWATH_PINGS = 100
+SWATH_ANGLES = np.linspace(-65.0, 65.0, 53)
+SWATH_TRANSDUCER_DEPTH = 4.5
+
+
+def swath_line(out):
+    """Beam records of one survey line, forward-traced through the afternoon water column.
+
+    Seabed 116 m at nadir sloping 0.02 m per m to port; the true beam angle is the recorded
+    one plus the roll; two-way travel times found by bisection on the exact sounding.
+    """
+    from seaprofile.survey import beam_to_sounding
+
+    rng = np.random.default_rng(3105)
+    lat = 44.06480
+    zc = np.arange(0.0, 401.0, 1.0)
+    t, s = shelf_summer_late(zc)
+    c = np.asarray(sound_speed(t, s, depth=zc, latitude=lat), dtype=float)
+    ping = np.repeat(np.arange(1, SWATH_PINGS + 1), SWATH_ANGLES.size)
+    roll = np.repeat(2.5 * np.sin(2 * np.pi * np.arange(SWATH_PINGS) / 23.0), SWATH_ANGLES.size)
+    recorded = np.tile(SWATH_ANGLES, SWATH_PINGS)
+    true = recorded + roll
+    z0 = SWATH_TRANSDUCER_DEPTH
+    c0 = float(np.interp(z0, zc, c))
+    lo, hi = np.zeros(true.size), np.full(true.size, 2.0)
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        d, x = beam_to_sounding(zc, c, true, mid, transducer_depth=z0)
+        below = d > 116.0 - 0.02 * x
+        hi, lo = np.where(below, mid, hi), np.where(below, lo, mid)
+    tt = 0.5 * (lo + hi) + rng.normal(0, 2e-5, true.size)
+    speed = np.repeat(c0 + rng.normal(0, 0.05, SWATH_PINGS), SWATH_ANGLES.size)
+    start = np.datetime64("2031-07-14T15:20:00.000")
+    times = start + np.repeat(np.arange(SWATH_PINGS) * 400, SWATH_ANGLES.size).astype(
+        "timedelta64[ms]"
+    )
+    lines = [
+        f"# note: {NOTE}",
+        f"# survey: {SURVEY}",
+        "# line: VS31-L07 (synthetic swath line)",
+        f"# vessel: {VESSEL}",
+        f"# transducer_depth: {z0} m",
+        "# travel_time: two-way",
+        "# comment: beam records forward-traced through the water column of VS31-S05",
+        "ping,time,beam_angle [deg],roll [deg],travel_time [s],transducer_sound_speed [m/s]",
+    ]
+    for row in zip(ping, times, recorded, roll, tt, speed):
+        lines.append(f"{row[0]},{str(row[1])}Z,{row[2]:.2f},{row[3]:.3f},{row[4]:.6f},{row[5]:.2f}")
+    _write(out / "swath" / "line07_beams.txt", "\n".join(lines) + "\n")
+
+
 ALL = (
     deep_ocean,
     shelf_summer_cast,
     shelf_winter_cast,
+    shelf_summer_late_cast,
+    swath_line,
     xbt_drop,
     svp_cast,
     section,
