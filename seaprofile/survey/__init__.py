@@ -1,15 +1,27 @@
 """Survey tools: soundings from beam angles and travel times, IHO S-44 uncertainty budgets."""
 
+from .advice import DEFAULT_FRACTION, angle_limits, cast_advice, widest_angle
 from .budget import S44_ORDERS, thu, tvu
+from .compare import PATHS, face_error_rule, profile_error, surface_sensor_check
 from .refraction import (
     SOUNDING_FLAGS,
     TurnedBeamWarning,
     beam_to_sounding,
     depth_from_harmonic_mean,
+    seafloor_travel_time,
     straight_ray_sounding,
 )
 
 __all__ = [
+    "DEFAULT_FRACTION",
+    "PATHS",
+    "angle_limits",
+    "cast_advice",
+    "face_error_rule",
+    "profile_error",
+    "seafloor_travel_time",
+    "surface_sensor_check",
+    "widest_angle",
     "S44_ORDERS",
     "SOUNDING_FLAGS",
     "TurnedBeamWarning",
