@@ -11,8 +11,12 @@ from .refraction import (
     seafloor_travel_time,
     straight_ray_sounding,
 )
+from .uncertainty import COVERAGE_FACTOR, SENSORS, depth_uncertainty
 
 __all__ = [
+    "COVERAGE_FACTOR",
+    "SENSORS",
+    "depth_uncertainty",
     "DEFAULT_FRACTION",
     "PATHS",
     "angle_limits",

@@ -165,3 +165,46 @@ def _to_depth_kernel(sin_angle, launch_speed, z_end, z, c, one_way, across, flag
         one_way[i] = t
         across[i] = x if s >= 0.0 else -x
         flag[i] = f
+
+
+@numba.njit(cache=True, parallel=True)
+def _many_profiles_kernel(sin_angle, one_way_time, z0, z, c, depth, across):
+    """Depth, across (m) of the same beams (m,) reprocessed with each of k profiles (k, n).
+
+    Each profile starts at the transducer depth z0 with its own speed there (linear
+    interpolation, held constant beyond the ends), which also sets the ray parameter.
+    """
+    nk, n = z.shape
+    for k in numba.prange(nk):
+        if z0 <= z[k, 0]:
+            c0 = c[k, 0]
+        elif z0 >= z[k, n - 1]:
+            c0 = c[k, n - 1]
+        else:
+            j = 0
+            while z[k, j + 1] <= z0:
+                j += 1
+            w = (z0 - z[k, j]) / (z[k, j + 1] - z[k, j])
+            c0 = c[k, j] + w * (c[k, j + 1] - c[k, j])
+        zs = np.empty(n + 1)
+        cs = np.empty(n + 1)
+        zs[0] = z0
+        cs[0] = c0
+        m = 1
+        for j in range(n):
+            if z[k, j] > z0:
+                zs[m] = z[k, j]
+                cs[m] = c[k, j]
+                m += 1
+        zz = zs[:m]
+        cc = cs[:m]
+        for i in range(sin_angle.shape[0]):
+            s = sin_angle[i]
+            tau = one_way_time[i]
+            if not (math.isfinite(s) and math.isfinite(tau)):
+                depth[k, i] = np.nan
+                across[k, i] = np.nan
+                continue
+            d, x, f = _one_sounding(abs(s) / c0, tau, zz, cc)
+            depth[k, i] = d
+            across[k, i] = x if s >= 0.0 else -x
