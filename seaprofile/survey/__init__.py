@@ -12,8 +12,13 @@ from .refraction import (
     straight_ray_sounding,
 )
 from .uncertainty import COVERAGE_FACTOR, SENSORS, depth_uncertainty
+from .which_cast import EARTH_RADIUS, cast_for_pings, great_circle_distance, neighbour_check
 
 __all__ = [
+    "EARTH_RADIUS",
+    "cast_for_pings",
+    "great_circle_distance",
+    "neighbour_check",
     "COVERAGE_FACTOR",
     "SENSORS",
     "depth_uncertainty",
