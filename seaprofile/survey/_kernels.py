@@ -115,3 +115,96 @@ def _soundings_kernel(sin_angle, one_way_time, launch_speed, z, c, depth, across
         depth[i] = d
         across[i] = x if s >= 0.0 else -x
         flag[i] = f
+
+
+@numba.njit(cache=True, inline="always")
+def _one_to_depth(p, z_end, z, c):
+    """One-way time (s), range (m), flag of a ray of ray parameter p from z[0] to z_end."""
+    n = z.shape[0]
+    za = z[0]
+    ca = c[0]
+    ua = p * ca
+    if ua >= 1.0:
+        return np.nan, np.nan, TURNED
+    cosa = math.sqrt(1.0 - ua * ua)
+    x = 0.0
+    t = 0.0
+    for k in range(n - 1):
+        zb = z[k + 1]
+        cb = c[k + 1]
+        last = zb >= z_end
+        if last:
+            cb = ca + (cb - ca) * (z_end - za) / (zb - za)
+            zb = z_end
+        ub = p * cb
+        if ub >= 1.0:
+            return np.nan, np.nan, TURNED
+        cosb = math.sqrt(1.0 - ub * ub)
+        if zb > za:
+            dx, dt = _layer_piece(p, za, ca, cosa, zb, cb, cosb)
+            x += dx
+            t += dt
+        if last:
+            return t, x, OK
+        za, ca, cosa = zb, cb, cosb
+    dz = z_end - za
+    return t + dz / (ca * cosa), x + dz * p * ca / cosa, OK
+
+
+@numba.njit(cache=True, parallel=True)
+def _to_depth_kernel(sin_angle, launch_speed, z_end, z, c, one_way, across, flag):
+    """Fill one-way time (s), across (m), flag of every beam reaching the depth z_end."""
+    for i in numba.prange(sin_angle.shape[0]):
+        s = sin_angle[i]
+        if not math.isfinite(s):
+            one_way[i] = np.nan
+            across[i] = np.nan
+            flag[i] = MISSING
+            continue
+        t, x, f = _one_to_depth(abs(s) / launch_speed, z_end, z, c)
+        one_way[i] = t
+        across[i] = x if s >= 0.0 else -x
+        flag[i] = f
+
+
+@numba.njit(cache=True, parallel=True)
+def _many_profiles_kernel(sin_angle, one_way_time, z0, z, c, depth, across):
+    """Depth, across (m) of the same beams (m,) reprocessed with each of k profiles (k, n).
+
+    Each profile starts at the transducer depth z0 with its own speed there (linear
+    interpolation, held constant beyond the ends), which also sets the ray parameter.
+    """
+    nk, n = z.shape
+    for k in numba.prange(nk):
+        if z0 <= z[k, 0]:
+            c0 = c[k, 0]
+        elif z0 >= z[k, n - 1]:
+            c0 = c[k, n - 1]
+        else:
+            j = 0
+            while z[k, j + 1] <= z0:
+                j += 1
+            w = (z0 - z[k, j]) / (z[k, j + 1] - z[k, j])
+            c0 = c[k, j] + w * (c[k, j + 1] - c[k, j])
+        zs = np.empty(n + 1)
+        cs = np.empty(n + 1)
+        zs[0] = z0
+        cs[0] = c0
+        m = 1
+        for j in range(n):
+            if z[k, j] > z0:
+                zs[m] = z[k, j]
+                cs[m] = c[k, j]
+                m += 1
+        zz = zs[:m]
+        cc = cs[:m]
+        for i in range(sin_angle.shape[0]):
+            s = sin_angle[i]
+            tau = one_way_time[i]
+            if not (math.isfinite(s) and math.isfinite(tau)):
+                depth[k, i] = np.nan
+                across[k, i] = np.nan
+                continue
+            d, x, f = _one_sounding(abs(s) / c0, tau, zz, cc)
+            depth[k, i] = d
+            across[k, i] = x if s >= 0.0 else -x

@@ -14,13 +14,14 @@ import numpy as np
 from .._validate import as_float_array
 from ..io.errors import ArgumentError
 from ..layers import harmonic_mean_sound_speed
-from ._kernels import MISSING, OK, TURNED, _soundings_kernel
+from ._kernels import MISSING, OK, TURNED, _soundings_kernel, _to_depth_kernel
 
 __all__ = [
     "SOUNDING_FLAGS",
     "TurnedBeamWarning",
     "beam_to_sounding",
     "depth_from_harmonic_mean",
+    "seafloor_travel_time",
     "straight_ray_sounding",
 ]
 
@@ -280,3 +281,82 @@ def depth_from_harmonic_mean(
         if done:
             break
     return np.where(d > z[-1] + tolerance, np.nan, d)
+
+
+def seafloor_travel_time(
+    profile_depth,
+    profile_sound_speed,
+    beam_angle,
+    seafloor_depth,
+    *,
+    transducer_depth=0.0,
+    transducer_sound_speed=None,
+    two_way=True,
+    return_flags=False,
+):
+    """Travel time and across-track distance of each beam down to a flat seafloor.
+
+    The forward problem of :func:`beam_to_sounding`: where and when a beam of a given
+    angle meets the depth ``seafloor_depth`` (used to synthesise soundings and to compare
+    profiles).
+
+    Parameters
+    ----------
+    profile_depth : array_like
+        Depths of the sound-speed profile nodes, m, positive down, strictly increasing.
+    profile_sound_speed : array_like
+        Sound speed at those nodes, m/s (linear in depth between nodes).
+    beam_angle : array_like
+        Beam angle at the transducer, degrees from vertical (nadir 0, positive to
+        starboard), |angle| < 90; NaN marks a missing beam.
+    seafloor_depth : float
+        Depth of the flat seafloor, m, positive down, deeper than ``transducer_depth``.
+    transducer_depth : float
+        Depth of the transducer face, m, positive down (default 0).
+    transducer_sound_speed : float or None
+        Sound speed that sets the ray parameter p = sin(beam_angle) / speed, m/s (the
+        speed a flat array steers with); None: the profile's speed at the transducer.
+    two_way : bool
+        Return two-way (default) or one-way travel time.
+    return_flags : bool
+        Also return the int8 flags of :data:`SOUNDING_FLAGS`.
+
+    Returns
+    -------
+    travel_time, across : numpy.ndarray
+        Travel time, s, and across-track distance of the seafloor point, m, positive to
+        starboard; NaN (flag 1) for a beam that turns before reaching the seafloor.
+
+    Notes
+    -----
+    The same constant-gradient-layer closed forms as :func:`beam_to_sounding` (Jensen,
+    Kuperman, Porter & Schmidt, *Computational Ocean Acoustics*, 2nd ed., Springer 2011,
+    ch. 3), summed layer by layer down to the seafloor; below the deepest node the speed is
+    held constant. Feeding the result back to :func:`beam_to_sounding` with the same
+    profile returns ``seafloor_depth`` to rounding.
+    """
+    z, c = _check_profile(profile_depth, profile_sound_speed)
+    z0 = _check_scalar("transducer_depth", transducer_depth)
+    bottom = _check_scalar("seafloor_depth", seafloor_depth)
+    if bottom <= z0:
+        raise ArgumentError("seafloor_depth", "must be deeper than transducer_depth (m)")
+    a = as_float_array("beam_angle", beam_angle)
+    if np.any(np.isinf(a)) or np.any(np.abs(a[np.isfinite(a)]) >= 90.0):
+        raise ArgumentError(
+            "beam_angle", "must be finite and strictly between -90 and 90 degrees from vertical"
+        )
+    zs, cs = _layers_below(z, c, z0)
+    if transducer_sound_speed is None:
+        launch = float(cs[0])
+    else:
+        launch = _check_scalar("transducer_sound_speed", transducer_sound_speed, positive=True)
+    sin_a = np.ascontiguousarray(np.sin(np.radians(a)).ravel())
+    t = np.empty(sin_a.size)
+    x = np.empty(sin_a.size)
+    f = np.empty(sin_a.size, dtype=np.int8)
+    _to_depth_kernel(sin_a, launch, bottom, zs, cs, t, x, f)
+    t = t.reshape(a.shape) * (2.0 if two_way else 1.0)
+    x, f = x.reshape(a.shape), f.reshape(a.shape)
+    if return_flags:
+        return t, x, f
+    return t, x
