@@ -44,6 +44,7 @@ class DemoReport:
     rows: list = field(default_factory=list)
     written: list = field(default_factory=list)
     failures: list = field(default_factory=list)
+    survey: list = field(default_factory=list)
 
 
 def find_demo_casts(casts_dir=None):
@@ -116,6 +117,11 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
             report.written.append(str(target))
     if figures:
         report.written.extend(_figures(results, out / "figures"))
+    from ._demo_survey import _survey_demo
+
+    root = Path(casts_dir) if casts_dir else Path.cwd() / "demo_casts"
+    written, report.survey = _survey_demo(results, root, out)
+    report.written.extend(written)
     return report
 
 

@@ -133,3 +133,11 @@ def test_demo_casts_show_what_they_are_for():
     deep = layers.describe(_profile("deep_ocean_ctd.csv"), bottom_depth=5012.0)
     assert 600.0 < deep["channel_axis_depth"] < 1300.0
     assert deep["depth_excess_surface"] > 500.0
+
+
+def test_swath_line_regenerates_and_says_synthetic(tmp_path):
+    _generator().swath_line(tmp_path)
+    rel = Path("swath") / "line07_beams.txt"
+    assert (tmp_path / rel).read_bytes() == (DEMO / rel).read_bytes()
+    meta = _header(DEMO / rel)
+    assert meta["note"].startswith("SYNTHETIC") and "synthetic" in meta["survey"]

@@ -47,6 +47,7 @@ def run(args):
                 "casts": report.rows,
                 "written": report.written,
                 "failures": report.failures,
+                "survey": report.survey,
                 "caution": CAUTION,
             }
         )
@@ -56,6 +57,8 @@ def run(args):
     print("\nspeeds in m/s, depths in m; flags = samples flagged per test")
     for failure in report.failures:
         print(f"reported (expected in the demo): {failure}", file=sys.stderr)
+    for line in report.survey:
+        print(line)
     print(f"\n{len(report.written)} files written under {args.out}/")
     print(f"Caution: {CAUTION}")
     return 0

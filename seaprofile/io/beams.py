@@ -244,7 +244,7 @@ def convert_beam_file(
                     row0 = _one_chunk(chunk, row0, out)
             except pd.errors.ParserError as exc:
                 m = re.search(r"line (\d+)", str(exc))
-                line = header_line + int(m.group(1)) if m else None
+                line = header_line + int(m.group(1)) - 1 if m else None
                 raise InputFileError(
                     path,
                     f"more fields than the header's {len(names)} columns",
