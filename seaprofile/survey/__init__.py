@@ -3,6 +3,7 @@
 from .advice import DEFAULT_FRACTION, angle_limits, cast_advice, widest_angle
 from .budget import S44_ORDERS, thu, tvu
 from .compare import PATHS, face_error_rule, profile_error, surface_sensor_check
+from .curl import surface_speed_from_curl
 from .refraction import (
     JOINS,
     SOUNDING_FLAGS,
@@ -18,6 +19,7 @@ from .uncertainty import COVERAGE_FACTOR, SENSORS, depth_uncertainty
 from .which_cast import EARTH_RADIUS, cast_for_pings, great_circle_distance, neighbour_check
 
 __all__ = [
+    "surface_speed_from_curl",
     "JOINS",
     "join_transducer_speed",
     "swath_soundings",
