@@ -171,7 +171,8 @@ def cast_advice(
         order = None
         label = f"a custom budget (a = {float(a):g} m, b = {float(b):g})"
     else:
-        label = f"Order {_order(order).name}"
+        name = _order(order).name
+        label = f"{name} Order" if name in ("Exclusive", "Special") else f"Order {name}"
     f = _fraction(fraction)
     p = _path(path)
     depth = float(errors.attrs["water_depth"])
@@ -187,7 +188,8 @@ def cast_advice(
         f"{budget:.2f} m at 95 % ({source}; the {f * 100:g} % share is "
         f"common practice, no source; error path: {p})"
     )
-    worst = np.nanmax(np.abs(err)) if np.any(np.isfinite(err)) else float("nan")
+    inside = np.abs(angles) <= outer
+    worst = np.nanmax(np.abs(err[inside])) if np.any(np.isfinite(err[inside])) else np.nan
     if np.isnan(widest):
         return (
             f"a new cast is needed for {label} at {depth:g} m: even the innermost beam "

@@ -63,7 +63,7 @@ def _angles(beam_angles):
     return a
 
 
-def _trace_errors(true_z, true_c, used_z, used_c, angles, bottom, z0, steering_speed, used_ok):
+def _trace_errors(true_z, true_c, used_z, used_c, angles, bottom, z0, steering_speed):
     """Depth and across errors (m) of beams steered with ``steering_speed`` in the true water,
     reprocessed at their nominal angle with the used profile."""
     with warnings.catch_warnings():
@@ -166,7 +166,7 @@ def profile_error(
         "combined": (uz, uc, sensor),
     }
     for path, (pz, pc, steer) in runs.items():
-        dz, dx, t, x_true = _trace_errors(tz, tc, pz, pc, angles, bottom, z0, steer, None)
+        dz, dx, t, x_true = _trace_errors(tz, tc, pz, pc, angles, bottom, z0, steer)
         data[f"depth_error_{path}"] = (
             "beam_angle",
             dz,

@@ -10,6 +10,7 @@ from __future__ import annotations
 import warnings
 
 import numpy as np
+import xarray as xr
 
 from .._validate import as_float_array
 from ..io.errors import ArgumentError
@@ -20,8 +21,11 @@ __all__ = [
     "SOUNDING_FLAGS",
     "TurnedBeamWarning",
     "beam_to_sounding",
+    "JOINS",
     "depth_from_harmonic_mean",
+    "join_transducer_speed",
     "seafloor_travel_time",
+    "swath_soundings",
     "straight_ray_sounding",
 ]
 
@@ -89,6 +93,90 @@ def _layers_below(z, c, transducer_depth):
     return np.ascontiguousarray(zs), np.ascontiguousarray(cs)
 
 
+#: How :func:`join_transducer_speed` puts the transducer's sound speed into the profile.
+JOINS = {
+    "launch": "sensor speed sets the ray parameter only; the profile is unchanged",
+    "node": "profile at and above the transducer replaced by the sensor speed (a node at the "
+    "transducer), linear to the next profile node below",
+    "blend": "sensor speed at the transducer, the difference to the profile tapered "
+    "linearly to zero over join_distance below it",
+}
+
+
+def join_transducer_speed(
+    profile_depth,
+    profile_sound_speed,
+    transducer_sound_speed,
+    *,
+    transducer_depth=0.0,
+    method="blend",
+    join_distance=5.0,
+):
+    """Profile with the transducer's measured sound speed joined in at the transducer.
+
+    Parameters
+    ----------
+    profile_depth : array_like
+        Profile node depths, m, positive down, strictly increasing.
+    profile_sound_speed : array_like
+        Sound speed at the nodes, m/s.
+    transducer_sound_speed : float
+        Sound speed measured at the transducer face, m/s.
+    transducer_depth : float
+        Transducer depth, m, positive down.
+    method : {"launch", "node", "blend"}
+        See :data:`JOINS` (default ``"blend"``).
+    join_distance : float
+        With ``"blend"``: depth below the transducer over which the difference tapers to
+        zero, m (default 5 m, common practice, no source).
+
+    Returns
+    -------
+    depth, sound_speed : numpy.ndarray
+        The joined profile (nodes from the transducer down; the profile itself for
+        ``"launch"``).
+    description : str
+        One line saying what was done (for ``attrs["transducer_join"]``).
+    """
+    z, c = _check_profile(profile_depth, profile_sound_speed)
+    z0 = _check_scalar("transducer_depth", transducer_depth)
+    cs = _check_scalar("transducer_sound_speed", transducer_sound_speed, positive=True)
+    if method not in JOINS:
+        raise ArgumentError("method", f"{method!r} is not one of {', '.join(JOINS)}")
+    c_prof = float(np.interp(z0, z, c))
+    diff = cs - c_prof
+    if method == "launch":
+        return z, c, f"launch: ray parameter from {cs:.2f} m/s (profile {c_prof:.2f} m/s)"
+    zs, cc = _layers_below(z, c, z0)
+    if method == "node":
+        cc = cc.copy()
+        cc[0] = cs
+        return (
+            zs,
+            cc,
+            (
+                f"node: {cs:.2f} m/s at {z0:g} m replaces the profile ({c_prof:.2f} m/s) at and "
+                "above the transducer, linear to the next node"
+            ),
+        )
+    length = _check_scalar("join_distance", join_distance, positive=True)
+    end = z0 + length
+    if not np.any(np.isclose(zs, end)):
+        at_end = float(np.interp(end, zs, cc))
+        k = int(np.searchsorted(zs, end))
+        zs = np.insert(zs, k, end)
+        cc = np.insert(cc, k, at_end)
+    w = np.clip(1.0 - (zs - z0) / length, 0.0, 1.0)
+    return (
+        zs,
+        cc + diff * w,
+        (
+            f"blend: {cs:.2f} m/s at {z0:g} m (profile {c_prof:.2f} m/s), difference "
+            f"{diff:+.2f} m/s tapered linearly to zero over {length:g} m"
+        ),
+    )
+
+
 def beam_to_sounding(
     profile_depth,
     profile_sound_speed,
@@ -99,6 +187,8 @@ def beam_to_sounding(
     transducer_sound_speed=None,
     two_way=True,
     return_flags=False,
+    join="launch",
+    join_distance=5.0,
 ):
     """Depth and across-track distance of each beam by exact ray tracing, m.
 
@@ -125,6 +215,11 @@ def beam_to_sounding(
         ``travel_time`` is two-way (halved inside) or one-way.
     return_flags : bool
         Also return an int8 array of flags (``SOUNDING_FLAGS``).
+    join : {"launch", "node", "blend"}
+        How ``transducer_sound_speed`` enters the profile (:data:`JOINS`,
+        :func:`join_transducer_speed`); default ``"launch"``: the ray parameter only.
+    join_distance : float
+        Taper length of ``join="blend"``, m.
 
     Returns
     -------
@@ -171,6 +266,10 @@ def beam_to_sounding(
         launch = float(cs[0])
     else:
         launch = _check_scalar("transducer_sound_speed", transducer_sound_speed, positive=True)
+        if join != "launch":
+            zs, cs, _ = join_transducer_speed(
+                z, c, launch, transducer_depth=z0, method=join, join_distance=join_distance
+            )
     shape = a.shape
     sin_a = np.ascontiguousarray(np.sin(np.radians(a)).ravel())
     one_way = np.ascontiguousarray(t.ravel() * (0.5 if two_way else 1.0))
@@ -360,3 +459,116 @@ def seafloor_travel_time(
     if return_flags:
         return t, x, f
     return t, x
+
+
+def _swath_block(z, c, angle, time, z0, launch, two_way):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", TurnedBeamWarning)
+        return beam_to_sounding(
+            z,
+            c,
+            angle,
+            time,
+            transducer_depth=z0,
+            transducer_sound_speed=launch,
+            two_way=two_way,
+        )
+
+
+def swath_soundings(
+    profile_depth,
+    profile_sound_speed,
+    beam_angle,
+    travel_time,
+    *,
+    transducer_depth=0.0,
+    transducer_sound_speed=None,
+    join="launch",
+    join_distance=5.0,
+    two_way=True,
+):
+    """:func:`beam_to_sounding` over (ping, beam) numpy, dask or xarray arrays, as a Dataset.
+
+    Parameters
+    ----------
+    profile_depth : array_like
+        Profile node depths, m, positive down, strictly increasing (one profile).
+    profile_sound_speed : array_like
+        Sound speed at the nodes, m/s.
+    beam_angle : array_like, dask array or xarray.DataArray
+        Beam angles, degrees from vertical, positive to starboard (e.g. dims
+        ``(ping, beam)`` or ``(beam,)``).
+    travel_time : array_like, dask array or xarray.DataArray
+        Travel times, s (two-way unless ``two_way=False``), aligned with ``beam_angle``.
+    transducer_depth : float
+        Transducer depth, m, positive down.
+    transducer_sound_speed : float or None
+        Sound speed at the transducer face, m/s; joined in by ``join``.
+    join : {"launch", "node", "blend"}
+        How the transducer speed enters (:data:`JOINS`); ignored without it.
+    join_distance : float
+        Taper length of ``"blend"``, m.
+    two_way : bool
+        Two-way travel times.
+
+    Returns
+    -------
+    xarray.Dataset or tuple of arrays
+        For xarray inputs a Dataset with ``depth`` and ``across_track_distance`` (m; lazy
+        for dask-backed inputs, computed block by block with ``dask="parallelized"``
+        through the package's one dispatcher), attributes ``transducer_join``,
+        provenance and caution; for numpy or dask inputs the pair ``(depth, across)``.
+        Turned beams are NaN (no warning per block; use :func:`beam_to_sounding` with
+        ``return_flags=True`` to count them).
+    """
+    from .. import _cf
+    from ..seawater._apply import columnwise
+
+    z, c = _check_profile(profile_depth, profile_sound_speed)
+    z0 = _check_scalar("transducer_depth", transducer_depth)
+    launch = None
+    how = "profile speed at the transducer"
+    if transducer_sound_speed is not None:
+        z, c, how = join_transducer_speed(
+            z,
+            c,
+            transducer_sound_speed,
+            transducer_depth=z0,
+            method=join,
+            join_distance=join_distance,
+        )
+        launch = float(transducer_sound_speed)
+
+    def func(za, ca, angle, time):
+        return _swath_block(za, ca, angle, time, z0, launch, two_way)
+
+    depth_attrs = {
+        "standard_name": "depth",
+        "long_name": "sounding depth below the sea surface",
+        "units": "m",
+        "positive": "down",
+    }
+    across_attrs = {"long_name": "across-track distance, positive to starboard", "units": "m"}
+    labelled = any(isinstance(v, xr.DataArray) for v in (beam_angle, travel_time))
+    zc = [xr.DataArray(v, dims="profile_node") if labelled else v for v in (z, c)]
+    out = columnwise(
+        func,
+        [("profile_depth", zc[0]), ("profile_sound_speed", zc[1])],
+        dim="profile_node",
+        params=[("beam_angle", beam_angle), ("travel_time", travel_time)],
+        outputs=[("depth", depth_attrs), ("across_track_distance", across_attrs)],
+    )
+    if not isinstance(out[0], xr.DataArray):
+        return out
+    attrs = _cf.record_step(
+        _cf.base_attrs(product="soundings", transducer_join=how, transducer_depth=z0),
+        "swath_soundings",
+        transducer_depth=z0,
+        join=join,
+        two_way=two_way,
+    )
+    order = []
+    for v in (travel_time, beam_angle):
+        order += [d for d in getattr(v, "dims", ()) if d not in order]
+    ds = xr.Dataset({"depth": out[0], "across_track_distance": out[1]}, attrs=attrs)
+    return ds.transpose(*order, ...)

@@ -76,12 +76,11 @@ def test_same_profile_gives_no_error():
     assert "profile_error" in ds.attrs["processing_steps"]
 
 
-def test_isovelocity_column_error_is_exact_scaling():
-    # uniform water c_true, processed with uniform c_used (same face speed is not possible:
-    # the launch also changes). Exact: the sensor defaults to the used speed, so the array
-    # steers p = sin(theta)/c_used in water c_true: sin(theta') = sin(theta) c_true/c_used;
-    # slant r = h / cos(theta'), processed r' = r c_used / c_true at theta: depth
-    # r' cos(theta). (straight-ray geometry, derived here)
+def test_isovelocity_combined_error_closed_form():
+    # straight-ray geometry, derived here: true water c_t, used uniform c_u, the array
+    # steering with c_u (the default sensor: the used profile's face speed). Snell at the
+    # face: sin(theta') = sin(theta) c_t / c_u; slant to the seafloor r = h / cos(theta');
+    # the time is reprocessed at speed c_u and angle theta: depth r (c_u / c_t) cos(theta).
     ct, cu, h = 1500.0, 1497.0, 100.0
     ds = profile_error([0, 500], [cu, cu], [0, 500], [ct, ct], water_depth=h, beam_angles=ANGLES)
     th = np.radians(ANGLES)
@@ -156,3 +155,24 @@ def test_bad_arguments_are_named():
     with pytest.raises(ArgumentError) as err:
         widest_angle(ds, order="1a", fraction=1.5)
     assert err.value.argument == "fraction"
+
+
+def test_messy_profiles_two_node_against_bottle_profile():
+    # a two-node planning profile used where the water was sampled by 50 m bottles: finite
+    # errors, zero at nadir only if the harmonic means agree, mirror-symmetric
+    true_z = np.arange(0.0, 301.0, 50.0)
+    true_c = np.array([1510.0, 1498.0, 1492.0, 1490.0, 1489.5, 1489.2, 1489.0])
+    ds = profile_error(
+        [0.0, 300.0],
+        [1510.0, 1489.0],
+        true_z,
+        true_c,
+        water_depth=250.0,
+        beam_angles=np.linspace(-70, 70, 15),
+    )
+    for path in ("column", "face", "combined"):
+        e = ds[f"depth_error_{path}"].values
+        assert np.all(np.isfinite(e))
+        np.testing.assert_array_equal(e, e[::-1])
+    # same face speed (1510 both): the face path is exactly zero
+    np.testing.assert_allclose(ds["depth_error_face"], 0.0, atol=1e-9)

@@ -209,3 +209,57 @@ def test_bad_arguments_are_named(kwargs, argument):
     with pytest.raises(ArgumentError) as err:
         beam_to_sounding(**args)
     assert err.value.argument == argument
+
+
+# --- transducer speed join and the xarray/dask route ---------------------------------
+
+from seaprofile.survey import join_transducer_speed, swath_soundings  # noqa: E402
+
+
+def test_join_methods_put_the_sensor_speed_at_the_transducer():
+    z, c = [0.0, 10.0, 50.0], [1510.0, 1505.0, 1490.0]
+    zs, cs, how = join_transducer_speed(z, c, 1508.0, transducer_depth=2.0, method="node")
+    assert zs[0] == 2.0 and cs[0] == 1508.0 and how.startswith("node")
+    np.testing.assert_array_equal(zs[1:], [10.0, 50.0])
+    zs, cs, how = join_transducer_speed(z, c, 1508.0, transducer_depth=2.0, join_distance=5.0)
+    # blend: sensor speed at 2 m, the profile itself from 7 m down (linear profile values
+    # at 7 m: 1510 - 0.5 * 7 = 1506.5)
+    np.testing.assert_allclose(zs, [2.0, 7.0, 10.0, 50.0])
+    np.testing.assert_allclose(cs, [1508.0, 1506.5, 1505.0, 1490.0])
+    assert "5 m" in how
+    zs, cs, how = join_transducer_speed(z, c, 1508.0, method="launch")
+    np.testing.assert_array_equal(cs, c)
+
+
+def test_swath_route_matches_numpy_on_dask_and_xarray():
+    import xarray as xr
+
+    angles = np.linspace(-65.0, 65.0, 9)
+    times = np.linspace(0.1, 0.3, 6)[:, None] + 0.01 * np.abs(angles)[None, :] / 65
+    expected = beam_to_sounding(Z, C, angles, times, transducer_depth=3.0)
+    a = xr.DataArray(angles, dims="beam")
+    t = xr.DataArray(times, dims=("ping", "beam")).chunk({"ping": 2})
+    ds = swath_soundings(Z, C, a, t, transducer_depth=3.0)
+    assert ds["depth"].dims == ("ping", "beam")
+    assert ds["depth"].chunks is not None  # lazy until computed
+    ds = ds.compute()
+    np.testing.assert_array_equal(ds["depth"].values, expected[0])
+    np.testing.assert_array_equal(ds["across_track_distance"].values, expected[1])
+    assert ds.attrs["product"] == "soundings" and "caution" in ds.attrs
+    d, x = swath_soundings(Z, C, angles, times, transducer_depth=3.0)
+    np.testing.assert_array_equal(d, expected[0])
+
+
+def test_node_join_in_beam_to_sounding_is_the_joined_profile():
+    zs, cs, _ = join_transducer_speed(Z, C, 1509.0, transducer_depth=3.0, method="node")
+    expected = beam_to_sounding(zs, cs, ANGLES, 0.2, transducer_depth=3.0)
+    got = beam_to_sounding(
+        Z, C, ANGLES, 0.2, transducer_depth=3.0, transducer_sound_speed=1509.0, join="node"
+    )
+    np.testing.assert_array_equal(got[0], expected[0])
+    # uniform water with the same sensor speed: any join leaves straight-ray geometry
+    for join in ("launch", "node", "blend"):
+        d, x = beam_to_sounding(
+            [0.0, 900.0], [1500.0, 1500.0], 40.0, 0.2, transducer_sound_speed=1500.0, join=join
+        )
+        assert d == pytest.approx(150.0 * math.cos(math.radians(40.0)), abs=1e-9)
