@@ -86,3 +86,25 @@ def test_no_seabed_warns():
         warnings.simplefilter("always")
         transmission_loss(env, 50, 100, ranges=[100, 200], depths=[10, 20], beams=20)
     assert any("seabed" in str(x.message) for x in w)
+
+
+def test_reciprocity_coherent():
+    # acoustic reciprocity (Jensen et al. 2011, ch. 2): source and receiver depths swapped
+    # give the same field; 1 dB on the median over ranges, common practice, no source
+    env = Environment.from_arrays([0, 100], [C, C], 100, seabed=Seabed.named("sand"))
+    r = np.linspace(500, 3000, 26)
+    kw = dict(ranges=r, beams=600, angles=(-60, 60), absorption=None)
+    a = transmission_loss(env, 20.0, 200.0, depths=[70.0], **kw).values[0]
+    b = transmission_loss(env, 70.0, 200.0, depths=[20.0], **kw).values[0]
+    ok = np.isfinite(a) & np.isfinite(b)
+    assert np.median(np.abs(a[ok] - b[ok])) < 1.0
+
+
+def test_range_dependent_runs():
+    env = Environment.from_arrays(
+        [0, 300], [C, C], bathymetry=([0, 3000], [200, 100]), seabed=Seabed.named("sand")
+    )
+    tl = transmission_loss(env, 50, 200, ranges=np.linspace(100, 3000, 10),
+                           depths=np.linspace(0, 200, 21), beams=100)  # fmt: skip
+    assert np.isnan(tl.values[-1, -1]) and tl["beam_count"].values[-1, -1] == 0
+    assert np.isfinite(tl.values[5, 5])
