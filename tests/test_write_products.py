@@ -204,8 +204,8 @@ def test_protected_input_is_never_the_output(tmp_path, arrivals):
 def test_unknown_products_and_formats_name_the_argument(tmp_path, cast, profile, fan):
     with pytest.raises(SeaprofileError, match=r"^obj: .*no product.*known products"):
         write(xr.Dataset({"x": ("thing", [1.0, 2.0])}), tmp_path / "x.nc")
-    with pytest.raises(SeaprofileError, match=r"^obj: product 'loss_field' is not one"):
-        write(xr.Dataset(attrs={"product": "loss_field"}), tmp_path / "x.nc")
+    with pytest.raises(SeaprofileError, match=r"^obj: product 'not_a_product_kind' is not one"):
+        write(xr.Dataset(attrs={"product": "not_a_product_kind"}), tmp_path / "x.nc")
     with pytest.raises(SeaprofileError, match=r"^obj must be an xarray"):
         write({"depth": [0.0]}, tmp_path / "x.nc")
     with pytest.raises(SeaprofileError, match=r"^obj: cannot mix"):

@@ -341,5 +341,11 @@ register_product(
 _GRIDDED = {"netcdf": write_product_netcdf, "json": write_product_json}
 register_product("ray_fan", description="ray fan", detect=_is_ray_fan, writers=_GRIDDED)
 register_product(
+    "loss_field",
+    description="transmission loss field",
+    detect=lambda ds: {"depth", "range"} == set(ds.dims) and "transmission_loss" in ds,
+    writers=_GRIDDED,
+)
+register_product(
     "path_table", description="eigenray paths (PathTable)", detect=_is_path_table, writers=_GRIDDED
 )

@@ -10,6 +10,7 @@ from .codes import END_REASONS, POINT_KINDS
 from .eigenrays import eigenrays
 from .environment import Environment, LayeredSpeed, thin_nodes
 from .integrate import trace_fan_integrated
+from .loss import transmission_loss
 from .rayfan import rayfan_dataset
 from .rays import trace_fan
 from .reflection import (
@@ -42,4 +43,5 @@ __all__ = [
     "surface_reflection",
     "thin_nodes",
     "trace_fan",
+    "transmission_loss",
 ]
