@@ -125,7 +125,9 @@ def transmission_loss(
         reflection coefficients). ``incoherent``: sum of |beam pressure|^2 (phases
         dropped). ``semicoherent``: the incoherent sum with each beam weighted by the
         Lloyd's-mirror source pattern 2 sin^2(k z_s sin theta_0), which keeps the
-        surface-image interference at the source and averages to the incoherent result.
+        surface-image interference at the source and averages to the incoherent result
+        (this weighting is written from memory of the beam-summation literature; no
+        published check value is used for it).
     beams : int
         Number of beams (rays), evenly spaced in launch angle over ``angles``.
     angles : (float, float)
