@@ -26,6 +26,7 @@ COMMANDS = [
     "speed",
     "fan",
     "paths",
+    "coverage",
     "soundings",
     "error",
     "stale",
