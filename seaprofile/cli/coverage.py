@@ -20,8 +20,8 @@ from ..io import (
     expand_paths,
     load_environment,
     save_figure,
-    write_netcdf,
 )
+from ..io.write import write
 from ..propagation.coverage import coverage, figure_of_merit
 from ._common import parse_length, print_json
 from ._options import add_ray_input_options, optional_length, parse_source_depth, reading_options
@@ -152,7 +152,7 @@ def run(args):
     cov = coverage(loss, terms)
     written = []
     if out_path is not None:
-        write_netcdf(cov.to_dataset(), out_path, overwrite=args.overwrite)
+        write(cov.to_dataset(), out_path, overwrite=args.overwrite)
         written.append(str(out_path))
     if plot_path is not None:
         from ..plots.coverage import plot_coverage

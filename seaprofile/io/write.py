@@ -347,5 +347,11 @@ register_product(
     writers=_GRIDDED,
 )
 register_product(
+    "coverage",
+    description="detection coverage (signal excess, shadow zones, detection ranges by depth)",
+    detect=lambda ds: "signal_excess" in ds,
+    writers=_GRIDDED,
+)
+register_product(
     "path_table", description="eigenray paths (PathTable)", detect=_is_path_table, writers=_GRIDDED
 )
