@@ -52,6 +52,13 @@ def add_arguments(p):
     )
     p.add_argument("--range-step", default=DEFAULT_RANGE_STEP, help="range grid step, m or km")
     p.add_argument(
+        "--mode",
+        choices=["incoherent", "semicoherent", "coherent"],
+        default="incoherent",
+        help="how beams are summed (default incoherent: coverage is judged on the smooth "
+        "loss, not on single interference nulls; common practice, no source)",
+    )
+    p.add_argument(
         "--receiver-depths",
         help="receiver depths, m, comma separated (default: "
         f"{DEFAULT_DEPTHS} evenly from the surface to the bottom)",
@@ -148,7 +155,9 @@ def run(args):
     # lazily: the loss field lives in its own module
     from ..propagation.loss import transmission_loss
 
-    loss = transmission_loss(env, source_depth, args.frequency, ranges=ranges, depths=depths)
+    loss = transmission_loss(
+        env, source_depth, args.frequency, ranges=ranges, depths=depths, mode=args.mode
+    )
     cov = coverage(loss, terms)
     written = []
     if out_path is not None:
