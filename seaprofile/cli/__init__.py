@@ -18,7 +18,7 @@ from .._version import __version__
 from ..io.errors import ArgumentError
 
 # Command modules, in the order --help lists them. Add a new command here.
-COMMANDS = ["demo", "build", "inspect", "plot", "speed", "fan", "paths"]
+COMMANDS = ["demo", "build", "inspect", "plot", "speed", "fan", "paths", "grid"]
 
 EPILOG = (
     "A value that starts with a minus sign may also be written --option=VALUE "
