@@ -4,7 +4,8 @@ Reads the field lazily (dask), computes sound speed on the grid and the 2-D maps
 :func:`seaprofile.gridded.layer_maps` (surface sound speed, mixed and sonic layer depth,
 duct cut-off frequency, channel axis, critical depth, and depth excess with
 --bathymetry), and writes them to one file. Work runs on local threads by default, or on
-a running dask.distributed cluster (--scheduler ADDRESS); nothing is started there.
+a running dask.distributed cluster (--scheduler ADDRESS, e.g. tcp://10.0.0.5:8786); nothing
+is started there, and an address that does not answer within 5 s is a one-line error.
 
 Variables are found by their CF standard names; --names maps roles (temperature,
 salinity, vertical, latitude, longitude) to the variable names of files without them.
@@ -27,8 +28,7 @@ EXAMPLE = """example:
   seaprofile grid demo_casts/grid/synthetic_grid.nc --out grid_maps.nc --quiet
   seaprofile grid demo_casts/grid/synthetic_grid.nc --out grid_maps2.nc \\
       --chunks latitude=6,longitude=8 --plot sonic_layer.png \\
-      --map-variable sonic_layer_depth
-  (on a cluster: --scheduler tcp://10.0.0.5:8786)"""
+      --map-variable sonic_layer_depth"""
 
 ROLES = ("temperature", "salinity", "vertical", "latitude", "longitude")
 
