@@ -79,3 +79,17 @@ def test_bathymetry_adds_depth_excess(tmp_path):
     assert main(["grid", str(GRID), "--out", str(out), "--bathymetry", str(tmp_path / "b.nc")]) == 0
     with xr.open_dataset(out) as got:
         assert "depth_excess" in got
+
+
+def test_a_distributed_cluster_gives_the_local_numbers(tmp_path):
+    distributed = pytest.importorskip("distributed")
+    local, remote = tmp_path / "local.nc", tmp_path / "remote.nc"
+    assert main(["grid", str(GRID), "--out", str(local), "--quiet"]) == 0
+    with distributed.LocalCluster(
+        n_workers=1, threads_per_worker=2, processes=False, dashboard_address=None
+    ) as cluster:
+        args = ["--scheduler", cluster.scheduler_address, "--chunks", "latitude=4"]
+        assert main(["grid", str(GRID), "--out", str(remote), *args]) == 0
+    with xr.open_dataset(local) as a, xr.open_dataset(remote) as b:
+        for name in a.data_vars:
+            np.testing.assert_array_equal(a[name].values, b[name].values)
