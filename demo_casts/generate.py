@@ -503,6 +503,29 @@ def swath_line(out):
     _write(out / "swath" / "line07_beams.txt", "\n".join(lines) + "\n")
 
 
+def synthetic_grid(out):
+    """A small invented gridded temperature/salinity field for ``seaprofile grid``.
+
+    From :func:`seaprofile.gridded.synthetic_field` (a warm mixed layer over a thermocline,
+    varying smoothly with position): 12 x 16 columns of 81 levels (every 25 m) to 2000 m, labelled
+    synthetic in its attributes. Written without timestamps so that a rerun is identical.
+    """
+    from seaprofile.gridded import synthetic_field
+
+    ds = synthetic_field(nlat=12, nlon=16, ndepth=81, max_depth=2000.0)
+    ds.attrs.update(
+        title="Varrow Sea synthetic temperature/salinity grid (demo)",
+        comment=NOTE + "; gridded values are invented, not a model or a climatology",
+        source="seaprofile.gridded.synthetic_field (demo_casts/generate.py)",
+    )
+    (out / "grid").mkdir(parents=True, exist_ok=True)
+    target = out / "grid" / "synthetic_grid.nc"
+    tmp = target.with_suffix(".nc.tmp")
+    encoding = {k: {"zlib": True, "complevel": 4} for k in ds.data_vars}
+    ds.to_netcdf(tmp, format="NETCDF4", encoding=encoding)
+    os.replace(tmp, target)
+
+
 ALL = (
     deep_ocean,
     shelf_summer_cast,
@@ -516,6 +539,7 @@ ALL = (
     messy_deep,
     messy_stuck,
     broken,
+    synthetic_grid,
 )
 
 

@@ -282,6 +282,7 @@ def build_files(
     depth_method="unesco1983",
     scheduler=None,
     protect=(),
+    progress=False,
 ):
     """Read, process, quality-control and write every cast in ``paths``.
 
@@ -333,6 +334,9 @@ def build_files(
     protect : iterable of str or pathlib.Path
         Files read besides ``paths`` (e.g. the reference's file): like every input, never
         written over.
+    progress : bool
+        Show a progress bar on stderr (:mod:`seaprofile._progress`: only when stderr is a
+        terminal) and the one-time notice when the kernels are compiled on this first run.
 
     Returns
     -------
@@ -389,13 +393,20 @@ def build_files(
             replacement_salinity=float(replacement_salinity), replace_salinity=replace_salinity
         )
     args = (read_options, build_options, out_dir, format, overwrite, extend_to, keep)
+    from . import _progress
+
+    quiet = not progress
+    _progress.compile_notice(quiet=quiet)
     if scheduler is None:
         used = set()
-        groups = [_build_one_file(p, *args, used) for p in paths]
+        groups = [
+            _build_one_file(p, *args, used)
+            for p in _progress.bar(paths, desc="building", unit="file", quiet=quiet)
+        ]
         return [r for group in groups for r in group]
     # parallel: the names come from the casts, known only once read; the workers write to
     # temporary names and the outputs are claimed here, in the order of the inputs
-    groups = _with_dask(paths, args, scheduler)
+    groups = _with_dask(paths, args, scheduler, quiet)
     results = [r for group in groups for r in group]
     _commit_staged(results, overwrite)
     return results
@@ -419,17 +430,22 @@ def _expand_directories(paths):
     return out
 
 
-def _with_dask(paths, args, scheduler):
+def _with_dask(paths, args, scheduler, quiet=True):
     import dask.bag as db  # check_scheduler made sure it is there
+
+    from . import _progress
 
     bag = db.from_sequence(paths, npartitions=max(1, min(len(paths), 64)))
     work = bag.map(_build_one_file, *args)
     if scheduler in SCHEDULERS:
-        return work.compute(scheduler=scheduler)
+        with _progress.dask_progress(quiet=quiet):
+            return work.compute(scheduler=scheduler)
     from dask.distributed import Client
 
     with Client(scheduler) as client:  # an existing cluster: never started here
-        return client.compute(work).result()
+        future = client.compute(work)
+        _progress.distributed_progress(future, quiet=quiet)
+        return future.result()
 
 
 def _bottom_of(cast):

@@ -30,6 +30,7 @@ COMMANDS = [
     "soundings",
     "error",
     "stale",
+    "grid",
 ]
 
 EPILOG = (

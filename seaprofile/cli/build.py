@@ -9,11 +9,17 @@ fall rate, extension below the last sample). An input file is never written over
 
 from __future__ import annotations
 
+import csv
+import json
 import sys
+from pathlib import Path
+
+import numpy as np
 
 from .._cf import CAUTION
 from .._validate import SeaprofileError
 from ..batch import build_files, summary_row
+from ..casts._atomic import atomic_write
 from ..casts.write import FORMATS
 from ..io import load_profile
 from ..io.loading import CAST_SUFFIXES
@@ -28,7 +34,8 @@ EXAMPLE = """example:
   seaprofile build demo_casts/shelf_summer_ctd.csv --latitude 54.2 --extend-to 130 \\
       --columns "temperature=temperature [degC],pressure=pressure [dbar]"
   seaprofile build demo_casts/xbt_drop.csv --extend-to bottom \\
-      --reference demo_casts/deep_ocean_ctd.csv --out extended"""
+      --reference demo_casts/deep_ocean_ctd.csv --out extended
+  seaprofile build demo_casts --out batch --summary batch_summary.csv --quiet"""
 
 COLUMNS = [
     "file",
@@ -76,6 +83,18 @@ def add_arguments(p):
         "a running dask.distributed scheduler (tcp://host:8786)",
     )
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
+    p.add_argument(
+        "--summary",
+        metavar="FILE",
+        help="also write every cast's status (built, or failed with its message) and "
+        "layer values to FILE (.csv or .json)",
+    )
+    p.add_argument(
+        "--quiet",
+        action="store_true",
+        help="no progress bar and no first-run notice on stderr (a bar is only ever "
+        "shown when stderr is a terminal)",
+    )
 
 
 def run(args):
@@ -86,6 +105,7 @@ def run(args):
         bin_size=args.bin, extend_to=extend, equation=args.equation, depth_method=args.depth_method
     )
     check_scheduler(args.scheduler)
+    summary_path = _summary_target(args.summary, args.overwrite)
     check_replacement_salinity(args.replace_salinity, args.replace_salinity_where)
     reference = load_profile(args.reference) if args.reference else None
     results = build_files(
@@ -103,12 +123,15 @@ def run(args):
         replacement_salinity=args.replace_salinity,
         replace_salinity=args.replace_salinity_where,
         protect=[args.reference] if args.reference else (),
+        progress=not args.quiet,
         **read,
     )
     failed = [r for r in results if not r.ok]
     for r in failed:
         print(f"seaprofile build: error: {error_line(r)}", file=sys.stderr)
     rows = [summary_row(r) for r in results]
+    if summary_path is not None:
+        write_summary(results, summary_path, overwrite=args.overwrite)
     if args.json:
         print_json(
             {
@@ -127,6 +150,76 @@ def run(args):
         )
         print(f"Caution: {CAUTION}")
     return 2 if failed else 0
+
+
+SUMMARY_COLUMNS = [
+    "file",
+    "cast",
+    "status",
+    "message",
+    "instrument",
+    "depth_range_m",
+    "samples",
+    "flags",
+    "surface_speed",
+    "mixed_layer_m",
+    "sonic_layer_m",
+    "assumptions",
+    "written",
+]
+
+
+def summary_records(results):
+    """One plain dict per result: ``status`` "built" or "failed" (with ``message``)."""
+    out = []
+    for r in results:
+        row = summary_row(r)
+        rec = {k: row.get(k) for k in SUMMARY_COLUMNS}
+        rec["status"] = "built" if r.ok else "failed"
+        rec["message"] = error_line(r) if not r.ok else (row.get("status") or "ok")
+        rec["written"] = " ".join(r.written)
+        out.append(rec)
+    return out
+
+
+def _summary_target(text, overwrite):
+    """The --summary path, checked before any cast is read (suffix, existing file)."""
+    if text is None:
+        return None
+    path = Path(text)
+    if path.suffix.lower() not in (".csv", ".json"):
+        raise SeaprofileError(f"--summary: expected a .csv or .json file name, got {text!r}")
+    if path.exists() and not overwrite:
+        raise SeaprofileError(f"--summary: {text} exists; pass --overwrite to replace it")
+    if not path.parent.is_dir():
+        raise SeaprofileError(f"--summary: directory {path.parent} does not exist")
+    return path
+
+
+def write_summary(results, path, *, overwrite=False):
+    """Write :func:`summary_records` of ``results`` to ``path`` (.csv or .json), atomically."""
+    records = summary_records(results)
+    path = Path(path)
+
+    def fill(tmp):
+        with open(tmp, "w", newline="", encoding="utf-8") as fh:
+            if path.suffix.lower() == ".json":
+                json.dump({"casts": records, "caution": CAUTION}, fh, indent=1, default=_plain)
+                fh.write("\n")
+            else:
+                w = csv.DictWriter(fh, fieldnames=SUMMARY_COLUMNS)
+                w.writeheader()
+                for rec in records:
+                    w.writerow({k: "" if v is None else _plain(v) for k, v in rec.items()})
+
+    atomic_write(path, overwrite, fill)
+    return path
+
+
+def _plain(value):
+    if isinstance(value, (np.floating, np.integer)):
+        return value.item()
+    return value
 
 
 def error_line(result):

@@ -1,0 +1,59 @@
+"""Progress output: quiet off a terminal, one honest notice on a cold kernel cache."""
+
+import io
+import os
+import subprocess
+import sys
+
+from seaprofile import _progress
+
+
+class _Tty(io.StringIO):
+    def isatty(self):
+        return True
+
+
+def test_not_enabled_off_a_terminal_or_when_quiet():
+    assert not _progress.enabled(stream=io.StringIO())
+    assert _progress.enabled(stream=_Tty())
+    assert not _progress.enabled(quiet=True, stream=_Tty())
+
+
+def test_bar_writes_nothing_when_stderr_is_not_a_tty(capsys):
+    assert list(_progress.bar(range(5), desc="building")) == list(range(5))
+    with _progress.dask_progress():
+        pass
+    assert capsys.readouterr().err == ""
+
+
+def _run(cache, code):
+    env = dict(os.environ, SEAPROFILE_CACHE_DIR=str(cache))
+    env.pop("NUMBA_CACHE_DIR", None)
+    return subprocess.run(
+        [sys.executable, "-c", code], env=env, capture_output=True, text=True, timeout=120
+    )
+
+
+def test_compile_notice_once_on_a_cold_cache_then_never(tmp_path):
+    code = (
+        "from seaprofile import _progress\n"
+        "print(_progress.compile_notice(), _progress.compile_notice())\n"
+    )
+    cold = _run(tmp_path / "cache", code)
+    assert cold.stdout.split() == ["True", "False"]
+    assert cold.stderr.count("compiling numerical kernels") == 1
+    # a compiled kernel in the cache folder: warm, no notice
+    from seaprofile._version import __version__
+
+    folder = tmp_path / "cache" / __version__ / "seawater"
+    folder.mkdir(parents=True)
+    (folder / "soundspeed._kernel-1.py311.nbi").write_bytes(b"")
+    warm = _run(tmp_path / "cache", code)
+    assert warm.stdout.split() == ["False", "False"]
+    assert "compiling" not in warm.stderr
+
+
+def test_quiet_suppresses_the_notice(tmp_path):
+    code = "from seaprofile import _progress\nprint(_progress.compile_notice(quiet=True))\n"
+    out = _run(tmp_path / "cache", code)
+    assert out.stdout.split() == ["False"] and out.stderr == ""
