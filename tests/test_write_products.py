@@ -204,8 +204,8 @@ def test_protected_input_is_never_the_output(tmp_path, arrivals):
 def test_unknown_products_and_formats_name_the_argument(tmp_path, cast, profile, fan):
     with pytest.raises(SeaprofileError, match=r"^obj: .*no product.*known products"):
         write(xr.Dataset({"x": ("thing", [1.0, 2.0])}), tmp_path / "x.nc")
-    with pytest.raises(SeaprofileError, match=r"^obj: product 'not_a_product_kind' is not one"):
-        write(xr.Dataset(attrs={"product": "not_a_product_kind"}), tmp_path / "x.nc")
+    with pytest.raises(SeaprofileError, match=r"^obj: product 'made_up_product' is not one"):
+        write(xr.Dataset(attrs={"product": "made_up_product"}), tmp_path / "x.nc")
     with pytest.raises(SeaprofileError, match=r"^obj must be an xarray"):
         write({"depth": [0.0]}, tmp_path / "x.nc")
     with pytest.raises(SeaprofileError, match=r"^obj: cannot mix"):
@@ -249,3 +249,33 @@ def test_registering_a_new_kind_writes_a_dataarray(tmp_path):
         assert back.attrs["product"] == "toy_field" and back.attrs["caution"] == _cf.CAUTION
     with pytest.raises(SeaprofileError, match="writers"):
         register_product("toy", description="toy", detect=bool, writers={"excel": print})
+
+
+def test_loss_field_netcdf_round_trip(tmp_path):
+    from seaprofile.propagation.boundaries import Seabed
+    from seaprofile.propagation.environment import Environment
+    from seaprofile.propagation.loss import transmission_loss
+
+    env = Environment.from_arrays(
+        [0.0, 200.0], [1500.0, 1500.0], 200.0, seabed=Seabed.named("sand")
+    )
+    tl = transmission_loss(
+        env,
+        50.0,
+        300.0,
+        ranges=[500.0, 1000.0],
+        depths=[20.0, 100.0],
+        beams=60,
+        absorption=None,
+    )
+    assert product_kind(tl) == "loss_field"
+    path = seaprofile.write(tl, tmp_path / "loss.nc")
+    with xr.open_dataset(path) as back:
+        back = back.load()
+    assert back.attrs["product"] == "loss_field" and "caution" in back.attrs
+    assert "transmission_loss" in back.attrs["processing_steps"]
+    np.testing.assert_array_equal(back["transmission_loss"].values, tl.values)
+    assert back["beam_count"].dtype == np.int32
+    np.testing.assert_array_equal(back["beam_count"].values, tl["beam_count"].values)
+    assert back["transmission_loss"].attrs["units"] == "dB"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["loss.nc"]

@@ -1,169 +1,164 @@
-"""Numba kernel of the beam summation behind :func:`seaprofile.propagation.loss.transmission_loss`.
+"""Compiled kernels of the transmission-loss field (:mod:`.loss`): geometric-beam summation.
 
-One pass over the rays (split into one chunk per thread, each with its own field buffer, so
-no two threads write the same cell): along each ray, at each grid range, the ray point is
-interpolated from the traced samples, the reflection coefficients met so far are multiplied
-in, caustics counted (sign changes of q), absorption integrated (alpha(z) ds, ds = c dt),
-and the beam is added to the depth cells within three beam widths.
+One serial pass over the rays of a RayFan record (event points, no range samples); for
+each segment between two points the ray state is interpolated linearly in range at the
+receiver ranges inside it and one Gaussian geometric beam is added to the receiver depths
+within three beam widths. Equations in :func:`seaprofile.propagation.loss.transmission_loss`.
 """
 
 from __future__ import annotations
 
 import math
 
-import numba
 import numpy as np
+from numba import njit
 
-#: beams are cut at this many widths (Gaussian amplitude exp(-4.5), about 1.1 %)
-CUT = 3.0
+SURFACE_REFLECTION = 3
+BOTTOM_REFLECTION = 4
+
+_SQRT_2PI = math.sqrt(2.0 * math.pi)
 
 
-@numba.njit(cache=True, parallel=True)
+@njit(cache=True)
+def _first_at_or_above(a, x):
+    """Index of the first a[i] >= x in the sorted array a (len(a) if none)."""
+    lo = 0
+    hi = a.size
+    while lo < hi:
+        mid = (lo + hi) // 2
+        if a[mid] < x:
+            lo = mid + 1
+        else:
+            hi = mid
+    return lo
+
+
+@njit(cache=True)
 def _beam_sum(
-    sr,
-    sz,
-    st,
-    sth,
-    sc,
-    sq,
-    sp,  # samples (ray, sample): m, m, s, rad, m/s, m/rad, s/m/rad
-    refl_r,
-    refl_re,
-    refl_im,  # reflections (ray, reflection): range m, complex R
+    rr,
+    zz,
+    tt,
+    ang,
+    cc,
+    qq,
+    kind,
+    count,
+    refl,
     launch,
     dtheta,
     c0,
-    zs,  # launch angle rad (ray,), spacing rad, source speed m/s, depth m
-    grid_r,
-    grid_z,
-    bottom,  # grid ranges m, depths m, bottom depth at grid ranges m
+    source_depth,
     alpha_z,
-    alpha_v,  # absorption table: depths m, dB/m
-    omega,
+    alpha_db_m,
+    ranges,
+    depths,
+    omegas,
     mode,
-    nchunk,
+    min_width,
 ):
-    nray, ns = sr.shape
-    nr = grid_r.size
-    nz = grid_z.size
-    fre = np.zeros((nchunk, nz, nr))
-    fim = np.zeros((nchunk, nz, nr))
-    inten = np.zeros((nchunk, nz, nr))
-    count = np.zeros((nchunk, nz, nr), dtype=np.int32)
-    per = (nray + nchunk - 1) // nchunk
-    sq2pi = math.sqrt(2.0 * math.pi)
-    for ch in numba.prange(nchunk):
-        lo = ch * per
-        hi = min(nray, lo + per)
-        for j in range(lo, hi):
-            cos0 = math.cos(launch[j])
-            weight = 1.0
-            if mode == 2:  # semicoherent: Lloyd's-mirror source pattern
-                s = math.sin(omega / c0 * zs * math.sin(launch[j]))
-                weight = 2.0 * s * s
-            i = 0  # sample index: sr[j, i] <= r < sr[j, i + 1]
-            nrefl = 0
-            rre = 1.0
-            rim = 0.0
-            ncaus = 0
-            qprev = 0.0
-            att = 0.0  # dB
-            tprev = 0.0
-            zprev = zs
-            cprev = c0
-            for k in range(nr):
-                r = grid_r[k]
-                while i + 1 < ns and sr[j, i + 1] < r - 1e-9:
-                    i += 1
-                if i + 1 >= ns or not np.isfinite(sr[j, i + 1]) or not np.isfinite(sz[j, i]):
-                    if not (abs(sr[j, i] - r) <= 1e-9 and np.isfinite(sz[j, i])):
-                        break
-                    w = 0.0
-                    i1 = i
-                else:
-                    i1 = i + 1
-                    dr = sr[j, i1] - sr[j, i]
-                    w = 0.0 if dr <= 0 else (r - sr[j, i]) / dr
-                    if w < 0.0:
-                        w = 0.0
-                    if not np.isfinite(sz[j, i1]):
-                        if w > 1e-9:
-                            break
-                        i1 = i
-                z = sz[j, i] + w * (sz[j, i1] - sz[j, i])
-                t = st[j, i] + w * (st[j, i1] - st[j, i])
-                th = sth[j, i] + w * (sth[j, i1] - sth[j, i])
-                c = sc[j, i] + w * (sc[j, i1] - sc[j, i])
-                q = sq[j, i] + w * (sq[j, i1] - sq[j, i])
-                p = sp[j, i] + w * (sp[j, i1] - sp[j, i])
-                # reflections up to this range
-                while (
-                    nrefl < refl_r.shape[1]
-                    and np.isfinite(refl_r[j, nrefl])
-                    and (refl_r[j, nrefl] <= r + 1e-9)
-                ):
-                    a = rre * refl_re[j, nrefl] - rim * refl_im[j, nrefl]
-                    b = rre * refl_im[j, nrefl] + rim * refl_re[j, nrefl]
-                    rre = a
-                    rim = b
-                    nrefl += 1
-                if q * qprev < 0.0:
-                    ncaus += 1
-                if q != 0.0:
-                    qprev = q
-                # absorption: alpha at the mid depth times the path length c dt
-                zm = 0.5 * (z + zprev)
-                am = np.interp(zm, alpha_z, alpha_v)
-                att += am * 0.5 * (c + cprev) * abs(t - tprev)
-                tprev = t
-                zprev = z
-                cprev = c
-                aq = abs(q)
-                lam = 2.0 * math.pi * c / omega
-                width = aq * dtheta
-                if width < lam:
-                    width = lam
-                reff = r if r > 1.0 else 1.0
-                amp = math.sqrt(c * abs(cos0) * aq / (c0 * reff)) * dtheta / (sq2pi * width)
-                amp *= 10.0 ** (-att / 20.0)
-                amp *= math.sqrt(rre * rre + rim * rim)
-                # intensity beam: A^2 (|q| d theta) exp(-n^2 / W^2) / (sqrt(pi) W)
-                ia = amp * amp * 2.0 * width / (aq * dtheta) * math.sqrt(math.pi) if aq > 0 else 0.0
-                cth = abs(math.cos(th))
-                if cth < 1e-6:
-                    cth = 1e-6
-                ext = CUT * width / cth
-                sth_ = math.sin(th) / c  # along-ray slowness offset per metre of depth
-                ka = np.searchsorted(grid_z, z - ext)
-                kb = np.searchsorted(grid_z, z + ext, side="right")
-                phase0 = math.atan2(rim, rre) - 0.5 * math.pi * ncaus + omega * t
-                curv = 0.0 if q == 0.0 else 0.5 * p / q
-                for m in range(ka, kb):
-                    zz = grid_z[m]
-                    if zz > bottom[k]:
-                        break
-                    n = (zz - z) * cth
-                    count[ch, m, k] += 1
-                    if mode == 0:
-                        a = amp * math.exp(-0.5 * (n / width) ** 2)
-                        ph = phase0 + omega * ((zz - z) * sth_ + curv * n * n)
-                        fre[ch, m, k] += a * math.cos(ph)
-                        fim[ch, m, k] += a * math.sin(ph)
-                    else:
-                        inten[ch, m, k] += weight * ia * math.exp(-((n / width) ** 2))
-    out = np.zeros((nz, nr))
-    cnt = np.zeros((nz, nr), dtype=np.int32)
-    for m in range(nz):
-        for k in range(nr):
-            sre = 0.0
-            sim = 0.0
-            si = 0.0
-            sc_ = 0
-            for ch in range(nchunk):
-                sre += fre[ch, m, k]
-                sim += fim[ch, m, k]
-                si += inten[ch, m, k]
-                sc_ += count[ch, m, k]
-            out[m, k] = sre * sre + sim * sim if mode == 0 else si
-            cnt[m, k] = sc_
-    return out, cnt
+    """Sum the beams of every ray onto the (depth, range) grid.
+
+    Returns (intensity (nf, nz, nr) float64, beam count (nz, nr) int32). ``mode``: 0
+    coherent, 1 semicoherent, 2 incoherent; ``refl`` is the complex reflection coefficient
+    of each ray's reflections in order; ``alpha_db_m`` the absorption (dB/m) at depths
+    ``alpha_z``.
+    """
+    nray = rr.shape[0]
+    nz = depths.size
+    nr = ranges.size
+    nf = omegas.size
+    field = np.zeros((nf, nz, nr), dtype=np.complex128)
+    inten = np.zeros((nf, nz, nr), dtype=np.float64)
+    beams = np.zeros((nz, nr), dtype=np.int32)
+    for j in range(nray):
+        n = count[j]
+        cos0 = math.cos(launch[j])
+        # Lloyd-mirror source weighting of the semicoherent mode, per frequency
+        amp_factor = 1.0
+        refl_factor = 1.0 + 0.0j
+        caustic_phase = 0.0
+        absorb_db = 0.0
+        ir = 0
+        for i in range(n - 1):
+            k = kind[j, i]
+            if k == SURFACE_REFLECTION or k == BOTTOM_REFLECTION:
+                refl_factor *= refl[j, ir]
+                ir += 1
+            r1 = rr[j, i]
+            r2 = rr[j, i + 1]
+            q1 = qq[j, i]
+            q2 = qq[j, i + 1]
+            if q1 * q2 < 0.0 or (q2 == 0.0 and q1 != 0.0):
+                caustic_flip = True
+            else:
+                caustic_flip = False
+            # absorption along the segment: path length ~ c dt, alpha at the middle depth
+            ds = 0.5 * (cc[j, i] + cc[j, i + 1]) * (tt[j, i + 1] - tt[j, i])
+            zmid = 0.5 * (zz[j, i] + zz[j, i + 1])
+            a_mid = np.interp(zmid, alpha_z, alpha_db_m)
+            # a reflection point stores the reflected angle: the segment ends incident
+            th_end = ang[j, i + 1]
+            k_end = kind[j, i + 1]
+            if k_end == SURFACE_REFLECTION or k_end == BOTTOM_REFLECTION:
+                th_end = -th_end
+            if r2 > r1:
+                k1 = _first_at_or_above(ranges, r1)
+                k2 = _first_at_or_above(ranges, r2)
+                for kr in range(k1, k2):
+                    rk = ranges[kr]
+                    w = (rk - r1) / (r2 - r1)
+                    zr = zz[j, i] + w * (zz[j, i + 1] - zz[j, i])
+                    tr = tt[j, i] + w * (tt[j, i + 1] - tt[j, i])
+                    th = ang[j, i] + w * (th_end - ang[j, i])
+                    cr = cc[j, i] + w * (cc[j, i + 1] - cc[j, i])
+                    qr = q1 + w * (q2 - q1)
+                    aq = abs(qr)
+                    cth = math.cos(th)
+                    sth = math.sin(th)
+                    if cth < 1e-6:
+                        continue
+                    width = aq * dtheta
+                    sigma = max(width, min_width)
+                    # ray amplitude |p| = sqrt(c cos(theta0) / (c0 r |q|)), times the beam
+                    # normalisation width / (sigma sqrt(2 pi)) (finite at caustics)
+                    amp = math.sqrt(cr * cos0 / (c0 * rk * max(aq, 1e-30)))
+                    amp *= 10.0 ** (-(absorb_db + a_mid * ds * w) / 20.0)
+                    amp0 = amp
+                    amp *= width / (sigma * _SQRT_2PI) * amp_factor
+                    caus = caustic_phase
+                    if caustic_flip and w * (q2 - q1) != 0.0 and (q1 * qr) < 0.0:
+                        caus += 0.5 * math.pi
+                    half = 3.0 * sigma / cth
+                    d1 = _first_at_or_above(depths, zr - half)
+                    d2 = _first_at_or_above(depths, zr + half)
+                    for kz in range(d1, d2):
+                        dz = depths[kz] - zr
+                        nrm = dz * cth
+                        g = math.exp(-0.5 * (nrm / sigma) ** 2)
+                        beams[kz, kr] += 1
+                        a = amp * g
+                        tau = tr + dz * sth / cr
+                        for f in range(nf):
+                            if mode == 0:
+                                ph = omegas[f] * tau - caus
+                                field[f, kz, kr] += (
+                                    a * refl_factor * (math.cos(ph) + 1j * math.sin(ph))
+                                )
+                            else:
+                                s = 1.0
+                                if mode == 1:
+                                    kzs = omegas[f] / c0 * source_depth * math.sin(launch[j])
+                                    s = 2.0 * math.sin(kzs) ** 2
+                                # intensity beams: Gaussian of the intensity, normalised
+                                ai = amp0 * amp0 * width / (sigma * _SQRT_2PI) * g
+                                inten[f, kz, kr] += s * ai * abs(refl_factor) ** 2
+            if caustic_flip:
+                caustic_phase += 0.5 * math.pi
+            absorb_db += a_mid * ds
+    if mode == 0:
+        for f in range(nf):
+            for kz in range(nz):
+                for kr in range(nr):
+                    v = field[f, kz, kr]
+                    inten[f, kz, kr] = v.real * v.real + v.imag * v.imag
+    return inten, beams

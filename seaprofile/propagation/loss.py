@@ -1,89 +1,56 @@
-"""Transmission-loss field by Gaussian-beam summation over a traced ray fan.
+"""Transmission-loss field of a point source by geometric-beam summation over a ray fan.
 
-Not for navigation on its own: verify results against the governing hydrographic standard,
-local regulations and licensed practice.
+Layers: :mod:`._loss_kernels` (numba, the beam sum) -> :func:`transmission_loss` (checks,
+the fan, reflection coefficients, absorption, the DataArray). Not for navigation on its own:
+verify against the governing hydrographic standards, local regulations and licensed
+practice.
 """
 
 from __future__ import annotations
 
-import warnings
-
-import numba
 import numpy as np
 import xarray as xr
 
 from .. import _cf
 from .._validate import as_float_array
+from .._version import __version__
 from ..io.errors import ArgumentError
-from . import integrate, kernels
-from ._loss_kernels import _beam_sum
-from .codes import DEFAULT_MAX_BOUNCES, FAN_POINT_BYTES, check_memory
+from . import _loss_kernels as _k
+from .codes import AT_BOTTOM, AT_SURFACE
 from .environment import Environment
+from .rays import trace_fan
 
-__all__ = ["MODES", "transmission_loss"]
+__all__ = ["MODES", "DEFAULT_TEMPERATURE", "DEFAULT_SALINITY", "transmission_loss"]
 
-#: summation modes -> kernel code
-MODES = {"coherent": 0, "incoherent": 1, "semicoherent": 2}
-
-METHOD = "Gaussian beams, Porter & Bucker 1987"
-REFERENCE = (
-    "Porter, M.B. & Bucker, H.P. (1987), Gaussian beam tracing for computing ocean acoustic "
-    "fields, J. Acoust. Soc. Am. 82(4), 1349-1359, doi:10.1121/1.395269; Jensen, F.B., "
-    "Kuperman, W.A., Porter, M.B. & Schmidt, H. (2011), Computational Ocean Acoustics, 2nd "
-    "ed., Springer, ch. 3"
+#: Summation modes and their kernel codes.
+MODES = {"coherent": 0, "semicoherent": 1, "incoherent": 2}
+#: Temperature (degC) and practical salinity used for the absorption when the environment
+#: carries none (common practice, no source: a temperate mid-water value).
+DEFAULT_TEMPERATURE = 10.0
+DEFAULT_SALINITY = 35.0
+_MAX_CELLS = 5_000_000
+_METHOD = (
+    "geometric Gaussian-beam summation (geometric-beam variant of Porter & Bucker 1987, "
+    "J. Acoust. Soc. Am. 82, 1349-1359, doi:10.1121/1.395269)"
 )
 
 
-def _grid(name, values):
-    v = as_float_array(name, values).ravel()
-    if v.size == 0 or not np.all(np.isfinite(v)) or np.any(np.diff(v) <= 0) or v[0] < 0:
-        raise ArgumentError(name, "must be finite, >= 0 and strictly increasing (m)")
-    return v
+def _grid(name, values, low, high):
+    a = as_float_array(name, values).ravel()
+    if a.size == 0 or not np.all(np.isfinite(a)):
+        raise ArgumentError(name, "must be finite numbers (m)")
+    if np.any(np.diff(a) <= 0):
+        raise ArgumentError(name, "must be strictly increasing (m)")
+    if a[0] < low or a[-1] > high:
+        raise ArgumentError(name, f"must lie within {low:g}..{high:g} m")
+    return a
 
 
-def _absorption_table(environment, frequency, absorption, temperature, salinity, ph):
-    z = np.asarray(environment.depth, dtype=np.float64)
-    if absorption is None:
-        return z, np.zeros_like(z)
-    from ..seawater.absorption import absorption as absorption_of
-
-    t = np.broadcast_to(np.asarray(temperature, dtype=np.float64), z.shape)
-    s = np.broadcast_to(np.asarray(salinity, dtype=np.float64), z.shape)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        a = absorption_of(frequency, t, s, z, ph=ph, equation=absorption)
-    return z, np.asarray(a, dtype=np.float64) / 1000.0  # dB/km -> dB/m
-
-
-def _trace(environment, zs, angles, grid_r, max_bounces):
-    if environment.is_range_dependent:
-        step = float(np.min(np.diff(np.concatenate([[0.0], grid_r]))))
-        ds = integrate.trace_fan_integrated(
-            environment, zs, angles, float(grid_r[-1]), range_step=step, max_bounces=max_bounces
-        )
-        return {k: ds[k].values for k in ds.variables}
-    zn, cn = environment.layers()
-    ranges = grid_r if grid_r[0] == 0.0 else np.concatenate([[0.0], grid_r])
-    return kernels.fan_samples(zn, cn, zs, angles, ranges, max_bounces)
-
-
-def _reflection_coefficients(environment, out, frequency):
-    boundary = np.asarray(out["reflection_boundary"])
-    rr = np.asarray(out["reflection_range"], dtype=np.float64)
-    g = np.nan_to_num(np.asarray(out["grazing_angle"], dtype=np.float64))
-    g = np.clip(g, 0.0, 90.0)
-    c_top = float(environment.sound_speed_at(0.0))
-    rs = np.asarray(environment.surface.reflection_coefficient(g, frequency, c_top), complex)
-    rs = np.broadcast_to(rs, g.shape)
-    if environment.seabed is None:
-        rb = np.ones(g.shape, complex)
-    else:
-        # water at the bottom: the speed at the range-0 bottom depth (one value)
-        cb = float(environment.sound_speed_at(environment.bottom_depth))
-        rb = np.asarray(environment.seabed.reflection_coefficient(g, water_sound_speed=cb), complex)
-    coef = np.where(boundary == 0, rs, np.where(boundary == 1, rb, 1.0 + 0j))
-    rr = np.where(boundary >= 0, rr, np.nan)
-    return rr, np.ascontiguousarray(coef.real), np.ascontiguousarray(coef.imag)
+def _positive(name, value, unit):
+    v = as_float_array(name, value)
+    if v.ndim != 0 or not np.isfinite(v) or v <= 0:
+        raise ArgumentError(name, f"must be one positive number ({unit})")
+    return float(v)
 
 
 def transmission_loss(
@@ -96,192 +63,262 @@ def transmission_loss(
     mode="coherent",
     beams=1000,
     angles=(-80.0, 80.0),
-    band=None,
-    band_points=9,
     absorption="francois_garrison1982",
-    temperature=4.0,
-    salinity=35.0,
-    ph=8.0,
-    max_bounces=DEFAULT_MAX_BOUNCES,
+    band=None,
+    band_frequencies=5,
 ):
-    """Transmission loss (dB re 1 m) on a depth x range grid by Gaussian-beam summation.
+    """Transmission loss re 1 m on a (depth, range) grid, from a fan of geometric beams.
 
     Parameters
     ----------
     environment : Environment
-        Sound speed, surface, seabed and bathymetry. Range-dependent environments are
-        traced by the integrator. A seabed of None is taken as rigid and lossless (R = 1),
-        with a warning.
+        Sound speed, surface, seabed (None: a rigid lossless bottom, R = +1) and bottom.
     source_depth : float
-        Source depth, m.
+        Source depth, m (0 .. bottom).
     frequency : float
-        Frequency, Hz (> 0). With ``band`` it is recorded but the band is used.
+        Frequency, Hz (> 0); the centre frequency when ``band`` is given.
     ranges : array_like
-        Receiver ranges, m (>= 0, increasing).
+        Receiver ranges, m, > 0, strictly increasing.
     depths : array_like
-        Receiver depths, m (>= 0, increasing).
+        Receiver depths, m, 0 .. bottom, strictly increasing.
     mode : {"coherent", "semicoherent", "incoherent"}
-        ``coherent``: |sum of beam pressures|^2 (phases from travel time, caustics and
-        reflection coefficients). ``incoherent``: sum of |beam pressure|^2 (phases
-        dropped). ``semicoherent``: the incoherent sum with each beam weighted by the
-        Lloyd's-mirror source pattern 2 sin^2(k z_s sin theta_0), which keeps the
-        surface-image interference at the source and averages to the incoherent result
-        (this weighting is written from memory of the beam-summation literature; no
-        published check value is used for it).
+        How the beams add (see Notes).
     beams : int
-        Number of beams (rays), evenly spaced in launch angle over ``angles``.
+        Number of rays (beams) launched evenly over ``angles`` (>= 10).
     angles : (float, float)
         Lowest and highest launch angle, degrees from horizontal, positive down.
-    band : (float, float), optional
-        Broadband: the intensity is averaged over ``band_points`` frequencies spaced
-        evenly in log frequency from ``band[0]`` to ``band[1]`` (Hz).
-    band_points : int
-        Frequencies in the band.
     absorption : str or None
-        Key of :data:`seaprofile.seawater.absorption.ABSORPTION`, or None for none.
-    temperature, salinity, ph : float or array_like
-        Water for the absorption, degC, practical salinity, pH; scalars or arrays on the
-        environment's node depths (``environment.depth``). Default 4 degC, 35, pH 8
-        (a deep-water value; common practice, no source).
-    max_bounces : int
-        Rays end after this many reflections.
+        A key of :data:`seaprofile.seawater.absorption.ABSORPTION`, or None for no
+        volume absorption.
+    band : (float, float), optional
+        ``(f_low, f_high)``, Hz: average the intensity over ``band_frequencies``
+        log-spaced frequencies of the band instead of using ``frequency`` alone.
+    band_frequencies : int
+        Number of frequencies across ``band`` (>= 2).
 
     Returns
     -------
     xr.DataArray
-        ``transmission_loss`` (dims ``depth``, ``range``; dB re 1 m), NaN below the seabed
-        and where no beam reaches; 2-D coordinate ``beam_count`` (int32): beams within
-        three beam widths of the cell (0: no ray coverage, a shadow zone).
+        ``transmission_loss`` (dB, dims ``("depth", "range")``; inf where no beam reaches)
+        with the 2-D coordinate ``beam_count`` (int32: beams contributing with a Gaussian
+        weight above exp(-4.5); 0 = no ray coverage) and provenance attributes.
 
     Notes
     -----
-    Geometric-width Gaussian beams (Porter & Bucker 1987, JASA 82, 1349,
-    doi:10.1121/1.395269; Jensen et al. 2011, ch. 3). Each ray j launched at theta_0 with
-    spacing d theta carries, at arc length s, the dynamic-ray pair q (m/rad) and p; its beam
-    at normal distance n from the ray is
+    Each ray of :func:`~seaprofile.propagation.rays.trace_fan` carries the dynamic-ray
+    width q (m/rad, q(0) = 0, dq/ds(0) = 1). Energy conservation in a ray tube with the
+    source normalised to |p| = 1 at 1 m gives the ray amplitude (Jensen, Kuperman, Porter
+    & Schmidt 2011, *Computational Ocean Acoustics*, 2nd ed., ch. 3)
 
-        P_j = A_j (|q| d theta / W) / sqrt(2 pi) exp(-n^2 / (2 W^2))
-              exp(i omega (tau + p n^2 / (2 q))) prod R_k exp(-i pi m / 2) 10^(-a/20)
+        A = sqrt( c(s) cos(theta0) / (c0 r |q|) ).
 
-    with the ray-tube amplitude A_j = sqrt(c cos theta_0 / (c_0 r |q|)) (pressure re the
-    value at 1 m), the beam width W = max(|q| d theta, lambda), the travel time tau, m
-    caustics (sign changes of q), the plane-wave reflection coefficients R_k of the surface
-    and seabed at each reflection's grazing angle and a = integral of alpha(z) ds along the
-    ray. Time convention exp(-i omega t). Beams are cut at 3 W. TL = -10 log10(I). Valid
-    in the ray (high-frequency) approximation; not near the source (r < a few wavelengths).
+    Each ray is widened to a Gaussian beam of standard deviation
+    sigma = max(|q| dtheta0, lambda / 2) normal to the ray (dtheta0 the launch-angle
+    spacing); a receiver at normal distance n from the ray gets
+
+        p_j = A |q| dtheta0 / (sigma sqrt(2 pi)) exp(-n^2 / (2 sigma^2))
+              * prod(R_k) * exp(i omega tau - i m pi / 2) * 10^(-a / 20),
+
+    with tau the travel time projected to the receiver (tau + dz sin(theta) / c), R_k the
+    plane-wave reflection coefficient of each surface (:meth:`Surface.reflection_coefficient`,
+    -1 when smooth) and bottom (:meth:`Seabed.reflection_coefficient`, Rayleigh) reflection
+    so far, m the number of caustics (sign changes of q) so far and a the absorption
+    (dB) integrated along the path (alpha at each segment's middle depth, path length c dt).
+    Gaussians spaced by their own width sum to one (Poisson summation), so away from
+    caustics the sum reproduces the ray field; the lower bound on sigma keeps the field
+    finite at caustics and shadow edges. This is the geometric-beam variant of the
+    Gaussian beams of Porter & Bucker (1987), J. Acoust. Soc. Am. 82, 1349-1359,
+    doi:10.1121/1.395269 (their beam widths come from a complex q; ours from the ray tube).
+
+    Modes: coherent ``TL = -20 log10 |sum p_j|``; incoherent ``TL = -10 log10 sum |p_j|^2``;
+    semicoherent: the incoherent sum with each ray weighted by the Lloyd-mirror factor of
+    the source and its surface image, ``2 sin^2(k z_s sin theta0)`` (mean 1 over angle),
+    i.e. the near-surface source interference kept, the phases between distinct paths
+    taken as random.
+
+    Absorption: alpha(z) of the chosen formula at the environment's nodes, with
+    :data:`DEFAULT_TEMPERATURE` and :data:`DEFAULT_SALINITY` (the Environment carries no
+    temperature or salinity), pH 8.
+
+    Validity: high frequency (many wavelengths per water depth and per layer); beams miss
+    diffraction into shadow zones and the seabed's lateral waves; steep rays
+    (cos theta < 1e-6) are skipped. Range-dependent environments use the integrating
+    tracer's record in the same way.
     """
     if not isinstance(environment, Environment):
         raise ArgumentError("environment", "must be a seaprofile Environment")
+    f0 = _positive("frequency", frequency, "Hz")
     if mode not in MODES:
         raise ArgumentError("mode", f"must be one of {', '.join(MODES)}, got {mode!r}")
-    f = float(frequency)
-    if not np.isfinite(f) or f <= 0:
-        raise ArgumentError("frequency", "must be a positive number (Hz)")
-    grid_r = _grid("ranges", ranges)
-    grid_z = _grid("depths", depths)
-    nb = int(beams)
-    if nb < 2:
-        raise ArgumentError("beams", "must be at least 2")
-    lo, hi = (float(a) for a in angles)
-    if not (-90.0 <= lo < hi <= 90.0):
-        raise ArgumentError("angles", "must be (low, high) within -90..90 degrees, low < high")
-    zs = float(source_depth)
-    if not 0.0 <= zs <= environment.bottom_depth:
-        raise ArgumentError("source_depth", "must be within the water column at range 0")
-    if band is None:
-        freqs = np.array([f])
-    else:
-        fl, fh = (float(b) for b in band)
-        if not (0 < fl < fh):
-            raise ArgumentError("band", "must be (low, high) Hz with 0 < low < high")
-        freqs = np.geomspace(fl, fh, int(band_points))
-    check_memory(
-        nb * float(grid_r.size + 1) * FAN_POINT_BYTES + 2 * float(grid_z.size * grid_r.size) * 40,
-        "beams",
-        f"{nb} beams x {grid_r.size} ranges x {grid_z.size} depths",
-        "use fewer beams or a coarser grid",
-    )
-    if environment.seabed is None:
-        warnings.warn(
-            "environment has no seabed: the bottom is taken as rigid and lossless (R = 1)",
-            stacklevel=2,
+    nb = as_float_array("beams", beams)
+    if nb.ndim != 0 or not np.isfinite(nb) or nb < 10 or nb != np.floor(nb):
+        raise ArgumentError("beams", "must be a whole number >= 10")
+    nb = int(nb)
+    try:
+        lo, hi = (float(v) for v in angles)
+    except (TypeError, ValueError):
+        raise ArgumentError("angles", "must be (low, high) in degrees") from None
+    if not (-90.0 < lo < hi < 90.0):
+        raise ArgumentError("angles", "must satisfy -90 < low < high < 90 degrees")
+    bottom = float(np.max(environment.bathymetry.depth_at(np.asarray([0.0]))))
+    deepest = float(environment.bathymetry.deepest)
+    r = _grid("ranges", ranges, 0.0, np.inf)
+    if r[0] <= 0:
+        raise ArgumentError("ranges", "must be > 0 m")
+    z = _grid("depths", depths, 0.0, deepest)
+    if r.size * z.size > _MAX_CELLS:
+        raise ArgumentError(
+            "ranges", f"{z.size} depths x {r.size} ranges exceeds {_MAX_CELLS} cells"
         )
+    zs = as_float_array("source_depth", source_depth)
+    if zs.ndim != 0 or not np.isfinite(zs) or not 0.0 <= float(zs) <= bottom:
+        raise ArgumentError("source_depth", f"must be one depth within 0..{bottom:g} m")
+    zs = float(zs)
+    if band is None:
+        freqs = np.array([f0])
+    else:
+        try:
+            fl, fh = (float(v) for v in band)
+        except (TypeError, ValueError):
+            raise ArgumentError("band", "must be (f_low, f_high) in Hz") from None
+        if not (0 < fl < fh and np.isfinite(fh)):
+            raise ArgumentError("band", "must satisfy 0 < f_low < f_high (Hz)")
+        nf = int(band_frequencies)
+        if nf < 2:
+            raise ArgumentError("band_frequencies", "must be >= 2")
+        freqs = np.geomspace(fl, fh, nf)
+
     launch = np.linspace(lo, hi, nb)
-    out = _trace(environment, zs, launch, grid_r, int(max_bounces))
-    sr = np.ascontiguousarray(out["range"], dtype=np.float64)
-    samples = [
-        np.ascontiguousarray(out[k], dtype=np.float64)
-        for k in ("depth", "travel_time", "angle", "sound_speed", "tube_width", "tube_slowness")
-    ]
-    samples[2] = np.deg2rad(samples[2])
-    dtheta = float(np.deg2rad(launch[1] - launch[0]))
+    dtheta = np.deg2rad(launch[1] - launch[0])
+    rmax = float(r[-1]) * (1.0 + 1e-6) + 1e-3
+    fan = trace_fan(environment, zs, launch, rmax)
+    tube = fan["tube_width"].values
+    if not np.any(np.isfinite(tube[:, 1:])):
+        raise ArgumentError(
+            "environment", "the ray tracer gave no tube width (q) for this environment"
+        )
     c0 = float(environment.sound_speed_at(zs))
-    bottom = np.asarray(environment.bottom_at(grid_r), dtype=np.float64)
-    intensity = np.zeros((grid_z.size, grid_r.size))
-    count = None
-    nchunk = max(1, numba.get_num_threads())
-    for fi in freqs:
-        rr, rre, rim = _reflection_coefficients(environment, out, fi)
-        az, av = _absorption_table(environment, fi, absorption, temperature, salinity, ph)
-        inten, count = _beam_sum(
-            sr, *samples, rr, rre, rim, np.deg2rad(launch), dtheta, c0, zs,
-            grid_r, grid_z, bottom, az, av, 2.0 * np.pi * fi, MODES[mode], nchunk,
-        )  # fmt: skip
-        intensity += inten / freqs.size
+
+    # reflection coefficients, per ray and reflection, as numpy arrays (complex)
+    boundary = fan["reflection_boundary"].values
+    graze = np.nan_to_num(fan["grazing_angle"].values)
+    refl = np.ones(boundary.shape, dtype=np.complex128)
+    surf = boundary == AT_SURFACE
+    if surf.any():
+        refl[surf] = environment.surface.reflection_coefficient(
+            graze[surf], f0, float(environment.sound_speed_at(0.0))
+        )
+    bot = boundary == AT_BOTTOM
+    seabed = environment.seabed
+    if bot.any() and seabed is not None:
+        refl[bot] = seabed.reflection_coefficient(
+            graze[bot], water_sound_speed=float(environment.sound_speed_at(bottom))
+        )
+
+    # absorption, dB/m at the nodes
+    zn = np.asarray(environment.depth, dtype=np.float64)
+    if absorption is None:
+        alpha = np.zeros_like(zn)
+    else:
+        from ..seawater.absorption import absorption as _absorption
+
+        alpha = (
+            np.asarray(
+                _absorption(
+                    f0,
+                    np.full_like(zn, DEFAULT_TEMPERATURE),
+                    np.full_like(zn, DEFAULT_SALINITY),
+                    zn,
+                    equation=absorption,
+                ),
+                dtype=np.float64,
+            )
+            / 1000.0
+        )
+        if band is not None:
+            alpha = alpha * 1.0  # one absorption (at the centre frequency) for the band
+
+    wavelength = c0 / float(np.max(freqs))
+    inten, count = _k._beam_sum(
+        fan["range"].values,
+        fan["depth"].values,
+        fan["travel_time"].values,
+        np.deg2rad(fan["angle"].values),
+        fan["sound_speed"].values,
+        np.nan_to_num(tube),
+        fan["point_kind"].values,
+        fan["point_count"].values.astype(np.int64),
+        refl,
+        np.deg2rad(launch),
+        float(dtheta),
+        c0,
+        zs,
+        zn,
+        alpha,
+        r,
+        z,
+        2.0 * np.pi * freqs,
+        MODES[mode],
+        0.5 * wavelength,
+    )
+    mean = inten.mean(axis=0)
     with np.errstate(divide="ignore"):
-        tl = -10.0 * np.log10(intensity)
-    below = grid_z[:, None] > bottom[None, :]
-    tl[(count == 0) | below | ~np.isfinite(tl)] = np.nan
-    count = np.where(below, 0, count).astype(np.int32)
-    attrs = dict(environment.attrs or _cf.base_attrs())
-    attrs.update(
-        _cf.base_attrs(**{k: attrs[k] for k in ("processing_steps", "history") if k in attrs})
+        tl = -10.0 * np.log10(mean)
+    attrs = dict(
+        _cf.base_attrs(
+            **{
+                k: environment.attrs[k]
+                for k in ("processing_steps", "history")
+                if k in environment.attrs
+            }
+        )
     )
     attrs = _cf.record_step(
         attrs,
         "transmission_loss",
-        method=METHOD,
+        method="geometric_gaussian_beams",
         mode=mode,
-        frequency_hz=f,
-        band_hz=None if band is None else [float(freqs[0]), float(freqs[-1])],
-        band_points=int(freqs.size),
+        frequency_hz=f0,
         beams=nb,
-        angles_deg=[lo, hi],
-        absorption=absorption or "none",
         source_depth_m=zs,
     )
     attrs.update(
-        title="transmission loss field",
         product="loss_field",
-        method=METHOD,
-        references=REFERENCE,
+        title="transmission loss field",
+        method=_METHOD,
+        references="Porter, M.B. & Bucker, H.P. (1987), J. Acoust. Soc. Am. 82(4), 1349-1359, "
+        "doi:10.1121/1.395269",
         mode=mode,
-        frequency=f,
+        frequency=f0,
         beams=nb,
+        launch_angle_min=lo,
+        launch_angle_max=hi,
         source_depth=zs,
-        absorption=absorption or "none",
-        seaprofile_version=_cf.__version__,
+        absorption="none" if absorption is None else str(absorption),
+        absorption_temperature=DEFAULT_TEMPERATURE,
+        absorption_salinity=DEFAULT_SALINITY,
+        bottom_reflection="rigid (R=+1, seabed unknown)" if seabed is None else "rayleigh",
+        seaprofile_version=__version__,
+        caution=_cf.CAUTION,
         **environment.provenance_attrs(),
     )
     if band is not None:
-        attrs.update(band_low=float(freqs[0]), band_high=float(freqs[-1]),
-                     band_points=int(freqs.size))  # fmt: skip
-    if environment.seabed is None:
-        attrs["seabed_assumed"] = "rigid lossless (no seabed given)"
+        attrs["band_low"] = float(freqs[0])
+        attrs["band_high"] = float(freqs[-1])
+        attrs["band_frequencies"] = int(freqs.size)
     da = xr.DataArray(
         tl,
         dims=("depth", "range"),
         coords={
-            "depth": ("depth", grid_z, _cf.attrs_for("depth")),
-            "range": ("range", grid_r, _cf.attrs_for("range")),
+            "depth": ("depth", z, _cf.attrs_for("depth")),
+            "range": ("range", r, _cf.attrs_for("range")),
             "beam_count": (
                 ("depth", "range"),
-                count,
-                {"long_name": "number of beams reaching the cell", "units": "1"},
+                count.astype(np.int32),
+                {"long_name": "number of beams contributing", "units": "1"},
             ),
         },
         name="transmission_loss",
-        attrs=attrs,
+        attrs={**attrs, "units": "dB", "long_name": "transmission loss re 1 m"},
     )
-    da.attrs.update(long_name="transmission loss (dB re 1 m)", units="dB")
     return da
