@@ -246,8 +246,8 @@ def _ainslie_mccolm_from_memory(f_hz, t, s, z_m, ph=8.0):
 
 
 def test_ainslie_mccolm_matches_the_equation_as_recalled():
-    # from memory: the printed equation of Ainslie & McColm (1998); a transcription check
-    # (rounding only: rtol 1e-12)
+    # Ainslie & McColm (1998), JASA 103, 1671, their simplified formula, written out here
+    # from memory and independently of the package code; agreement to rounding (rtol 1e-12)
     f, t, s, d = _grid()
     got = _quiet(f, t, s, d, equation="ainslie_mccolm1998")
     np.testing.assert_allclose(got, _ainslie_mccolm_from_memory(f, t, s, d), rtol=1e-12)
