@@ -48,6 +48,7 @@ def run(args):
                 "written": report.written,
                 "failures": report.failures,
                 "survey": report.survey,
+                "loss": report.loss,
                 "caution": CAUTION,
             }
         )
@@ -58,6 +59,8 @@ def run(args):
     for failure in report.failures:
         print(f"reported (expected in the demo): {failure}", file=sys.stderr)
     for line in report.survey:
+        print(line)
+    for line in report.loss:
         print(line)
     print(f"\n{len(report.written)} files written under {args.out}/")
     print(f"Caution: {CAUTION}")
