@@ -17,8 +17,6 @@ from pathlib import Path
 
 import numpy as np
 
-from ._cf import CAUTION
-
 
 @dataclass(frozen=True)
 class LossCase:
@@ -208,18 +206,21 @@ def _loss_demo(results, out_dir, *, figures=True):
             bands = merge_bands(row["intervals"])
             entry["bands_m"][row["depth"]] = bands
             shadow = float(cov.first_shadow.values[i])
-            text = f"  receiver {row['depth']:g} m: detected at {_bands_text(bands)} km"
+            text = f"  receiver {row['depth']:g} m:"
             if case.cast == CASES[0].cast and math.isfinite(shadow):
-                text += f"; first shadow zone from {shadow / 1000:.1f} km"
+                text += f" first shadow zone from {shadow / 1000:.1f} km;"
                 if depth == BELOW_LAYER_DEPTH:
                     entry["first_shadow_m"] = shadow
+            text += f" detected at {_bands_text(bands)} km"
             if case.cast != CASES[0].cast and len(bands) > 1:
                 text += f" ({len(bands) - 1} convergence zone(s) beyond the direct zone)"
             lines.append(text)
         found[case.cast] = entry
     if lines:
+        # the caution itself is printed once by the demo command (and is in every figure
+        # and netCDF file written here)
         lines.append(
-            f"  (gaps under {MERGE_GAP_M / 1000:g} km merged; semicoherent geometric-beam "
-            f"loss; synthetic casts) Caution: {CAUTION}"
+            f"  (detection gaps under {MERGE_GAP_M / 1000:g} km merged; semicoherent "
+            "geometric-beam loss; synthetic casts; assumed sonar terms)"
         )
     return written, lines, found

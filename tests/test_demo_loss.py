@@ -10,6 +10,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+import xarray as xr
 
 pytest.importorskip("seaprofile.propagation.loss")
 
@@ -87,7 +88,17 @@ def test_report_lines(run):
     assert "first shadow zone from" in text
     assert "convergence zone" in text
     assert "figure of merit" in text and "SL " in text and "DT " in text
-    assert CAUTION in text
+    assert "synthetic" in text
+
+
+def test_products_carry_the_caution(run):
+    out, _, _, _, _ = run
+    for case in CASES:
+        for name in ("loss", "coverage"):
+            with xr.open_dataset(out / "loss" / f"{case.cast}_{name}.nc") as ds:
+                assert ds.attrs["caution"] == CAUTION
+                if name == "loss":
+                    assert ds.attrs["seabed_name"] == case.seabed
 
 
 def test_merge_bands():
