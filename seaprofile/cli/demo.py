@@ -2,7 +2,8 @@
 
 Builds every demo cast into a sound-speed profile (quality-controlled, extended to the
 bottom, every step recorded), writes netCDF, CSV and plain speed tables, draws profile
-figures and ray fans, and prints the summary. One demo file is broken on purpose: it is
+figures, ray fans, and transmission-loss and coverage maps of two casts, and prints the
+summary. One demo file is broken on purpose: it is
 reported and the others carry on. The demo rewrites its own output folder on every run.
 """
 

@@ -20,7 +20,14 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from ._layout import keep_texts_inside, thin_crowded_ticks
-from .rays import INK, SEAFLOOR_EDGE, SEAFLOOR_FILL, _profile_nodes, caution_line
+from .rays import (
+    INK,
+    SEAFLOOR_EDGE,
+    SEAFLOOR_FILL,
+    SOURCE_COLOUR,
+    _profile_nodes,
+    caution_line,
+)
 
 __all__ = ["plot_coverage", "plot_loss_map", "LOSS_LABEL"]
 
@@ -114,6 +121,24 @@ def _detection_bars(ax, rows, labelled):
             )
 
 
+def _source(ax, depth):
+    """The source (its depth, m, from the loss field's attributes) at range 0."""
+    if depth is None or not np.isfinite(float(depth)):
+        return
+    ax.plot(
+        [0.0],
+        [float(depth)],
+        marker=">",
+        ms=9,
+        color=SOURCE_COLOUR,
+        mec="white",
+        clip_on=False,
+        zorder=6,
+        gid="source",
+        ls="none",
+    )
+
+
 def plot_loss_map(
     loss,
     *,
@@ -167,6 +192,7 @@ def plot_loss_map(
             ax.contour(r, z, se, levels=[0.0], colors=INK, linewidths=1.0)
     if intervals:
         _detection_bars(ax, _rows_at(intervals, receiver_depths), receiver_depths is not None)
+    _source(ax, loss.attrs.get("source_depth"))
     ax.set_ylim(float(z.max()), float(z.min()))
     floor = _bottom(ax, environment, r, float(z.max()))
     ax.set_ylim(floor, float(z.min()))
@@ -237,6 +263,11 @@ def plot_coverage(
         Patch(facecolor=BAND_COLOUR, edgecolor=INK, label="detected (signal excess >= 0 dB)"),
         Patch(facecolor="#f2f2f2", edgecolor=INK, label="not detected (shadow)"),
     ]
+    if "source_depth" in loss.attrs:
+        _source(ax_c, loss.attrs["source_depth"])
+        handles.append(
+            Line2D([], [], color=SOURCE_COLOUR, marker=">", ls="none", mec="white", label="source")
+        )
     if receiver_depths is not None:
         rows = _rows_at(cov.intervals, receiver_depths)
         for row in rows:

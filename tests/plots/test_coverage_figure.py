@@ -170,3 +170,11 @@ def test_plot_loss_map_old_call_still_works():
     fig = plot_loss_map(loss, limits=(40.0, 120.0), colorbar=False)
     assert _mesh(fig.axes[0]).get_clim() == (40.0, 120.0)
     assert len(fig.axes) == 1
+
+
+def test_source_marked_when_the_loss_field_records_it():
+    loss = synthetic_loss().assign_attrs(source_depth=50.0)
+    fig = plot_loss_map(loss)
+    marks = [ln for ln in fig.axes[0].get_lines() if ln.get_gid() == "source"]
+    assert len(marks) == 1 and marks[0].get_ydata()[0] == 50.0 and marks[0].get_xdata()[0] == 0.0
+    assert not [ln for ln in plot_loss_map(synthetic_loss()).axes[0].get_lines()]
