@@ -11,6 +11,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 import xarray as xr
+from hypothesis import given
+from hypothesis import strategies as st
 
 pytest.importorskip("seaprofile.propagation.loss")
 
@@ -107,3 +109,18 @@ def test_merge_bands():
         [60.0, 65.0],
     ]
     assert merge_bands([]) == []
+
+
+@given(
+    st.lists(st.tuples(st.floats(0.0, 1e5), st.floats(0.0, 5e3)), min_size=0, max_size=12).map(
+        lambda pairs: sorted([a, a + w] for a, w in pairs)
+    ),
+    st.floats(0.0, 5e3),
+)
+def test_merge_bands_invariants(intervals, gap):
+    # closing short gaps never loses a detected range, and what is left apart is >= gap apart
+    bands = merge_bands([list(iv) for iv in intervals], gap=gap)
+    for a, b in intervals:
+        assert any(lo <= a and b <= hi for lo, hi in bands)
+    for (_, b0), (a1, _) in zip(bands, bands[1:]):
+        assert a1 - b0 >= gap
