@@ -116,3 +116,18 @@ def test_one_profile_gives_python_numbers():
     assert isinstance(out["axis_depth"], float) and out["axis_depth"] == 200.0
     assert isinstance(out["still_decreasing"], bool)
     assert isinstance(layers.critical_depth(c, z, 1505.0, 200.0), float)
+
+
+def test_layer_kernels_release_the_gil():
+    # dask threads run the column diagnostics of different chunks side by side only when
+    # the kernels drop the GIL (common practice, no source: numba's nogil option)
+    from seaprofile.layers import _channel_kernels, mixed
+
+    kernels = [
+        _channel_kernels._channels_kernel,
+        _channel_kernels._critical_kernel,
+        mixed._crossing_kernel,
+        mixed._sonic_layer_kernel,
+    ]
+    for kernel in kernels:
+        assert kernel.targetoptions.get("nogil") is True, kernel.py_func.__name__
