@@ -15,27 +15,12 @@ Prints a table and writes benchmarks/results/survey_uncertainty.json. Run:
 
 from __future__ import annotations
 
-import json
-import os
-import platform
-import time
-
-import numba
 import numpy as np
+from _results import best_of, machine, write_result
 
 from seaprofile.survey import beam_to_sounding, depth_uncertainty, seafloor_travel_time
 
-HERE = os.path.dirname(os.path.abspath(__file__))
 SAMPLES = 2000
-
-
-def best_of(fn, repeat=3):
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def run(levels):
@@ -67,15 +52,9 @@ def run(levels):
 
 
 def main():
-    print(f"{SAMPLES} draws x 76 beams, {numba.get_num_threads()} threads")
+    out = {"samples": SAMPLES, "beams": 76, **machine(), "runs": []}
+    print(f"{SAMPLES} draws x 76 beams, {out['threads']} threads")
     print(f"{'levels':>6s} {'depth_uncertainty s':>20s} {'loop baseline s':>16s} {'loop/vec':>9s}")
-    out = {
-        "samples": SAMPLES,
-        "beams": 76,
-        "threads": numba.get_num_threads(),
-        "machine": platform.platform(),
-        "runs": [],
-    }
     for levels in (10, 200):
         vectorised, looped = run(levels)
         print(f"{levels:6d} {vectorised:20.3f} {looped:16.3f} {looped / vectorised:9.1f}")
@@ -87,12 +66,7 @@ def main():
                 "loop_over_vectorised": looped / vectorised,
             }
         )
-    os.makedirs(os.path.join(HERE, "results"), exist_ok=True)
-    path = os.path.join(HERE, "results", "survey_uncertainty.json")
-    tmp = path + ".tmp"
-    with open(tmp, "w") as f:
-        json.dump(out, f, indent=2)
-    os.replace(tmp, path)
+    write_result("survey_uncertainty", out)
 
 
 if __name__ == "__main__":

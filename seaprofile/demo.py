@@ -2,7 +2,8 @@
 
 Builds every demo cast into a profile (one deliberately broken file is reported and the
 rest carry on), writes netCDF, CSV and plain speed tables, draws the profile figures and
-ray fans of the deep and the shelf cast, and returns the summary rows. All demo data are
+ray fans of the deep and the shelf cast, transmission-loss and coverage maps of the same
+two casts (``_demo_loss``), and returns the summary rows. All demo data are
 synthetic (an invented survey); see ``demo_casts/README.md``.
 """
 
@@ -45,6 +46,8 @@ class DemoReport:
     written: list = field(default_factory=list)
     failures: list = field(default_factory=list)
     survey: list = field(default_factory=list)
+    loss: list = field(default_factory=list)
+    loss_found: dict = field(default_factory=dict)
 
 
 def find_demo_casts(casts_dir=None):
@@ -121,6 +124,10 @@ def run_demo(out_dir="demo_output", *, casts_dir=None, equation="chen_millero197
 
     root = Path(casts_dir) if casts_dir else Path.cwd() / "demo_casts"
     written, report.survey = _survey_demo(results, root, out)
+    report.written.extend(written)
+    from ._demo_loss import _loss_demo
+
+    written, report.loss, report.loss_found = _loss_demo(results, out, figures=figures)
     report.written.extend(written)
     return report
 

@@ -9,6 +9,13 @@ from hypothesis import settings  # noqa: E402
 settings.register_profile("seaprofile", max_examples=60, deadline=None)
 settings.load_profile("seaprofile")
 
+# The one-line "compiling kernels" notice is tested in subprocesses (tests/test_progress.py);
+# in this process it would land in whichever command test happens to run first on a cold
+# cache, so it is marked as already shown.
+import seaprofile._progress  # noqa: E402
+
+seaprofile._progress._noticed = True
+
 
 # --- shared array-kind fixtures (numpy, xarray, dask) ----------------------------------
 import numpy as np  # noqa: E402

@@ -57,3 +57,17 @@ def test_quiet_suppresses_the_notice(tmp_path):
     code = "from seaprofile import _progress\nprint(_progress.compile_notice(quiet=True))\n"
     out = _run(tmp_path / "cache", code)
     assert out.stdout.split() == ["False"] and out.stderr == ""
+
+
+def test_every_command_says_it_compiles_on_a_cold_cache(tmp_path):
+    # the first command of a fresh install compiles kernels: one line on stderr, the
+    # command's own output unchanged on stdout
+    code = (
+        "import sys\nfrom seaprofile.cli import main\n"
+        "sys.exit(main(['speed', '--temperature', '10', '--salinity', '35', "
+        "'--depth', '100', '--latitude', '45', '--equation', 'mackenzie1981']))\n"
+    )
+    cold = _run(tmp_path / "cache", code)
+    assert cold.returncode == 0, cold.stderr
+    assert cold.stderr.count("compiling numerical kernels") == 1
+    assert "compiling" not in cold.stdout

@@ -79,6 +79,10 @@ def main(argv=None):
     if not getattr(args, "_run", None):
         parser.print_help()
         return 2
+    from .. import _progress
+
+    # one line on stderr before the first compiled kernel runs on a cold cache
+    _progress.compile_notice(quiet=getattr(args, "quiet", False))
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("default")

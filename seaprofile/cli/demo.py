@@ -2,7 +2,8 @@
 
 Builds every demo cast into a sound-speed profile (quality-controlled, extended to the
 bottom, every step recorded), writes netCDF, CSV and plain speed tables, draws profile
-figures and ray fans, and prints the summary. One demo file is broken on purpose: it is
+figures, ray fans, and transmission-loss and coverage maps of two casts, and prints the
+summary. One demo file is broken on purpose: it is
 reported and the others carry on. The demo rewrites its own output folder on every run.
 """
 
@@ -48,6 +49,7 @@ def run(args):
                 "written": report.written,
                 "failures": report.failures,
                 "survey": report.survey,
+                "loss": report.loss,
                 "caution": CAUTION,
             }
         )
@@ -58,6 +60,8 @@ def run(args):
     for failure in report.failures:
         print(f"reported (expected in the demo): {failure}", file=sys.stderr)
     for line in report.survey:
+        print(line)
+    for line in report.loss:
         print(line)
     print(f"\n{len(report.written)} files written under {args.out}/")
     print(f"Caution: {CAUTION}")

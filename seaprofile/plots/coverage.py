@@ -16,10 +16,18 @@ from __future__ import annotations
 import numpy as np
 from matplotlib.colors import ListedColormap
 from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from ._layout import keep_texts_inside, thin_crowded_ticks
-from .rays import INK, SEAFLOOR_EDGE, SEAFLOOR_FILL, _profile_nodes, caution_line
+from .rays import (
+    INK,
+    SEAFLOOR_EDGE,
+    SEAFLOOR_FILL,
+    SOURCE_COLOUR,
+    _profile_nodes,
+    caution_line,
+)
 
 __all__ = ["plot_coverage", "plot_loss_map", "LOSS_LABEL"]
 
@@ -28,6 +36,7 @@ LOSS_CMAP = "cividis_r"
 # two classes from the ends of viridis: clearly apart in lightness, also in grey print
 DETECT_COLOURS = ListedColormap(["#f2f2f2", "#31688e"], name="seaprofile_detected")
 BAND_COLOUR = "#31688e"
+UNREACHED_COLOUR = "#d9d9d9"
 MAX_BARS = 12
 
 
@@ -40,23 +49,107 @@ def _grid(da):
     )
 
 
-def _bottom(ax, environment, r_km):
+#: the sea floor fill reaches this fraction of the bottom depth below it, so it shows
+SEAFLOOR_MARGIN = 0.04
+#: colour limits from these percentiles of the finite loss (dB), rounded out to 5 dB
+LIMIT_PERCENTILES = (1.0, 99.0)
+RECEIVER_COLOUR = "#c2185b"
+
+
+def _bottom(ax, environment, r_km, z_max):
+    """Fill the sea floor below the bottom (seabed name written in it); the lower y limit."""
     if environment is None:
-        return
+        return z_max
     r = np.linspace(0.0, float(r_km.max()) * 1000.0, 300)
     z = np.asarray(environment.bottom_at(r), float)
-    lo, hi = ax.get_ylim()
+    floor = max(z_max, float(z.max()) * (1.0 + SEAFLOOR_MARGIN))
     ax.fill_between(
-        r / 1000.0,
-        z,
-        max(lo, hi, float(z.max())),
-        color=SEAFLOOR_FILL,
-        edgecolor=SEAFLOOR_EDGE,
-        zorder=3,
+        r / 1000.0, z, floor, color=SEAFLOOR_FILL, edgecolor=SEAFLOOR_EDGE, lw=1.0, zorder=3
+    )
+    name = getattr(getattr(environment, "seabed", None), "name", "")
+    if name and floor - float(z.min()) > 0:
+        ax.text(
+            0.02 * float(r_km.max()),
+            0.5 * (float(z.max()) + floor),
+            f"seabed: {name}",
+            ha="left",
+            va="center",
+            fontsize=7,
+            color=INK,
+            zorder=4,
+        )
+    return floor
+
+
+def _limits(tl, limits):
+    if limits is not None:
+        return float(limits[0]), float(limits[1])
+    finite = tl[np.isfinite(tl)]
+    if not finite.size:
+        return 40.0, 120.0
+    lo, hi = np.percentile(finite, LIMIT_PERCENTILES)
+    lo, hi = 5.0 * np.floor(lo / 5.0), 5.0 * np.ceil(hi / 5.0)
+    return lo, max(hi, lo + 5.0)
+
+
+def _rows_at(intervals, receiver_depths):
+    """The detection rows nearest each receiver depth (m); all rows thinned when None."""
+    if receiver_depths is None:
+        # at most MAX_BARS receiver depths, evenly among the rows, so the map stays readable
+        step = max(1, int(np.ceil(len(intervals) / MAX_BARS)))
+        return intervals[::step]
+    depths = np.asarray([row["depth"] for row in intervals], float)
+    return [intervals[int(np.argmin(np.abs(depths - z)))] for z in np.atleast_1d(receiver_depths)]
+
+
+def _detection_bars(ax, rows, labelled):
+    for row in rows:
+        for a, b in row["intervals"]:
+            for colour, lw, zorder in (("white", 5, 4), (BAND_COLOUR, 2.5, 5)):
+                ax.plot(
+                    [a / 1000.0, b / 1000.0],
+                    [row["depth"]] * 2,
+                    color=colour,
+                    lw=lw,
+                    solid_capstyle="butt",
+                    zorder=zorder,
+                    gid="detection_band",
+                )
+        if labelled:
+            ax.axhline(
+                row["depth"], color=RECEIVER_COLOUR, lw=0.8, ls=":", zorder=4, gid="receiver"
+            )
+
+
+def _source(ax, depth):
+    """The source (its depth, m, from the loss field's attributes) at range 0."""
+    if depth is None or not np.isfinite(float(depth)):
+        return
+    ax.plot(
+        [0.0],
+        [float(depth)],
+        marker=">",
+        ms=9,
+        color=SOURCE_COLOUR,
+        mec="white",
+        clip_on=False,
+        zorder=6,
+        gid="source",
+        ls="none",
     )
 
 
-def plot_loss_map(loss, *, signal_excess=None, intervals=None, environment=None, ax=None):
+def plot_loss_map(
+    loss,
+    *,
+    signal_excess=None,
+    intervals=None,
+    environment=None,
+    ax=None,
+    receiver_depths=None,
+    limits=None,
+    colorbar=True,
+):
     """Draw a transmission-loss map into ``ax`` (new figure when None); returns the figure.
 
     Parameters
@@ -64,59 +157,62 @@ def plot_loss_map(loss, *, signal_excess=None, intervals=None, environment=None,
     loss : xarray.DataArray
         dB re 1 m, dims ``("depth", "range")`` (m, m).
     signal_excess : xarray.DataArray, optional
-        dB; its 0 contour outlines the shadow zones.
+        dB; its 0 contour outlines the shadow zones (cells no beam reaches count as shadow).
     intervals : list of dict, optional
         From :func:`seaprofile.propagation.coverage.detection_intervals`: drawn as bars at
         each receiver depth.
     environment : Environment, optional
-        Sea floor to fill (m).
+        Sea floor to fill (m), a margin below the bottom, with the seabed's name.
     ax : matplotlib.axes.Axes, optional
+    receiver_depths : sequence of float, optional
+        Receiver depths, m: detection bars only at the rows nearest these, each marked by a
+        dotted line. Default: at most ``MAX_BARS`` rows spread over the grid.
+    limits : (float, float), optional
+        Colour limits, dB. Default: the 1st and 99th percentiles of the finite loss,
+        rounded out to 5 dB.
+    colorbar : bool
+        Draw the labelled colour bar (default True).
     """
     fig = ax.figure if ax is not None else Figure(figsize=(8, 5), layout="constrained")
     ax = ax if ax is not None else fig.add_subplot()
     r, z, tl = _grid(loss)
-    finite = tl[np.isfinite(tl)]
-    vmin, vmax = np.percentile(finite, [1, 99]) if finite.size else (40.0, 120.0)
+    vmin, vmax = _limits(tl, limits)
     mesh = ax.pcolormesh(
         r, z, np.ma.masked_invalid(tl), cmap=LOSS_CMAP, vmin=vmin, vmax=vmax, shading="nearest"
     )
-    cb = fig.colorbar(mesh, ax=ax, pad=0.01)
-    cb.set_label(LOSS_LABEL)
+    # cells with no value (no beam reaches): a light grey, not the axes' white
+    ax.set_facecolor(UNREACHED_COLOUR)
+    if colorbar:
+        cb = fig.colorbar(mesh, ax=ax, pad=0.01, extend="both")
+        cb.set_label(LOSS_LABEL)
     if signal_excess is not None and z.size > 1 and r.size > 1:
         _, _, se = _grid(signal_excess)
         se = np.where(np.isfinite(se), se, -1e3)
         if (se >= 0).any() and (se < 0).any():
             ax.contour(r, z, se, levels=[0.0], colors=INK, linewidths=1.0)
     if intervals:
-        # at most MAX_BARS receiver depths, evenly among the rows, so the map stays readable
-        step = max(1, int(np.ceil(len(intervals) / MAX_BARS)))
-        for row in intervals[::step]:
-            for a, b in row["intervals"]:
-                ax.plot(
-                    [a / 1000.0, b / 1000.0],
-                    [row["depth"]] * 2,
-                    color="white",
-                    lw=4,
-                    solid_capstyle="butt",
-                    zorder=4,
-                )
-                ax.plot(
-                    [a / 1000.0, b / 1000.0],
-                    [row["depth"]] * 2,
-                    color=BAND_COLOUR,
-                    lw=2,
-                    solid_capstyle="butt",
-                    zorder=5,
-                )
+        _detection_bars(ax, _rows_at(intervals, receiver_depths), receiver_depths is not None)
+    _source(ax, loss.attrs.get("source_depth"))
     ax.set_ylim(float(z.max()), float(z.min()))
-    _bottom(ax, environment, r)
-    ax.set_ylim(float(z.max()), float(z.min()))
+    floor = _bottom(ax, environment, r, float(z.max()))
+    ax.set_ylim(floor, float(z.min()))
+    ax.set_xlim(0.0, float(r.max()))
     ax.set_xlabel("range (km)")
     ax.set_ylabel("depth (m)")
     return fig
 
 
-def plot_coverage(cov, loss, *, environment=None, profile=None, title=None, caution=True):
+def plot_coverage(
+    cov,
+    loss,
+    *,
+    environment=None,
+    profile=None,
+    title=None,
+    caution=True,
+    receiver_depths=None,
+    limits=None,
+):
     """Sound-speed profile, loss map with shadow outlines and detection bars, coverage map.
 
     Parameters
@@ -132,6 +228,11 @@ def plot_coverage(cov, loss, *, environment=None, profile=None, title=None, caut
     title : str, optional
     caution : bool
         Write the caution line (default True).
+    receiver_depths : sequence of float, optional
+        Receiver depths, m: their detection bands are drawn (on both maps) and their depths
+        marked on all three panels. Default: bands at up to ``MAX_BARS`` depths.
+    limits : (float, float), optional
+        Colour limits of the loss map, dB (default from its percentiles).
 
     Returns
     -------
@@ -150,24 +251,36 @@ def plot_coverage(cov, loss, *, environment=None, profile=None, title=None, caut
         intervals=cov.intervals,
         environment=environment,
         ax=ax_l,
+        receiver_depths=receiver_depths,
+        limits=limits,
     )
     r, z, se = _grid(cov.signal_excess)
     detected = (np.nan_to_num(se, nan=-1.0) >= 0).astype(float)
     ax_c.pcolormesh(r, z, detected, cmap=DETECT_COLOURS, vmin=0, vmax=1, shading="nearest")
-    _bottom(ax_c, environment, r)
+    floor = _bottom(ax_c, environment, r, float(z.max()))
+    ax_c.set_xlim(0.0, float(r.max()))
+    handles = [
+        Patch(facecolor=BAND_COLOUR, edgecolor=INK, label="detected (signal excess >= 0 dB)"),
+        Patch(facecolor="#f2f2f2", edgecolor=INK, label="not detected (shadow)"),
+    ]
+    if "source_depth" in loss.attrs:
+        _source(ax_c, loss.attrs["source_depth"])
+        handles.append(
+            Line2D([], [], color=SOURCE_COLOUR, marker=">", ls="none", mec="white", label="source")
+        )
+    if receiver_depths is not None:
+        rows = _rows_at(cov.intervals, receiver_depths)
+        for row in rows:
+            ax_c.axhline(row["depth"], color=RECEIVER_COLOUR, lw=1.0, ls=":", gid="receiver")
+            ax_p.axhline(row["depth"], color=RECEIVER_COLOUR, lw=1.0, ls=":", gid="receiver")
+        handles.append(
+            Line2D([], [], color=RECEIVER_COLOUR, ls=":", label="receiver depth (bands on left)")
+        )
     ax_c.set_xlabel("range (km)")
     fom = cov.terms.figure_of_merit
-    ax_c.legend(
-        handles=[
-            Patch(facecolor="#31688e", edgecolor=INK, label="detected (signal excess >= 0 dB)"),
-            Patch(facecolor="#f2f2f2", edgecolor=INK, label="not detected"),
-        ],
-        loc="lower right",
-        fontsize=8,
-        framealpha=0.9,
-    )
+    ax_c.legend(handles=handles, loc="lower right", fontsize=8, framealpha=0.9)
     ax_c.set_title(f"coverage, figure of merit {fom:.1f} dB", fontsize=10)
-    ax_l.set_title("transmission loss; shadow outlined, detection bars", fontsize=10)
+    ax_l.set_title("transmission loss; shadow outlined, detection bands", fontsize=10)
     speed = getattr(environment, "speed", None)
     nodes = _profile_nodes(profile, speed if hasattr(speed, "sound_speed") else None)
     if nodes is not None:
@@ -176,7 +289,7 @@ def plot_coverage(cov, loss, *, environment=None, profile=None, title=None, caut
     ax_p.set_xlabel("sound speed (m/s)")
     ax_p.set_ylabel("depth (m)")
     ax_l.set_ylabel("")
-    ax_p.set_ylim(float(z.max()), float(z.min()))
+    ax_p.set_ylim(floor, float(z.min()))
     for ax in (ax_l, ax_c):
         ax.tick_params(labelleft=False)
     if title:

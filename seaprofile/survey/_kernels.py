@@ -109,6 +109,7 @@ def _one_sounding(p, tau, z, c, grad, t_vertical):
     if cosa < 0.0:
         return np.nan, np.nan, TURNED
     x = 0.0
+    t = 0.0  # time to node k, accumulated as _fan_tables does (same rounding)
     for k in range(n - 1):
         zb = z[k + 1]
         cb = c[k + 1]
@@ -118,36 +119,127 @@ def _one_sounding(p, tau, z, c, grad, t_vertical):
             # the ray turns inside this layer, at p c = 1
             zt = za + (1.0 / p - ca) / g
             dx, dt = _layer_piece(p, za, ca, cosa, zt, 1.0 / p, 0.0)
-            if tau <= dt:
-                ddz, ddx = _point_after(p, za, ca, cosa, g, tau)
+            if tau <= t + dt:
+                ddz, ddx = _point_after(p, za, ca, cosa, g, tau - t)
                 return za + ddz, x + ddx, OK
             return np.nan, np.nan, TURNED
         cosb = math.sqrt(1.0 - ub * ub)
         dx, dt = _piece(p, zb - za, ca, cosa, cb, cosb, t_vertical[k])
-        if tau <= dt:
-            ddz, ddx = _point_after(p, za, ca, cosa, g, tau)
+        if tau <= t + dt:
+            ddz, ddx = _point_after(p, za, ca, cosa, g, tau - t)
             return za + ddz, x + ddx, OK
-        tau -= dt
-        x += dx
+        t = t + dt
+        x = x + dx
         za, ca, cosa = zb, cb, cosb
     # below the deepest node the speed is held constant
+    tau = tau - t
     return za + ca * tau * cosa, x + ca * tau * p * ca, OK
 
 
 @numba.njit(cache=True, parallel=True)
-def _soundings_kernel(sin_angle, one_way_time, launch_speed, z, c, depth, across, flag):
-    """Fill depth, across (m) and flag for every beam (flattened pings x beams)."""
-    grad, t_vertical = _layer_constants(z, c)
-    for i in numba.prange(sin_angle.shape[0]):
+def _fan_tables(sin_unique, launch_speed, z, c, grad, t_vertical):
+    """Time (s) and range (m) to every node for each distinct beam of a fan.
+
+    Returns ``(time, across, last, turn_time)``: ``time[j, k]`` and ``across[j, k]`` to node
+    k (accumulated exactly as :func:`_one_sounding` walks, so both give the same bits);
+    ``last[j]`` the last node reached (n - 1, or the node above the layer where the ray
+    turns, or -1 when it is turned at launch); ``turn_time[j]`` the time to the turning
+    point (inf when it never turns).
+    """
+    m = sin_unique.shape[0]
+    n = z.shape[0]
+    time = np.full((m, n), np.inf)
+    across = np.zeros((m, n))
+    last = np.full(m, n - 1, dtype=np.int64)
+    turn_time = np.full(m, np.inf)
+    for j in numba.prange(m):
+        p = abs(sin_unique[j]) / launch_speed
+        cosa = _launch_cos(p, c[0])
+        if not math.isfinite(sin_unique[j]) or cosa < 0.0:
+            last[j] = -1
+            continue
+        time[j, 0] = 0.0
+        for k in range(n - 1):
+            ub = p * c[k + 1]
+            if ub >= 1.0:
+                zt = z[k] + (1.0 / p - c[k]) / grad[k]
+                dx, dt = _layer_piece(p, z[k], c[k], cosa, zt, 1.0 / p, 0.0)
+                last[j] = k
+                turn_time[j] = time[j, k] + dt
+                break
+            cosb = math.sqrt(1.0 - ub * ub)
+            dx, dt = _piece(p, z[k + 1] - z[k], c[k], cosa, c[k + 1], cosb, t_vertical[k])
+            time[j, k + 1] = time[j, k] + dt
+            across[j, k + 1] = across[j, k] + dx
+            cosa = cosb
+    return time, across, last, turn_time
+
+
+@numba.njit(cache=True, inline="always")
+def _table_sounding(j, p, tau, z, c, grad, tables):
+    """:func:`_one_sounding` for fan beam j by a binary search in its :func:`_fan_tables`."""
+    time, xs, last, turn_time = tables
+    kl = last[j]
+    if kl < 0 or tau > turn_time[j]:
+        return np.nan, np.nan, TURNED
+    if tau > time[j, kl]:
+        k = kl
+    else:
+        # first layer k whose far end is reached: tau <= time[j, k + 1]
+        lo = 0
+        hi = kl - 1
+        while lo < hi:
+            mid = (lo + hi) // 2
+            if tau <= time[j, mid + 1]:
+                hi = mid
+            else:
+                lo = mid + 1
+        k = lo
+    cosa = _launch_cos(p, c[k])
+    res = tau - time[j, k]
+    if k == z.shape[0] - 1:
+        return z[k] + c[k] * res * cosa, xs[j, k] + c[k] * res * p * c[k], OK
+    ddz, ddx = _point_after(p, z[k], c[k], cosa, grad[k], res)
+    return z[k] + ddz, xs[j, k] + ddx, OK
+
+
+@numba.njit(cache=True, parallel=True)
+def _soundings_kernel(
+    sin_values,
+    which,
+    one_way_time,
+    launch_speed,
+    z,
+    c,
+    grad,
+    t_vertical,
+    tables,
+    depth,
+    across,
+    flag,
+):
+    """Fill depth, across (m) and flag for every beam (flattened pings x beams).
+
+    Beam i has sin(angle) ``sin_values[which[i]]``. With ``tables`` (the
+    :func:`_fan_tables` of ``sin_values``, a few angles shared by many pings) each beam is
+    a binary search; with empty tables it walks down the layers (:func:`_one_sounding`).
+    Both give the same bits.
+    """
+    use_tables = tables[0].shape[0] > 0
+    for i in numba.prange(which.shape[0]):
+        j = which[i]
+        s = sin_values[j]
         tau = one_way_time[i]
-        s = sin_angle[i]
         if not (math.isfinite(tau) and math.isfinite(s)):
             depth[i] = np.nan
             across[i] = np.nan
             flag[i] = MISSING
             continue
         p = abs(s) / launch_speed
-        d, x, f = _one_sounding(p, tau, z, c, grad, t_vertical)
+        if use_tables:
+            d, x, f = _table_sounding(j, p, tau, z, c, grad, tables)
+        else:
+            d, x, f = _one_sounding(p, tau, z, c, grad, t_vertical)
         depth[i] = d
         across[i] = x if s >= 0.0 else -x
         flag[i] = f

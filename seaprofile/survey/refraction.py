@@ -15,7 +15,15 @@ import xarray as xr
 from .._validate import as_float_array
 from ..io.errors import ArgumentError
 from ..layers import harmonic_mean_sound_speed
-from ._kernels import MISSING, OK, TURNED, _soundings_kernel, _to_depth_kernel
+from ._kernels import (
+    MISSING,
+    OK,
+    TURNED,
+    _fan_tables,
+    _layer_constants,
+    _soundings_kernel,
+    _to_depth_kernel,
+)
 
 __all__ = [
     "SOUNDING_FLAGS",
@@ -271,12 +279,11 @@ def beam_to_sounding(
                 z, c, launch, transducer_depth=z0, method=join, join_distance=join_distance
             )
     shape = a.shape
-    sin_a = np.ascontiguousarray(np.sin(np.radians(a)).ravel())
     one_way = np.ascontiguousarray(t.ravel() * (0.5 if two_way else 1.0))
-    depth = np.empty(sin_a.size)
-    across = np.empty(sin_a.size)
-    flags = np.empty(sin_a.size, dtype=np.int8)
-    _soundings_kernel(sin_a, one_way, launch, zs, cs, depth, across, flags)
+    depth = np.empty(one_way.size)
+    across = np.empty(one_way.size)
+    flags = np.empty(one_way.size, dtype=np.int8)
+    _trace_soundings(beam_angle, shape, one_way, launch, zs, cs, depth, across, flags)
     turned = int(np.count_nonzero(flags == TURNED))
     if turned:
         warnings.warn(
@@ -289,6 +296,41 @@ def beam_to_sounding(
     if return_flags:
         return depth, across, flags
     return depth, across
+
+
+def _trace_soundings(beam_angle, shape, one_way, launch, zs, cs, depth, across, flags):
+    """Fill depth, across, flags: by fan tables when the beams share a few angles.
+
+    A fan of angles broadcast against many pings (``beam_angle`` smaller than the
+    travel times) is traced once per distinct angle down every node, then each beam is a
+    binary search; otherwise each beam walks down the layers. Both accumulate time and
+    range the same way, so the two give identical numbers.
+    """
+    a0 = as_float_array("beam_angle", beam_angle)
+    sin0 = np.sin(np.radians(a0))
+    grad, t_vertical = _layer_constants(zs, cs)
+    if 4 * sin0.size <= one_way.size:
+        sin_values, which = np.unique(sin0.ravel(), return_inverse=True)
+        which = np.broadcast_to(which.reshape(sin0.shape), shape).ravel()
+        tables = _fan_tables(sin_values, launch, zs, cs, grad, t_vertical)
+    else:
+        sin_values = np.broadcast_to(sin0, shape).ravel()
+        which = np.arange(sin_values.size)
+        tables = (np.empty((0, 0)), np.empty((0, 0)), np.empty(0, np.int64), np.empty(0))
+    _soundings_kernel(
+        np.ascontiguousarray(sin_values),
+        np.ascontiguousarray(which, dtype=np.int64),
+        one_way,
+        launch,
+        zs,
+        cs,
+        grad,
+        t_vertical,
+        tables,
+        depth,
+        across,
+        flags,
+    )
 
 
 def straight_ray_sounding(

@@ -152,6 +152,33 @@ def test_wrong_transducer_sound_speed_small_error_rule(beam):
     assert x1 - x0 == pytest.approx(d0 * dtheta, rel=2e-2)
 
 
+@settings(max_examples=40, deadline=None)
+@given(
+    speeds=st.lists(st.floats(1440.0, 1560.0), min_size=2, max_size=12),
+    z0=st.floats(0.0, 20.0),
+    seed=st.integers(0, 2**31 - 1),
+)
+def test_fan_tables_and_the_layer_walk_give_identical_soundings(speeds, z0, seed):
+    # Internal consistency (no outside reference): a fan shared by many pings is traced
+    # by tables and binary search, a full angle array by walking the layers; both must
+    # give the same bits, including turned beams, missing beams, zero times and times
+    # that go below the deepest node.
+    rng = np.random.default_rng(seed)
+    z = np.concatenate([[0.0], np.cumsum(rng.uniform(2.0, 300.0, len(speeds) - 1))])
+    c = np.asarray(speeds)
+    fan = np.concatenate([np.linspace(-80.0, 80.0, 9), [np.nan, 0.0]])
+    t = rng.uniform(0.0, 3.0 * z[-1] / 1400.0 + 0.1, (6, fan.size))
+    t[0] = 0.0
+    t[1, 3] = np.nan
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", TurnedBeamWarning)
+        shared = beam_to_sounding(z, c, fan, t, transducer_depth=z0, return_flags=True)
+        full = np.broadcast_to(fan, t.shape).copy()
+        walked = beam_to_sounding(z, c, full, t, transducer_depth=z0, return_flags=True)
+    for a, b in zip(shared, walked):
+        np.testing.assert_array_equal(a, b)
+
+
 def test_turned_beam_is_nan_and_counted():
     # a strong speed increase: a 70 degree beam reaches p c = 1 near 480 m (about 1.9 s
     # one-way along its arc) and turns upward
