@@ -13,7 +13,8 @@ Each case runs in its own subprocess; its peak resident memory is that child's
 two is the speed-up (target >= 1.7x on 2 cores) and the 2-thread peak is compared with the
 1 GB target. The baseline of the ratio is the 1-thread run of this same script. On a shared
 machine the wall times move with the load of the other processes; the JSON records the
-load average at the start.
+load average at the start and the machine's ceiling: the speed-up of two GIL-free threads
+of plain arithmetic measured before and after the cases (2.0 on two idle cores).
 
 Run:  .venv/bin/python benchmarks/bench_gridded.py [--scale 0.5] [--repeat 1]
 Writes benchmarks/results/gridded.json.
@@ -76,6 +77,38 @@ print(json.dumps({"wall_s": wall, "finite_sld": int(np.isfinite(out["sonic_layer
 """
 
 
+CEILING = r"""
+import json, threading, time
+import numba
+
+@numba.njit(nogil=True)
+def spin(n):
+    s = 0.0
+    for i in range(n):
+        s += (i % 7) ** 0.5
+    return s
+
+spin(10)
+n = 200_000_000
+t0 = time.perf_counter()
+spin(n)
+one = time.perf_counter() - t0
+workers = [threading.Thread(target=spin, args=(n,)) for _ in range(2)]
+t0 = time.perf_counter()
+for w in workers:
+    w.start()
+for w in workers:
+    w.join()
+print(json.dumps({"ceiling": 2 * one / (time.perf_counter() - t0)}))
+"""
+
+
+def machine_ceiling():
+    """Speed-up of two GIL-free threads of pure arithmetic now: what the load leaves us."""
+    out = subprocess.run([sys.executable, "-c", CEILING], capture_output=True, check=True)
+    return json.loads(out.stdout.decode().strip().splitlines()[-1])["ceiling"]
+
+
 def run_case(nlon, nlat, ndepth, threads, clat, clon):
     env = dict(os.environ)
     for var in ("NUMBA_NUM_THREADS", "OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
@@ -106,6 +139,7 @@ def main(argv=None):
     nlon, nlat = max(2, int(a.nlon * a.scale)), max(2, int(a.nlat * a.scale))
     clat, clon = min(180, nlat), min(360, nlon)
     load = os.getloadavg()
+    ceiling_before = machine_ceiling()
     cases = {}
     for threads in (1, 2):
         runs = [run_case(nlon, nlat, a.ndepth, threads, clat, clon) for _ in range(a.repeat)]
@@ -113,6 +147,7 @@ def main(argv=None):
         best["peak_rss_mb"] = max(r["peak_rss_mb"] for r in runs)
         cases[threads] = best
     speedup = cases[1]["wall_s"] / cases[2]["wall_s"]
+    ceiling = (ceiling_before + machine_ceiling()) / 2
     columns = nlon * nlat
     print(
         f"grid {nlon} x {nlat} x {a.ndepth} ({columns} columns), chunks latitude={clat}, "
@@ -127,12 +162,17 @@ def main(argv=None):
         f"speed-up 2 vs 1 thread: {speedup:.2f}x (target >= 1.7x); "
         f"peak RSS on 2 threads {cases[2]['peak_rss_mb']:.0f} MB (target <= 1000 MB)"
     )
+    print(
+        f"machine ceiling: two GIL-free threads of pure arithmetic ran {ceiling:.2f}x one "
+        "(mean of before and after; below 2 when other processes hold the cores)"
+    )
     result = {
         "benchmark": "gridded layer maps",
         "grid": {"nlon": nlon, "nlat": nlat, "ndepth": a.ndepth},
         "chunks": {"latitude": clat, "longitude": clon, "depth": -1},
         "cases": {str(t): r for t, r in cases.items()},
         "speedup_2_vs_1": speedup,
+        "machine_ceiling_2_threads": ceiling,
         "targets": {"speedup": 1.7, "peak_rss_mb": 1000},
         "loadavg_start": load,
         "cpu_count": os.cpu_count(),

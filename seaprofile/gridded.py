@@ -27,12 +27,16 @@ with the vertical already in one chunk.
 
 from __future__ import annotations
 
+import os
+import shutil
+import tempfile
 from pathlib import Path
 
 import numpy as np
 import xarray as xr
 
 from . import _cf
+from ._progress import dask_progress
 from ._validate import SeaprofileError
 from ._version import __version__
 from .io.write import register_product, write, write_product_netcdf
@@ -355,17 +359,25 @@ def open_field(path, names=None, chunks=None):
     return ds.chunk({dim: -1})
 
 
-def write_field(ds, path, *, overwrite=False):
-    """Write a gridded field or its layer maps: netCDF atomically, or a ``.zarr`` store.
+def write_field(ds, path, *, overwrite=False, quiet=False):
+    """Write a gridded field or its layer maps: netCDF or a ``.zarr`` store, atomically.
+
+    Dask-backed data is streamed: the store is laid out first (``compute=False``), then
+    the graph is computed once, chunk by chunk into the file, with the dask progress bar
+    on a terminal (:func:`seaprofile._progress.dask_progress`). Nothing is held whole in
+    memory and nothing is computed twice.
 
     Parameters
     ----------
     ds : xarray.Dataset
         A field, :func:`sound_speed_field` or :func:`layer_maps` output.
     path : str or pathlib.Path
-        ``*.nc`` (netCDF-4 through :func:`seaprofile.write`) or ``*.zarr``.
+        ``*.nc`` (netCDF-4 through :func:`seaprofile.write`) or ``*.zarr`` (needs the
+        ``zarr`` package).
     overwrite : bool
         Replace an existing file.
+    quiet : bool
+        No progress bar.
 
     Returns
     -------
@@ -374,14 +386,31 @@ def write_field(ds, path, *, overwrite=False):
     if not isinstance(ds, xr.Dataset):
         raise SeaprofileError(f"ds must be an xarray.Dataset, got {type(ds).__name__}")
     if _is_zarr(path):
-        if Path(path).exists() and not overwrite:
-            raise SeaprofileError(f"path: {str(path)!r} exists (pass overwrite=True)")
-        ds.to_zarr(path, mode="w")
-        return Path(path)
+        return _write_zarr(ds, Path(path), overwrite, quiet)
     if "product" not in ds.attrs:
         ds = ds.assign_attrs(product="gridded_field")
     write(ds, path, format="netcdf", overwrite=overwrite)
     return Path(path)
+
+
+def _write_zarr(ds, path, overwrite, quiet):
+    """A zarr store written beside ``path`` under a temporary name, then renamed into place."""
+    if path.exists() and not overwrite:
+        raise SeaprofileError(f"path: {str(path)!r} exists (pass overwrite=True)")
+    if not path.parent.is_dir():
+        raise SeaprofileError(f"path: directory {str(path.parent)!r} does not exist")
+    tmp = Path(tempfile.mkdtemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp"))
+    try:
+        pending = ds.to_zarr(tmp, mode="w", compute=False)
+        with dask_progress(quiet):
+            pending.compute()
+        if path.exists():
+            shutil.rmtree(path)
+        os.replace(tmp, path)
+    finally:
+        if tmp.exists():
+            shutil.rmtree(tmp)
+    return path
 
 
 for _kind, _description in (

@@ -216,3 +216,53 @@ def test_zarr_round_trip(tmp_path):
     np.testing.assert_array_equal(back["temperature"].values, ds["temperature"].values)
     with pytest.raises(SeaprofileError, match="overwrite"):
         gridded.write_field(ds, path)
+
+
+class _CountTasks:
+    """Counts the dask tasks run and the graphs computed (a dask scheduler callback)."""
+
+    def __init__(self):
+        from dask.callbacks import Callback
+
+        self.tasks = 0
+        self.graphs = 0
+        counter = self
+
+        class _Callback(Callback):
+            def _start(self, dsk):
+                counter.graphs += 1
+
+            def _pretask(self, key, dsk, state):
+                counter.tasks += 1
+
+        self.callback = _Callback()
+
+
+@pytest.mark.parametrize("suffix", [".nc", ".zarr"])
+def test_layer_maps_are_lazy_and_written_in_one_pass(tmp_path, suffix):
+    # laziness: building the maps runs no task; writing computes the graph exactly once
+    # (no separate .compute() before the write), and the file holds the eager numbers
+    pytest.importorskip("dask")
+    if suffix == ".zarr":
+        pytest.importorskip("zarr")
+    ds = gridded.synthetic_field(nlat=6, nlon=8, ndepth=20, chunks={"latitude": 3})
+    count = _CountTasks()
+    with count.callback:
+        maps = gridded.layer_maps(ds)
+        assert (count.tasks, count.graphs) == (0, 0)
+        path = gridded.write_field(maps, tmp_path / f"maps{suffix}", quiet=True)
+    assert count.graphs == 1 and count.tasks > 0
+    eager = gridded.layer_maps(ds.compute())
+    with xr.open_dataset(path, engine="zarr" if suffix == ".zarr" else None) as back:
+        for name in eager.data_vars:
+            np.testing.assert_array_equal(back[name].values, eager[name].values, name)
+
+
+def test_zarr_overwrite_replaces_the_store(tmp_path):
+    pytest.importorskip("zarr")
+    path = tmp_path / "field.zarr"
+    gridded.write_field(gridded.synthetic_field(nlat=2, nlon=2, ndepth=10), path)
+    wider = gridded.synthetic_field(nlat=3, nlon=2, ndepth=10)
+    gridded.write_field(wider, path, overwrite=True)
+    assert gridded.open_field(path).sizes["latitude"] == 3
+    assert [p.name for p in tmp_path.iterdir()] == ["field.zarr"]  # no temporary left

@@ -29,17 +29,23 @@ def _dim(ds):
 def _vertical(ds):
     """Sea pressure (dbar) of every level, or depth (m) when there is no pressure."""
     if "pressure" in ds.data_vars:
-        return ds["pressure"].values.astype(np.float64)
+        return ds.variables["pressure"].values.astype(np.float64)
     if "depth" in ds.variables:
-        return ds["depth"].values.astype(np.float64)
+        return ds.variables["depth"].values.astype(np.float64)
     raise SeaprofileError("ds has neither pressure nor depth")
 
 
 def _flags(ds, var):
     name = f"{var}_qc"
     if name in ds.variables:
-        return ds[name].values.astype(np.int8)
+        return ds.variables[name].values.astype(np.int8)
     return np.zeros(ds.sizes[_dim(ds)], np.int8)
+
+
+# flag byte -> "not a measured value" (3, 4, 8, 9): one table look-up per sample, where
+# numpy.isin sorts or compares afresh on every call
+_NOT_MEASURED = np.zeros(256, dtype=bool)
+_NOT_MEASURED[np.array(_cf.NOT_MEASURED_FLAGS, dtype=np.int8).view(np.uint8)] = True
 
 
 class _Work:
@@ -60,8 +66,10 @@ class _Work:
 
     def usable(self, var):
         """Values of ``var`` and where they are finite and not flagged 3, 4, 8 or 9."""
-        values = self.ds[var].values.astype(np.float64)
-        return values, np.isfinite(values) & ~np.isin(self.flag(var), _cf.NOT_MEASURED_FLAGS)
+        values = self.ds.variables[var].values.astype(np.float64)
+        return values, np.isfinite(values) & ~_NOT_MEASURED[
+            self.flag(var).astype(np.int8, copy=False).view(np.uint8)
+        ]
 
     def apply(self, hits, test, flag=_cf.BAD):
         entry = self.summary.setdefault(test, {})

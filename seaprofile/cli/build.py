@@ -37,9 +37,8 @@ EXAMPLE = """example:
       --reference demo_casts/deep_ocean_ctd.csv --out extended
   seaprofile build demo_casts --out batch --summary batch_summary.csv --quiet"""
 
-COLUMNS = [
-    "file",
-    "cast",
+# the per-cast numbers, in the order of the table and of the --summary file
+_CAST_COLUMNS = [
     "instrument",
     "depth_range_m",
     "samples",
@@ -47,9 +46,8 @@ COLUMNS = [
     "surface_speed",
     "mixed_layer_m",
     "sonic_layer_m",
-    "status",
-    "assumed",
 ]
+COLUMNS = ["file", "cast", *_CAST_COLUMNS, "status", "assumed"]
 
 
 def add_arguments(p):
@@ -152,21 +150,7 @@ def run(args):
     return 2 if failed else 0
 
 
-SUMMARY_COLUMNS = [
-    "file",
-    "cast",
-    "status",
-    "message",
-    "instrument",
-    "depth_range_m",
-    "samples",
-    "flags",
-    "surface_speed",
-    "mixed_layer_m",
-    "sonic_layer_m",
-    "assumptions",
-    "written",
-]
+SUMMARY_COLUMNS = ["file", "cast", "status", "message", *_CAST_COLUMNS, "assumptions", "written"]
 
 
 def summary_records(results):

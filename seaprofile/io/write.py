@@ -46,6 +46,7 @@ from pathlib import Path
 import xarray as xr
 
 from .. import _cf
+from .._progress import dask_progress
 from .._validate import SeaprofileError
 from ..casts.write import (
     FORMATS,
@@ -282,7 +283,13 @@ def write_product_netcdf(obj, path, *, overwrite=False):
 
     def fill(tmp):
         with NETCDF_LOCK:
-            out.to_netcdf(tmp, format="NETCDF4")
+            if not any(v.chunks is not None for v in out.variables.values()):
+                out.to_netcdf(tmp, format="NETCDF4")
+                return
+            # dask data: the file laid out, then its chunks computed once, streamed in
+            pending = out.to_netcdf(tmp, format="NETCDF4", compute=False)
+            with dask_progress():
+                pending.compute()
 
     return atomic_write(path, overwrite, fill)
 

@@ -9,6 +9,9 @@ the profiles' shape), xarray and dask profiles are reduced along ``dim`` with
 
 from __future__ import annotations
 
+import math
+
+import numba
 import numpy as np
 
 from .._validate import SeaprofileError, as_float_array
@@ -56,15 +59,8 @@ def _columns(name, values, depth, dim):
     return [(name, values), ("depth", depth)], dim
 
 
-def _per_profile(func1d, dtypes, columns, params=(), vectorised=False):
-    """Numpy layer of a column diagnostic: ``func1d`` on each profile (vertical axis last).
-
-    ``func1d(*columns_1d, *params_0d)`` returns a tuple of ``len(dtypes)`` numbers. A
-    single profile (1-D columns) is passed as is, with its parameters, when they are
-    scalars or when ``func1d`` is ``vectorised`` over them; otherwise the profiles and
-    parameters are broadcast and ``func1d`` runs once per profile (a loop over profiles,
-    never over samples).
-    """
+def _broadcast_profiles(columns, params):
+    """Float64 columns (vertical axis last), parameters and the shape of the profile axes."""
     cols = [np.asarray(c, dtype=np.float64) for c in columns]
     if any(c.ndim == 0 for c in cols):
         raise SeaprofileError("profiles need a vertical axis (depth along the last axis)")
@@ -81,6 +77,19 @@ def _per_profile(func1d, dtypes, columns, params=(), vectorised=False):
             "the profile axes of the inputs do not broadcast together: "
             f"{[c.shape for c in cols]} and parameters {[p.shape for p in params]}"
         ) from None
+    return cols, params, loop
+
+
+def _per_profile(func1d, dtypes, columns, params=(), vectorised=False):
+    """Numpy layer of a column diagnostic: ``func1d`` on each profile (vertical axis last).
+
+    ``func1d(*columns_1d, *params_0d)`` returns a tuple of ``len(dtypes)`` numbers. A
+    single profile (1-D columns) is passed as is, with its parameters, when they are
+    scalars or when ``func1d`` is ``vectorised`` over them; otherwise the profiles and
+    parameters are broadcast and ``func1d`` runs once per profile (a loop over profiles,
+    never over samples).
+    """
+    cols, params, loop = _broadcast_profiles(columns, params)
     single = all(c.ndim == 1 for c in cols)
     if single and (vectorised or loop == ()):
         return func1d(*cols, *[_scalar(p) for p in params])
@@ -94,3 +103,56 @@ def _per_profile(func1d, dtypes, columns, params=(), vectorised=False):
         for o, v in zip(outs, res):
             o[r] = v
     return tuple(_scalar(o.reshape(loop)) for o in outs)
+
+
+def _profile_rows(columns, params=()):
+    """Profiles as kernel rows: ``(rows, params, loop_shape)`` without broadcast copies.
+
+    Each column becomes a C-contiguous float64 array of shape ``(count, n)``, or
+    ``(1, n)`` when it is the same for every profile (a 1-D depth); each parameter a
+    float64 array of shape ``(count,)`` or ``(1,)``. Kernels read row ``r`` of an array
+    with ``count`` rows and row 0 of a one-row array, so a shared depth axis is never
+    copied once per profile.
+    """
+    cols, prm, loop = _broadcast_profiles(columns, params)
+    n = cols[0].shape[-1]
+    rows = [_kernel_rows(c, loop, (n,)) for c in cols]
+    flat = [_kernel_rows(p, loop, ()) for p in prm]
+    return rows, flat, loop
+
+
+def _kernel_rows(a, loop, core):
+    if all(k == 1 for k in a.shape[: a.ndim - len(core)]):
+        return np.ascontiguousarray(a.reshape((1, *core)))
+    if a.shape[: a.ndim - len(core)] != loop:
+        a = np.broadcast_to(a, loop + core)
+    return np.ascontiguousarray(a.reshape((-1, *core)))
+
+
+def _raise_unsorted(status):
+    if status:
+        raise SeaprofileError(
+            "depth must be strictly increasing (the layer functions take "
+            "sound_speed first, then depth)"
+        )
+
+
+@numba.njit(cache=True, nogil=True, inline="always")
+def _valid_row(speed, depth, r, zbuf, cbuf):
+    """Valid (finite depth and value) samples of row ``r`` into the buffers.
+
+    Returns their count, or -1 when the valid depths do not strictly increase.
+    """
+    rc = r if speed.shape[0] > 1 else 0
+    rz = r if depth.shape[0] > 1 else 0
+    m = 0
+    for i in range(speed.shape[1]):
+        z = depth[rz, i]
+        c = speed[rc, i]
+        if math.isfinite(z) and math.isfinite(c):
+            if m and not z > zbuf[m - 1]:
+                return -1
+            zbuf[m] = z
+            cbuf[m] = c
+            m += 1
+    return m

@@ -10,13 +10,15 @@ dispatcher :func:`seaprofile.seawater._apply.columnwise`.
 from __future__ import annotations
 
 import functools
+import math
 
 import numpy as np
 import xarray as xr
 
 from .. import _cf
 from ..seawater._apply import columnwise, pointwise
-from ._common import _columns, _per_profile, _scalar, _valid_1d
+from ._channel_kernels import _channels_kernel, _critical_kernel
+from ._common import _columns, _per_profile, _profile_rows, _raise_unsorted, _scalar, _valid_1d
 
 __all__ = ["sound_channels", "critical_depth", "depth_excess", "speed_at"]
 
@@ -62,13 +64,13 @@ def sound_channels(
     prominence (the rise of sound speed needed, on the lower side, to escape the minimum;
     scipy.signal.find_peaks on -c) is at least ``min_contrast`` and whose trapping region
     (the width of the well at that rise) is at least ``min_thickness`` thick, the most
-    prominent one. One numpy profile at a time (a loop over profiles, not samples).
+    prominent one. All profiles of a block in one numba kernel (no GIL held).
     """
     columns, dim = _columns("sound_speed", sound_speed, depth, dim)
-    func = functools.partial(_channels_1d, float(min_contrast), float(min_thickness))
+    func = functools.partial(_channels_rows, float(min_contrast), float(min_thickness))
     outputs = [(k, _CHANNEL_ATTRS[k]) for k in _CHANNEL_KEYS]
     out = columnwise(
-        lambda c, z, b: _per_profile(func, _CHANNEL_DTYPES, [c, z], [b]),
+        func,
         columns,
         dim=dim,
         params=[("below", np.nan if below is None else below)],
@@ -118,53 +120,13 @@ _CHANNEL_ATTRS = {
 }
 
 
-def _channels_1d(min_contrast, min_thickness, sound_speed, depth, below):
-    z, c = _valid_1d(depth, sound_speed)
-    nan = float("nan")
-    out = dict(
-        axis_depth=nan,
-        axis_speed=nan,
-        axis_contrast=nan,
-        secondary_depth=nan,
-        secondary_speed=nan,
-        secondary_contrast=nan,
-        secondary_thickness=nan,
-        still_decreasing=False,
-    )
-    if np.isfinite(below):
-        keep = z >= below
-        z, c = z[keep], c[keep]
-    if z.size < 3:
-        return tuple(out.values())
-    i = int(np.argmin(c))
-    if i == z.size - 1:
-        out["still_decreasing"] = True
-    contrast = min(c[: i + 1].max(), c[i:].max()) - c[i]
-    axis = None
-    if 0 < i < z.size - 1 and contrast >= min_contrast:
-        axis = i
-        out.update(axis_depth=float(z[i]), axis_speed=float(c[i]), axis_contrast=float(contrast))
-    from scipy.signal import find_peaks  # here, not at import: scipy.signal is slow to load
-
-    peaks, props = find_peaks(-c, prominence=min_contrast, width=0, rel_height=1.0)
-    if peaks.size:
-        idx = np.arange(z.size, dtype=float)
-        top = np.interp(props["left_ips"], idx, z)
-        bottom = np.interp(props["right_ips"], idx, z)
-        thick = bottom - top
-        ok = (thick >= min_thickness) & (peaks != (axis if axis is not None else -1))
-        if axis is not None:  # the same well as the axis (a plateau) is not a second channel
-            ok &= np.abs(c[peaks] - c[axis]) > 1e-9
-        if ok.any():
-            k = np.flatnonzero(ok)[np.argmax(props["prominences"][ok])]
-            j = peaks[k]
-            out.update(
-                secondary_depth=float(z[j]),
-                secondary_speed=float(c[j]),
-                secondary_contrast=float(props["prominences"][k]),
-                secondary_thickness=float(thick[k]),
-            )
-    return tuple(out.values())
+def _channels_rows(min_contrast, min_thickness, sound_speed, depth, below):
+    (c, z), (b,), loop = _profile_rows([sound_speed, depth], [below])
+    count = math.prod(loop)
+    out = np.empty((7, count))
+    still = np.empty(count, dtype=np.bool_)
+    _raise_unsorted(_channels_kernel(c, z, b, min_contrast, min_thickness, out, still))
+    return tuple(_scalar(o.reshape(loop)) for o in (*out, still))
 
 
 def speed_at(sound_speed, depth, at, *, dim="depth"):
@@ -246,7 +208,7 @@ def critical_depth(sound_speed, depth, reference_speed, axis_depth, *, dim="dept
         "positive": "down",
     }
     out = columnwise(
-        lambda c, z, r, a: _per_profile(_critical_1d, [np.float64], [c, z], [r, a]),
+        _critical_rows,
         columns,
         dim=dim,
         params=[("reference_speed", reference_speed), ("axis_depth", axis_depth)],
@@ -255,23 +217,11 @@ def critical_depth(sound_speed, depth, reference_speed, axis_depth, *, dim="dept
     return out[0] if isinstance(out, tuple) else out
 
 
-def _critical_1d(sound_speed, depth, reference_speed, axis_depth):
-    return (_critical_value(sound_speed, depth, reference_speed, axis_depth),)
-
-
-def _critical_value(sound_speed, depth, reference_speed, axis_depth):
-    z, c = _valid_1d(depth, sound_speed)
-    if not (np.isfinite(axis_depth) and np.isfinite(reference_speed)):
-        return float("nan")
-    k = z >= axis_depth
-    z, c = z[k], c[k]
-    hit = np.flatnonzero(c >= reference_speed)
-    if hit.size == 0:
-        return float("nan")
-    j = hit[0]
-    if j == 0:
-        return float(z[0])
-    return float(z[j - 1] + (reference_speed - c[j - 1]) * (z[j] - z[j - 1]) / (c[j] - c[j - 1]))
+def _critical_rows(sound_speed, depth, reference_speed, axis_depth):
+    (c, z), (r, a), loop = _profile_rows([sound_speed, depth], [reference_speed, axis_depth])
+    out = np.empty(math.prod(loop))
+    _raise_unsorted(_critical_kernel(c, z, r, a, out))
+    return (_scalar(out.reshape(loop)),)
 
 
 def depth_excess(bottom_depth, critical):

@@ -36,7 +36,7 @@ TRAPPING_COEFFICIENT = 8.5e-3
 
 
 # --- numba kernels -------------------------------------------------------------------
-@numba.njit(cache=True)
+@numba.njit(cache=True, nogil=True)
 def _crossing_kernel(values, depth, ref_depth, threshold, signed, out, reached_end):
     """Depth where ``values`` first departs from its value at ``ref_depth`` by ``threshold``.
 
@@ -97,7 +97,7 @@ def _crossing_kernel(values, depth, ref_depth, threshold, signed, out, reached_e
             reached_end[r] = True
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, nogil=True)
 def _sonic_layer_kernel(speed, depth, tolerance, out_depth, out_speed, reached_end):
     """Depth of the near-surface sound-speed maximum, one row per profile.
 
