@@ -290,3 +290,15 @@ def test_node_join_in_beam_to_sounding_is_the_joined_profile():
             [0.0, 900.0], [1500.0, 1500.0], 40.0, 0.2, transducer_sound_speed=1500.0, join=join
         )
         assert d == pytest.approx(150.0 * math.cos(math.radians(40.0)), abs=1e-9)
+
+
+def test_log_ratio_series_matches_the_logarithm_where_it_is_used():
+    # ln(1 + x) / x: the kernel's Taylor series for |x| < 2e-3 against the logarithm
+    # (math.log1p, correctly rounded to about 1 ulp); tolerance a few ulp
+    from seaprofile.survey._kernels import _log_ratio
+
+    for x in np.concatenate([np.linspace(-2e-3, 2e-3, 401), [1e-12, -1e-12, 1.9999e-3]]):
+        if x == 0.0:
+            assert _log_ratio(0.0) == 1.0
+            continue
+        assert _log_ratio(float(x)) == pytest.approx(math.log1p(x) / x, rel=5e-16)
