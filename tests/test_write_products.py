@@ -279,3 +279,49 @@ def test_loss_field_netcdf_round_trip(tmp_path):
     np.testing.assert_array_equal(back["beam_count"].values, tl["beam_count"].values)
     assert back["transmission_loss"].attrs["units"] == "dB"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["loss.nc"]
+
+
+# --- survey products ---------------------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def survey_products(profile):
+    """The four survey products of seaprofile.survey, on the invented profile above."""
+    from seaprofile import survey
+
+    z = profile["depth"].values
+    c = profile["sound_speed"].values
+    warmer = c + np.linspace(2.0, 0.0, c.size)  # an invented second cast
+    angles = xr.DataArray([[-60.0, 0.0, 45.0], [-30.0, 10.0, 60.0]], dims=("ping", "beam"))
+    times = xr.full_like(angles, 0.3)
+    return {
+        "soundings": survey.swath_soundings(z, c, angles, times, transducer_depth=5.0),
+        "profile_error": survey.profile_error(
+            z, c, z, warmer, water_depth=250.0, transducer_depth=5.0
+        ),
+        "depth_uncertainty": survey.depth_uncertainty(
+            depth=z,
+            sound_speed=c,
+            water_depth=250.0,
+            transducer_depth=5.0,
+            sigma_sound_speed=0.5,
+        ),
+        "cast_neighbour_check": survey.neighbour_check([(z, c), (z, warmer)], water_depth=250.0),
+    }
+
+
+@pytest.mark.parametrize(
+    "kind", ["soundings", "profile_error", "depth_uncertainty", "cast_neighbour_check"]
+)
+def test_survey_products_round_trip_through_the_one_write(tmp_path, survey_products, kind):
+    ds = survey_products[kind]
+    assert product_kind(ds) == kind and kind in PRODUCTS
+    path = seaprofile.write(ds, tmp_path / f"{kind}.nc")
+    with xr.open_dataset(path) as back:
+        back = back.load()
+    _same_values(back, ds)
+    assert back.attrs["product"] == kind and back.attrs["caution"] == _cf.CAUTION
+    doc = json.loads(seaprofile.write(ds, tmp_path / f"{kind}.json").read_text())
+    assert doc["product"] == kind
+    _same_values(dataset_from_dict(doc["dataset"]), ds)
+    _no_temporary_files(tmp_path)

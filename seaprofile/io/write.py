@@ -19,7 +19,14 @@ Product kinds
     :func:`seaprofile.propagation.eigenrays` output (dimension ``arrival``, or ``path`` in
     the PathTable record; coordinates ``receiver_range`` and ``receiver_depth``).
 
-Gridded products (ray fans, path tables, and later loss fields and soundings) are written by
+``loss_field``, ``coverage``
+    :func:`seaprofile.propagation.loss.transmission_loss` and
+    :func:`seaprofile.propagation.coverage.coverage` output.
+``soundings``, ``profile_error``, ``depth_uncertainty``, ``cast_neighbour_check``
+    The survey products of :mod:`seaprofile.survey` (recognised by their ``product``
+    attribute).
+
+Gridded products (ray fans, path tables, loss fields, coverage, survey products) are written by
 :func:`write_product_netcdf` (netCDF-4 as the Dataset stands, with the global attributes
 ``product``, ``Conventions``, ``caution``, ``seaprofile_version`` and a ``history`` line
 added: ``xr.open_dataset`` gives the values back) and :func:`write_product_json` (the
@@ -355,3 +362,17 @@ register_product(
 register_product(
     "path_table", description="eigenray paths (PathTable)", detect=_is_path_table, writers=_GRIDDED
 )
+
+# The survey products carry their kind in the ``product`` attribute (seaprofile.survey).
+for _kind, _description in (
+    ("soundings", "refraction-corrected soundings (depth and across-track distance)"),
+    ("profile_error", "depth and across-track error against beam angle (cast comparison)"),
+    ("depth_uncertainty", "depth uncertainty against beam angle beside the IHO S-44 budget"),
+    ("cast_neighbour_check", "neighbouring casts compared against the survey budget"),
+):
+    register_product(
+        _kind,
+        description=_description,
+        detect=lambda ds, k=_kind: ds.attrs.get("product") == k,
+        writers=_GRIDDED,
+    )

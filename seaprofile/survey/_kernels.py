@@ -28,19 +28,52 @@ def _log_ratio(x):
 
 
 @numba.njit(cache=True, inline="always")
+def _vertical_time(za, ca, zb, cb):
+    """ln(c_b / c_a) / g (s): the part of a layer's time that does not depend on p."""
+    dz = zb - za
+    g = (cb - ca) / dz
+    return dz / ca * _log_ratio(g * dz / ca)
+
+
+@numba.njit(cache=True)
+def _layer_constants(z, c):
+    """Gradient (1/s) and p-independent time (s) of every layer, computed once per profile."""
+    n = z.shape[0]
+    g = np.empty(max(n - 1, 0))
+    t1 = np.empty(max(n - 1, 0))
+    for k in range(n - 1):
+        g[k] = (c[k + 1] - c[k]) / (z[k + 1] - z[k])
+        t1[k] = _vertical_time(z[k], c[k], z[k + 1], c[k + 1])
+    return g, t1
+
+
+@numba.njit(cache=True, inline="always")
+def _piece(p, dz, ca, cosa, cb, cosb, t1):
+    """Range (m) and time (s) of a layer of thickness dz, given its ``_vertical_time`` t1."""
+    dx = p * dz * (ca + cb) / (cosa + cosb)
+    inv = 1.0 / (1.0 + cosb)
+    # t2 = ln((1 + cos a) / (1 + cos b)) / g, written to stay finite as g -> 0
+    t2 = p * dx * inv * _log_ratio((cosa - cosb) * inv)
+    return dx, t1 + t2
+
+
+@numba.njit(cache=True, inline="always")
 def _layer_piece(p, za, ca, cosa, zb, cb, cosb):
     """Horizontal range (m) and time (s) from (za, ca) to (zb, cb), both ends below turning.
 
     dx = p dz (c_a + c_b) / (cos a + cos b)   (= (cos a - cos b) / (g p), the arc chord)
     dt = [ln(c_b / c_a) + ln((1 + cos a) / (1 + cos b))] / g
     """
-    dz = zb - za
-    dx = p * dz * (ca + cb) / (cosa + cosb)
-    g = (cb - ca) / dz
-    t1 = dz / ca * _log_ratio(g * dz / ca)
-    y = (cosa - cosb) / (1.0 + cosb)
-    t2 = p * p * dz * (ca + cb) / ((cosa + cosb) * (1.0 + cosb)) * _log_ratio(y)
-    return dx, t1 + t2
+    return _piece(p, zb - za, ca, cosa, cb, cosb, _vertical_time(za, ca, zb, cb))
+
+
+@numba.njit(cache=True, inline="always")
+def _launch_cos(p, c0):
+    """cos of the angle from vertical at speed c0 (m/s); -1 when the ray is turned (p c0 >= 1)."""
+    u = p * c0
+    if u >= 1.0:
+        return -1.0
+    return math.sqrt(1.0 - u * u)
 
 
 @numba.njit(cache=True, inline="always")
@@ -64,21 +97,23 @@ def _point_after(p, za, ca, cosa, g, tau):
 
 
 @numba.njit(cache=True, inline="always")
-def _one_sounding(p, tau, z, c):
-    """Depth (m), range (m), flag for one beam of ray parameter p and one-way time tau."""
+def _one_sounding(p, tau, z, c, grad, t_vertical):
+    """Depth (m), range (m), flag for one beam of ray parameter p and one-way time tau.
+
+    ``grad`` and ``t_vertical`` are the profile's :func:`_layer_constants`.
+    """
     n = z.shape[0]
     za = z[0]
     ca = c[0]
-    ua = p * ca
-    if ua >= 1.0:
+    cosa = _launch_cos(p, ca)
+    if cosa < 0.0:
         return np.nan, np.nan, TURNED
-    cosa = math.sqrt(1.0 - ua * ua)
     x = 0.0
     for k in range(n - 1):
         zb = z[k + 1]
         cb = c[k + 1]
         ub = p * cb
-        g = (cb - ca) / (zb - za)
+        g = grad[k]
         if ub >= 1.0:
             # the ray turns inside this layer, at p c = 1
             zt = za + (1.0 / p - ca) / g
@@ -88,7 +123,7 @@ def _one_sounding(p, tau, z, c):
                 return za + ddz, x + ddx, OK
             return np.nan, np.nan, TURNED
         cosb = math.sqrt(1.0 - ub * ub)
-        dx, dt = _layer_piece(p, za, ca, cosa, zb, cb, cosb)
+        dx, dt = _piece(p, zb - za, ca, cosa, cb, cosb, t_vertical[k])
         if tau <= dt:
             ddz, ddx = _point_after(p, za, ca, cosa, g, tau)
             return za + ddz, x + ddx, OK
@@ -102,6 +137,7 @@ def _one_sounding(p, tau, z, c):
 @numba.njit(cache=True, parallel=True)
 def _soundings_kernel(sin_angle, one_way_time, launch_speed, z, c, depth, across, flag):
     """Fill depth, across (m) and flag for every beam (flattened pings x beams)."""
+    grad, t_vertical = _layer_constants(z, c)
     for i in numba.prange(sin_angle.shape[0]):
         tau = one_way_time[i]
         s = sin_angle[i]
@@ -111,7 +147,7 @@ def _soundings_kernel(sin_angle, one_way_time, launch_speed, z, c, depth, across
             flag[i] = MISSING
             continue
         p = abs(s) / launch_speed
-        d, x, f = _one_sounding(p, tau, z, c)
+        d, x, f = _one_sounding(p, tau, z, c, grad, t_vertical)
         depth[i] = d
         across[i] = x if s >= 0.0 else -x
         flag[i] = f
@@ -123,10 +159,9 @@ def _one_to_depth(p, z_end, z, c):
     n = z.shape[0]
     za = z[0]
     ca = c[0]
-    ua = p * ca
-    if ua >= 1.0:
+    cosa = _launch_cos(p, ca)
+    if cosa < 0.0:
         return np.nan, np.nan, TURNED
-    cosa = math.sqrt(1.0 - ua * ua)
     x = 0.0
     t = 0.0
     for k in range(n - 1):
@@ -198,6 +233,7 @@ def _many_profiles_kernel(sin_angle, one_way_time, z0, z, c, depth, across):
                 m += 1
         zz = zs[:m]
         cc = cs[:m]
+        grad, t_vertical = _layer_constants(zz, cc)
         for i in range(sin_angle.shape[0]):
             s = sin_angle[i]
             tau = one_way_time[i]
@@ -205,6 +241,6 @@ def _many_profiles_kernel(sin_angle, one_way_time, z0, z, c, depth, across):
                 depth[k, i] = np.nan
                 across[k, i] = np.nan
                 continue
-            d, x, f = _one_sounding(abs(s) / c0, tau, zz, cc)
+            d, x, f = _one_sounding(abs(s) / c0, tau, zz, cc, grad, t_vertical)
             depth[k, i] = d
             across[k, i] = x if s >= 0.0 else -x
