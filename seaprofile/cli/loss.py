@@ -131,7 +131,9 @@ def _grid(args, environment, bottom):
     if not 0 < step <= max_range:
         raise SeaprofileError(f"--range-step must be positive and <= --range, got {step:g} m")
     ranges = np.arange(step, max_range + 0.5 * step, step)
-    deepest = float(environment.bathymetry.deepest)
+    # the deepest bottom within the grid's ranges (a section may deepen farther out)
+    track = np.linspace(0.0, max_range, 1001)
+    deepest = float(np.max(environment.bottom_at(np.union1d(track, ranges))))
     if args.receiver_depths:
         depths = np.unique(parse_receiver_depths(args.receiver_depths, bottom, 0))
         if depths[-1] > deepest:
@@ -256,6 +258,10 @@ def summarise(loss, prep, band=None):
     }
 
 
+def _db(value):
+    return f"{value:.1f}" if np.isfinite(value) else "-"
+
+
 def _print_summary(s):
     print(f"input: {s['input']}")
     freq = (
@@ -279,9 +285,11 @@ def _print_summary(s):
     rows = []
     for row in s["depth_bands"]:
         cells = {"depth band (m)": f"{row['depth_from_m']:.0f}-{row['depth_to_m']:.0f}"}
-        cells.update(zip(heads, (f"{v:.1f}" for v in row["median_loss_db"])))
+        cells.update(zip(heads, (_db(v) for v in row["median_loss_db"])))
         rows.append(cells)
     print_table(rows, ["depth band (m)", *heads])
+    if any(not np.isfinite(v) for row in s["depth_bands"] for v in row["median_loss_db"]):
+        print("(-: no receiver of the band in the water there, or none reached by a beam)")
     for key, word in (("least_loss", "least"), ("greatest_finite_loss", "greatest")):
         c = s[key]
         if c is not None:

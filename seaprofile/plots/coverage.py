@@ -21,7 +21,7 @@ from matplotlib.patches import Patch
 from ._layout import keep_texts_inside, thin_crowded_ticks
 from .rays import INK, SEAFLOOR_EDGE, SEAFLOOR_FILL, _profile_nodes, caution_line
 
-__all__ = ["plot_coverage", "plot_loss_map", "LOSS_LABEL"]
+__all__ = ["draw_profile_panel", "plot_coverage", "plot_loss_map", "LOSS_LABEL"]
 
 LOSS_LABEL = "transmission loss (dB re 1 m)"
 LOSS_CMAP = "cividis_r"
@@ -54,6 +54,25 @@ def _bottom(ax, environment, r_km):
         edgecolor=SEAFLOOR_EDGE,
         zorder=3,
     )
+
+
+def draw_profile_panel(ax, profile=None, environment=None, source_depth=None):
+    """The sound-speed side panel: the profile (m/s against depth, m), or every cast of a
+    section, or a note that there is none; a dotted line at ``source_depth`` (m)."""
+    speed = getattr(environment, "speed", None)
+    nodes = _profile_nodes(profile, speed if hasattr(speed, "sound_speed") else None)
+    if nodes is None:
+        ax.text(0.5, 0.5, "no single profile", transform=ax.transAxes, ha="center", fontsize=8)
+        ax.tick_params(axis="x", bottom=False, labelbottom=False)
+    else:
+        zz, cc = nodes
+        if np.ndim(cc) == 2:  # the casts of a section, one line each
+            ax.plot(np.asarray(cc).T, zz, color=INK, lw=0.6, alpha=0.7)
+        else:
+            ax.plot(cc, zz, color=INK, lw=1.2)
+        if source_depth is not None and np.isfinite(source_depth):
+            ax.axhline(source_depth, color=INK, lw=0.8, ls=":")
+    ax.set_xlabel("sound speed (m/s)")
 
 
 def plot_loss_map(loss, *, signal_excess=None, intervals=None, environment=None, ax=None):
@@ -168,12 +187,7 @@ def plot_coverage(cov, loss, *, environment=None, profile=None, title=None, caut
     )
     ax_c.set_title(f"coverage, figure of merit {fom:.1f} dB", fontsize=10)
     ax_l.set_title("transmission loss; shadow outlined, detection bars", fontsize=10)
-    speed = getattr(environment, "speed", None)
-    nodes = _profile_nodes(profile, speed if hasattr(speed, "sound_speed") else None)
-    if nodes is not None:
-        zz, cc = nodes
-        ax_p.plot(cc, zz, color=INK, lw=1.2)
-    ax_p.set_xlabel("sound speed (m/s)")
+    draw_profile_panel(ax_p, profile, environment)
     ax_p.set_ylabel("depth (m)")
     ax_l.set_ylabel("")
     ax_p.set_ylim(float(z.max()), float(z.min()))

@@ -16,8 +16,8 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from ._layout import keep_texts_inside, thin_crowded_ticks
-from .coverage import plot_loss_map
-from .rays import INK, _profile_nodes, caution_line
+from .coverage import draw_profile_panel, plot_loss_map
+from .rays import INK, caution_line
 
 __all__ = ["plot_loss_figure"]
 
@@ -70,17 +70,7 @@ def plot_loss_figure(loss_da, environment=None, *, profile=None, title=None, cau
     r_km = np.asarray(loss_da["range"].values, float) / 1000.0
     half = 0.5 * (r_km[1] - r_km[0]) if r_km.size > 1 else 0.0
     ax_l.set_xlim(0.0, float(r_km.max()) + half)
-    speed = getattr(environment, "speed", None)
-    nodes = _profile_nodes(profile, speed if hasattr(speed, "sound_speed") else None)
-    if nodes is not None:
-        zz, cc = nodes
-        ax_p.plot(cc, zz, color=INK, lw=1.2)
-        if np.isfinite(zs):
-            ax_p.axhline(zs, color=INK, lw=0.8, ls=":")
-    else:
-        ax_p.text(0.5, 0.5, "no single profile", transform=ax_p.transAxes, ha="center", fontsize=8)
-        ax_p.tick_params(axis="x", bottom=False, labelbottom=False)
-    ax_p.set_xlabel("sound speed (m/s)")
+    draw_profile_panel(ax_p, profile, environment, source_depth=zs)
     ax_p.set_ylabel("depth (m)")
     ax_l.set_ylabel("")
     ax_l.tick_params(labelleft=False)

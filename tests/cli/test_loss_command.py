@@ -245,3 +245,18 @@ def test_lloyd_mirror_through_the_command(tmp_path, capsys):
         f"{np.median(diff):.3f} dB over {away.sum()} cells"
     )
     assert diff.max() < 1.0, diff.max()
+
+
+def test_section_directory_with_its_bottom(tmp_path, capsys):
+    # the demo section (synthetic casts along a track, bottom deepening offshore)
+    from _cli_helpers import DEMO
+
+    fig = tmp_path / "section.png"
+    argv = ["loss", str(DEMO / "section"), "--source-depth", "30", "--frequency", "3000"]
+    argv += ["--range", "5km", "--range-step", "250", "--beams", "200", "--plot", str(fig)]
+    assert cli.main(argv + ["--json"]) == 0, capsys.readouterr().err
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["absorption_water"].startswith("measured: temperature and salinity of section")
+    assert fig.stat().st_size > 10_000 and doc["written"] == [str(fig)]
+    # receivers reach the deepest bottom within 5 km, not the deepest of the whole track
+    assert doc["depths"]["last_m"] < 300.0
