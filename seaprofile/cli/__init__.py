@@ -26,6 +26,7 @@ COMMANDS = [
     "speed",
     "fan",
     "paths",
+    "loss",
     "coverage",
     "soundings",
     "error",

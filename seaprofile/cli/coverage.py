@@ -14,17 +14,17 @@ from __future__ import annotations
 import numpy as np
 
 from .._validate import SeaprofileError
-from ..io import (
-    check_figure_path,
-    check_output,
-    expand_paths,
-    load_environment,
-    save_figure,
-)
+from ..io import save_figure
 from ..io.write import write
 from ..propagation.coverage import coverage, figure_of_merit
 from ._common import parse_length, print_json
-from ._options import add_ray_input_options, optional_length, parse_source_depth, reading_options
+from ._environment import (
+    add_bottom_options,
+    add_seabed_options,
+    parse_receiver_depths,
+    prepare,
+)
+from ._options import add_ray_input_options
 
 NAME = "coverage"
 HELP = "detection ranges by receiver depth from transmission loss and a sonar equation"
@@ -63,9 +63,8 @@ def add_arguments(p):
         help="receiver depths, m, comma separated (default: "
         f"{DEFAULT_DEPTHS} evenly from the surface to the bottom)",
     )
-    bottom = p.add_mutually_exclusive_group()
-    bottom.add_argument("--bottom-depth", help="flat bottom depth, m")
-    bottom.add_argument("--bathymetry", metavar="FILE", help="bottom along the track (as fan)")
+    add_bottom_options(p)
+    add_seabed_options(p)
     s = p.add_argument_group("sonar equation (dB)")
     s.add_argument("--source-level", type=float, help="SL, dB re 1 uPa at 1 m")
     s.add_argument("--noise-level", type=float, help="NL in the receiver band, dB re 1 uPa^2")
@@ -107,49 +106,21 @@ def _terms(args):
 
 def run(args):
     terms = _terms(args)
-    source_depth = parse_source_depth(args.source_depth)
     if not (np.isfinite(args.frequency) and args.frequency > 0):
         raise SeaprofileError(f"--frequency must be positive, got {args.frequency!r}")
     max_range = parse_length(args.max_range, "--range")
     step = parse_length(args.range_step, "--range-step")
     if max_range <= 0 or step <= 0 or step > max_range:
         raise SeaprofileError("--range and --range-step must be positive, step <= range")
-    bottom_depth = optional_length(args.bottom_depth, "--bottom-depth")
-    read = reading_options(args)
-    inputs = [*expand_paths(args.profile), *([args.bathymetry] if args.bathymetry else [])]
-    plot_path = check_figure_path(
-        args.plot, overwrite=args.overwrite, inputs=inputs, argument="--plot"
+    prep = prepare(args)
+    env, loaded, source_depth, bottom = (
+        prep.environment,
+        prep.loaded,
+        prep.source_depth,
+        prep.bottom,
     )
-    out_path = check_output(
-        args.out,
-        overwrite=args.overwrite,
-        inputs=inputs + ([args.plot] if args.plot else []),
-        argument="--out",
-    )
-    env, loaded = load_environment(
-        args.profile,
-        bottom_depth=bottom_depth,
-        thin_tolerance=args.thin_tolerance,
-        bathymetry=args.bathymetry,
-        **read,
-    )
-    bottom = float(env.bottom_at(0.0))
-    if source_depth > bottom:
-        raise SeaprofileError(
-            f"--source-depth {source_depth:g} m lies below the bottom ({bottom:g} m)"
-        )
-    if args.receiver_depths:
-        try:
-            depths = np.array(
-                [parse_length(x, "--receiver-depths") for x in args.receiver_depths.split(",")]
-            )
-        except SeaprofileError:
-            raise
-        if np.any(depths < 0):
-            raise SeaprofileError("--receiver-depths must be at or below the surface")
-    else:
-        depths = np.linspace(0.0, bottom, DEFAULT_DEPTHS)
-        depths[0] = min(1.0, bottom)
+    plot_path, out_path = prep.plot_path, prep.out_path
+    depths = parse_receiver_depths(args.receiver_depths, bottom, DEFAULT_DEPTHS)
     ranges = np.arange(step, max_range + 0.5 * step, step)
 
     # lazily: the loss field lives in its own module
@@ -174,6 +145,7 @@ def run(args):
         out["input"] = loaded.description
         out["source_depth_m"] = source_depth
         out["frequency_hz"] = float(args.frequency)
+        out["seabed"] = prep.seabed_note
         out["written"] = written
         print_json(out)
     else:
@@ -181,6 +153,7 @@ def run(args):
         print(
             f"source at {source_depth:g} m, {args.frequency:g} Hz, bottom {bottom:g} m at the source"
         )
+        print(f"seabed: {prep.seabed_note}")
         print(cov.to_text())
         for w in written:
             print(f"wrote {w}")

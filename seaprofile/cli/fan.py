@@ -16,23 +16,18 @@ import numpy as np
 from .._cf import CAUTION
 from .._validate import SeaprofileError
 from ..io import (
-    check_figure_path,
     check_memory,
-    check_output,
-    expand_paths,
     fan_bytes,
-    load_environment,
     save_figure,
     write_netcdf,
 )
 from ._common import parse_length, print_json, print_table
+from ._environment import add_bottom_options, prepare
 from ._options import (
     add_angle_options,
     add_ray_input_options,
     optional_length,
     parse_angles,
-    parse_source_depth,
-    reading_options,
 )
 
 NAME = "fan"
@@ -68,19 +63,7 @@ def add_arguments(p):
         dest="max_range",
         help=f"range to trace to, m or km (default {DEFAULT_RANGE})",
     )
-    bottom = p.add_mutually_exclusive_group()
-    bottom.add_argument(
-        "--bottom-depth",
-        help="flat bottom depth, m (default: the profile's "
-        "bottom depth if it carries one, else its deepest level)",
-    )
-    bottom.add_argument(
-        "--bathymetry",
-        metavar="FILE",
-        help="bottom along the track: a text file whose first line names the "
-        "columns with units (range_km,depth_m or 'range (m), depth (m)'), "
-        "then one range, depth point per line",
-    )
+    add_bottom_options(p)
     p.add_argument(
         "--range-step",
         help="sample each ray every STEP (m or km) instead of keeping "
@@ -108,12 +91,10 @@ def add_arguments(p):
 
 
 def run(args):
-    source_depth = parse_source_depth(args.source_depth)
     angles = parse_angles(args.angles, args.rays)
     max_range = parse_length(args.max_range, "--range")
     if max_range <= 0:
         raise SeaprofileError(f"--range must be positive, got {args.max_range!r}")
-    bottom_depth = optional_length(args.bottom_depth, "--bottom-depth")
     range_step = optional_length(args.range_step, "--range-step")
     if range_step is not None:
         if range_step <= 0:
@@ -125,31 +106,9 @@ def run(args):
         )
     if args.max_reflections < 0:
         raise SeaprofileError(f"--max-reflections must be >= 0, got {args.max_reflections}")
-    read = reading_options(args)
-    inputs = [*expand_paths(args.profile), *([args.bathymetry] if args.bathymetry else [])]
-    plot_path = check_figure_path(
-        args.plot, overwrite=args.overwrite, inputs=inputs, argument="--plot"
-    )
-    out_path = check_output(
-        args.out,
-        overwrite=args.overwrite,
-        inputs=inputs + ([args.plot] if args.plot else []),
-        argument="--out",
-    )
-
-    env, loaded = load_environment(
-        args.profile,
-        bottom_depth=bottom_depth,
-        thin_tolerance=args.thin_tolerance,
-        bathymetry=args.bathymetry,
-        **read,
-    )
-    bottom_here = float(env.bottom_at(0.0))
-    if source_depth > bottom_here:
-        raise SeaprofileError(
-            f"--source-depth {source_depth:g} m lies below the bottom "
-            f"({bottom_here:g} m at the source)"
-        )
+    prep = prepare(args)
+    env, loaded, source_depth = prep.environment, prep.loaded, prep.source_depth
+    plot_path, out_path = prep.plot_path, prep.out_path
 
     from ..propagation.rays import trace_fan
 

@@ -479,7 +479,13 @@ def load_section(paths, **options):
 
 
 def load_environment(
-    paths, *, bottom_depth=None, bathymetry=None, thin_tolerance=DEFAULT_THIN_TOLERANCE, **options
+    paths,
+    *,
+    bottom_depth=None,
+    bathymetry=None,
+    thin_tolerance=DEFAULT_THIN_TOLERANCE,
+    seabed=None,
+    **options,
 ):
     """The ray-tracing Environment from a profile or section and the bottom.
 
@@ -494,12 +500,16 @@ def load_environment(
         Bathymetry file (:func:`read_bathymetry`): bottom depth, m, along range, m.
     thin_tolerance : float
         Node thinning of a single profile, m/s (0 keeps every bin).
+    seabed : Seabed, optional
+        The fluid half-space below the bottom (default None: unknown).
     **options
         As :func:`read_as_profiles`.
 
     Returns
     -------
     environment : Environment
+        With the profile's temperature and salinity as its ``water`` (a section: those of
+        the cast nearest range 0), when they are there.
     loaded : LoadedInput
     """
     from ..propagation.environment import Environment
@@ -515,14 +525,38 @@ def load_environment(
     if loaded.section is not None:
         if bottom_depth is None and bathy is None:
             bathy = _section_bottom(loaded)
-        env = Environment.from_section(loaded.section, bottom_depth, bathymetry=bathy)
+        env = Environment.from_section(
+            loaded.section,
+            bottom_depth,
+            bathymetry=bathy,
+            seabed=seabed,
+            water=_section_water(loaded),
+        )
     else:
         if bottom_depth is None and bathy is None:
             bottom_depth = profile_bottom(loaded.profile)
         env = Environment.from_profile(
-            loaded.profile, bottom_depth, bathymetry=bathy, thin_tolerance=thin_tolerance or None
+            loaded.profile,
+            bottom_depth,
+            bathymetry=bathy,
+            thin_tolerance=thin_tolerance or None,
+            seabed=seabed,
         )
     return env, loaded
+
+
+def _section_water(loaded):
+    """Temperature and salinity of the section's cast nearest range 0, or None."""
+    from ..propagation.environment import Water
+
+    if not loaded.profiles:
+        return None
+    i = 0
+    if len(loaded.profiles) == loaded.section.ranges.size:
+        i = int(np.argmin(np.abs(np.asarray(loaded.section.ranges, dtype=float))))
+    prof = loaded.profiles[i]
+    pid = prof.attrs.get("cast_name") or getattr(prof.get("profile_id"), "values", "")
+    return Water.from_profile(prof, source=f"section cast {str(pid) or i + 1} (nearest range 0)")
 
 
 def profile_bottom(profile):

@@ -29,7 +29,7 @@ from .rays import (
     caution_line,
 )
 
-__all__ = ["plot_coverage", "plot_loss_map", "LOSS_LABEL"]
+__all__ = ["draw_profile_panel", "plot_coverage", "plot_loss_map", "LOSS_LABEL"]
 
 LOSS_LABEL = "transmission loss (dB re 1 m)"
 LOSS_CMAP = "cividis_r"
@@ -137,6 +137,25 @@ def _source(ax, depth):
         gid="source",
         ls="none",
     )
+
+
+def draw_profile_panel(ax, profile=None, environment=None, source_depth=None):
+    """The sound-speed side panel: the profile (m/s against depth, m), or every cast of a
+    section, or a note that there is none; a dotted line at ``source_depth`` (m)."""
+    speed = getattr(environment, "speed", None)
+    nodes = _profile_nodes(profile, speed if hasattr(speed, "sound_speed") else None)
+    if nodes is None:
+        ax.text(0.5, 0.5, "no single profile", transform=ax.transAxes, ha="center", fontsize=8)
+        ax.tick_params(axis="x", bottom=False, labelbottom=False)
+    else:
+        zz, cc = nodes
+        if np.ndim(cc) == 2:  # the casts of a section, one line each
+            ax.plot(np.asarray(cc).T, zz, color=INK, lw=0.6, alpha=0.7)
+        else:
+            ax.plot(cc, zz, color=INK, lw=1.2)
+        if source_depth is not None and np.isfinite(source_depth):
+            ax.axhline(source_depth, color=INK, lw=0.8, ls=":")
+    ax.set_xlabel("sound speed (m/s)")
 
 
 def plot_loss_map(
@@ -281,12 +300,7 @@ def plot_coverage(
     ax_c.legend(handles=handles, loc="lower right", fontsize=8, framealpha=0.9)
     ax_c.set_title(f"coverage, figure of merit {fom:.1f} dB", fontsize=10)
     ax_l.set_title("transmission loss; shadow outlined, detection bands", fontsize=10)
-    speed = getattr(environment, "speed", None)
-    nodes = _profile_nodes(profile, speed if hasattr(speed, "sound_speed") else None)
-    if nodes is not None:
-        zz, cc = nodes
-        ax_p.plot(cc, zz, color=INK, lw=1.2)
-    ax_p.set_xlabel("sound speed (m/s)")
+    draw_profile_panel(ax_p, profile, environment)
     ax_p.set_ylabel("depth (m)")
     ax_l.set_ylabel("")
     ax_p.set_ylim(floor, float(z.min()))

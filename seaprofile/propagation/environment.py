@@ -10,7 +10,9 @@ An :class:`Environment` is what the ray engine traces through: a frozen value ho
 * ``surface``: a :class:`~seaprofile.propagation.boundaries.Surface` (flat, pressure
   release);
 * ``seabed``: a :class:`~seaprofile.propagation.boundaries.Seabed` (fluid half-space) or
-  None (unknown; the ray tracers do not need it).
+  None (unknown; the ray tracers do not need it);
+* ``water``: the temperature and salinity of the water at depth (:class:`Water`), when the
+  profile carried them, or None (the loss field then assumes a water for its absorption).
 
 Every constructor (``Environment(...)``, :meth:`Environment.from_arrays`,
 :meth:`~Environment.from_profile`, :meth:`~Environment.from_section`) ends in the same
@@ -51,7 +53,15 @@ from .._validate import SeaprofileError, as_float_array
 from .boundaries import Bathymetry, Seabed, Surface
 from .section import Section
 
-__all__ = ["Bathymetry", "Environment", "LayeredSpeed", "Seabed", "Surface", "thin_nodes"]
+__all__ = [
+    "Bathymetry",
+    "Environment",
+    "LayeredSpeed",
+    "Seabed",
+    "Surface",
+    "Water",
+    "thin_nodes",
+]
 
 
 @numba.njit(cache=True)
@@ -186,6 +196,102 @@ class LayeredSpeed:
         return np.interp(as_float_array("depth", depth), self.depth, self.sound_speed)
 
 
+@dataclass(frozen=True, eq=False)
+class Water:
+    """Temperature and salinity of the water at depth: what the volume absorption needs.
+
+    Parameters
+    ----------
+    depth : array_like
+        Depths, m, positive down, finite, strictly increasing, >= 0 (at least one).
+    temperature : array_like
+        In-situ temperature at ``depth``, degC (ITS-90), finite.
+    salinity : array_like
+        Practical salinity at ``depth`` (PSS-78), finite.
+    source : str
+        Where the values come from (one line, for the record).
+
+    Stored as read-only copies; between depths the values are linear, beyond the ends held
+    (as the sound-speed nodes are).
+    """
+
+    depth: np.ndarray
+    temperature: np.ndarray
+    salinity: np.ndarray
+    source: str = ""
+
+    def __post_init__(self):
+        z = as_float_array("depth", self.depth).ravel()
+        t = as_float_array("temperature", self.temperature).ravel()
+        s = as_float_array("salinity", self.salinity).ravel()
+        if z.size < 1:
+            raise SeaprofileError("Water: depth must have at least one level, got none")
+        for name, values in (("temperature", t), ("salinity", s)):
+            if values.size != z.size:
+                raise SeaprofileError(
+                    f"Water: {name} must have one value per depth ({z.size}), got {values.size}"
+                )
+        for name, values in (("depth", z), ("temperature", t), ("salinity", s)):
+            if not np.all(np.isfinite(values)):
+                raise SeaprofileError(f"Water: {name} must be finite (no NaN or inf)")
+        if z[0] < 0:
+            raise SeaprofileError(f"Water: depth must be >= 0 m, got {z[0]:g}")
+        if np.any(np.diff(z) <= 0):
+            raise SeaprofileError("Water: depth must be strictly increasing")
+        object.__setattr__(self, "depth", _readonly(z))
+        object.__setattr__(self, "temperature", _readonly(t))
+        object.__setattr__(self, "salinity", _readonly(s))
+        object.__setattr__(self, "source", str(self.source))
+
+    @classmethod
+    def from_profile(cls, profile, source=""):
+        """The usable temperature and salinity levels of a Profile, or None without them.
+
+        Levels where either is NaN, or flagged 3, 4 or 9 in ``temperature_qc`` /
+        ``salinity_qc`` (:data:`seaprofile._cf.UNUSABLE_FLAGS`), are left out; None when
+        the profile has no temperature or salinity, or no level keeps both.
+        """
+        try:
+            if "temperature" not in profile or "salinity" not in profile:
+                return None
+            z = np.asarray(profile["depth"], dtype=np.float64).ravel()
+            t = np.asarray(profile["temperature"], dtype=np.float64).ravel()
+            s = np.asarray(profile["salinity"], dtype=np.float64).ravel()
+        except (TypeError, ValueError, KeyError):
+            return None
+        if not (z.size == t.size == s.size):
+            return None
+        use = np.isfinite(z) & np.isfinite(t) & np.isfinite(s) & (z >= 0)
+        for name in ("temperature_qc", "salinity_qc"):
+            if name in profile:
+                qc = np.asarray(profile[name]).ravel()
+                if qc.size == z.size:
+                    use &= ~np.isin(qc, _cf.UNUSABLE_FLAGS)
+        if not use.any():
+            return None
+        z, t, s = z[use], t[use], s[use]
+        order = np.argsort(z, kind="stable")
+        z, t, s = z[order], t[order], s[order]
+        keep = np.concatenate([[True], np.diff(z) > 0])
+        return cls(z[keep], t[keep], s[keep], source=source)
+
+    def at(self, depth):
+        """Temperature (degC) and practical salinity at ``depth`` (m): linear, ends held."""
+        d = as_float_array("depth", depth)
+        return (
+            np.interp(d, self.depth, self.temperature),
+            np.interp(d, self.depth, self.salinity),
+        )
+
+    def describe(self):
+        """One line: the source, the levels and the ranges of T and S."""
+        return (
+            f"{self.source or 'given water'}: {self.depth.size} levels 0..{self.depth[-1]:g} m, "
+            f"temperature {self.temperature.min():.2f}..{self.temperature.max():.2f} degC, "
+            f"salinity {self.salinity.min():.3f}..{self.salinity.max():.3f}"
+        )
+
+
 @dataclass(frozen=True, eq=False, repr=False)
 class Environment:
     """Sound-speed field, sea surface, seabed and bottom depth: what rays are traced in.
@@ -203,6 +309,9 @@ class Environment:
     seabed : Seabed or None
         The fluid half-space below the bottom; None when unknown (the ray tracers do not
         read it; the loss computations will). A sediment name string is not accepted.
+    water : Water or None
+        Temperature and salinity at depth (the volume absorption of the loss field), or
+        None when unknown. :meth:`from_profile` takes them from the profile when it has them.
     attrs : dict, optional
         Provenance attributes (``processing_steps``, ``history``, ``profile_id`` ...).
 
@@ -229,6 +338,7 @@ class Environment:
     surface: Surface = field(default_factory=Surface)
     seabed: Seabed | None = None
     attrs: dict | None = None
+    water: Water | None = None
     depth: np.ndarray = field(init=False)
     sound_speed: np.ndarray = field(init=False)
 
@@ -257,6 +367,8 @@ class Environment:
             )
         if self.seabed is not None and not isinstance(self.seabed, Seabed):
             raise SeaprofileError(f"seabed must be a Seabed or None, got {self.seabed!r}")
+        if self.water is not None and not isinstance(self.water, Water):
+            raise SeaprofileError(f"water must be a Water or None, got {self.water!r}")
         if z[0] > 0:
             z = np.concatenate([[0.0], z])
             c = np.concatenate([[c[0]], c])
@@ -271,7 +383,9 @@ class Environment:
 
     # -- constructors ------------------------------------------------------------------
     @classmethod
-    def _assemble(cls, speed, bottom_depth, bathymetry, surface, seabed, thin_tolerance, attrs):
+    def _assemble(
+        cls, speed, bottom_depth, bathymetry, surface, seabed, thin_tolerance, attrs, water=None
+    ):
         """The one path of the classmethods: bottom, thinning, provenance, then ``cls``."""
         if bottom_depth is not None:
             try:
@@ -305,7 +419,7 @@ class Environment:
                 nodes_in=int(n_in),
                 nodes_kept=int(speed.depth.size),
             )
-        return cls(speed, bathy, Surface() if surface is None else surface, seabed, attrs)
+        return cls(speed, bathy, Surface() if surface is None else surface, seabed, attrs, water)
 
     @classmethod
     def from_arrays(
@@ -350,7 +464,7 @@ class Environment:
 
     @classmethod
     def from_section(
-        cls, section, bottom_depth=None, *, bathymetry=None, surface=None, seabed=None
+        cls, section, bottom_depth=None, *, bathymetry=None, surface=None, seabed=None, water=None
     ):
         """An Environment whose sound speed is a :class:`~seaprofile.propagation.Section`.
 
@@ -364,6 +478,9 @@ class Environment:
             Bottom depth (m) at ranges (m), piecewise linear in range.
         surface, seabed
             As for :meth:`from_arrays`.
+        water : Water, optional
+            Temperature and salinity for the absorption (one column for the whole section,
+            e.g. the cast at range 0); default None.
 
         Returns
         -------
@@ -379,7 +496,7 @@ class Environment:
             casts=int(section.ranges.size),
             range_interpolation=section.range_interpolation,
         )
-        return cls._assemble(section, bottom_depth, bathymetry, surface, seabed, None, attrs)
+        return cls._assemble(section, bottom_depth, bathymetry, surface, seabed, None, attrs, water)
 
     @classmethod
     def from_profile(
@@ -407,6 +524,9 @@ class Environment:
             Thin the nodes to this tolerance, m/s.
         bathymetry, surface, seabed
             As for :meth:`from_arrays`.
+
+        The profile's usable ``temperature`` and ``salinity`` levels, when it has both,
+        become the environment's :class:`Water` (every level, not thinned).
         """
         try:
             z = as_float_array("profile['depth']", np.asarray(profile["depth"])).ravel()
@@ -435,6 +555,7 @@ class Environment:
             pid = None
         if pid:
             attrs["profile_id"] = pid
+        water = Water.from_profile(profile, source=f"profile {pid}" if pid else "the profile")
         return cls._assemble(
             LayeredSpeed(z[use], c[use]),
             bottom_depth,
@@ -443,11 +564,12 @@ class Environment:
             seabed,
             thin_tolerance,
             attrs,
+            water,
         )
 
     def replace(self, **changes):
-        """A copy with some of ``speed``, ``bathymetry``, ``surface``, ``seabed``, ``attrs``
-        changed (validated again)."""
+        """A copy with some of ``speed``, ``bathymetry``, ``surface``, ``seabed``, ``attrs``,
+        ``water`` changed (validated again)."""
         return dataclasses.replace(self, **changes)
 
     # -- properties --------------------------------------------------------------------

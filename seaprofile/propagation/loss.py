@@ -53,6 +53,45 @@ def _positive(name, value, unit):
     return float(v)
 
 
+def _absorption_profile(environment, frequency, absorption):
+    """Absorption alpha(z), dB/m, at depths z (m), and the attributes saying which water.
+
+    With ``environment.water`` (the profile's temperature and salinity) alpha is evaluated
+    at each of its levels; otherwise at the sound-speed nodes with
+    :data:`DEFAULT_TEMPERATURE` and :data:`DEFAULT_SALINITY`. One array call of the
+    formula either way (no loop over levels).
+    """
+    water = environment.water
+    if water is None:
+        zn = np.asarray(environment.depth, dtype=np.float64)
+        t = np.full_like(zn, DEFAULT_TEMPERATURE)
+        s = np.full_like(zn, DEFAULT_SALINITY)
+        attrs = {
+            "absorption_water": "assumed (the environment carries no temperature or "
+            f"salinity): {DEFAULT_TEMPERATURE:g} degC, salinity {DEFAULT_SALINITY:g} at "
+            "every depth",
+            "absorption_temperature": DEFAULT_TEMPERATURE,
+            "absorption_salinity": DEFAULT_SALINITY,
+        }
+    else:
+        zn = np.asarray(water.depth, dtype=np.float64)
+        t = np.asarray(water.temperature, dtype=np.float64)
+        s = np.asarray(water.salinity, dtype=np.float64)
+        attrs = {
+            "absorption_water": "measured: temperature and salinity of " + water.describe(),
+            "absorption_temperature": np.array([t.min(), t.max()]),
+            "absorption_salinity": np.array([s.min(), s.max()]),
+        }
+    if absorption is None:
+        attrs["absorption_water"] = "not used (no absorption)"
+        return zn, np.zeros_like(zn), attrs
+    from ..seawater.absorption import absorption as _absorption
+
+    # one absorption (at the centre frequency) for a band
+    alpha = np.asarray(_absorption(frequency, t, s, zn, equation=absorption), dtype=np.float64)
+    return zn, alpha / 1000.0, attrs
+
+
 def transmission_loss(
     environment,
     source_depth,
@@ -136,9 +175,15 @@ def transmission_loss(
     i.e. the near-surface source interference kept, the phases between distinct paths
     taken as random.
 
-    Absorption: alpha(z) of the chosen formula at the environment's nodes, with
-    :data:`DEFAULT_TEMPERATURE` and :data:`DEFAULT_SALINITY` (the Environment carries no
-    temperature or salinity), pH 8.
+    Absorption: alpha(z) of the chosen formula (default Francois & Garrison 1982, J. Acoust.
+    Soc. Am. 72, 896-907 and 1879-1890) at the levels of ``environment.water`` with the
+    profile's own temperature and salinity when the environment carries them (a profile
+    with T and S), else at the sound-speed nodes with :data:`DEFAULT_TEMPERATURE` and
+    :data:`DEFAULT_SALINITY`; pH 8; linear in depth between levels. The attribute
+    ``absorption_water`` says which water was used.
+
+    Cells below the local bottom (``environment.bottom_at(range)``) are in the seabed:
+    loss inf and ``beam_count`` 0 there.
 
     Validity: high frequency (many wavelengths per water depth and per layer); beams miss
     diffraction into shadow zones and the seabed's lateral waves; steep rays
@@ -215,28 +260,7 @@ def transmission_loss(
             graze[bot], water_sound_speed=float(environment.sound_speed_at(bottom))
         )
 
-    # absorption, dB/m at the nodes
-    zn = np.asarray(environment.depth, dtype=np.float64)
-    if absorption is None:
-        alpha = np.zeros_like(zn)
-    else:
-        from ..seawater.absorption import absorption as _absorption
-
-        alpha = (
-            np.asarray(
-                _absorption(
-                    f0,
-                    np.full_like(zn, DEFAULT_TEMPERATURE),
-                    np.full_like(zn, DEFAULT_SALINITY),
-                    zn,
-                    equation=absorption,
-                ),
-                dtype=np.float64,
-            )
-            / 1000.0
-        )
-        if band is not None:
-            alpha = alpha * 1.0  # one absorption (at the centre frequency) for the band
+    zn, alpha, water_attrs = _absorption_profile(environment, f0, absorption)
 
     wavelength = c0 / float(np.max(freqs))
     inten, count = _k._beam_sum(
@@ -262,6 +286,10 @@ def transmission_loss(
         0.5 * wavelength,
     )
     mean = inten.mean(axis=0)
+    # cells below the local bottom are in the seabed, not in the water: no field there
+    below = z[:, None] > np.asarray(environment.bottom_at(r), dtype=np.float64)[None, :]
+    mean[below] = 0.0
+    count[below] = 0
     with np.errstate(divide="ignore"):
         tl = -10.0 * np.log10(mean)
     attrs = dict(
@@ -295,8 +323,7 @@ def transmission_loss(
         launch_angle_max=hi,
         source_depth=zs,
         absorption="none" if absorption is None else str(absorption),
-        absorption_temperature=DEFAULT_TEMPERATURE,
-        absorption_salinity=DEFAULT_SALINITY,
+        **water_attrs,
         bottom_reflection="rigid (R=+1, seabed unknown)" if seabed is None else "rayleigh",
         seaprofile_version=__version__,
         caution=_cf.CAUTION,

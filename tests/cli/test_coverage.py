@@ -79,3 +79,23 @@ def test_json_and_files(capsys, tmp_path):
     assert data["sonar_equation"]["figure_of_merit_db"] == 65.0
     assert data["caution"] == CAUTION
     assert nc.exists() and png.exists()
+
+
+def test_bad_seabed_name_lists_the_known_ones(capsys):
+    from seaprofile.propagation.reflection import SEDIMENTS
+
+    assert cli.main(BASE + ["--figure-of-merit", "80", "--seabed", "ooze"]) == 2
+    err = one_line_error(capsys)
+    assert "--seabed" in err and all(name in err for name in SEDIMENTS)
+
+
+@needs_loss
+def test_section_with_a_figure(tmp_path, capsys):
+    # the demo section (synthetic): the side panel draws every cast (a traceback before)
+    fig = tmp_path / "cov.png"
+    argv = ["coverage", str(DEMO / "section"), "--source-depth", "30", "--frequency", "3000"]
+    argv += ["--range", "3km", "--figure-of-merit", "80", "--seabed", "silt"]
+    assert cli.main(argv + ["--plot", str(fig), "--json"]) == 0, capsys.readouterr().err
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["seabed"].startswith("silt (named)")
+    assert fig.stat().st_size > 10_000
