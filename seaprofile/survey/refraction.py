@@ -298,6 +298,11 @@ def beam_to_sounding(
     return depth, across
 
 
+#: Largest fan table (distinct angles x profile nodes) built; two float64 tables of this
+#: many cells take 128 MB
+_TABLE_CELLS = 8_000_000
+
+
 def _trace_soundings(beam_angle, shape, one_way, launch, zs, cs, depth, across, flags):
     """Fill depth, across, flags: by fan tables when the beams share a few angles.
 
@@ -309,8 +314,14 @@ def _trace_soundings(beam_angle, shape, one_way, launch, zs, cs, depth, across, 
     a0 = as_float_array("beam_angle", beam_angle)
     sin0 = np.sin(np.radians(a0))
     grad, t_vertical = _layer_constants(zs, cs)
+    distinct = None
     if 4 * sin0.size <= one_way.size:
-        sin_values, which = np.unique(sin0.ravel(), return_inverse=True)
+        distinct, which = np.unique(sin0.ravel(), return_inverse=True)
+        cells = distinct.size * zs.size
+        if cells > min(2 * one_way.size, _TABLE_CELLS):  # tables would cost more than a walk
+            distinct = None
+    if distinct is not None:
+        sin_values = distinct
         which = np.broadcast_to(which.reshape(sin0.shape), shape).ravel()
         tables = _fan_tables(sin_values, launch, zs, cs, grad, t_vertical)
     else:

@@ -167,7 +167,8 @@ def test_fan_tables_and_the_layer_walk_give_identical_soundings(speeds, z0, seed
     z = np.concatenate([[0.0], np.cumsum(rng.uniform(2.0, 300.0, len(speeds) - 1))])
     c = np.asarray(speeds)
     fan = np.concatenate([np.linspace(-80.0, 80.0, 9), [np.nan, 0.0]])
-    t = rng.uniform(0.0, 3.0 * z[-1] / 1400.0 + 0.1, (6, fan.size))
+    # 40 pings: enough beams per distinct angle that the fan tables are always used
+    t = rng.uniform(0.0, 3.0 * z[-1] / 1400.0 + 0.1, (40, fan.size))
     t[0] = 0.0
     t[1, 3] = np.nan
     with warnings.catch_warnings():
@@ -302,3 +303,17 @@ def test_log_ratio_series_matches_the_logarithm_where_it_is_used():
             assert _log_ratio(0.0) == 1.0
             continue
         assert _log_ratio(float(x)) == pytest.approx(math.log1p(x) / x, rel=5e-16)
+
+
+def test_a_shared_fan_is_traced_by_tables_and_a_full_angle_array_walks(monkeypatch):
+    # which route the identity test above exercises (internal consistency, no source)
+    import seaprofile.survey.refraction as refraction
+
+    calls = []
+    real = refraction._fan_tables
+    monkeypatch.setattr(refraction, "_fan_tables", lambda *a: calls.append(1) or real(*a))
+    t = np.full((40, ANGLES.size), 0.2)
+    beam_to_sounding(Z, C, ANGLES, t, transducer_depth=3.0)
+    assert calls == [1]
+    beam_to_sounding(Z, C, np.broadcast_to(ANGLES, t.shape).copy(), t, transducer_depth=3.0)
+    assert calls == [1]
