@@ -11,34 +11,19 @@ Run: ``.venv/bin/python benchmarks/bench_loss.py``
 
 from __future__ import annotations
 
-import json
-import os
-import platform
-import time
 import tracemalloc
 
-import numba
 import numpy as np
+from _results import best_of, machine, write_result
 
 from seaprofile.propagation import Environment, trace_fan
 from seaprofile.propagation.boundaries import Seabed
 from seaprofile.propagation.loss import transmission_loss
 
-HERE = os.path.dirname(os.path.abspath(__file__))
-
 
 def munk(z):
     eta = 2.0 * (z - 1300.0) / 1300.0
     return 1500.0 * (1.0 + 0.00737 * (eta + np.exp(-eta) - 1.0))
-
-
-def best(fn, repeat=3):
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t)
-    return min(times)
 
 
 def main():
@@ -49,8 +34,8 @@ def main():
     kw = dict(ranges=ranges, depths=depths, beams=2000, angles=(-20.0, 20.0))
     launch = np.linspace(-20.0, 20.0, 2000)
     transmission_loss(env, 1000.0, 200.0, **kw)  # compile
-    t_field = best(lambda: transmission_loss(env, 1000.0, 200.0, **kw))
-    t_fan = best(lambda: trace_fan(env, 1000.0, launch, 100_000.0))
+    t_field = best_of(lambda: transmission_loss(env, 1000.0, 200.0, **kw))
+    t_fan = best_of(lambda: trace_fan(env, 1000.0, launch, 100_000.0))
     tracemalloc.start()
     tl = transmission_loss(env, 1000.0, 200.0, **kw)
     peak = tracemalloc.get_traced_memory()[1]
@@ -67,8 +52,7 @@ def main():
     print(f"peak traced memory {peak / 1e6:.1f} MB; cells with coverage {covered:.3f}")
     print(f"field / fan ratio {t_field / t_fan:.2f}; target field <= 2 s")
     out = {
-        "machine": platform.platform(),
-        "numba_threads": numba.get_num_threads(),
+        **machine(),
         "field_s": t_field,
         "fan_s": t_fan,
         "field_over_fan": t_field / t_fan,
@@ -77,9 +61,7 @@ def main():
         "grid": [int(depths.size), int(ranges.size)],
         "beams": 2000,
     }
-    os.makedirs(os.path.join(HERE, "results"), exist_ok=True)
-    with open(os.path.join(HERE, "results", "loss.json"), "w") as fh:
-        json.dump(out, fh, indent=2)
+    write_result("loss", out)
 
 
 if __name__ == "__main__":

@@ -139,6 +139,31 @@ def _source(ax, depth):
     )
 
 
+def depth_panels(width_ratios, *, width, caution):
+    """A figure of side-by-side panels sharing the depth axis with the first (the profile).
+
+    Parameters
+    ----------
+    width_ratios : sequence of float
+        Relative panel widths, the profile panel first.
+    width : float
+        Figure width, inches (height 5.4).
+    caution : bool
+        Leave room for the caution line under the panels.
+
+    Returns
+    -------
+    fig : matplotlib.figure.Figure
+    axes : list of matplotlib.axes.Axes
+    """
+    fig = Figure(figsize=(width, 5.4), layout="constrained")
+    if caution:  # room for the caution line under the panels
+        fig.get_layout_engine().set(rect=(0.0, 0.045, 1.0, 0.955))
+    gs = fig.add_gridspec(1, len(width_ratios), width_ratios=list(width_ratios))
+    first = fig.add_subplot(gs[0])
+    return fig, [first] + [fig.add_subplot(g, sharey=first) for g in list(gs)[1:]]
+
+
 def draw_profile_panel(ax, profile=None, environment=None, source_depth=None):
     """The sound-speed side panel: the profile (m/s against depth, m), or every cast of a
     section, or a note that there is none; a dotted line at ``source_depth`` (m)."""
@@ -257,13 +282,7 @@ def plot_coverage(
     -------
     matplotlib.figure.Figure
     """
-    fig = Figure(figsize=(12, 5.4), layout="constrained")
-    if caution:  # room for the caution line under the panels
-        fig.get_layout_engine().set(rect=(0.0, 0.045, 1.0, 0.955))
-    gs = fig.add_gridspec(1, 3, width_ratios=[1, 4, 4])
-    ax_p = fig.add_subplot(gs[0])
-    ax_l = fig.add_subplot(gs[1], sharey=ax_p)
-    ax_c = fig.add_subplot(gs[2], sharey=ax_p)
+    fig, (ax_p, ax_l, ax_c) = depth_panels((1, 4, 4), width=12.0, caution=caution)
     plot_loss_map(
         loss,
         signal_excess=cov.signal_excess,

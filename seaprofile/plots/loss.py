@@ -13,10 +13,9 @@ regulations and licensed practice.
 from __future__ import annotations
 
 import numpy as np
-from matplotlib.figure import Figure
 
 from ._layout import keep_texts_inside, thin_crowded_ticks
-from .coverage import draw_profile_panel, plot_loss_map
+from .coverage import depth_panels, draw_profile_panel, plot_loss_map
 from .rays import caution_line
 
 __all__ = ["plot_loss_figure"]
@@ -56,12 +55,7 @@ def plot_loss_figure(loss_da, environment=None, *, profile=None, title=None, cau
     -------
     matplotlib.figure.Figure
     """
-    fig = Figure(figsize=(10, 5.4), layout="constrained")
-    if caution:  # room for the caution line under the panels
-        fig.get_layout_engine().set(rect=(0.0, 0.045, 1.0, 0.955))
-    gs = fig.add_gridspec(1, 2, width_ratios=[1, 4])
-    ax_p = fig.add_subplot(gs[0])
-    ax_l = fig.add_subplot(gs[1], sharey=ax_p)
+    fig, (ax_p, ax_l) = depth_panels((1, 4), width=10.0, caution=caution)
     plot_loss_map(loss_da, environment=environment, ax=ax_l)  # marks the source too
     depth_limits = ax_l.get_ylim()  # down to the filled sea floor
     zs = float(loss_da.attrs.get("source_depth", np.nan))
