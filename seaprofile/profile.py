@@ -179,14 +179,13 @@ def build_profile(
     if replace_salinity not in ("bad", "all"):
         raise SeaprofileError(f"replace_salinity must be 'bad' or 'all', got {replace_salinity!r}")
     ds = cast
-    if ds.attrs.get("instrument") == "xbt":
+    xbt = ds.attrs.get("instrument") == "xbt"
+    if xbt:
         from .casts.xbt import complete_xbt_cast
 
         ds = complete_xbt_cast(ds)
-    else:
-        ds = _p.remove_soak(ds)
-    ds = _p.select_direction(ds, direction)
-    ds = _p.remove_reversals(ds)
+    # remove_soak (not for expendable probes), select_direction, remove_reversals
+    ds = _p.select_descent(ds, direction, soak=not xbt)
     if "salinity" not in ds.data_vars and "conductivity" in ds.data_vars:
         ds = _p.add_salinity(ds)
     if _speed_only_without_position(ds, latitude):

@@ -31,13 +31,13 @@ def vertical(cast):
     """(name, values) of the vertical coordinate: pressure (dbar), else depth (m)."""
     for name in ("pressure", "depth"):
         if name in cast.data_vars:
-            return name, cast[name].values.astype(np.float64)
+            return name, cast.variables[name].values.astype(np.float64)
     raise SeaprofileError("cast has neither pressure nor depth")
 
 
 def scalar_coordinate(ds, name):
     """The scalar coordinate ``name`` of a Cast or Profile as a float; NaN without it."""
-    return float(ds[name]) if name in ds.coords else np.nan
+    return float(ds.variables[name].values) if name in ds.coords else np.nan
 
 
 def position(ds):

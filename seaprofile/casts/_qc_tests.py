@@ -299,7 +299,7 @@ def _vertical_span(ds, idx):
     """Vertical span, m (dbar without depth), of the levels ``idx``; 0 when unknown."""
     for name in ("depth", "pressure"):
         if name in ds.variables:
-            x = ds[name].values.astype(np.float64)[idx]
+            x = ds.variables[name].values.astype(np.float64)[idx]
             x = x[np.isfinite(x)]
             if x.size:
                 return float(x.max() - x.min())

@@ -15,7 +15,7 @@ import numpy as np
 
 from .. import _cf
 from .._validate import SeaprofileError
-from .flags import raise_flags
+from .flags import raise_where
 
 
 def _dim(ds):
@@ -58,6 +58,7 @@ class _Work:
         self.flags = {}
         self.summary = json.loads(ds.attrs.get("qc_summary", "{}") or "{}")
         self.examined = set()
+        self._values = {}
 
     def flag(self, var):
         if var not in self.flags:
@@ -65,16 +66,23 @@ class _Work:
         return self.flags[var]
 
     def usable(self, var):
-        """Values of ``var`` and where they are finite and not flagged 3, 4, 8 or 9."""
-        values = self.ds.variables[var].values.astype(np.float64)
-        return values, np.isfinite(values) & ~_NOT_MEASURED[
+        """Values of ``var`` and where they are finite and not flagged 3, 4, 8 or 9.
+
+        The values are read and converted once per run and handed out read-only (tests
+        never change them); the flags are looked at afresh on every call."""
+        if var not in self._values:
+            values = self.ds.variables[var].values.astype(np.float64)
+            values.flags.writeable = False
+            self._values[var] = (values, np.isfinite(values))
+        values, finite = self._values[var]
+        return values, finite & ~_NOT_MEASURED[
             self.flag(var).astype(np.int8, copy=False).view(np.uint8)
         ]
 
     def apply(self, hits, test, flag=_cf.BAD):
         entry = self.summary.setdefault(test, {})
         for var, mask in hits.items():
-            self.flags[var] = raise_flags(self.flag(var), np.where(mask, flag, 0))
+            self.flags[var] = raise_where(self.flag(var), mask, flag)
             entry[var] = entry.get(var, 0) + int(np.count_nonzero(mask))
             self.examined.add(var)
 

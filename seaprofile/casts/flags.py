@@ -12,15 +12,18 @@ flags of failed inputs on to them (used by quality control and despiking).
 
 from __future__ import annotations
 
+import numba
 import numpy as np
 
 from .. import _cf
 
-__all__ = ["raise_flags", "worst_flag", "derived_variables", "pass_on_failed"]
+__all__ = ["raise_flags", "raise_where", "worst_flag", "derived_variables", "pass_on_failed"]
 
 # severity rank indexed by the flag value 0..9 (6 and 7 are unused by Argo table 2)
 _RAISE_RANK = np.array([0, 1, 2, 4, 5, 3, 0, 0, 0, 0], dtype=np.int8)
 _DERIVED_RANK = np.array([0, 1, 2, 5, 6, 3, 0, 0, 4, 7], dtype=np.int8)
+# flags a test never changes (compile-time constants of the kernels below)
+_KEPT_A, _KEPT_B = _cf.ESTIMATED, _cf.MISSING
 
 
 def raise_flags(old, new):
@@ -41,9 +44,68 @@ def raise_flags(old, new):
     """
     old = np.asarray(old, dtype=np.int8)
     new = np.broadcast_to(np.asarray(new, dtype=np.int8), old.shape)
-    out = np.where(_RAISE_RANK[new] > _RAISE_RANK[old], new, old)
-    out = np.where((old == _cf.ESTIMATED) | (old == _cf.MISSING), old, out)
-    return out.astype(np.int8)
+    _check_flag_values(old, "old")
+    _check_flag_values(new, "new")
+    out = _raise_kernel(old.ravel(), np.ascontiguousarray(new).ravel(), _RAISE_RANK)
+    return out.reshape(old.shape)
+
+
+def raise_where(old, mask, flag):
+    """:func:`raise_flags` of ``old`` and ``flag`` where ``mask``, 0 elsewhere (one pass).
+
+    Parameters
+    ----------
+    old : numpy.ndarray of int8
+        Current Argo flags (0..9), 1-D.
+    mask : numpy.ndarray of bool
+        Where the test failed, same shape.
+    flag : int
+        The flag the test gives a failure (0..9).
+
+    Returns
+    -------
+    numpy.ndarray of int8
+        Equal to ``raise_flags(old, numpy.where(mask, flag, 0))``.
+    """
+    old = np.ascontiguousarray(old, dtype=np.int8)
+    _check_flag_values(old, "old")
+    if not 0 <= int(flag) <= 9:
+        raise ValueError(f"flag must be an Argo flag 0..9, got {flag}")
+    return _raise_where_kernel(
+        old, np.ascontiguousarray(mask, dtype=np.bool_), np.int8(flag), _RAISE_RANK
+    )
+
+
+def _check_flag_values(flags, name):
+    """Flags outside 0..9 have no severity: an error naming the argument."""
+    if flags.size and (flags.min() < 0 or flags.max() > 9):
+        raise ValueError(f"{name}: Argo flags are 0..9, got values outside that range")
+
+
+@numba.njit(cache=True, nogil=True)
+def _raise_kernel(old, new, rank):
+    """One pass of :func:`raise_flags` over 1-D int8 flags (values checked to be 0..9)."""
+    out = np.empty(old.size, np.int8)
+    for i in range(old.size):
+        o = old[i]
+        if o == _KEPT_A or o == _KEPT_B or rank[new[i]] <= rank[o]:
+            out[i] = o
+        else:
+            out[i] = new[i]
+    return out
+
+
+@numba.njit(cache=True, nogil=True)
+def _raise_where_kernel(old, mask, flag, rank):
+    """:func:`_raise_kernel` with ``new = flag where mask else 0``."""
+    out = np.empty(old.size, np.int8)
+    for i in range(old.size):
+        o = old[i]
+        if mask[i] and o != _KEPT_A and o != _KEPT_B and rank[flag] > rank[o]:
+            out[i] = flag
+        else:
+            out[i] = o
+    return out
 
 
 def worst_flag(*flags):
@@ -80,7 +142,7 @@ def derived_variables(ds):
     """
     out = []
     for var in ds.data_vars:
-        named = str(ds[var].attrs.get("derived_from", "")).split()
+        named = str(ds.variables[var].attrs.get("derived_from", "")).split()
         if not named and var == "salinity" and "conductivity" in ds.data_vars:
             named = ["conductivity", "temperature", "pressure"]
         if not named and var == "sound_speed" and ds.attrs.get("equation", "") != "measured":
@@ -118,6 +180,6 @@ def pass_on_failed(ds, flag):
     out = {}
     for var, inputs in pairs:
         src = worst_flag(*[out[v] if v in out else flag(v) for v in inputs])
-        failed = np.isin(src, _cf.FAILED_FLAGS)
+        failed = _cf.flags_in(src, _cf.FAILED_FLAGS)
         out[var] = raise_flags(out[var] if var in out else flag(var), np.where(failed, src, 0))
     return out

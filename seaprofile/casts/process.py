@@ -46,6 +46,7 @@ __all__ = [
     "remove_soak",
     "select_direction",
     "remove_reversals",
+    "select_descent",
     "add_salinity",
     "salinity_and_flags",
     "replace_salinity",
@@ -79,7 +80,11 @@ def _selection_vertical(cast):
     name, v = vertical(cast)
     low, high = GLOBAL_RANGE[name]
     with np.errstate(invalid="ignore"):
-        bad = (v < low) | (v > high) | np.isin(cast[f"{name}_qc"].values, _cf.UNUSABLE_FLAGS)
+        bad = (
+            (v < low)
+            | (v > high)
+            | _cf.flags_in(cast.variables[f"{name}_qc"].values, _cf.UNUSABLE_FLAGS)
+        )
     return np.where(bad, np.nan, v), bad
 
 
@@ -113,6 +118,12 @@ def remove_soak(cast, *, max_soak_pressure=20.0, min_rise=2.0):
     """
     require_cast(cast)
     v, _ = _selection_vertical(cast)
+    start, params = _soak_start(v, max_soak_pressure, min_rise)
+    return _select(cast, slice(start, None), "remove_soak", **params)
+
+
+def _soak_start(v, max_soak_pressure=20.0, min_rise=2.0):
+    """:func:`remove_soak` on the selection vertical ``v``: (first kept index, record)."""
     turn = _turn(v)
     head = v[: turn + 1]
     # shallowest pressure of the rest of the descent, seen from each sample
@@ -123,15 +134,13 @@ def remove_soak(cast, *, max_soak_pressure=20.0, min_rise=2.0):
     first = int(risen[-1]) + 1 if risen.size else 0
     segment = np.where(np.isfinite(head[first:]), head[first:], np.inf)
     start = first + int(np.argmin(segment))
-    return _select(
-        cast,
-        slice(start, None),
-        "remove_soak",
-        max_soak_pressure=max_soak_pressure,
-        min_rise=min_rise,
-        removed_samples=start,
-        first_kept_sample=start,
-    )
+    params = {
+        "max_soak_pressure": max_soak_pressure,
+        "min_rise": min_rise,
+        "removed_samples": start,
+        "first_kept_sample": start,
+    }
+    return start, params
 
 
 def select_direction(cast, direction="down"):
@@ -152,16 +161,26 @@ def select_direction(cast, direction="down"):
         ``removed_samples``.
     """
     require_cast(cast)
+    _check_direction(direction)
+    v, _ = _selection_vertical(cast)
+    keep, params = _direction_keep(v, direction)
+    out = _select(cast, keep, "select_direction", **params)
+    out.attrs["cast_direction"] = direction
+    return out
+
+
+def _check_direction(direction):
     if direction not in ("down", "up", "both"):
         raise SeaprofileError(f"direction must be 'down', 'up' or 'both', got {direction!r}")
-    v, _ = _selection_vertical(cast)
+
+
+def _direction_keep(v, direction):
+    """:func:`select_direction` on the selection vertical ``v``: (slice kept, record)."""
     turn = _turn(v)
     n = v.size
     keep = {"down": slice(0, turn + 1), "up": slice(turn, n), "both": slice(0, n)}[direction]
     kept = len(range(*keep.indices(n)))
-    out = _select(cast, keep, "select_direction", direction=direction, removed_samples=n - kept)
-    out.attrs["cast_direction"] = direction
-    return out
+    return keep, {"direction": direction, "removed_samples": n - kept}
 
 
 def _rate(v, t, window):
@@ -211,7 +230,19 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
     """
     require_cast(cast)
     v, unusable = _selection_vertical(cast)
+    elapsed = (
+        cast.variables["elapsed_time"].values.astype(np.float64)
+        if "elapsed_time" in cast.data_vars
+        else None
+    )
     direction = cast.attrs.get("cast_direction", "down")
+    keep, params = _reversal_keep(v, unusable, direction, elapsed, min_descent_rate, rate_window)
+    return _select(cast, keep, "remove_reversals", **params)
+
+
+def _reversal_keep(v, unusable, direction, elapsed, min_descent_rate=0.25, rate_window=1.0):
+    """:func:`remove_reversals` on the selection vertical ``v`` and ``elapsed`` time (s,
+    or None): (indices kept, record)."""
     n = v.size
     sign = np.full(n, -1.0 if direction == "up" else 1.0)
     if direction == "both":
@@ -223,21 +254,66 @@ def remove_reversals(cast, min_descent_rate=0.25, *, rate_window=1.0):
     else:
         keep = exceeds_earlier(sign * v)
     slow = np.zeros(n, bool)
-    if min_descent_rate is not None and "elapsed_time" in cast.data_vars:
-        rate = sign * _rate(v, cast["elapsed_time"].values.astype(np.float64), rate_window)
+    if min_descent_rate is not None and elapsed is not None:
+        rate = sign * _rate(v, elapsed, rate_window)
         with np.errstate(invalid="ignore"):
             slow = keep & (rate < min_descent_rate)
         keep &= ~slow
     keep |= unusable  # not judged here: quality control flags them with the reason
-    return _select(
-        cast,
-        np.flatnonzero(keep),
-        "remove_reversals",
-        min_descent_rate=min_descent_rate,
-        removed_samples=int(n - keep.sum()),
-        slow_samples=int(slow.sum()),
-        kept_unusable_vertical=int(unusable.sum()),
-    )
+    params = {
+        "min_descent_rate": min_descent_rate,
+        "removed_samples": int(n - keep.sum()),
+        "slow_samples": int(slow.sum()),
+        "kept_unusable_vertical": int(unusable.sum()),
+    }
+    return np.flatnonzero(keep), params
+
+
+def select_descent(cast, direction="down", *, soak=True):
+    """:func:`remove_soak` (when ``soak``), :func:`select_direction` and
+    :func:`remove_reversals` (default arguments) in one selection.
+
+    The three steps are worked out on the indices of the samples and the Cast is cut
+    once: the result, its attributes and its ``processing_steps`` are those of calling
+    the three in turn.
+
+    Parameters
+    ----------
+    cast : xarray.Dataset
+        A Cast (not modified).
+    direction : {"down", "up", "both"}
+        As for :func:`select_direction`.
+    soak : bool
+        Leave out the surface soak first (not for expendable probes, which have none).
+
+    Returns
+    -------
+    xarray.Dataset
+        The selected samples.
+    """
+    require_cast(cast)
+    _check_direction(direction)
+    v, unusable = _selection_vertical(cast)
+    idx = np.arange(v.size)
+    attrs = dict(cast.attrs)
+    if soak:
+        start, params = _soak_start(v)
+        idx = idx[start:]
+        attrs = _cf.record_step(attrs, "remove_soak", **params)
+    keep, params = _direction_keep(v[idx], direction)
+    idx = idx[keep]
+    attrs = _cf.record_step(attrs, "select_direction", **params)
+    attrs["cast_direction"] = direction
+    elapsed = None
+    if "elapsed_time" in cast.data_vars:
+        elapsed = cast.variables["elapsed_time"].values[idx].astype(np.float64)
+    keep, params = _reversal_keep(v[idx], unusable[idx], direction, elapsed)
+    idx = idx[keep]
+    attrs = _cf.record_step(attrs, "remove_reversals", **params)
+    contiguous = idx.size > 0 and idx[-1] - idx[0] + 1 == idx.size
+    out = cast.isel(sample=slice(int(idx[0]), int(idx[-1]) + 1) if contiguous else idx)
+    out.attrs = attrs
+    return out
 
 
 # --- derived variables -----------------------------------------------------------------
@@ -277,9 +353,10 @@ def salinity_and_flags(cast):
         if v not in cast.data_vars:
             raise SeaprofileError(f"cast needs {v} to compute salinity from conductivity")
     values = np.asarray(
-        salinity_from_conductivity(*[cast[v].values for v in SALINITY_INPUTS]), dtype=np.float64
+        salinity_from_conductivity(*[cast.variables[v].values for v in SALINITY_INPUTS]),
+        dtype=np.float64,
     )
-    flags = worst_flag(*[cast[f"{v}_qc"].values for v in SALINITY_INPUTS])
+    flags = worst_flag(*[cast.variables[f"{v}_qc"].values for v in SALINITY_INPUTS])
     return values, np.where(np.isfinite(values), flags, _cf.MISSING).astype(np.int8)
 
 
@@ -352,25 +429,25 @@ def add_depth(cast, latitude=None, method="unesco1983"):
     lat = cast_latitude(cast, latitude)
     if "pressure" in cast.data_vars:
         with np.errstate(over="ignore", invalid="ignore"):  # wild values: flagged by QC
-            z = depth_from_pressure(cast["pressure"].values, lat, method)
+            z = depth_from_pressure(cast.variables["pressure"].values, lat, method)
         out = with_variable(
             cast,
             "sample",
             "depth",
             z,
-            cast["pressure_qc"].values.copy(),
+            cast.variables["pressure_qc"].values.copy(),
             comment=f"from pressure, method {method}",
         )
         src = "pressure"
     elif "depth" in cast.data_vars:
         with np.errstate(over="ignore", invalid="ignore"):
-            p = pressure_from_depth(cast["depth"].values, lat, method)
+            p = pressure_from_depth(cast.variables["depth"].values, lat, method)
         out = with_variable(
             cast,
             "sample",
             "pressure",
             p,
-            cast["depth_qc"].values.copy(),
+            cast.variables["depth_qc"].values.copy(),
             comment=f"from depth, method {method}",
         )
         src = "depth"
@@ -417,11 +494,11 @@ def replace_salinity(cast, salinity, *, where="bad"):
         raise SeaprofileError(f"where must be 'bad' or 'all', got {where!r}")
     if "depth" not in cast.data_vars:
         raise SeaprofileError("cast has no depth: run add_depth(cast, latitude=...) first")
-    values, desc = assumed_salinity(cast["depth"].values, salinity)
+    values, desc = assumed_salinity(cast.variables["depth"].values, salinity)
     n = cast.sizes["sample"]
     if "salinity" in cast.data_vars:
-        old = cast["salinity"].values.astype(np.float64)
-        old_flags = cast["salinity_qc"].values
+        old = cast.variables["salinity"].values.astype(np.float64)
+        old_flags = cast.variables["salinity_qc"].values
     else:
         old, old_flags = np.full(n, np.nan), np.full(n, _cf.MISSING, np.int8)
     if where == "all":

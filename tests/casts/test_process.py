@@ -1,8 +1,12 @@
 """Processing steps on a Cast: selection of samples, salinity, depth, despiking."""
 
+from unittest import mock
+
 import numpy as np
 import pytest
 import xarray as xr
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
@@ -262,3 +266,43 @@ def test_add_depth_gives_the_new_coordinate_its_own_flags():
     out = pr.add_depth(cast)
     out["depth_qc"].values[:] = 4
     assert (out["pressure_qc"].values == 0).all()
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    seed=st.integers(0, 2**32 - 1),
+    direction=st.sampled_from(["down", "up", "both"]),
+    soak=st.booleans(),
+    with_time=st.booleans(),
+    wild=st.booleans(),
+)
+def test_select_descent_is_the_three_selection_steps_in_turn(
+    seed, direction, soak, with_time, wild
+):
+    # internal consistency (no outside reference): the one-cut selection that
+    # build_profile uses must give the Dataset, attributes and processing_steps of
+    # remove_soak, select_direction and remove_reversals called one after the other
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(20, 400))
+    soak_part = rng.uniform(2, 8, n // 10)
+    down = np.linspace(0.5, rng.uniform(20, 500), n - n // 10)
+    p = np.concatenate([soak_part, down]) + rng.normal(0, 0.3, n)  # heave loops
+    p = np.concatenate([p, p[::-1][: n // 3]])  # and an upcast
+    if wild:
+        p[rng.integers(0, p.size, 3)] = [1e9, np.nan, -50.0]
+    m = p.size
+    cast = make_cast(
+        pressure=p,
+        temperature=np.linspace(20, 4, m),
+        salinity=np.full(m, 35.0),
+        elapsed_time=np.arange(m) * 0.25 if with_time else None,
+        latitude=10.0,
+    )
+    with mock.patch.object(_cf, "_now", lambda: "T"):  # the history's time stamps
+        steps = cast
+        if soak:
+            steps = pr.remove_soak(steps)
+        steps = pr.remove_reversals(pr.select_direction(steps, direction))
+        one = pr.select_descent(cast, direction, soak=soak)
+    xr.testing.assert_identical(one, steps)
+    assert one.attrs["processing_steps"] == steps.attrs["processing_steps"]
