@@ -265,11 +265,10 @@ def interpolated_levels(profile):
     """
     if "samples_per_bin" not in profile or "sound_speed_qc" not in profile:
         return 0, 0
-    inside = profile["depth"].values <= float(profile.attrs.get("cast_max_depth", np.inf))
+    v = profile.variables
+    inside = v["depth"].values <= float(profile.attrs.get("cast_max_depth", np.inf))
     filled = (
-        inside
-        & (profile["samples_per_bin"].values == 0)
-        & (profile["sound_speed_qc"].values == _cf.ESTIMATED)
+        inside & (v["samples_per_bin"].values == 0) & (v["sound_speed_qc"].values == _cf.ESTIMATED)
     )
     return int(filled.sum()), int(inside.sum())
 

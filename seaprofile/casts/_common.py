@@ -82,9 +82,9 @@ def usable_sound_speed(profile):
     numpy.ndarray of bool
         One value per depth level.
     """
-    c = np.asarray(profile["sound_speed"].values, np.float64)
+    c = np.asarray(profile.variables["sound_speed"].values, np.float64)
     f = (
-        profile["sound_speed_qc"].values
+        profile.variables["sound_speed_qc"].values
         if "sound_speed_qc" in profile
         else np.zeros(c.size, np.int8)
     )
