@@ -21,8 +21,8 @@ from .channels import (
     depth_excess,
     speed_at,
 )
-from .harmonic import _harmonic_value
-from .mixed import _crossing_numpy, _cutoff_numpy, _gradients_1d, _sonic_numpy
+from .harmonic import _harmonic_valid
+from .mixed import _crossing_numpy, _cutoff_numpy, _gradients_valid, _sonic_numpy
 
 __all__ = ["describe", "describe_dataset", "BAD_FLAGS"]
 
@@ -244,7 +244,7 @@ def describe(
     res.update(sonic_layer_depth=sld, sonic_layer_sound_speed=sld_c)
     if sld > zv[0]:
         res["surface_duct"] = True
-        g_in, g_below = _gradients_1d(50.0, c, z, sld)
+        g_in, g_below = _gradients_valid(50.0, zv, cv, sld)
         res.update(
             in_layer_gradient=g_in,
             below_layer_gradient=g_below,
@@ -257,7 +257,7 @@ def describe(
                 "sound speed increases to the deepest valid bin: the whole column is a surface duct"
             )
     else:
-        _, g_below = _gradients_1d(50.0, c, z, sld)
+        _, g_below = _gradients_valid(50.0, zv, cv, sld)
         res["below_layer_gradient"] = g_below
         notes.append("sound speed decreases from the surface: no surface duct")
 
@@ -318,9 +318,9 @@ def describe(
             )
     res["transducer_depth"] = float(transducer_depth)
     res["harmonic_mean_to_depth"] = lower
-    res["harmonic_mean_sound_speed"] = _harmonic_value(
-        c,
-        z,
+    res["harmonic_mean_sound_speed"] = _harmonic_valid(
+        zv,
+        cv,
         _scalar(as_float_array("top", transducer_depth)),
         _scalar(as_float_array("bottom", lower)),
     )
