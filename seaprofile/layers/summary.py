@@ -121,6 +121,34 @@ def _estimated_top_of(attrs, variables, z):
     return float(top)
 
 
+_DENSITY_HEAD = 128
+
+
+def _density_mixed_layer(temp, sal, pres, position, z):
+    """Density-criterion mixed layer depth and "reached the end", sigma0 computed only as
+    deep as the crossing needs.
+
+    sigma0 is point-wise (gsw), so its first ``_DENSITY_HEAD`` bins are the same numbers
+    as those of the whole column; the scan stops at the first crossing, so a crossing
+    found there (finite, not the end) is the whole column's. Otherwise the rest of the
+    column is computed and the whole scanned.
+    """
+    from ..seawater.state import _sigma0
+
+    def sigma(part):
+        return np.asarray(_sigma0(temp[part], sal[part], pres[part], *position), dtype=np.float64)
+
+    head = _DENSITY_HEAD
+    if not (z.size > head and temp.shape == sal.shape == pres.shape == z.shape):
+        return _crossing_numpy("potential_density", 0.03, 10.0, 1, sigma(...), z)
+    top = sigma(slice(None, head))
+    mld, end = _crossing_numpy("potential_density", 0.03, 10.0, 1, top, z[:head])
+    if not end and np.isfinite(mld):
+        return mld, end
+    whole = np.concatenate((top, sigma(slice(head, None))))
+    return _crossing_numpy("potential_density", 0.03, 10.0, 1, whole, z)
+
+
 def _num(x):
     if x is None:
         return None
@@ -215,8 +243,6 @@ def describe(
             )
     sal = _masked(variables, "salinity", ["salinity"], bad)
     if temp is not None and sal is not None and "pressure" in variables:
-        from ..seawater.state import _sigma0
-
         coords = profile.coords
         lat = float(variables["latitude"].values) if "latitude" in coords else np.nan
         lon = float(variables["longitude"].values) if "longitude" in coords else np.nan
@@ -230,8 +256,7 @@ def describe(
         _broadcast_shape(
             [("temperature", temp.shape), ("salinity", sal.shape), ("pressure", pres.shape)]
         )
-        sigma = np.asarray(_sigma0(temp, sal, pres, *position), dtype=np.float64)
-        mld, end = _crossing_numpy("potential_density", 0.03, 10.0, 1, sigma, z)
+        mld, end = _density_mixed_layer(temp, sal, pres, position, z)
         res["mixed_layer_depth_density"] = mld
         if end:
             notes.append(

@@ -86,6 +86,25 @@ def test_describe_same_for_byte_and_wide_integer_flags():
     assert layers.describe(wide) == layers.describe(prof)
 
 
+@pytest.mark.parametrize("mixed", [30.0, 400.0, None])
+def test_describe_density_mixed_layer_equals_the_public_functions(mixed):
+    # describe computes sigma0 only as deep as the crossing needs (first 128 bins, then
+    # the rest): the same number as gsw's sigma0 of the whole column through
+    # mixed_layer_depth_density, for a shallow layer, one deeper than 128 bins and a
+    # column that never crosses (de Boyer Montegut et al. 2004 criterion; exact equality)
+    from seaprofile.seawater.state import potential_density_anomaly
+
+    z = np.arange(0.0, 600.0, 1.0)  # uniform water: sigma0 rises 0.016 kg/m3 by 600 m
+    t = np.full(z.size, 12.0) if mixed is None else np.where(z <= mixed, 15.0, 10.0)
+    prof = make_profile(z, temperature=t, salinity=np.full(z.size, 35.0))
+    sigma = potential_density_anomaly(t, prof.salinity.values, prof.pressure.values, 45.0, -10.0)
+    want, end = layers.mixed_layer_depth_density(sigma, z, return_reached_end=True)
+    d = layers.describe(prof)
+    assert d["mixed_layer_depth_density"] == want
+    assert end == (mixed is None)
+    assert any("density never rises" in n for n in d["notes"]) == bool(end)
+
+
 def test_describe_estimated_bins():
     z = np.arange(0.0, 5001.0, 1.0)
     q = np.where(z > 4000.0, _cf.ESTIMATED, _cf.GOOD)
