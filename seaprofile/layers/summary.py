@@ -6,6 +6,8 @@ Bins flagged bad (Argo flags 3, 4 and 9) and NaN values are ignored.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import xarray as xr
 
@@ -153,7 +155,7 @@ def _num(x):
     if x is None:
         return None
     x = float(x)
-    return x if np.isfinite(x) else None
+    return x if math.isfinite(x) else None  # a Python float: no numpy call needed
 
 
 def describe(
