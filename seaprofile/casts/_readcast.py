@@ -14,7 +14,7 @@ import numpy as np
 from .. import _cf
 from .._validate import InputFileError, SeaprofileError
 from .columns import KIND, checked_time
-from .model import INSTRUMENTS, make_cast
+from .model import INSTRUMENTS, MEASURED, _build_cast
 from .xbt import DEFAULT_SALINITY, add_variable, assumed_salinity, complete_xbt_cast
 
 _CAST_KWARGS = {
@@ -100,8 +100,9 @@ def _finish(raw, path, *, instrument, latitude, longitude, salinity, fall_rate):
     extra = {k: v for k, v in meta.items() if k not in _CAST_KWARGS}
     try:
         name = meta.get("cast_name") or meta.get("profile_id") or file_stem(path)
-        cast = make_cast(
-            **raw.data,
+        cast = _build_cast(
+            {k: raw.data.get(k) for k in MEASURED},
+            flags=raw.flags,
             latitude=lat,
             longitude=lon,
             time=meta.get("time"),
@@ -109,14 +110,10 @@ def _finish(raw, path, *, instrument, latitude, longitude, salinity, fall_rate):
             cast_name=name,
             vessel=meta.get("vessel", ""),
             source_file=str(path),
-            **extra,
+            attrs=extra,
         )
     except SeaprofileError as exc:
         raise InputFileError(path, str(exc)) from None
-    for var in raw.data:
-        qc = raw.flags.get(var, np.zeros(cast.sizes["sample"], np.int8))
-        missing = ~np.isfinite(cast[var].values)
-        cast[f"{var}_qc"].values[...] = np.where(missing, _cf.MISSING, qc)
     cast.attrs["ignored_columns"] = ", ".join(raw.ignored)
     cast.attrs = _cf.record_step(
         cast.attrs,

@@ -26,7 +26,7 @@ _MAX_MANTISSA = 900719925474098  # m <= this keeps 10 * m + 9 below 2**53
 _FAILED = -1
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, inline="always")
 def _skip_blanks(buf, i, delim):
     n = buf.size
     while i < n and (buf[i] == 32 or buf[i] == 9) and buf[i] != delim:
@@ -34,7 +34,7 @@ def _skip_blanks(buf, i, delim):
     return i
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, inline="always")
 def _number(buf, i, pow10):
     """Parse one number at ``buf[i]``: (value, next index), or (0.0, _FAILED)."""
     n = buf.size

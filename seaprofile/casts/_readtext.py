@@ -46,23 +46,31 @@ _PLAIN = b"0123456789+-.eEnNaA \t\n"
 class _Table:
     """The rows of a text file: header, metadata and numbers (parsed at once when plain).
 
-    ``texts`` are the data lines (stripped in the careful path); ``lines`` their line
-    numbers in the file. ``plain`` is the whole numeric block as float64 when the one-call
-    parse succeeded (rows x columns), else None; ``rows`` (cells as text) are split only
-    when needed.
+    ``texts`` are the data lines (stripped in the careful path; in the fast path split from
+    the numeric block on first use); ``lines`` their line numbers in the file. ``plain`` is
+    the whole numeric block as float64 when the one-call parse succeeded (rows x columns),
+    else None; ``rows`` (cells as text) are split only when needed.
     """
 
     path: Path
     meta: dict  # key -> (value, line)
     headers: list
     header_line: int
-    texts: list  # the data lines
+    _texts: list | None  # the data lines (None: split from _block when needed)
     lines: np.ndarray  # line number of each row
     split: object  # list of lines -> list of lists of cells (str)
     plain: np.ndarray | None = None
     _rows: list | None = field(default=None, repr=False)
     encoding: str = "utf-8"
     decimal_comma: bool = False  # "1,5" is 1.5 (the delimiter is not a comma)
+    _block: str | None = field(default=None, repr=False)  # the data lines joined by "\n"
+
+    @property
+    def texts(self):
+        """The data lines, a :class:`_Lines` (split from the block on first use)."""
+        if self._texts is None:
+            self._texts = _Lines(self._block.split("\n"), self.lines)
+        return self._texts
 
     @property
     def rows(self):
@@ -116,8 +124,9 @@ def _cells_to_numbers(path, cells, lines, label):
     return values
 
 
-def _plain_numbers(texts, delim, width):
-    """The numeric block parsed in one call, or None when it is not plain.
+def _plain_numbers(block, n_rows, delim, width):
+    """The numeric block (``n_rows`` lines joined by newlines) parsed in one call, or None
+    when it is not plain.
 
     Plain means: only the characters of :data:`_PLAIN` and the delimiter, no blank or
     comment lines between rows, every row ``width`` numbers. The compiled exact parser
@@ -125,24 +134,29 @@ def _plain_numbers(texts, delim, width):
     words, ragged rows, stray characters) returns None and the caller takes the careful
     path, so errors keep naming their line and column.
     """
-    block = "\n".join(texts)
     if not block.isascii():
         return None
     raw = block.encode("ascii")
     if raw.translate(None, _PLAIN + (delim or "").encode("ascii")):
         return None
     if width is None:  # no header: the first row tells (no quotes can occur here)
-        width = len(texts[0].split(delim) if delim else texts[0].split())
+        first = block.split("\n", 1)[0]
+        width = len(first.split(delim) if delim else first.split())
     values = parse_block(raw, delim, width)  # compiled, exact cases only
     if values is not None:
         return values
     try:
         values = np.loadtxt(
-            texts, dtype=np.float64, delimiter=delim, comments=None, quotechar=None, ndmin=2
+            block.split("\n"),
+            dtype=np.float64,
+            delimiter=delim,
+            comments=None,
+            quotechar=None,
+            ndmin=2,
         )
     except ValueError:
         return None
-    if values.shape[0] != len(texts) or (width is not None and values.shape[1] != width):
+    if values.shape[0] != n_rows or (width is not None and values.shape[1] != width):
         return None
     return values
 
@@ -156,14 +170,16 @@ _BOMS = (
 )
 #: control characters that never occur in a text cast (tab, newline, carriage return are fine)
 _CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+#: the same characters as bytes: in UTF-8 they are these bytes and no others are them
+_CONTROL_BYTES = bytes([*range(0x00, 0x09), 0x0B, 0x0C, *range(0x0E, 0x20), 0x7F])
 _DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+$")
 
 
 def _utf16_without_bom(raw):
     """'utf-16-le'/'utf-16-be' when every other byte is NUL (ASCII text in UTF-16), else None."""
-    even, odd = raw[0::2], raw[1::2]
-    if len(raw) < 4 or len(raw) % 2:
+    if len(raw) < 4 or len(raw) % 2 or b"\x00" not in raw:  # no NUL: not UTF-16 ASCII
         return None
+    even, odd = raw[0::2], raw[1::2]
     if odd.count(0) == len(odd) and even.count(0) == 0:
         return "utf-16-le"
     if even.count(0) == len(even) and odd.count(0) == 0:
@@ -185,7 +201,11 @@ def _decode(path, raw):
             f"(undecodable byte at offset {exc.start}); save it as UTF-8",
             line,
         ) from None
-    bad = _CONTROL.search(text)
+    # UTF-8 text holds a control character exactly where its bytes hold one (one byte
+    # deletion pass instead of the slower regular-expression scan); the search then finds it
+    utf8 = enc in (None, "utf-8-sig")
+    clean = utf8 and len(raw.translate(None, _CONTROL_BYTES)) == len(raw)
+    bad = None if clean else _CONTROL.search(text)
     if bad:
         line = text.count("\n", 0, bad.start()) + 1
         raise InputFileError(
@@ -232,7 +252,7 @@ class _Lines(list):
 
     def __init__(self, items, numbers):
         super().__init__(items)
-        self.numbers = list(numbers)
+        self.numbers = numbers if isinstance(numbers, np.ndarray) else list(numbers)
 
     def line_of(self, k):
         return int(self.numbers[k]) if k < len(self.numbers) else None
@@ -244,9 +264,12 @@ def _parse_text(path, delimiter, header=None):
     text, encoding = _decode(path, path.read_bytes())
     if not text.strip():
         raise InputFileError(path, "the file is empty")
-    all_lines = text.replace("\r\n", "\n").replace("\r", "\n").split("\n")
+    if "\r" in text:
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
     meta, head, start, notes = {}, None, None, []
-    for i, line in enumerate(all_lines):  # metadata and header: stop at the first data row
+    # metadata and header, line by line: stop at the first data row (the numeric block
+    # after it is split into lines only where needed)
+    for i, offset, line in _numbered_lines(text):
         s = line.strip()
         if not s:
             continue
@@ -260,15 +283,15 @@ def _parse_text(path, delimiter, header=None):
         if head is None and header:
             head = (i + 1, s)
         else:
-            start = i
+            start, start_offset, start_text = i, offset, s
             break
     _own_attributes(meta, notes)
     if header is not False and head is None and start is None:
-        raise InputFileError(path, "no header row (only comment lines)", len(all_lines))
+        raise InputFileError(path, "no header row (only comment lines)", text.count("\n") + 1)
     if start is None:
         where = head[0] if head else None
         raise InputFileError(path, "no data rows" + (" after the header" if head else ""), where)
-    delim = _delimiter(path, delimiter, head[1] if head else all_lines[start].strip())
+    delim = _delimiter(path, delimiter, head[1] if head else start_text)
     split = _splitter(path, delim)
     headers = None
     if head:
@@ -277,28 +300,28 @@ def _parse_text(path, delimiter, header=None):
             if not h:
                 raise InputFileError(path, "empty header cell", head[0], j + 1)
     header_line = head[0] if head else 0
-    texts = all_lines[start:]
-    while not texts[-1].strip():  # trailing blank lines
-        texts.pop()
-    plain = _plain_numbers(texts, delim, len(headers) if headers else None)
+    block = _without_trailing_blank_lines(text[start_offset:])
+    n_rows = block.count("\n") + 1
+    plain = _plain_numbers(block, n_rows, delim, len(headers) if headers else None)
     if plain is not None:  # fast path: consecutive plain rows
         headers = headers or [f"column {j + 1}" for j in range(plain.shape[1])]
-        lines = np.arange(start + 1, start + 1 + len(texts), dtype=np.int64)
+        lines = np.arange(start + 1, start + 1 + n_rows, dtype=np.int64)
         return _Table(
             path,
             meta,
             headers,
             header_line,
-            _Lines(texts, lines),
+            None,
             lines,
             split,
             plain,
             encoding=encoding,
             decimal_comma=delim != ",",
+            _block=block,
         )
     # careful path: blank and comment lines skipped, every row checked
     rows, lines = [], []
-    for i, line in enumerate(texts, start + 1):
+    for i, line in enumerate(block.split("\n"), start + 1):
         s = line.strip()
         if s and not s.startswith("#"):
             rows.append(s)
@@ -332,6 +355,21 @@ def _parse_text(path, delimiter, header=None):
         encoding=encoding,
         decimal_comma=delim != ",",
     )
+
+
+def _numbered_lines(text):
+    """``(index, offset, line)`` of each line of ``text`` (split at "\\n"), one at a time."""
+    i = pos = 0
+    while (end := text.find("\n", pos)) >= 0:
+        yield i, pos, text[pos:end]
+        i, pos = i + 1, end + 1
+    yield i, pos, text[pos:]
+
+
+def _without_trailing_blank_lines(rest):
+    """``rest`` up to the end of its last line that holds more than whitespace."""
+    cut = rest.find("\n", len(rest.rstrip()))
+    return rest if cut < 0 else rest[:cut]
 
 
 def _delimiter(path, given, line):

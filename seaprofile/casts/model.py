@@ -87,6 +87,37 @@ def make_cast(
         "measured_sound_speed": measured_sound_speed,
         "elapsed_time": elapsed_time,
     }
+    return _build_cast(
+        given,
+        latitude=latitude,
+        longitude=longitude,
+        time=time,
+        instrument=instrument,
+        cast_name=cast_name,
+        vessel=vessel,
+        source_file=source_file,
+        attrs=attrs,
+    )
+
+
+def _build_cast(
+    given,
+    *,
+    flags=None,
+    latitude,
+    longitude,
+    time,
+    instrument,
+    cast_name,
+    vessel,
+    source_file,
+    attrs,
+):
+    """The work of :func:`make_cast` (``given``: its measured arguments, in its order).
+
+    ``flags`` (the readers): variable -> the Argo flags read with it; every variable then
+    gets them (0 where none were read) with its NaN values flagged 9 (missing).
+    """
     given = {k: v for k, v in given.items() if v is not None}
     if not given:
         raise SeaprofileError("a cast needs at least one measured variable")
@@ -102,14 +133,21 @@ def make_cast(
             n = arr.size
         elif arr.size != n:
             raise SeaprofileError(f"{name} has {arr.size} samples, expected {n}")
-        data_vars[name] = ("sample", arr, _cf.attrs_for(name, ancillary_variables=f"{name}_qc"))
-        data_vars[f"{name}_qc"] = ("sample", np.zeros(n, np.int8), _cf.flag_attrs(name))
+        data_vars[name] = xr.Variable(
+            "sample", arr, _cf.attrs_for(name, ancillary_variables=f"{name}_qc")
+        )
+        data_vars[f"{name}_qc"] = xr.Variable("sample", np.zeros(n, np.int8), _cf.flag_attrs(name))
     t = checked_time(time)
+    if flags is not None:
+        for name in given:
+            qc = flags.get(name, np.zeros(n, np.int8))
+            missing = ~np.isfinite(data_vars[name].values)
+            data_vars[f"{name}_qc"].values[...] = np.where(missing, _cf.MISSING, qc)
     coords = {
-        "latitude": ((), float(latitude), _cf.attrs_for("latitude")),
-        "longitude": ((), float(longitude), _cf.attrs_for("longitude")),
-        "time": ((), t, _cf.attrs_for("time")),
-        "profile_id": ((), str(cast_name), _cf.attrs_for("profile_id")),
+        "latitude": xr.Variable((), float(latitude), _cf.attrs_for("latitude")),
+        "longitude": xr.Variable((), float(longitude), _cf.attrs_for("longitude")),
+        "time": _time_variable(t, _cf.attrs_for("time")),
+        "profile_id": xr.Variable((), str(cast_name), _cf.attrs_for("profile_id")),
     }
     global_attrs = _cf.base_attrs(
         featureType="profile",
@@ -120,7 +158,31 @@ def make_cast(
         title=f"{instrument.upper()} cast {cast_name}",
     )
     global_attrs.update(attrs)
-    return xr.Dataset(data_vars, coords=coords, attrs=global_attrs)
+    return _dataset(data_vars, coords, global_attrs)
+
+
+def _time_variable(t, attrs):
+    """A scalar time Variable; a datetime64[ns] value is taken as it is (xarray would only
+    round-trip it through pandas to the same value)."""
+    t = np.asarray(t)
+    if t.dtype == np.dtype("datetime64[ns]") and t.ndim == 0:
+        return xr.Variable((), t, attrs, fastpath=True)
+    return xr.Variable((), t, attrs)
+
+
+def _dataset(data_vars, coords, attrs):
+    """``xr.Dataset(data_vars, coords=coords, attrs=attrs)`` for ``xr.Variable`` objects
+    whose sizes agree and with no dimension coordinate (a Cast's layout).
+
+    Such variables need none of the merging and alignment of the public constructor, so
+    they go to xarray's direct constructor (the same Dataset, checked in
+    ``tests/casts/test_read.py``); the public one is used where that is missing.
+    """
+    construct = getattr(xr.Dataset, "_construct_direct", None)
+    dims = {d for v in (*data_vars.values(), *coords.values()) for d in v.dims}
+    if construct is None or dims & {*data_vars, *coords}:
+        return xr.Dataset(data_vars, coords=coords, attrs=attrs)
+    return construct({**data_vars, **coords}, set(coords), attrs=dict(attrs))
 
 
 def measured_variables(cast):

@@ -75,6 +75,11 @@ def _harmonic_1d(sound_speed, depth, top, bottom):
 
 def _harmonic_value(sound_speed, depth, top, bottom):
     z, c = _valid_1d(depth, sound_speed)
+    return _harmonic_valid(z, c, top, bottom)
+
+
+def _harmonic_valid(z, c, top, bottom):
+    """The harmonic mean of one profile's valid samples (``_valid_1d``'s output)."""
     t = as_float_array("top", top)
     b = as_float_array("bottom", bottom)
     t, b = np.broadcast_arrays(t, b)

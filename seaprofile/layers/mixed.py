@@ -131,6 +131,10 @@ def _rows(name, values, depth):
     z = as_float_array("depth", depth)
     if v.ndim == 0 or v.shape[-1] < 2:
         raise SeaprofileError(f"{name} needs at least two samples along its last axis")
+    if v.ndim == 1 and z.shape == v.shape:  # one profile: read-only views, no broadcast
+        if not np.all(np.diff(z) > 0):
+            raise SeaprofileError("depth must be strictly increasing along the last axis")
+        return _readonly_row(v), _readonly_row(z), ()
     try:
         shape = np.broadcast_shapes(v.shape, z.shape)
         if shape[-1] != v.shape[-1]:
@@ -148,6 +152,16 @@ def _rows(name, values, depth):
         np.ascontiguousarray(zz),
         shape[:-1],
     )
+
+
+def _readonly_row(a):
+    """One profile as a read-only ``(1, n)`` C-contiguous row (the broadcast rows' type,
+    so the kernels keep one compiled signature)."""
+    row = np.ascontiguousarray(a).reshape(1, -1)
+    if row.base is None or row.flags.writeable:
+        row = row.view()
+        row.flags.writeable = False
+    return row
 
 
 _END_ATTRS = {
@@ -419,6 +433,11 @@ def layer_gradients(sound_speed, depth, layer_depth, *, below_thickness=50.0, di
 
 def _gradients_1d(below_thickness, sound_speed, depth, layer_depth):
     z, c = _valid_1d(depth, sound_speed)
+    return _gradients_valid(below_thickness, z, c, layer_depth)
+
+
+def _gradients_valid(below_thickness, z, c, layer_depth):
+    """:func:`layer_gradients` of one profile's valid samples (``_valid_1d``'s output)."""
     if not np.isfinite(layer_depth):
         return np.nan, np.nan
     inside = z <= layer_depth

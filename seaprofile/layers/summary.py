@@ -6,20 +6,25 @@ Bins flagged bad (Argo flags 3, 4 and 9) and NaN values are ignored.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import xarray as xr
 
 from .. import _cf
-from .._validate import SeaprofileError
-from .channels import critical_depth, depth_excess, sound_channels, speed_at
-from .harmonic import harmonic_mean_sound_speed
-from .mixed import (
-    duct_cutoff_frequency,
-    layer_gradients,
-    mixed_layer_depth,
-    mixed_layer_depth_density,
-    sonic_layer_depth,
+from .._validate import SeaprofileError, as_float_array, check_position
+from ..seawater._apply import _broadcast_shape
+from ._common import _flag_table, _in_flags, _scalar
+from .channels import (
+    _CHANNEL_KEYS,
+    _channels_rows,
+    _critical_rows,
+    critical_depth,
+    depth_excess,
+    speed_at,
 )
+from .harmonic import _harmonic_valid
+from .mixed import _crossing_numpy, _cutoff_numpy, _gradients_valid, _sonic_numpy
 
 __all__ = ["describe", "describe_dataset", "BAD_FLAGS"]
 
@@ -65,24 +70,52 @@ _UNITS = {k: v[0] for k, v in _FIELDS.items()}
 _LONG_NAMES = {k: v[1] for k, v in _FIELDS.items()}
 
 
-def _masked(profile, name, flags, include_estimated):
-    if name not in profile:
-        return None
-    v = np.array(profile[name].values, dtype=np.float64, copy=True)
-    bad = _cf.UNUSABLE_FLAGS if include_estimated else _cf.NOT_MEASURED_FLAGS
-    for f in flags:
+_UNUSABLE_TABLE = _flag_table(_cf.UNUSABLE_FLAGS)
+_NOT_MEASURED_TABLE = _flag_table(_cf.NOT_MEASURED_FLAGS)
+
+
+def _bad_masks(variables, include_estimated):
+    """Flag variable -> where its bins are unusable, for the flags ``describe`` reads."""
+    bad, table = (
+        (_cf.UNUSABLE_FLAGS, _UNUSABLE_TABLE)
+        if include_estimated
+        else (_cf.NOT_MEASURED_FLAGS, _NOT_MEASURED_TABLE)
+    )
+    out = {}
+    for f in ("sound_speed", "temperature", "salinity"):
         q = f"{f}_qc"
-        if q in profile:
-            v[np.isin(np.asarray(profile[q].values), bad)] = np.nan
+        if q in variables:
+            out[f] = _in_flags(variables[q].values, bad, table)
+    return out
+
+
+def _masked(variables, name, flags, bad):
+    """Values of ``name`` as a float64 copy, NaN where any of ``flags`` is bad."""
+    if name not in variables:
+        return None
+    v = np.array(variables[name].values, dtype=np.float64, copy=True)
+    for f in flags:
+        if f in bad:
+            v[bad[f]] = np.nan
     return v
 
 
 def _estimated_top(profile):
     """Depth below which the Profile was extended (``cast_max_depth``), or None."""
-    z = np.asarray(profile["depth"].values, dtype=np.float64)
-    top = profile.attrs.get("cast_max_depth")
-    if top is None and "sound_speed_qc" in profile:
-        q = np.asarray(profile["sound_speed_qc"].values)
+    return _estimated_top_of(profile.attrs, profile.variables, _depth(profile))
+
+
+def _depth(profile):
+    """The Profile's depth as float64 (its coordinate, or the dimension's 0, 1, ...)."""
+    variables = profile.variables
+    d = variables["depth"] if "depth" in variables else profile["depth"]
+    return np.asarray(d.values, dtype=np.float64)
+
+
+def _estimated_top_of(attrs, variables, z):
+    top = attrs.get("cast_max_depth")
+    if top is None and "sound_speed_qc" in variables:
+        q = np.asarray(variables["sound_speed_qc"].values)
         measured = z[q != _cf.ESTIMATED]
         top = measured.max() if measured.size else None
     if top is None or not np.any(z > float(top)):
@@ -90,11 +123,39 @@ def _estimated_top(profile):
     return float(top)
 
 
+_DENSITY_HEAD = 128
+
+
+def _density_mixed_layer(temp, sal, pres, position, z):
+    """Density-criterion mixed layer depth and "reached the end", sigma0 computed only as
+    deep as the crossing needs.
+
+    sigma0 is point-wise (gsw), so its first ``_DENSITY_HEAD`` bins are the same numbers
+    as those of the whole column; the scan stops at the first crossing, so a crossing
+    found there (finite, not the end) is the whole column's. Otherwise the rest of the
+    column is computed and the whole scanned.
+    """
+    from ..seawater.state import _sigma0
+
+    def sigma(part):
+        return np.asarray(_sigma0(temp[part], sal[part], pres[part], *position), dtype=np.float64)
+
+    head = _DENSITY_HEAD
+    if not (z.size > head and temp.shape == sal.shape == pres.shape == z.shape):
+        return _crossing_numpy("potential_density", 0.03, 10.0, 1, sigma(...), z)
+    top = sigma(slice(None, head))
+    mld, end = _crossing_numpy("potential_density", 0.03, 10.0, 1, top, z[:head])
+    if not end and np.isfinite(mld):
+        return mld, end
+    whole = np.concatenate((top, sigma(slice(head, None))))
+    return _crossing_numpy("potential_density", 0.03, 10.0, 1, whole, z)
+
+
 def _num(x):
     if x is None:
         return None
     x = float(x)
-    return x if np.isfinite(x) else None
+    return x if math.isfinite(x) else None  # a Python float: no numpy call needed
 
 
 def describe(
@@ -145,11 +206,13 @@ def describe(
         raise SeaprofileError("profile must be a Profile Dataset with a 'depth' dimension")
     if "sound_speed" not in profile:
         raise SeaprofileError("profile has no 'sound_speed' variable")
-    z = np.asarray(profile["depth"].values, dtype=np.float64)
-    c = _masked(
-        profile, "sound_speed", ["sound_speed", "temperature", "salinity"], include_estimated
-    )
-    temp = _masked(profile, "temperature", ["temperature"], include_estimated)
+    # numpy arrays read once (each ``profile[name]`` builds a DataArray); the numpy layer
+    # of each diagnostic is called directly: the inputs are float64 arrays along depth
+    variables = profile.variables
+    z = _depth(profile)
+    bad = _bad_masks(variables, include_estimated)
+    c = _masked(variables, "sound_speed", ["sound_speed", "temperature", "salinity"], bad)
+    temp = _masked(variables, "temperature", ["temperature"], bad)
     notes = []
     res = {k: None for k in _UNITS}
     res.update(
@@ -173,32 +236,29 @@ def describe(
 
     # mixed layer
     if temp is not None:
-        mld, end = mixed_layer_depth(temp, z, return_reached_end=True)
+        mld, end = _crossing_numpy("temperature", 0.2, 10.0, 0, temp, z)
         res["mixed_layer_depth_temperature"] = mld
         if end:
             notes.append(
                 "temperature never departs 0.2 degC from its 10 m value: the mixed "
                 "layer reaches the deepest valid bin (a lower bound)"
             )
-    sal = _masked(profile, "salinity", ["salinity"], include_estimated)
-    if temp is not None and sal is not None and "pressure" in profile:
-        from ..seawater.state import potential_density_anomaly
-
-        lat = float(profile["latitude"]) if "latitude" in profile.coords else np.nan
-        lon = float(profile["longitude"]) if "longitude" in profile.coords else np.nan
+    sal = _masked(variables, "salinity", ["salinity"], bad)
+    if temp is not None and sal is not None and "pressure" in variables:
+        coords = profile.coords
+        lat = float(variables["latitude"].values) if "latitude" in coords else np.nan
+        lon = float(variables["longitude"].values) if "longitude" in coords else np.nan
         # TEOS-10 needs both coordinates for absolute salinity; with one unknown (a
         # latitude alone is common), reference salinity is used, as for no position
         known = bool(np.isfinite(lat) and np.isfinite(lon))
-        sigma = potential_density_anomaly(
-            temp,
-            sal,
-            np.asarray(profile["pressure"].values, dtype=np.float64),
-            lat if known else None,
-            lon if known else None,
+        pres = np.asarray(variables["pressure"].values, dtype=np.float64)
+        position = (
+            (check_position("latitude", lat), check_position("longitude", lon)) if known else ()
         )
-        mld, end = mixed_layer_depth_density(
-            np.asarray(sigma, dtype=np.float64), z, return_reached_end=True
+        _broadcast_shape(
+            [("temperature", temp.shape), ("salinity", sal.shape), ("pressure", pres.shape)]
         )
+        mld, end = _density_mixed_layer(temp, sal, pres, position, z)
         res["mixed_layer_depth_density"] = mld
         if end:
             notes.append(
@@ -207,27 +267,29 @@ def describe(
             )
 
     # sonic layer, gradients, surface duct
-    sld, sld_c, sld_end = sonic_layer_depth(c, z, return_reached_end=True)
+    sld, sld_c, sld_end = _sonic_numpy(0.2, c, z)
     res.update(sonic_layer_depth=sld, sonic_layer_sound_speed=sld_c)
     if sld > zv[0]:
         res["surface_duct"] = True
-        g_in, g_below = layer_gradients(c, z, sld)
+        g_in, g_below = _gradients_valid(50.0, zv, cv, sld)
         res.update(
             in_layer_gradient=g_in,
             below_layer_gradient=g_below,
-            duct_cutoff_frequency=duct_cutoff_frequency(sld, sld_c),
+            duct_cutoff_frequency=_cutoff_numpy(
+                as_float_array("layer_depth", sld), as_float_array("sound_speed", sld_c)
+            ),
         )
         if sld_end:
             notes.append(
                 "sound speed increases to the deepest valid bin: the whole column is a surface duct"
             )
     else:
-        _, g_below = layer_gradients(c, z, sld)
+        _, g_below = _gradients_valid(50.0, zv, cv, sld)
         res["below_layer_gradient"] = g_below
         notes.append("sound speed decreases from the surface: no surface duct")
 
     # channels
-    ch = sound_channels(c, z, below=sld, min_contrast=min_contrast)
+    ch = dict(zip(_CHANNEL_KEYS, _channels_rows(float(min_contrast), 10.0, c, z, sld)))
     res.update(
         channel_axis_depth=ch["axis_depth"],
         channel_axis_sound_speed=ch["axis_speed"],
@@ -243,8 +305,8 @@ def describe(
             "within the profile"
         )
     axis = ch["axis_depth"]
-    res["critical_depth_surface"] = critical_depth(c, z, cv[0], axis)
-    res["critical_depth_layer"] = critical_depth(c, z, sld_c, axis)
+    (res["critical_depth_surface"],) = _critical_rows(c, z, cv[0], axis)
+    (res["critical_depth_layer"],) = _critical_rows(c, z, sld_c, axis)
     if (
         np.isfinite(axis)
         and res["critical_depth_layer"] is not None
@@ -283,8 +345,13 @@ def describe(
             )
     res["transducer_depth"] = float(transducer_depth)
     res["harmonic_mean_to_depth"] = lower
-    res["harmonic_mean_sound_speed"] = harmonic_mean_sound_speed(c, z, transducer_depth, lower)
-    est_top = _estimated_top(profile)
+    res["harmonic_mean_sound_speed"] = _harmonic_valid(
+        zv,
+        cv,
+        _scalar(as_float_array("top", transducer_depth)),
+        _scalar(as_float_array("bottom", lower)),
+    )
+    est_top = _estimated_top_of(profile.attrs, variables, z)
     if include_estimated and est_top is not None:
         for k in ("critical_depth_surface", "critical_depth_layer", "channel_axis_depth"):
             v = res[k]

@@ -673,3 +673,32 @@ def test_utf16_json_is_json(tmp_path):
     path.write_bytes(write_json(cast, tmp_path / "cast.json").read_text().encode("utf-16"))
     back = read_cast(path)
     np.testing.assert_array_equal(back["temperature"].values, cast["temperature"].values)
+
+
+@pytest.mark.parametrize("time", [None, "2031-03-01T06:30:00"])
+def test_cast_built_directly_equals_the_public_constructor(time):
+    # make_cast hands its xr.Variables to xarray's direct constructor: the Dataset must be
+    # the one xr.Dataset(data_vars, coords=..., attrs=...) builds, to the variable order
+    import xarray as xr
+
+    from seaprofile.casts.model import make_cast
+
+    rng = np.random.default_rng(3)
+    cast = make_cast(
+        pressure=np.linspace(1.0, 100.0, 50),
+        temperature=rng.normal(10.0, 1.0, 50),
+        salinity=np.full(50, 35.0),
+        latitude=-12.5,
+        longitude=140.25,
+        time=time,
+        cast_name="Ledge-4 (synthetic)",
+    )
+    public = xr.Dataset(
+        {k: cast.variables[k].copy() for k in cast.data_vars},
+        coords={k: xr.Variable((), cast.variables[k].values, cast[k].attrs) for k in cast.coords},
+        attrs=cast.attrs,
+    )
+    assert cast.identical(public)
+    assert list(cast.variables) == list(public.variables)
+    assert set(cast.coords) == set(public.coords) and not cast.indexes
+    assert cast.time.dtype == np.dtype("datetime64[ns]") and cast.encoding == public.encoding

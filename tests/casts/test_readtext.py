@@ -187,3 +187,35 @@ def test_cell_beyond_the_csv_field_limit_names_its_line(tmp_path):
     with pytest.raises(InputFileError, match="field larger") as info:
         read_cast(path)
     assert info.value.line == 5
+
+
+def test_control_bytes_are_the_control_characters():
+    # the byte pass of _decode and the regular expression it replaces on UTF-8 text
+    # refuse the same characters (every byte value, exhaustive)
+    for b in range(256):
+        assert (bytes([b]) in _readtext._CONTROL_BYTES) == bool(_readtext._CONTROL.match(chr(b)))
+
+
+@pytest.mark.parametrize("char", ["\x07", "\x1b", "\x7f"])
+def test_control_character_after_utf8_text_names_its_line(tmp_path, char):
+    path = tmp_path / "ctl.csv"
+    path.write_bytes((TABLE.replace("Rook", "R\u00f6k") + f"1,2{char},3\n").encode())
+    with pytest.raises(InputFileError, match=f"U\\+{ord(char):04X}") as info:
+        read_cast(path)
+    assert info.value.line == 5
+
+
+@pytest.mark.parametrize(
+    "tail", ["", "\n", "\n\n", "\n  \n\t\n", "\n   ", "\n \u00a0\n", "\n\u2028"]
+)
+@pytest.mark.parametrize("last", ["2,10.25,35.1", "2,10.25,35.1   ", "2,nan,35.1 \t"])
+def test_trailing_blank_lines_and_spaces(tmp_path, tail, last):
+    # the numeric block ends at its last line holding more than whitespace (kept as
+    # written, trailing blanks and all); both paths agree on values and line numbers
+    p = tmp_path / "c.csv"
+    p.write_text("# latitude: 10\npres,temp,sal\n1,10.5,35\n" + last + tail, encoding="utf-8")
+    fast, careful = _both(p)
+    _same(fast, careful)
+    t = _readtext._parse_text(p, None)
+    assert t.plain is not None and t.lines.tolist() == [3, 4]
+    assert t.texts == ["1,10.5,35", last]

@@ -58,6 +58,53 @@ def test_describe_ignores_flagged_and_nan_bins():
     assert prof["temperature"][12] != 99.0  # input untouched
 
 
+def test_flag_table_agrees_with_isin_for_every_byte():
+    # the 256-entry look-up of describe against numpy.isin on the Argo flags of _cf,
+    # every int8 and uint8 value (exhaustive); wider integers take numpy.isin (no wrap)
+    from seaprofile.layers._common import _flag_table, _in_flags
+
+    for flags in (_cf.UNUSABLE_FLAGS, _cf.NOT_MEASURED_FLAGS):
+        table = _flag_table(flags)
+        for dtype in (np.int8, np.uint8):
+            q = np.arange(256).astype(dtype)
+            np.testing.assert_array_equal(_in_flags(q, flags, table), np.isin(q, flags))
+        q = np.array([-253, 3, 259, 9, 8, 264, 4, 1], dtype=np.int64)
+        np.testing.assert_array_equal(_in_flags(q, flags, table), np.isin(q, flags))
+
+
+def test_describe_same_for_byte_and_wide_integer_flags():
+    z, t = _summer_shelf()
+    prof = make_profile(z, temperature=t, salinity=np.full(z.size, 35.2))
+    prof["temperature"][12] = 99.0
+    prof["temperature_qc"][12] = _cf.BAD
+    prof["sound_speed_qc"][40] = _cf.MISSING
+    wide = prof.copy(deep=True)
+    for q in ("temperature_qc", "salinity_qc", "sound_speed_qc"):
+        if q in wide:
+            wide[q] = wide[q].astype(np.int64)
+    assert prof["temperature_qc"].dtype == np.int8
+    assert layers.describe(wide) == layers.describe(prof)
+
+
+@pytest.mark.parametrize("mixed", [30.0, 400.0, None])
+def test_describe_density_mixed_layer_equals_the_public_functions(mixed):
+    # describe computes sigma0 only as deep as the crossing needs (first 128 bins, then
+    # the rest): the same number as gsw's sigma0 of the whole column through
+    # mixed_layer_depth_density, for a shallow layer, one deeper than 128 bins and a
+    # column that never crosses (de Boyer Montegut et al. 2004 criterion; exact equality)
+    from seaprofile.seawater.state import potential_density_anomaly
+
+    z = np.arange(0.0, 600.0, 1.0)  # uniform water: sigma0 rises 0.016 kg/m3 by 600 m
+    t = np.full(z.size, 12.0) if mixed is None else np.where(z <= mixed, 15.0, 10.0)
+    prof = make_profile(z, temperature=t, salinity=np.full(z.size, 35.0))
+    sigma = potential_density_anomaly(t, prof.salinity.values, prof.pressure.values, 45.0, -10.0)
+    want, end = layers.mixed_layer_depth_density(sigma, z, return_reached_end=True)
+    d = layers.describe(prof)
+    assert d["mixed_layer_depth_density"] == want
+    assert end == (mixed is None)
+    assert any("density never rises" in n for n in d["notes"]) == bool(end)
+
+
 def test_describe_estimated_bins():
     z = np.arange(0.0, 5001.0, 1.0)
     q = np.where(z > 4000.0, _cf.ESTIMATED, _cf.GOOD)
