@@ -68,18 +68,18 @@ def flags_in(flags, which):
     Parameters
     ----------
     flags : array_like of int
-        Argo flags (any shape; int8 as stored in every ``<var>_qc``).
+        Argo flags (any shape; int8 as stored in every ``<var>_qc``, or uint8).
     which : tuple of int
         The flag values looked for, e.g. :data:`UNUSABLE_FLAGS`.
 
     Returns
     -------
     numpy.ndarray of bool
-        True where a flag is one of ``which``. Other integer types fall back to
+        True where a flag is one of ``which``. Wider integer types fall back to
         :func:`numpy.isin` (same answer; the table is one indexing pass instead of a sort).
     """
     f = np.asarray(flags)
-    if f.dtype != np.int8:
+    if f.dtype != np.int8 and f.dtype != np.uint8:
         return np.isin(f, which)
     table = _FLAG_TABLES.get(which)
     if table is None:

@@ -42,12 +42,6 @@ def _flags(ds, var):
     return np.zeros(ds.sizes[_dim(ds)], np.int8)
 
 
-# flag byte -> "not a measured value" (3, 4, 8, 9): one table look-up per sample, where
-# numpy.isin sorts or compares afresh on every call
-_NOT_MEASURED = np.zeros(256, dtype=bool)
-_NOT_MEASURED[np.array(_cf.NOT_MEASURED_FLAGS, dtype=np.int8).view(np.uint8)] = True
-
-
 class _Work:
     """A Dataset under test: values read from ``ds``, flags and summary kept as numpy/dicts
     and written back once (:meth:`result`), so a run of tests copies the Dataset once."""
@@ -75,9 +69,7 @@ class _Work:
             values.flags.writeable = False
             self._values[var] = (values, np.isfinite(values))
         values, finite = self._values[var]
-        return values, finite & ~_NOT_MEASURED[
-            self.flag(var).astype(np.int8, copy=False).view(np.uint8)
-        ]
+        return values, finite & ~_cf.flags_in(self.flag(var), _cf.NOT_MEASURED_FLAGS)
 
     def apply(self, hits, test, flag=_cf.BAD):
         entry = self.summary.setdefault(test, {})

@@ -34,26 +34,6 @@ def _valid_1d(depth, sound_speed):
     return z, c
 
 
-def _flag_table(flags):
-    """A 256-entry table, flag byte -> in ``flags``: one look-up per sample, where
-    ``numpy.isin`` sorts or compares afresh on every call."""
-    table = np.zeros(256, dtype=bool)
-    table[np.array(flags, dtype=np.int8).view(np.uint8)] = True
-    return table
-
-
-def _in_flags(qc, flags, table):
-    """Where the flags ``qc`` are among ``flags`` (``table = _flag_table(flags)``).
-
-    Byte flags (int8, uint8; a Profile's) are looked up in ``table``; any other dtype
-    goes through ``numpy.isin``, with the same answer.
-    """
-    qc = np.asarray(qc)
-    if qc.dtype == np.int8 or qc.dtype == np.uint8:
-        return table[qc.view(np.uint8)]
-    return np.isin(qc, flags)
-
-
 def _scalar(x):
     return x.item() if isinstance(x, np.ndarray) and x.ndim == 0 else x
 

@@ -100,11 +100,19 @@ def _harmonic_valid(z, c, top, bottom):
         cd = c[k] + (c[k + 1] - c[k]) * (d - z[k]) / (z[k + 1] - z[k])
         x = (cd - c[k]) / c[k]
         res = cum[k] + (d - z[k]) / c[k] * _log_ratio_factor(x)
-        return np.where(d <= z[-1], res, np.nan)
+        return np.where(d <= z[-1], res, np.nan), k, cd
 
     lo, hi = np.minimum(t, b), np.maximum(t, b)
     with np.errstate(divide="ignore", invalid="ignore"):
-        hm = (hi - lo) / (integral_to(hi) - integral_to(lo))
+        (to_hi, k_hi, c_hi), (to_lo, k_lo, c_lo) = integral_to(hi), integral_to(lo)
+        slowness = to_hi - to_lo
+        # both ends in one segment: integrate from lo to hi directly, as a difference of
+        # two integrals from the surface cancels to ~1e-11 relative over short spans
+        one = (k_hi == k_lo) & np.isfinite(slowness)
+        if np.any(one):
+            direct = (hi - lo) / c_lo * _log_ratio_factor((c_hi - c_lo) / c_lo)
+            slowness = np.where(one, direct, slowness)
+        hm = (hi - lo) / slowness
     same = hi - lo < 1e-6  # thinner than a micrometre: the local speed
     if np.any(same):
         hm = np.where(same, np.interp(lo, z, c, right=np.nan), hm)

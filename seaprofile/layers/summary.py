@@ -14,7 +14,7 @@ import xarray as xr
 from .. import _cf
 from .._validate import SeaprofileError, as_float_array, check_position
 from ..seawater._apply import _broadcast_shape
-from ._common import _flag_table, _in_flags, _scalar
+from ._common import _scalar
 from .channels import (
     _CHANNEL_KEYS,
     _channels_rows,
@@ -70,22 +70,14 @@ _UNITS = {k: v[0] for k, v in _FIELDS.items()}
 _LONG_NAMES = {k: v[1] for k, v in _FIELDS.items()}
 
 
-_UNUSABLE_TABLE = _flag_table(_cf.UNUSABLE_FLAGS)
-_NOT_MEASURED_TABLE = _flag_table(_cf.NOT_MEASURED_FLAGS)
-
-
 def _bad_masks(variables, include_estimated):
     """Flag variable -> where its bins are unusable, for the flags ``describe`` reads."""
-    bad, table = (
-        (_cf.UNUSABLE_FLAGS, _UNUSABLE_TABLE)
-        if include_estimated
-        else (_cf.NOT_MEASURED_FLAGS, _NOT_MEASURED_TABLE)
-    )
+    bad = _cf.UNUSABLE_FLAGS if include_estimated else _cf.NOT_MEASURED_FLAGS
     out = {}
     for f in ("sound_speed", "temperature", "salinity"):
         q = f"{f}_qc"
         if q in variables:
-            out[f] = _in_flags(variables[q].values, bad, table)
+            out[f] = _cf.flags_in(variables[q].values, bad)
     return out
 
 

@@ -69,3 +69,20 @@ def test_harmonic_mean_between_extremes(speeds, a, b):
     top, bottom = sorted((a * z[-1], b * z[-1]))
     hm = layers.harmonic_mean_sound_speed(c, z, top, bottom)
     assert c.min() - 1e-9 <= hm <= c.max() + 1e-9
+
+
+@pytest.mark.parametrize("top, bottom", [(13.99986, 14.0), (3.0, 3.0001), (8.5, 13.9)])
+def test_harmonic_mean_over_a_short_span_inside_one_segment(top, bottom):
+    # closed form inside one linear segment c = c1 + g (z - z1): (z2 - z1) g / ln(c2 / c1)
+    # (exact integral of dz / c); found by hypothesis: a difference of two integrals from
+    # the surface lost ~1e-11 of the value over 0.1 mm
+    z = np.array([0.0, 7.0, 14.0])
+    flat = layers.harmonic_mean_sound_speed(np.full(3, 1450.0), z, top, bottom)
+    assert abs(flat - 1450.0) <= 1e-12 * 1450.0
+    c = np.array([1450.0, 1460.0, 1470.0])  # g = 10/7 s-1 throughout
+    g = 10.0 / 7.0
+    c1 = 1450.0 + g * top
+    # ln(c2 / c1) as log1p((c2 - c1) / c1), c2 - c1 = g (z2 - z1): no cancellation
+    expected = (bottom - top) * g / np.log1p(g * (bottom - top) / c1)
+    got = layers.harmonic_mean_sound_speed(c, z, top, bottom)
+    assert abs(got - expected) <= 1e-10 * expected

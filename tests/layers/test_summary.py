@@ -59,17 +59,15 @@ def test_describe_ignores_flagged_and_nan_bins():
 
 
 def test_flag_table_agrees_with_isin_for_every_byte():
-    # the 256-entry look-up of describe against numpy.isin on the Argo flags of _cf,
-    # every int8 and uint8 value (exhaustive); wider integers take numpy.isin (no wrap)
-    from seaprofile.layers._common import _flag_table, _in_flags
-
+    # the 256-entry look-up describe uses (_cf.flags_in) against numpy.isin on the Argo
+    # flags of _cf, every int8 and uint8 value (exhaustive); wider integers take
+    # numpy.isin (no wrap)
     for flags in (_cf.UNUSABLE_FLAGS, _cf.NOT_MEASURED_FLAGS):
-        table = _flag_table(flags)
         for dtype in (np.int8, np.uint8):
             q = np.arange(256).astype(dtype)
-            np.testing.assert_array_equal(_in_flags(q, flags, table), np.isin(q, flags))
+            np.testing.assert_array_equal(_cf.flags_in(q, flags), np.isin(q, flags))
         q = np.array([-253, 3, 259, 9, 8, 264, 4, 1], dtype=np.int64)
-        np.testing.assert_array_equal(_in_flags(q, flags, table), np.isin(q, flags))
+        np.testing.assert_array_equal(_cf.flags_in(q, flags), np.isin(q, flags))
 
 
 def test_describe_same_for_byte_and_wide_integer_flags():
