@@ -2,23 +2,30 @@
 
 Every writer is atomic (a temporary file in the target directory, then ``os.replace``),
 keeps an existing file unless ``overwrite=True``, and never modifies its input. A temporary
-file is removed on any failure, on Ctrl-C (SIGINT) and on SIGTERM. Every netCDF open, read
-and write of the package holds :data:`NETCDF_LOCK` (the netCDF/HDF5 library must never be
-entered from two threads at once). :func:`refuse_input_as_output` keeps an output from
+file is removed on any failure, on Ctrl-C (SIGINT) and on SIGTERM. Every entry into the
+netCDF C library (every netCDF open and read, every netCDF-4 write) holds
+:data:`NETCDF_LOCK` (the netCDF/HDF5 library must never be entered from two threads at
+once); classic netCDF-3 files are written in pure Python and need no lock. :func:`refuse_input_as_output` keeps an output from
 replacing one of the inputs. :func:`write` (one entry for every product, Casts and
 Profiles as well as ray fans and arrivals) dispatches through the registry of
 :mod:`seaprofile.io.write`.
 
 Formats
 -------
-netCDF
+netCDF (suffixes ``.nc``, ``.netcdf``, ``.cdf``; ``.nc4`` for netCDF-4)
     CF-1.10 discrete sampling geometry, ``featureType="profile"``, contiguous ragged array:
     dimensions ``profile`` and ``obs``; ``row_size(profile)`` with ``sample_dimension="obs"``;
     ``profile_id(profile)`` with ``cf_role="profile_id"``; ``latitude``, ``longitude``,
     ``time`` per profile; data and ``<var>_qc`` flags along ``obs``. A JSON string per
     profile (``profile_attributes``) keeps each dataset's own attributes, so a collection of
     casts with different provenance reads back exactly. A single dataset is written as a
-    collection of one.
+    collection of one. The file is classic netCDF-3, 64-bit offset (format ``netcdf``,
+    written by :class:`scipy.io.netcdf_file`), or netCDF-4 (format ``netcdf4``,
+    ``write_netcdf(..., version=4)``); the content is the same. netCDF-3 has no int64 and
+    no unsigned types: such a variable is stored in an int16/int32 that holds every value
+    (its own dtype listed under ``"dtypes"`` in ``profile_attributes``, so it reads back
+    as it was), and int64 attributes become int32 (or float64 when they do not fit);
+    values beyond that are refused by name. Text attributes are UTF-8.
 CSV
     ``# key: value`` header lines (dataset kind, caution, position, time, every global
     attribute; multi-line values repeat the key), then a header row ``name [unit],...``
@@ -66,8 +73,11 @@ __all__ = [
 
 #: format -> file suffixes; the first is the one written. ``.speed.txt`` (the plain
 #: depth / sound-speed table) is told apart from ``.txt`` (CSV) by its two suffixes.
+#: ``netcdf`` writes Casts and Profiles as classic netCDF-3, ``netcdf4`` as netCDF-4
+#: (:func:`write_netcdf` ``version=``); gridded products are netCDF-4 in either.
 FORMATS = {
-    "netcdf": (".nc", ".nc4", ".netcdf", ".cdf"),
+    "netcdf": (".nc", ".netcdf", ".cdf"),
+    "netcdf4": (".nc4",),
     "csv": (".csv", ".txt", ".tsv"),
     "json": (".json",),
     "table": (".speed.txt", ".table", ".dat"),
