@@ -229,8 +229,9 @@ def _dsg_layout(items, classic):
     )
     data = [_obs_variable(items, dim, name, zvar, classic) for name in names]
     stored_as = {v.name: dtype for v, dtype in data if dtype is not None}
+    # d.variables[...] rather than d[...]: a DataArray per access costs more than the rest
     ids = [
-        str(d["profile_id"].item()) if "profile_id" in d.coords else f"cast{i}"
+        str(d.variables["profile_id"].values.item()) if "profile_id" in d.coords else f"cast{i}"
         for i, d in enumerate(items)
     ]
     own = []
@@ -254,9 +255,13 @@ def _dsg_layout(items, classic):
         ),
     ]
     for c in ("latitude", "longitude"):
-        values = np.array([float(d[c]) if c in d.coords else np.nan for d in items])
+        values = np.array(
+            [float(d.variables[c].values) if c in d.coords else np.nan for d in items]
+        )
         variables.append(_Variable(c, ("profile",), _cf.attrs_for(c), values, np.nan))
-    times = [_epoch_seconds(d["time"].values) if "time" in d.coords else np.nan for d in items]
+    times = [
+        _epoch_seconds(d.variables["time"].values) if "time" in d.coords else np.nan for d in items
+    ]
     variables.append(
         _Variable(
             "time",
@@ -313,7 +318,7 @@ def _obs_variable(items, dim, name, zvar, classic):
         np.asarray(d.variables[name].values) if name in d.variables else np.full(d.sizes[dim], pad)
         for d in items
     ]
-    values = np.concatenate(parts).astype(dtype)
+    values = (parts[0] if len(parts) == 1 else np.concatenate(parts)).astype(dtype, copy=False)
     original = None
     if classic:
         values = _classic_values(name, values)
