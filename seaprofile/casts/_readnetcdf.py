@@ -447,8 +447,16 @@ def _netcdf_own_datasets(path, columns=None, units=None):
             # wider or narrower one, the original named in profile_attributes["dtypes"]
             dtype = np.dtype(stored_as.get(name, ds[name].dtype))
             values = np.asarray(s[name]).astype(dtype)
-            if "flag_values" in attrs and name in stored_as:
-                attrs["flag_values"] = np.asarray(attrs["flag_values"]).astype(dtype)
+            if name in stored_as:
+                if dtype.kind not in "iu" or not np.array_equal(values, s[name]):
+                    raise InputFileError(
+                        path,
+                        f"profile_attributes gives {name!r} the dtype {dtype}, which does not "
+                        "hold its values",
+                        column="profile_attributes",
+                    )
+                if "flag_values" in attrs:
+                    attrs["flag_values"] = np.asarray(attrs["flag_values"]).astype(dtype)
             if name == dim:
                 coords[name] = (dim, values, attrs)
             else:

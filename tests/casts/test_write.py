@@ -17,7 +17,7 @@ import xarray as xr
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from seaprofile import SeaprofileError, _cf
+from seaprofile import InputFileError, SeaprofileError, _cf
 from seaprofile.casts.model import make_cast
 from seaprofile.casts.read import (
     read_cast,
@@ -697,6 +697,15 @@ def test_classic_netcdf_keeps_every_integer_that_fits(dtype, values):
         back = read_profile(write_netcdf(prof, Path(d) / "c.nc"))
     assert back["count"].dtype == a.dtype
     np.testing.assert_array_equal(back["count"].values, a)
+
+
+def test_classic_netcdf_dtype_that_does_not_hold_the_values_is_refused(tmp_path):
+    prof = sample_profile().assign(count=("depth", np.arange(5, dtype=np.uint8)))
+    path = write_netcdf(prof, tmp_path / "d.nc")  # count stored as int16, listed as uint8
+    with netCDF4.Dataset(path, "a") as nc:
+        nc["count"][:] = [0, 1, 300, 3, -4]  # an edited file: not uint8 any more
+    with pytest.raises(InputFileError, match=r"'count' the dtype uint8"):
+        read_profile(path)
 
 
 def test_classic_netcdf_refuses_integers_beyond_int32_by_name(tmp_path):
