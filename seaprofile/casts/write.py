@@ -137,7 +137,8 @@ def _dim(ds):
 def _sample_vars(ds, dim):
     """Variables along ``dim`` in a stable order (coordinate first)."""
     names = [dim] if dim in ds.coords else []
-    names += [v for v in ds.data_vars if ds.variables[v].dims == (dim,)]
+    variables = ds.variables  # a new mapping at every access: taken once
+    names += [v for v in ds.data_vars if variables[v].dims == (dim,)]
     return names
 
 
@@ -227,7 +228,8 @@ def _dsg_layout(items, classic):
         if dim == "depth"
         else next((v for v in ("pressure", "depth") if any(v in d for d in items)), None)
     )
-    data = [_obs_variable(items, dim, name, zvar, classic) for name in names]
+    tables = [d.variables for d in items]
+    data = [_obs_variable(tables, items, dim, name, zvar, classic) for name in names]
     stored_as = {v.name: dtype for v, dtype in data if dtype is not None}
     # d.variables[...] rather than d[...]: a DataArray per access costs more than the rest
     ids = [
@@ -299,13 +301,13 @@ def _char_variable(name, texts, attrs):
     return _Variable(name, ("profile", f"{name}_strlen"), {**attrs, "_Encoding": "utf-8"}, chars)
 
 
-def _obs_variable(items, dim, name, zvar, classic):
+def _obs_variable(tables, items, dim, name, zvar, classic):
     """One variable along ``obs``: ``(_Variable, original dtype or None)``.
 
-    The original dtype (as text) is given when ``classic`` stores the values in another
-    integer type, else None.
+    ``tables`` are the ``variables`` mappings of ``items``. The original dtype (as text) is
+    given when ``classic`` stores the values in another integer type, else None.
     """
-    first = next(d.variables[name] for d in items if name in d.variables)  # no DataArray
+    first = next(t[name] for t in tables if name in t)  # no DataArray
     kind = first.dtype
     if kind.kind == "f":
         dtype, fill = np.dtype(np.float64), np.nan
@@ -315,8 +317,8 @@ def _obs_variable(items, dim, name, zvar, classic):
         raise SeaprofileError(f"ds: variable {name!r} of dtype {kind} cannot be written")
     pad = _cf.MISSING if name.endswith("_qc") else (0 if fill is None else np.nan)
     parts = [
-        np.asarray(d.variables[name].values) if name in d.variables else np.full(d.sizes[dim], pad)
-        for d in items
+        np.asarray(t[name].values) if name in t else np.full(d.sizes[dim], pad)
+        for t, d in zip(tables, items)
     ]
     values = (parts[0] if len(parts) == 1 else np.concatenate(parts)).astype(dtype, copy=False)
     original = None
