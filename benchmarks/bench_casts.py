@@ -7,11 +7,14 @@ sample. Every cast goes through
 
     read_cast -> build_profile (process + QC + binning + sound speed) -> describe -> write
 
-and each stage is timed per cast (netCDF output; CSV output timed as well), both as CPU
-time of this process (``time.process_time``: the time actually spent on the core, which is
-what "casts/s on one core" means) and as elapsed time. The baseline, measured on the same
-file right after each cast, is the I/O floor: ``numpy.loadtxt`` of the numbers and a plain
-``netCDF4`` write of the three columns. The whole batch is also run once more through
+and each stage is timed per cast (netCDF output, the classic netCDF-3 of the ``netcdf``
+format; the netCDF-4 of ``netcdf4`` and CSV output timed as well, outside the chain), both
+as CPU time of this process (``time.process_time``: the time actually spent on the core,
+which is what "casts/s on one core" means) and as elapsed time. The baseline, measured on
+the same file right after each cast, is the I/O floor: ``numpy.loadtxt`` of the numbers and
+a plain ``netCDF4`` write of the three columns. The same three columns written plainly as
+classic netCDF-3 (``scipy.io.netcdf_file``) are timed beside it (``baseline_netcdf3_write``),
+not part of the floor. The whole batch is also run once more through
 :func:`seaprofile.batch.build_files` as the end-to-end check.
 
 One core: numba/BLAS/OpenMP threads are set to 1 before numpy is imported and everything
@@ -41,7 +44,9 @@ from pathlib import Path  # noqa: E402
 import netCDF4  # noqa: E402
 import numba  # noqa: E402
 import numpy as np  # noqa: E402
+import scipy  # noqa: E402
 import xarray as xr  # noqa: E402
+from scipy.io import netcdf_file  # noqa: E402
 
 from seaprofile import __version__  # noqa: E402
 from seaprofile.batch import build_files  # noqa: E402
@@ -52,7 +57,9 @@ from seaprofile.profile import build_profile  # noqa: E402
 
 HERE = Path(__file__).resolve().parent
 TARGET = 50.0  # casts per second (DEVELOPERS.md, Benchmarks)
-STAGES = ("read", "build", "describe", "write_netcdf", "write_csv")
+STAGES = ("read", "build", "describe", "write_netcdf", "write_netcdf4", "write_csv")
+#: the columns of the baseline writes: name, units
+COLUMNS = (("pressure", "dbar"), ("temperature", "degC"), ("salinity", "1"))
 
 
 # --- synthetic casts ---------------------------------------------------------------------
@@ -134,7 +141,7 @@ def run_chain(paths, out_dir, n_meta):
     Returns ``{stage: (wall, cpu)}`` with arrays of seconds per cast, the profile bins and
     the number of warnings. Interleaving the baseline keeps both under the same load.
     """
-    names = STAGES + ("baseline_loadtxt", "baseline_netcdf_write")
+    names = STAGES + ("baseline_loadtxt", "baseline_netcdf_write", "baseline_netcdf3_write")
     wall = {s: np.zeros(len(paths)) for s in names}
     cpu = {s: np.zeros(len(paths)) for s in names}
     bins = 0
@@ -150,11 +157,15 @@ def run_chain(paths, out_dir, n_meta):
             marks.append(_clock())
             write(profile, out_dir / f"{path.stem}.nc", "netcdf", overwrite=True)
             marks.append(_clock())
+            write(profile, out_dir / f"{path.stem}.nc4", "netcdf4", overwrite=True)
+            marks.append(_clock())
             write(profile, out_dir / f"{path.stem}.csv", "csv", overwrite=True)
             marks.append(_clock())
             data = np.loadtxt(path, delimiter=",", skiprows=n_meta + 1)
             marks.append(_clock())
             _floor_write(data, out_dir / f"{path.stem}_floor.nc")
+            marks.append(_clock())
+            _floor_write_classic(data, out_dir / f"{path.stem}_floor3.nc")
             marks.append(_clock())
             for i, stage in enumerate(names):
                 wall[stage][k] = marks[i + 1][0] - marks[i][0]
@@ -167,9 +178,17 @@ def _floor_write(data, path):
     """The baseline write: the three columns, plain netCDF4, units only."""
     with netCDF4.Dataset(path, "w", format="NETCDF4") as nc:
         nc.createDimension("sample", data.shape[0])
-        for j, (name, units) in enumerate(
-            (("pressure", "dbar"), ("temperature", "degC"), ("salinity", "1"))
-        ):
+        for j, (name, units) in enumerate(COLUMNS):
+            v = nc.createVariable(name, "f8", ("sample",))
+            v.units = units
+            v[:] = data[:, j]
+
+
+def _floor_write_classic(data, path):
+    """The three columns written plainly as classic netCDF-3 (64-bit offset) by scipy."""
+    with netcdf_file(path, "w", version=2) as nc:
+        nc.createDimension("sample", data.shape[0])
+        for j, (name, units) in enumerate(COLUMNS):
             v = nc.createVariable(name, "f8", ("sample",))
             v.units = units
             v[:] = data[:, j]
@@ -234,6 +253,7 @@ def main(argv=None):
         ("baseline_loadtxt", floor[:1]),
         ("baseline_netcdf_write", floor[1:]),
         ("baseline_total", floor),
+        ("baseline_netcdf3_write", ("baseline_netcdf3_write",)),  # beside the floor, not in it
     ]
     floor_cpu = float(total(floor, 1).sum())
     chain_cpu = float(total(chain_nc, 1).sum())
@@ -314,6 +334,10 @@ def main(argv=None):
         "process, one thread; baseline interleaved cast by cast",
         "pinned_cpu": pinned,
         "baseline": "numpy.loadtxt of the same file + plain netCDF4 write of its 3 columns",
+        "baseline_netcdf3_write": "the same 3 columns written plainly as classic netCDF-3 "
+        "(scipy.io.netcdf_file, 64-bit offset); not part of the baseline",
+        "netcdf_output": "write_netcdf: classic netCDF-3 (netcdf, in the chain); netCDF-4 "
+        "(netcdf4) timed as write_netcdf4, not in the chain",
         "target_casts_per_s": TARGET,
         "casts_per_cpu_s_netcdf": rate_nc,
         "casts_per_cpu_s_csv": n / float(total(chain_csv, 1).sum()),
@@ -331,6 +355,7 @@ def main(argv=None):
             "numba": numba.__version__,
             "xarray": xr.__version__,
             "netCDF4": netCDF4.__version__,
+            "scipy": scipy.__version__,
             "hdf5": netCDF4.__hdf5libversion__,
             "python": platform.python_version(),
         },

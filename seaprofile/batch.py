@@ -216,8 +216,10 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
                 f"{target}: exists; pass overwrite=True (--overwrite) to replace it"
             )
         where = target.with_name(f".{target.name}.{uuid.uuid4().hex}.staged{target.suffix}")
-    if fmt == "netcdf":
-        with NETCDF_LOCK:  # HDF5 is never entered from two threads at once
+    if fmt == "netcdf4":
+        # HDF5 is never entered from two threads at once; the classic netCDF-3 of "netcdf"
+        # is written in pure Python (scipy) and needs no lock
+        with NETCDF_LOCK:
             write(res.profile, where, fmt, overwrite=overwrite)
     else:
         write(res.profile, where, fmt, overwrite=overwrite)
@@ -295,8 +297,9 @@ def build_files(
         directory without cast files is reported as that entry's error.
     out_dir : str or pathlib.Path, optional
         Directory for the profiles (created if missing); nothing is written when None.
-    format : {"netcdf", "csv", "json", "table"}
-        Output format.
+    format : {"netcdf", "netcdf4", "csv", "json", "table"}
+        Output format: ``netcdf`` is classic netCDF-3 (``.nc``), ``netcdf4`` netCDF-4
+        (``.nc4``; :func:`seaprofile.casts.write.write_netcdf`).
     overwrite : bool
         Replace existing output files (default: an existing file is an error for that cast).
     columns, units, instrument, latitude, longitude, salinity, fall_rate
@@ -329,7 +332,7 @@ def build_files(
     scheduler : str, optional
         None: one file after another. ``"threads"``/``"processes"``: local dask; any other
         string: the address of a ``dask.distributed`` scheduler (needs the ``scale`` extra).
-        With threads, netCDF files are read and written one at a time
+        With threads, netCDF files are read, and netCDF-4 files written, one at a time
         (:data:`seaprofile.io.NETCDF_LOCK`): HDF5 must not be entered from two threads.
     protect : iterable of str or pathlib.Path
         Files read besides ``paths`` (e.g. the reference's file): like every input, never

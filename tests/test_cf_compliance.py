@@ -50,27 +50,33 @@ def _casts():
     return out
 
 
-@pytest.fixture(scope="module")
-def written(tmp_path_factory):
+# Both formats are checked under a ".nc" name: CF section 2.1 asks for that extension (the
+# checker fails "profile.nc4" on it), so the netcdf4 format is named explicitly here.
+@pytest.fixture(scope="module", params=["netcdf", "netcdf4"])
+def written(tmp_path_factory, request):
     folder = tmp_path_factory.mktemp("cf")
     casts = _casts()
     profiles = [seaprofile.build_profile(c) for c in casts]
-    return {
-        "casts": seaprofile.write(casts, folder / "casts.nc"),
-        "profile": seaprofile.write(profiles[0], folder / "profile.nc"),
-        "profiles": seaprofile.write(profiles, folder / "profiles.nc"),
+    fmt = request.param
+    return fmt, {
+        "casts": seaprofile.write(casts, folder / "casts.nc", fmt),
+        "profile": seaprofile.write(profiles[0], folder / "profile.nc", fmt),
+        "profiles": seaprofile.write(profiles, folder / "profiles.nc", fmt),
     }
 
 
 @pytest.mark.parametrize("kind", ["casts", "profile", "profiles"])
 def test_written_files_pass_the_cf_checker(written, kind):
-    assert _failures(written[kind]) == []
+    fmt, paths = written
+    with netCDF4.Dataset(paths[kind]) as nc:
+        assert nc.data_model == {"netcdf": "NETCDF3_64BIT_OFFSET", "netcdf4": "NETCDF4"}[fmt]
+    assert _failures(paths[kind]) == []
 
 
 def test_the_checker_catches_a_wrong_standard_name(written, tmp_path):
     # negative control: the same file with an invented standard name must fail
     bad = tmp_path / "bad.nc"
-    shutil.copy(written["profile"], bad)
+    shutil.copy(written[1]["profile"], bad)
     with netCDF4.Dataset(bad, "a") as nc:
         nc["sound_speed"].standard_name = "speed_of_noise_in_sea_water"
     names = [name for name, _ in _failures(bad)]

@@ -210,7 +210,9 @@ def test_unknown_products_and_formats_name_the_argument(tmp_path, cast, profile,
         write({"depth": [0.0]}, tmp_path / "x.nc")
     with pytest.raises(SeaprofileError, match=r"^obj: cannot mix"):
         write([cast, profile], tmp_path / "m.nc")
-    with pytest.raises(SeaprofileError, match=r"^format: a ray fan is written as netcdf or json"):
+    with pytest.raises(
+        SeaprofileError, match=r"^format: a ray fan is written as netcdf, netcdf4 or json, not csv"
+    ):
         write(fan, tmp_path / "fan.csv")
     with pytest.raises(SeaprofileError, match=r"^format: a cast is written as"):
         write(cast, tmp_path / "cast.speed.txt")

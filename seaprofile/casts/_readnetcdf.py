@@ -440,9 +440,23 @@ def _netcdf_own_datasets(path, columns=None, units=None):
             "profile_id": ((), meta.get("cast_name", ""), dict(ds[role].attrs)),
         }
         data = {}
+        stored_as = own.get("dtypes") if isinstance(own.get("dtypes"), dict) else {}
         for name in own["variables"]:
             attrs = {k: v for k, v in ds[name].attrs.items() if k != "coordinates"}
-            values = np.asarray(s[name]).astype(ds[name].dtype)
+            # a netCDF-3 file keeps an integer dtype it has not (int64, unsigned) in a
+            # wider or narrower one, the original named in profile_attributes["dtypes"]
+            dtype = np.dtype(stored_as.get(name, ds[name].dtype))
+            values = np.asarray(s[name]).astype(dtype)
+            if name in stored_as:
+                if dtype.kind not in "iu" or not np.array_equal(values, s[name]):
+                    raise InputFileError(
+                        path,
+                        f"profile_attributes gives {name!r} the dtype {dtype}, which does not "
+                        "hold its values",
+                        column="profile_attributes",
+                    )
+                if "flag_values" in attrs:
+                    attrs["flag_values"] = np.asarray(attrs["flag_values"]).astype(dtype)
             if name == dim:
                 coords[name] = (dim, values, attrs)
             else:

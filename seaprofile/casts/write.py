@@ -2,23 +2,30 @@
 
 Every writer is atomic (a temporary file in the target directory, then ``os.replace``),
 keeps an existing file unless ``overwrite=True``, and never modifies its input. A temporary
-file is removed on any failure, on Ctrl-C (SIGINT) and on SIGTERM. Every netCDF open, read
-and write of the package holds :data:`NETCDF_LOCK` (the netCDF/HDF5 library must never be
-entered from two threads at once). :func:`refuse_input_as_output` keeps an output from
+file is removed on any failure, on Ctrl-C (SIGINT) and on SIGTERM. Every entry into the
+netCDF C library (every netCDF open and read, every netCDF-4 write) holds
+:data:`NETCDF_LOCK` (the netCDF/HDF5 library must never be entered from two threads at
+once); classic netCDF-3 files are written in pure Python and need no lock. :func:`refuse_input_as_output` keeps an output from
 replacing one of the inputs. :func:`write` (one entry for every product, Casts and
 Profiles as well as ray fans and arrivals) dispatches through the registry of
 :mod:`seaprofile.io.write`.
 
 Formats
 -------
-netCDF
+netCDF (suffixes ``.nc``, ``.netcdf``, ``.cdf``; ``.nc4`` for netCDF-4)
     CF-1.10 discrete sampling geometry, ``featureType="profile"``, contiguous ragged array:
     dimensions ``profile`` and ``obs``; ``row_size(profile)`` with ``sample_dimension="obs"``;
     ``profile_id(profile)`` with ``cf_role="profile_id"``; ``latitude``, ``longitude``,
     ``time`` per profile; data and ``<var>_qc`` flags along ``obs``. A JSON string per
     profile (``profile_attributes``) keeps each dataset's own attributes, so a collection of
     casts with different provenance reads back exactly. A single dataset is written as a
-    collection of one.
+    collection of one. The file is classic netCDF-3, 64-bit offset (format ``netcdf``,
+    written by :class:`scipy.io.netcdf_file`), or netCDF-4 (format ``netcdf4``,
+    ``write_netcdf(..., version=4)``); the content is the same. netCDF-3 has no int64 and
+    no unsigned types: such a variable is stored in an int16/int32 that holds every value
+    (its own dtype listed under ``"dtypes"`` in ``profile_attributes``, so it reads back
+    as it was), and int64 attributes become int32 (or float64 when they do not fit);
+    values beyond that are refused by name. Text attributes are UTF-8.
 CSV
     ``# key: value`` header lines (dataset kind, caution, position, time, every global
     attribute; multi-line values repeat the key), then a header row ``name [unit],...``
@@ -36,7 +43,9 @@ speed table (suffix ``.speed.txt``)
 
 from __future__ import annotations
 
+import io
 import json
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
@@ -64,8 +73,11 @@ __all__ = [
 
 #: format -> file suffixes; the first is the one written. ``.speed.txt`` (the plain
 #: depth / sound-speed table) is told apart from ``.txt`` (CSV) by its two suffixes.
+#: ``netcdf`` writes Casts and Profiles as classic netCDF-3, ``netcdf4`` as netCDF-4
+#: (:func:`write_netcdf` ``version=``); gridded products are netCDF-4 in either.
 FORMATS = {
-    "netcdf": (".nc", ".nc4", ".netcdf", ".cdf"),
+    "netcdf": (".nc", ".netcdf", ".cdf"),
+    "netcdf4": (".nc4",),
     "csv": (".csv", ".txt", ".tsv"),
     "json": (".json",),
     "table": (".speed.txt", ".table", ".dat"),
@@ -125,7 +137,8 @@ def _dim(ds):
 def _sample_vars(ds, dim):
     """Variables along ``dim`` in a stable order (coordinate first)."""
     names = [dim] if dim in ds.coords else []
-    names += [v for v in ds.data_vars if ds.variables[v].dims == (dim,)]
+    variables = ds.variables  # a new mapping at every access: taken once
+    names += [v for v in ds.data_vars if variables[v].dims == (dim,)]
     return names
 
 
@@ -140,14 +153,71 @@ def _iso(t):
 # --- netCDF ----------------------------------------------------------------------------
 
 
-def write_netcdf(ds, path, *, overwrite=False):
-    """Write a Cast/Profile or a list of them as one CF DSG ``profile`` collection (netCDF-4).
+def write_netcdf(ds, path, *, overwrite=False, version=3):
+    """Write a Cast/Profile or a list of them as one CF DSG ``profile`` collection.
 
-    See the module docstring for the layout. Returns the path written.
+    See the module docstring for the layout. The file is classic netCDF-3 by default and
+    netCDF-4 on request; both hold the same variables and attributes and read back into
+    the same Datasets.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset or list of xarray.Dataset
+        A Cast or a Profile, or a list of Casts or of Profiles (not both).
+    path : str or pathlib.Path
+        Output file.
+    overwrite : bool
+        Replace an existing file.
+    version : {3, 4}
+        3 (default): classic netCDF-3 in its 64-bit-offset variant (CDF-2), written in
+        pure Python by :class:`scipy.io.netcdf_file` (a few times faster than netCDF-4
+        for files of this size). Integers wider than 32 bits, and unsigned integers, are
+        stored in the next netCDF-3 integer type that holds every value (and read back in
+        their own type); a value outside the int32 range raises :class:`SeaprofileError`.
+        4: netCDF-4 (HDF5) through netCDF4-python, every dtype as it stands, for
+        archives that ask for netCDF-4 (the ``"netcdf4"`` format, suffix ``.nc4``).
+
+    Returns
+    -------
+    pathlib.Path
+        The file written.
     """
-    import netCDF4
-
+    if isinstance(version, bool) or version not in (3, 4):
+        raise SeaprofileError(
+            f"version must be 3 (classic netCDF, 64-bit offset) or 4 (netCDF-4), got {version!r}"
+        )
     items = _as_list(ds)
+    layout = _dsg_layout(items, classic=version == 3)
+    if version == 4:
+        return atomic_write(path, overwrite, lambda tmp: _fill_netcdf4(layout, tmp, "NETCDF4"))
+    if _scipy_can_write(layout):
+        return atomic_write(path, overwrite, lambda tmp: _fill_classic(layout, tmp))
+    # the same classic format through the netCDF C library: no samples at all (the only
+    # netCDF-3 dimension of length 0 is the record dimension, which scipy's writer gets
+    # wrong for more than one variable) or non-ASCII names (scipy writes them as Latin-1)
+    return atomic_write(
+        path, overwrite, lambda tmp: _fill_netcdf4(layout, tmp, "NETCDF3_64BIT_OFFSET")
+    )
+
+
+@dataclass(frozen=True)
+class _Variable:
+    """One netCDF variable as it will be written: dimensions, attributes, values, fill."""
+
+    name: str
+    dims: tuple
+    attrs: dict
+    values: np.ndarray
+    fill: object = None  # the _FillValue, or None for no fill value
+
+
+def _dsg_layout(items, classic):
+    """The CF DSG collection of ``items``: ``(dimensions, global attributes, variables)``.
+
+    With ``classic`` every dtype and attribute value is one netCDF-3 holds
+    (:func:`_classic_values`, :func:`_classic_attr`); the original dtype of a variable
+    stored in another type goes into each profile's ``profile_attributes`` (``"dtypes"``).
+    """
     dim = _dim(items[0])
     counts = np.array([d.sizes[dim] for d in items], dtype=np.int32)
     names = []
@@ -158,83 +228,229 @@ def write_netcdf(ds, path, *, overwrite=False):
         if dim == "depth"
         else next((v for v in ("pressure", "depth") if any(v in d for d in items)), None)
     )
+    tables = [d.variables for d in items]
+    data = [_obs_variable(tables, items, dim, name, zvar, classic) for name in names]
+    stored_as = {v.name: dtype for v, dtype in data if dtype is not None}
+    # d.variables[...] rather than d[...]: a DataArray per access costs more than the rest
+    ids = [
+        str(d.variables["profile_id"].values.item()) if "profile_id" in d.coords else f"cast{i}"
+        for i, d in enumerate(items)
+    ]
+    own = []
+    for d in items:
+        entry = {
+            "dimension": dim,
+            "attributes": _jsonable_attrs(d.attrs),
+            "variables": _sample_vars(d, dim),
+        }
+        dtypes = {n: stored_as[n] for n in entry["variables"] if n in stored_as}
+        if dtypes:
+            entry["dtypes"] = dtypes
+        own.append(json.dumps(entry))
+    variables = [
+        _char_variable("profile_id", ids, _cf.attrs_for("profile_id")),
+        _Variable(
+            "row_size",
+            ("profile",),
+            {"long_name": "number of samples in each profile", "sample_dimension": "obs"},
+            counts,
+        ),
+    ]
+    for c in ("latitude", "longitude"):
+        values = np.array(
+            [float(d.variables[c].values) if c in d.coords else np.nan for d in items]
+        )
+        variables.append(_Variable(c, ("profile",), _cf.attrs_for(c), values, np.nan))
+    times = [
+        _epoch_seconds(d.variables["time"].values) if "time" in d.coords else np.nan for d in items
+    ]
+    variables.append(
+        _Variable(
+            "time",
+            ("profile",),
+            {**_cf.attrs_for("time"), "units": _TIME_UNITS, "calendar": "standard", "axis": "T"},
+            np.array(times, dtype=np.float64),
+            np.nan,
+        )
+    )
+    variables.append(
+        _char_variable(
+            "profile_attributes",
+            own,
+            {"long_name": "attributes of each profile as written by seaprofile (JSON)"},
+        )
+    )
+    variables += [v for v, _ in data]
+    dims = {"profile": len(items), "obs": int(counts.sum())}
+    dims.update({v.dims[1]: v.values.shape[1] for v in variables if len(v.dims) == 2})
+    attrs = _global_attrs(items)
+    if classic:
+        attrs = {k: _classic_attr(None, k, a) for k, a in attrs.items()}
+        variables = [
+            replace(v, attrs={k: _classic_attr(v.name, k, a) for k, a in v.attrs.items()})
+            for v in variables
+        ]
+    return dims, attrs, variables
 
-    def fill(tmp):
-        # every variable and attribute is defined first and the data written after: each
-        # data write ends the netCDF-4 define mode, and going back and forth between the
-        # two costs about 40 % of the write. No pre-fill: every variable is written in full.
-        with NETCDF_LOCK, netCDF4.Dataset(tmp, "w", format="NETCDF4") as nc:
-            nc.set_fill_off()
-            nc.createDimension("profile", len(items))
-            nc.createDimension("obs", int(counts.sum()))
-            g = _global_attrs(items)
-            nc.setncatts(g)
-            ids = [
-                str(d["profile_id"].item()) if "profile_id" in d.coords else f"cast{i}"
-                for i, d in enumerate(items)
-            ]
-            pending = [_char_variable(nc, "profile_id", ids, _cf.attrs_for("profile_id"))]
-            v = nc.createVariable("row_size", "i4", ("profile",))
-            v.setncatts(
-                {"long_name": "number of samples in each profile", "sample_dimension": "obs"}
-            )
-            pending.append((v, counts))
-            for c in ("latitude", "longitude"):
-                v = nc.createVariable(c, "f8", ("profile",), fill_value=np.nan)
-                v.setncatts(_cf.attrs_for(c))
-                pending.append((v, [float(d[c]) if c in d.coords else np.nan for d in items]))
-            v = nc.createVariable("time", "f8", ("profile",), fill_value=np.nan)
-            v.setncatts(
-                {**_cf.attrs_for("time"), "units": _TIME_UNITS, "calendar": "standard", "axis": "T"}
-            )
-            pending.append(
-                (
-                    v,
-                    [
-                        _epoch_seconds(d["time"].values) if "time" in d.coords else np.nan
-                        for d in items
-                    ],
-                )
-            )
-            own = [
-                json.dumps(
-                    {
-                        "dimension": dim,
-                        "attributes": _jsonable_attrs(d.attrs),
-                        "variables": _sample_vars(d, dim),
-                    }
-                )
-                for d in items
-            ]
-            pending.append(
-                _char_variable(
-                    nc,
-                    "profile_attributes",
-                    own,
-                    {"long_name": "attributes of each profile as written by seaprofile (JSON)"},
-                )
-            )
-            pending += [_nc_variable(nc, items, dim, name, zvar) for name in names]
-            for v, values in pending:
-                v[:] = values
 
-    return atomic_write(path, overwrite, fill)
-
-
-def _char_variable(nc, name, texts, attrs):
-    """A classic char-array string variable (profile, <name>_strlen), UTF-8 encoded.
-
-    Returns ``(variable, characters)``; the caller writes the characters.
-    """
-    import netCDF4
-
+def _char_variable(name, texts, attrs):
+    """A classic char-array string variable (profile, <name>_strlen), UTF-8 encoded."""
     raw = [t.encode("utf-8") for t in texts]
     width = max(1, max(len(b) for b in raw))
-    nc.createDimension(f"{name}_strlen", width)
-    v = nc.createVariable(name, "S1", ("profile", f"{name}_strlen"))
-    v.setncatts(attrs)
-    v._Encoding = "utf-8"
-    return v, netCDF4.stringtochar(np.array(raw, dtype=f"S{width}"))
+    chars = np.array(raw, dtype=f"S{width}").view("S1").reshape(len(raw), width)
+    return _Variable(name, ("profile", f"{name}_strlen"), {**attrs, "_Encoding": "utf-8"}, chars)
+
+
+def _obs_variable(tables, items, dim, name, zvar, classic):
+    """One variable along ``obs``: ``(_Variable, original dtype or None)``.
+
+    ``tables`` are the ``variables`` mappings of ``items``. The original dtype (as text) is
+    given when ``classic`` stores the values in another integer type, else None.
+    """
+    first = next(t[name] for t in tables if name in t)  # no DataArray
+    kind = first.dtype
+    if kind.kind == "f":
+        dtype, fill = np.dtype(np.float64), np.nan
+    elif kind.kind in "iu":
+        dtype, fill = kind, None
+    else:
+        raise SeaprofileError(f"ds: variable {name!r} of dtype {kind} cannot be written")
+    pad = _cf.MISSING if name.endswith("_qc") else (0 if fill is None else np.nan)
+    parts = [
+        np.asarray(t[name].values) if name in t else np.full(d.sizes[dim], pad)
+        for t, d in zip(tables, items)
+    ]
+    values = (parts[0] if len(parts) == 1 else np.concatenate(parts)).astype(dtype, copy=False)
+    original = None
+    if classic:
+        values = _classic_values(name, values)
+        original = None if values.dtype == dtype else dtype.str.lstrip("<>|=")
+    attrs = {k: _nc_attr(a) for k, a in first.attrs.items() if k not in ("_FillValue",)}
+    if "flag_values" in attrs:
+        attrs["flag_values"] = np.asarray(attrs["flag_values"]).astype(values.dtype)
+    if name != zvar and not name.endswith("_qc") and zvar is not None:
+        attrs["coordinates"] = f"time latitude longitude {zvar}"
+    return _Variable(name, ("obs",), attrs, values, fill), original
+
+
+#: the integer types of netCDF-3 (byte, short, int)
+_CLASSIC_INTS = (np.dtype(np.int8), np.dtype(np.int16), np.dtype(np.int32))
+_INT32 = np.iinfo(np.int32)
+
+
+def _fits_int32(a):
+    return a.size == 0 or (int(a.min()) >= _INT32.min and int(a.max()) <= _INT32.max)
+
+
+def _classic_values(name, values):
+    """Integer ``values`` in a netCDF-3 type that holds every one of them, exactly.
+
+    int8, int16, int32 and floats stay; uint8 becomes int16, uint16 int32; int64, uint32
+    and uint64 become int32 when every value fits, else :class:`SeaprofileError`.
+    """
+    dtype = values.dtype
+    if dtype.kind not in "iu" or dtype in _CLASSIC_INTS:
+        return values
+    if dtype.itemsize < 4 and dtype.kind == "u":
+        return values.astype(np.int16 if dtype.itemsize == 1 else np.int32)
+    if _fits_int32(values):
+        return values.astype(np.int32)
+    raise SeaprofileError(
+        f"ds: variable {name!r} holds integers from {values.min()} to {values.max()}, outside "
+        "the int32 range netCDF-3 stores; write it with version=4 (the netcdf4 format, .nc4)"
+    )
+
+
+def _classic_attr(owner, key, value):
+    """An attribute value (after :func:`_nc_attr`) as netCDF-3 holds it.
+
+    Text becomes UTF-8 bytes (a char attribute, read back as text); int8/int16/int32
+    and float32/float64 stay; other integers become int32 when every value fits, else
+    float64 when that is exact (up to 2**53), else :class:`SeaprofileError`; Python
+    floats are float64 (the writer would otherwise take float32).
+    """
+    if isinstance(value, str):
+        return value.encode("utf-8")
+    if isinstance(value, bytes):
+        return value
+    a = np.asarray(value)
+    if a.dtype.kind in "US" and a.ndim == 0:
+        return _classic_attr(owner, key, a.item())
+    if a.dtype.kind == "f":
+        return a.astype(np.float32 if a.dtype == np.float32 else np.float64)
+    if a.dtype.kind in "iu":
+        if a.dtype in _CLASSIC_INTS:
+            return a
+        if _fits_int32(a):
+            return a.astype(np.int32)
+        if int(a.min()) >= -(2**53) and int(a.max()) <= 2**53:
+            return a.astype(np.float64)
+    where = "global attribute" if owner is None else f"attribute of variable {owner!r}:"
+    raise SeaprofileError(
+        f"ds: {where} {key!r} = {value!r} cannot be stored in netCDF-3 (text, booleans, "
+        "numbers, lists and dicts can); write it with version=4 (the netcdf4 format, .nc4)"
+    )
+
+
+def _scipy_can_write(layout):
+    """True when :func:`_fill_classic` writes ``layout`` correctly (see write_netcdf)."""
+    dims, attrs, variables = layout
+    names = list(dims) + list(attrs) + [n for v in variables for n in (v.name, *v.attrs)]
+    return dims["obs"] > 0 and all(str(n).isascii() for n in names)
+
+
+def _fill_classic(layout, tmp):
+    """Write ``layout`` as classic netCDF-3 (64-bit offset) with scipy.io.netcdf_file.
+
+    scipy's writer is pure Python and never enters the netCDF C library, so
+    :data:`NETCDF_LOCK` is not needed (nor held: threads writing classic files run
+    side by side). The file is built in memory and written in one call.
+    """
+    from scipy.io import netcdf_file
+
+    dims, attrs, variables = layout
+    buffer = io.BytesIO()
+    nc = netcdf_file(buffer, "w", version=2)  # version 2: the 64-bit-offset format
+    try:
+        for name, size in dims.items():
+            nc.createDimension(name, size)
+        # attributes go into the writer's own dicts: as Python attributes, names such as
+        # "mode" or "dimensions" would replace fields of the writer itself
+        nc._attributes.update(attrs)
+        for v in variables:
+            var = nc.createVariable(v.name, v.values.dtype, v.dims)
+            if v.fill is not None:
+                var._attributes["_FillValue"] = np.asarray(v.fill, v.values.dtype)
+            var._attributes.update(v.attrs)
+            var[:] = v.values
+        nc.flush()
+        data = buffer.getvalue()
+    finally:
+        buffer.close()  # after this, netcdf_file.close() (also run on garbage collection) is a no-op
+    Path(tmp).write_bytes(data)
+
+
+def _fill_netcdf4(layout, tmp, file_format):
+    """Write ``layout`` through netCDF4-python (``"NETCDF4"`` or a classic format)."""
+    import netCDF4
+
+    dims, attrs, variables = layout
+    # every variable and attribute is defined first and the data written after: each
+    # data write ends the netCDF-4 define mode, and going back and forth between the
+    # two costs about 40 % of the write. No pre-fill: every variable is written in full.
+    with NETCDF_LOCK, netCDF4.Dataset(tmp, "w", format=file_format) as nc:
+        nc.set_fill_off()
+        for name, size in dims.items():
+            nc.createDimension(name, size)
+        nc.setncatts(attrs)
+        pending = []
+        for v in variables:
+            fill = False if v.fill is None else v.fill
+            var = nc.createVariable(v.name, v.values.dtype, v.dims, fill_value=fill)
+            var.setncatts(v.attrs)
+            pending.append((var, v.values))
+        for var, values in pending:
+            var[:] = values
 
 
 def _global_attrs(items):
@@ -262,34 +478,6 @@ def _nc_attr(v):
     if isinstance(v, (list, tuple, dict)):
         return json.dumps(_cf._jsonable(v))
     return v
-
-
-def _nc_variable(nc, items, dim, name, zvar):
-    """Define one variable along ``obs``; returns ``(variable, values)`` for the caller."""
-    first = next(d.variables[name] for d in items if name in d.variables)  # no DataArray
-    kind = first.dtype
-    if kind.kind == "f":
-        dtype, fill = "f8", np.nan
-    elif kind.kind in "iu":
-        dtype, fill = kind.str.lstrip("<>|"), None
-    else:
-        raise SeaprofileError(f"ds: variable {name!r} of dtype {kind} cannot be written")
-    pad = _cf.MISSING if name.endswith("_qc") else (0 if dtype != "f8" else np.nan)
-    parts = [
-        np.asarray(d.variables[name].values) if name in d.variables else np.full(d.sizes[dim], pad)
-        for d in items
-    ]
-    if fill is None:
-        v = nc.createVariable(name, dtype, ("obs",), fill_value=False)
-    else:
-        v = nc.createVariable(name, dtype, ("obs",), fill_value=fill)
-    attrs = {k: _nc_attr(a) for k, a in first.attrs.items() if k not in ("_FillValue",)}
-    if "flag_values" in attrs:
-        attrs["flag_values"] = np.asarray(attrs["flag_values"], dtype=dtype)
-    if name != zvar and not name.endswith("_qc") and zvar is not None:
-        attrs["coordinates"] = f"time latitude longitude {zvar}"
-    v.setncatts(attrs)
-    return v, np.concatenate(parts).astype(dtype) if parts else []
 
 
 def _epoch_seconds(t):

@@ -68,7 +68,10 @@ def add_arguments(p):
     p.add_argument("--reference", help="a deeper profile or cast file that shapes the extension")
     p.add_argument("--out", help="output directory (default: print the summary only)")
     p.add_argument(
-        "--format", default="netcdf", choices=sorted(FORMATS), help="output format (default netcdf)"
+        "--format",
+        default="netcdf",
+        choices=sorted(FORMATS),
+        help="output format (default netcdf: classic netCDF-3, .nc; netcdf4: netCDF-4, .nc4)",
     )
     p.add_argument(
         "--overwrite",

@@ -192,7 +192,11 @@ def check_figure_path(path, *, overwrite=False, inputs=(), argument="path"):
 
 
 def write_netcdf(ds, path, *, overwrite=False):
-    """Write a product (e.g. a RayFan) to netCDF-4 through the one :func:`seaprofile.write`.
+    """Write a product (e.g. a RayFan) to netCDF through the one :func:`seaprofile.write`.
+
+    Gridded products (ray fans, loss fields, ...) are netCDF-4; Casts and Profiles classic
+    netCDF-3 (:func:`seaprofile.casts.write.write_netcdf`; ``write(..., "netcdf4")`` for
+    netCDF-4).
 
     Atomic (temporary file, then rename); the product kind picks the layout
     (:data:`seaprofile.io.write.PRODUCTS`).

@@ -10,9 +10,9 @@ writer. Every writer is atomic (:func:`seaprofile.casts.write.atomic_write`) and
 Product kinds
 -------------
 ``cast``, ``profile``
-    The CF discrete-sampling-geometry netCDF, CSV and JSON of
-    :mod:`seaprofile.casts.write` (a list of them for netCDF and JSON); a Profile also as
-    the plain speed table. Recognised by their one dimension, ``sample`` or ``depth``.
+    The CF discrete-sampling-geometry netCDF (classic netCDF-3 as ``netcdf``, netCDF-4 as
+    ``netcdf4``), CSV and JSON of :mod:`seaprofile.casts.write` (a list of them for netCDF
+    and JSON); a Profile also as the plain speed table. Recognised by their one dimension, ``sample`` or ``depth``.
 ``ray_fan``
     :func:`seaprofile.propagation.trace_fan` output (dimensions ``ray`` and ``point``).
 ``path_table``
@@ -27,7 +27,8 @@ Product kinds
     attribute).
 
 Gridded products (ray fans, path tables, loss fields, coverage, survey products) are written by
-:func:`write_product_netcdf` (netCDF-4 as the Dataset stands, with the global attributes
+:func:`write_product_netcdf` (netCDF-4, under the format name ``netcdf`` or ``netcdf4``, as
+the Dataset stands, with the global attributes
 ``product``, ``Conventions``, ``caution``, ``seaprofile_version`` and a ``history`` line
 added: ``xr.open_dataset`` gives the values back) and :func:`write_product_json` (the
 seaprofile JSON document, read back by :func:`seaprofile.casts.write.dataset_from_dict`).
@@ -192,9 +193,11 @@ def write(obj, path, format=None, *, overwrite=False, protect=()):
         path table, or any kind registered in :data:`PRODUCTS`.
     path : str or pathlib.Path
         Output file.
-    format : {"netcdf", "csv", "json", "table"}, optional
-        Default from the suffix (``.nc``, ``.csv``, ``.json``, ``.speed.txt``); the
-        formats each product has are its :attr:`Product.writers`.
+    format : {"netcdf", "netcdf4", "csv", "json", "table"}, optional
+        Default from the suffix (``.nc``, ``.nc4``, ``.csv``, ``.json``, ``.speed.txt``);
+        the formats each product has are its :attr:`Product.writers`. For Casts and
+        Profiles ``netcdf`` is classic netCDF-3 and ``netcdf4`` netCDF-4; gridded
+        products are netCDF-4 under both names.
     overwrite : bool
         Replace an existing file.
     protect : iterable of str or pathlib.Path
@@ -224,9 +227,10 @@ def write(obj, path, format=None, *, overwrite=False, protect=()):
     if format not in FORMATS:
         raise SeaprofileError(f"format must be one of {', '.join(FORMATS)}, got {format!r}")
     if format not in product.writers:
+        *others, last = product.writers
         raise SeaprofileError(
             f"format: a {product.description} is written as "
-            f"{' or '.join(product.writers)}, not {format}"
+            f"{', '.join(others) + ' or ' if others else ''}{last}, not {format}"
         )
     return product.writers[format](obj, path, overwrite=overwrite)
 
@@ -344,7 +348,17 @@ def _is_path_table(ds):
     return "path" in ds.dims and {"receiver_range", "receiver_depth"} <= set(ds.coords)
 
 
-_CAST_WRITERS = {"netcdf": write_netcdf, "csv": write_csv, "json": write_json}
+def _write_netcdf4(ds, path, *, overwrite=False):
+    """:func:`seaprofile.casts.write.write_netcdf` with ``version=4`` (the ``netcdf4`` format)."""
+    return write_netcdf(ds, path, overwrite=overwrite, version=4)
+
+
+_CAST_WRITERS = {
+    "netcdf": write_netcdf,
+    "netcdf4": _write_netcdf4,
+    "csv": write_csv,
+    "json": write_json,
+}
 register_product("cast", description="cast", detect=_is_cast, writers=_CAST_WRITERS)
 register_product(
     "profile",
@@ -352,7 +366,12 @@ register_product(
     detect=_is_profile,
     writers={**_CAST_WRITERS, "table": write_speed_table},
 )
-_GRIDDED = {"netcdf": write_product_netcdf, "json": write_product_json}
+# a gridded product is netCDF-4 under either netCDF format name (.nc and .nc4 alike)
+_GRIDDED = {
+    "netcdf": write_product_netcdf,
+    "netcdf4": write_product_netcdf,
+    "json": write_product_json,
+}
 register_product("ray_fan", description="ray fan", detect=_is_ray_fan, writers=_GRIDDED)
 register_product(
     "loss_field",

@@ -3,6 +3,8 @@
 import json
 from pathlib import Path
 
+import pytest
+
 from seaprofile.cli import main
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_casts"
@@ -26,6 +28,29 @@ def test_build_reports_bad_file_and_exits_1(tmp_path, capsys):
     err = captured.err.strip().splitlines()
     assert len(err) == 1 and "line 41" in err[0] and "Traceback" not in captured.err
     assert (tmp_path / "VS31-S04.csv").exists()
+
+
+@pytest.mark.parametrize(
+    ("fmt", "name", "magic"),
+    [("netcdf", "VS31-S04.nc", b"CDF\x02"), ("netcdf4", "VS31-S04.nc4", b"\x89HDF")],
+)
+def test_build_writes_classic_or_netcdf4(tmp_path, capsys, fmt, name, magic):
+    # classic netCDF-3 starts "CDF" + version byte 2 (64-bit offset; netCDF Users Guide,
+    # classic format specification); netCDF-4 is HDF5 ("\x89HDF", HDF5 format specification)
+    args = ["build", str(DEMO / "shelf_summer_ctd.csv"), "--out", str(tmp_path), "--format", fmt]
+    assert main(args) == 0
+    assert sorted(p.name for p in tmp_path.iterdir()) == [name]
+    assert (tmp_path / name).read_bytes()[:4] == magic
+    capsys.readouterr()
+    assert main(["inspect", str(tmp_path / name), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["caution"].startswith("Not for navigation")
+
+
+def test_build_help_names_both_netcdf_formats(capsys):
+    with pytest.raises(SystemExit):
+        main(["build", "--help"])
+    help_text = " ".join(capsys.readouterr().out.split())
+    assert "netcdf: classic netCDF-3, .nc; netcdf4: netCDF-4, .nc4" in help_text
 
 
 def test_build_json_summary(capsys):
