@@ -322,3 +322,21 @@ def test_directory_without_cast_files_is_one_clear_error(tmp_path):
     results = build_files([empty, DEMO / "shelf_summer_ctd.csv"])
     assert not results[0].ok and results[1].ok
     assert str(empty) in results[0].error and "no cast or profile files" in results[0].error
+
+
+def test_directory_holds_classic_and_netcdf4_casts(tmp_path):
+    # a folder of casts written both ways (.nc classic netCDF-3, .nc4 netCDF-4) is built
+    # whole, and the two give the same profile
+    from seaprofile.casts.read import read_cast
+
+    folder = tmp_path / "casts"
+    folder.mkdir()
+    cast = read_cast(DEMO / "shelf_summer_ctd.csv")
+    write(cast, folder / "a.nc", "netcdf")
+    write(cast, folder / "b.nc4", "netcdf4")
+    results = build_files([folder])
+    assert [Path(r.path).name for r in results] == ["a.nc", "b.nc4"]
+    assert all(r.ok for r in results)
+    a, b = (r.profile for r in results)
+    for name in a.data_vars:
+        np.testing.assert_array_equal(a[name].values, b[name].values)

@@ -272,7 +272,7 @@ def load_profile(path, **options):
 
 #: suffixes of the files a directory contributes (case ignored): the text, netCDF and JSON
 #: files the readers read; other files in a directory (notes, scripts) are left out
-CAST_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".asc", ".nc", ".json")
+CAST_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".asc", ".nc", ".nc4", ".json")
 
 
 def directory_files(directory):
