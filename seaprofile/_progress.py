@@ -8,6 +8,11 @@ schedulers and :func:`distributed.progress` on a cluster.
 :func:`compile_notice` prints one honest line before the first numerical work of a
 process when the compiled-kernel cache (:mod:`seaprofile._jitcache`) is empty or missing:
 numba then compiles the kernels, which takes a while once.
+
+:class:`Pieces` gives long compiled work (a large ray fan, a large loss field: one
+compiled call each) a bar: the work is cut into :data:`PIECES` groups of rays or beams,
+one compiled call per group, and the bar moves after each. Off a terminal, when quiet, or
+for small work it is a single group, i.e. the one call of before, at no cost.
 """
 
 from __future__ import annotations
@@ -15,7 +20,22 @@ from __future__ import annotations
 import contextlib
 import sys
 
-__all__ = ["enabled", "bar", "dask_progress", "compile_notice", "cache_is_cold"]
+__all__ = [
+    "enabled",
+    "bar",
+    "dask_progress",
+    "compile_notice",
+    "cache_is_cold",
+    "Pieces",
+    "pieces",
+    "PIECES",
+]
+
+#: Groups long compiled work is cut into when a bar is shown: the bar moves in steps of
+#: about a tenth of the work (common practice, no source). Each group is one compiled
+#: call, so the bar costs a few calls more than the unsplit work (measured in the report
+#: of ``benchmarks/bench_loss.py``).
+PIECES = 10
 
 _NOTICE = "seaprofile: compiling numerical kernels (first run only; later runs start fast)..."
 _noticed = False
@@ -128,3 +148,92 @@ def compile_notice(quiet=False):
         return False
     print(_NOTICE, file=sys.stderr, flush=True)
     return True
+
+
+def _whole(n):
+    """The one group of the unsplit work: ``(slice(0, n),)``."""
+    return (slice(0, n),)
+
+
+class Pieces:
+    """Groups of a long compiled job (rays, beams) and one tqdm bar that moves after each.
+
+    Use as a context manager; :meth:`split` gives the slices of ``n`` items to hand to
+    the compiled kernel one after the other, and advances the bar by each group's size
+    once the caller comes back for the next one. When ``show`` is False :meth:`split`
+    returns the single ``slice(0, n)`` and nothing is printed or created: the work is the
+    one compiled call it would be without progress.
+
+    Parameters
+    ----------
+    total : int
+        Items the bar expects (rays x passes, beams); a pass beyond it raises the total.
+    show : bool
+        Cut the work and show the bar (see :func:`pieces`).
+    desc : str
+        Label in front of the bar.
+    unit : str
+        What one item is (``"ray"``, ``"beam"``).
+    count : int, optional
+        Groups per pass (default :data:`PIECES`).
+    """
+
+    def __init__(self, total, *, show, desc, unit="ray", count=None):
+        self.count = PIECES if count is None else int(count)
+        self._bar = bar(total=int(total), desc=desc, unit=unit) if show else None
+
+    @property
+    def shown(self):
+        """True when the work is cut into groups and a bar is on stderr."""
+        return self._bar is not None
+
+    def split(self, n):
+        """Slices of ``range(n)`` in order, at most :attr:`count` of them (one when hidden)."""
+        if self._bar is None or n < 2:
+            yield from _whole(n)
+            return
+        import numpy as np
+
+        b = self._bar
+        if b.n + n > (b.total or 0):
+            b.total = b.n + n
+            b.refresh()
+        edges = np.linspace(0, n, min(self.count, n) + 1).round().astype(int)
+        for lo, hi in zip(edges[:-1].tolist(), edges[1:].tolist()):
+            yield slice(lo, hi)
+            b.update(hi - lo)
+
+    def close(self):
+        """Remove the bar (it is not left on the terminal)."""
+        if self._bar is not None:
+            self._bar.close()
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+        return False
+
+
+def pieces(total, *, progress, large, desc, unit="ray"):
+    """The :class:`Pieces` of a compiled job: cut and shown only when it is worth it.
+
+    Parameters
+    ----------
+    total : int
+        Items the bar expects.
+    progress : bool
+        The caller's ``progress`` keyword (the CLI passes ``not --quiet``).
+    large : bool
+        The job is long enough for a bar (each caller documents its threshold).
+    desc, unit : str
+        Bar label and item name.
+
+    Returns
+    -------
+    Pieces
+        Shown when ``progress`` and ``large`` and stderr is a terminal (:func:`enabled`).
+    """
+    show = bool(progress) and bool(large) and enabled()
+    return Pieces(total, show=show, desc=desc, unit=unit)

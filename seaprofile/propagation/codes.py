@@ -24,6 +24,7 @@ __all__ = [
     "PADDING",
     "PATH_KINDS",
     "POINT_KINDS",
+    "PROGRESS_RAYS",
     "REFLECTION_BOUNDARIES",
     "check_memory",
 ]
@@ -95,6 +96,9 @@ DEFAULT_MAX_BOUNCES = 100
 MAX_STEPS = 20_000_000
 #: Most path points kept per array of a fan without range_step (320 MB of float64).
 MAX_STORED_POINTS = 40_000_000
+#: Fans of at least this many rays show a progress bar when asked (``progress=True`` on a
+#: terminal) and are then traced in groups of rays; smaller fans stay one compiled call.
+PROGRESS_RAYS = 1000
 #: A ray trapped at a sound-speed minimum node, or against the surface / bottom by a
 #: layer that bends it straight back, so flat that it would never move more than this (m)
 #: away from it, runs along it (the eigenray depth tolerance, 1 micrometre). Without this
