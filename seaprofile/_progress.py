@@ -29,13 +29,22 @@ __all__ = [
     "Pieces",
     "pieces",
     "PIECES",
+    "MIN_PIECE_SECONDS",
+    "BAR_DELAY",
 ]
 
 #: Groups long compiled work is cut into when a bar is shown: the bar moves in steps of
-#: about a tenth of the work (common practice, no source). Each group is one compiled
-#: call, so the bar costs a few calls more than the unsplit work (measured in the report
-#: of ``benchmarks/bench_loss.py``).
+#: about a tenth of the work (common practice, no source).
 PIECES = 10
+#: Shortest group worth its own compiled call, s. A parallel kernel (the ray fans) starts
+#: and joins its threads at every call; on a loaded machine that was measured at about
+#: 10 ms a call (``benchmarks/bench_progress.py``), so after the first group (a tenth of
+#: the work) the groups are made long enough to take this long each: a job of under
+#: about ``PIECES x MIN_PIECE_SECONDS`` is done in fewer, longer groups.
+MIN_PIECE_SECONDS = 0.25
+#: A bar is drawn only once the job has run this long, s (tqdm's ``delay``): a job that
+#: ends sooner prints nothing.
+BAR_DELAY = 0.5
 
 _NOTICE = "seaprofile: compiling numerical kernels (first run only; later runs start fast)..."
 _noticed = False
@@ -60,7 +69,7 @@ def enabled(quiet=False, stream=None):
         return False
 
 
-def bar(iterable=None, *, total=None, desc=None, unit="file", quiet=False):
+def bar(iterable=None, *, total=None, desc=None, unit="file", quiet=False, delay=0.0):
     """A tqdm bar on stderr, disabled (a plain pass-through) when :func:`enabled` is False.
 
     Parameters
@@ -75,6 +84,8 @@ def bar(iterable=None, *, total=None, desc=None, unit="file", quiet=False):
         What one item is (``"file"``, ``"cast"``).
     quiet : bool
         The user's ``--quiet``.
+    delay : float
+        Draw nothing until this many seconds have passed, s (tqdm's ``delay``).
     """
     from tqdm import tqdm
 
@@ -87,6 +98,7 @@ def bar(iterable=None, *, total=None, desc=None, unit="file", quiet=False):
         disable=not enabled(quiet),
         leave=False,
         dynamic_ncols=True,
+        delay=delay,
     )
 
 
@@ -158,11 +170,11 @@ def _whole(n):
 class Pieces:
     """Groups of a long compiled job (rays, beams) and one tqdm bar that moves after each.
 
-    Use as a context manager; :meth:`split` gives the slices of ``n`` items to hand to
-    the compiled kernel one after the other, and advances the bar by each group's size
-    once the caller comes back for the next one. When ``show`` is False :meth:`split`
-    returns the single ``slice(0, n)`` and nothing is printed or created: the work is the
-    one compiled call it would be without progress.
+    Use as a context manager; :meth:`split` gives consecutive slices of ``n`` items to
+    hand to the compiled kernel one after the other, and advances the bar by each group's
+    size once the caller comes back for the next one. When ``show`` is False
+    :meth:`split` returns the single ``slice(0, n)`` and nothing is printed or created:
+    the work is the one compiled call it would be without progress.
 
     Parameters
     ----------
@@ -175,33 +187,48 @@ class Pieces:
     unit : str
         What one item is (``"ray"``, ``"beam"``).
     count : int, optional
-        Groups per pass (default :data:`PIECES`).
+        Groups per pass at most (default :data:`PIECES`).
+
+    Notes
+    -----
+    The first group of a pass is ``n / count`` items; each later one is at least that and
+    at least the items the previous group did in :data:`MIN_PIECE_SECONDS` (its measured
+    rate), so a short job is two or three calls and a long one ``count`` calls of a
+    quarter second or more. Group sizes never change a result: callers only cut work
+    whose items are computed, or summed, one after the other in the same order anyway.
     """
 
     def __init__(self, total, *, show, desc, unit="ray", count=None):
         self.count = PIECES if count is None else int(count)
-        self._bar = bar(total=int(total), desc=desc, unit=unit) if show else None
+        self._bar = bar(total=int(total), desc=desc, unit=unit, delay=BAR_DELAY) if show else None
 
     @property
     def shown(self):
-        """True when the work is cut into groups and a bar is on stderr."""
+        """True when the work is cut into groups and a bar is (or will be) on stderr."""
         return self._bar is not None
 
     def split(self, n):
-        """Slices of ``range(n)`` in order, at most :attr:`count` of them (one when hidden)."""
+        """Consecutive slices covering ``range(n)`` (one slice when hidden)."""
         if self._bar is None or n < 2:
             yield from _whole(n)
             return
-        import numpy as np
+        import math
+        import time
 
         b = self._bar
         if b.n + n > (b.total or 0):
             b.total = b.n + n
-            b.refresh()
-        edges = np.linspace(0, n, min(self.count, n) + 1).round().astype(int)
-        for lo, hi in zip(edges[:-1].tolist(), edges[1:].tolist()):
+        least = max(1, math.ceil(n / max(1, self.count)))
+        size, lo = least, 0
+        while lo < n:
+            hi = min(n, lo + size)
+            t0 = time.perf_counter()
             yield slice(lo, hi)
+            spent = time.perf_counter() - t0
             b.update(hi - lo)
+            rate = (hi - lo) / max(spent, 1e-9)  # items per second of this group
+            size = max(least, math.ceil(rate * MIN_PIECE_SECONDS))
+            lo = hi
 
     def close(self):
         """Remove the bar (it is not left on the terminal)."""

@@ -25,6 +25,7 @@ __all__ = [
     "PATH_KINDS",
     "POINT_KINDS",
     "PROGRESS_RAYS",
+    "PROGRESS_RAYS_INTEGRATED",
     "REFLECTION_BOUNDARIES",
     "check_memory",
 ]
@@ -98,7 +99,12 @@ MAX_STEPS = 20_000_000
 MAX_STORED_POINTS = 40_000_000
 #: Fans of at least this many rays show a progress bar when asked (``progress=True`` on a
 #: terminal) and are then traced in groups of rays; smaller fans stay one compiled call.
-PROGRESS_RAYS = 1000
+#: The exact layered solver traces 2000 rays to 100 km through 100 layers in about 0.1 s
+#: (``benchmarks/bench_progress.py``); the range-dependent integrator 1000 rays to 100 km
+#: in about 1 s.
+PROGRESS_RAYS = 10_000
+#: The same for the range-dependent integrator (:mod:`.integrate`).
+PROGRESS_RAYS_INTEGRATED = 500
 #: A ray trapped at a sound-speed minimum node, or against the surface / bottom by a
 #: layer that bends it straight back, so flat that it would never move more than this (m)
 #: away from it, runs along it (the eigenray depth tolerance, 1 micrometre). Without this

@@ -282,9 +282,10 @@ def trace_fan_integrated(
         Longest integration step (arc length), m.
     progress : bool
         Show a progress bar on stderr for a large fan (at least
-        :data:`seaprofile.propagation.codes.PROGRESS_RAYS` rays), only when stderr is a
-        terminal (:mod:`seaprofile._progress`). The rays are then integrated in
-        :data:`seaprofile._progress.PIECES` groups; the result is the same to the bit.
+        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS_INTEGRATED` rays), only when
+        stderr is a terminal (:mod:`seaprofile._progress`). The rays are then integrated
+        in a few groups (:class:`seaprofile._progress.Pieces`); each ray is integrated
+        alone, so the result is the same to the bit with or without the bar.
 
     Returns
     -------
@@ -314,7 +315,10 @@ def trace_fan_integrated(
     if not np.isfinite(mstep) or mstep <= 0:
         raise SeaprofileError(f"max_step must be a positive number (m), got {max_step!r}")
     with _progress.pieces(
-        a.size, progress=progress, large=a.size >= _codes.PROGRESS_RAYS, desc="tracing rays"
+        a.size,
+        progress=progress,
+        large=a.size >= _codes.PROGRESS_RAYS_INTEGRATED,
+        desc="tracing rays",
     ) as groups:
         out = _trace_arrays(
             *_medium_of(environment),

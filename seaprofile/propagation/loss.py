@@ -104,8 +104,8 @@ def _beam_sum(rays, grid, min_width, *, progress=False):
     angle, rad); ``grid``: its scalars and grids (dtheta rad, c0 m/s, source depth m,
     absorption depths m and dB/m, ranges m, depths m, angular frequencies rad/s, mode
     code); ``min_width``: least beam width, m. With a bar (``progress`` on a terminal
-    and beams x cells >= :data:`PROGRESS_WORK`) the rays are added in
-    :data:`seaprofile._progress.PIECES` consecutive groups; the sums are the same.
+    and beams x cells >= :data:`PROGRESS_WORK`) the rays are added in a few consecutive
+    groups (:class:`seaprofile._progress.Pieces`), in launch order: the sums are the same.
     """
     nray = rays[0].shape[0]
     r, z, omegas = grid[5], grid[6], grid[7]
@@ -168,11 +168,11 @@ def transmission_loss(
         Number of frequencies across ``band`` (>= 2).
     progress : bool
         Show progress bars on stderr, only when stderr is a terminal
-        (:mod:`seaprofile._progress`): one for the ray fan (at least
-        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS` beams) and one for the beam
-        summation when beams x depths x ranges >= :data:`PROGRESS_WORK`. The work is
-        then done in :data:`seaprofile._progress.PIECES` groups of beams, added in launch
-        order, so every cell's sum is the same to the bit with or without the bars.
+        (:mod:`seaprofile._progress`): one for the ray fan when it is large (see
+        :func:`~seaprofile.propagation.rays.trace_fan`) and one for the beam summation
+        when beams x depths x ranges >= :data:`PROGRESS_WORK`. The beams are then summed
+        in a few consecutive groups (:class:`seaprofile._progress.Pieces`), in launch
+        order as in one pass, so every cell is the same to the bit with or without bars.
 
     Returns
     -------

@@ -50,10 +50,11 @@ def trace_fan(
         A ray is stopped ("absorbed") after more surface + bottom reflections than this.
     progress : bool
         Show a progress bar on stderr for a large fan (at least
-        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS` rays), only when stderr is a
-        terminal (:mod:`seaprofile._progress`). The rays are then traced in
-        :data:`seaprofile._progress.PIECES` groups, one compiled call each; every ray is
-        traced alone, so the result is the same to the bit with or without the bar.
+        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS` rays; range-dependent:
+        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS_INTEGRATED`), only when stderr
+        is a terminal (:mod:`seaprofile._progress`). The rays are then traced in a few
+        groups (:class:`seaprofile._progress.Pieces`), one compiled call each; every ray
+        is traced alone, so the result is the same to the bit with or without the bar.
 
     Returns
     -------
