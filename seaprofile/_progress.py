@@ -189,17 +189,23 @@ class Pieces:
     count : int, optional
         Groups per pass at most (default :data:`PIECES`).
 
+    min_seconds : float, optional
+        Shortest group, s (default :data:`MIN_PIECE_SECONDS`); 0 keeps ``count`` equal
+        groups (a serial kernel, whose calls cost microseconds).
+
     Notes
     -----
     The first group of a pass is ``n / count`` items; each later one is at least that and
-    at least the items the previous group did in :data:`MIN_PIECE_SECONDS` (its measured
-    rate), so a short job is two or three calls and a long one ``count`` calls of a
-    quarter second or more. Group sizes never change a result: callers only cut work
-    whose items are computed, or summed, one after the other in the same order anyway.
+    at least the items the previous group did in ``min_seconds`` (its measured rate), but
+    at most twice the previous group (rays differ in cost across a fan), so a short job
+    is a few calls and a long one ``count`` calls of ``min_seconds`` or more. Group sizes
+    never change a result: callers only cut work whose items are computed, or summed,
+    one after the other in the same order anyway.
     """
 
-    def __init__(self, total, *, show, desc, unit="ray", count=None):
+    def __init__(self, total, *, show, desc, unit="ray", count=None, min_seconds=None):
         self.count = PIECES if count is None else int(count)
+        self.min_seconds = min_seconds
         self._bar = bar(total=int(total), desc=desc, unit=unit, delay=BAR_DELAY) if show else None
 
     @property
@@ -218,6 +224,7 @@ class Pieces:
         b = self._bar
         if b.n + n > (b.total or 0):
             b.total = b.n + n
+        shortest = MIN_PIECE_SECONDS if self.min_seconds is None else self.min_seconds
         least = max(1, math.ceil(n / max(1, self.count)))
         size, lo = least, 0
         while lo < n:
@@ -227,7 +234,8 @@ class Pieces:
             spent = time.perf_counter() - t0
             b.update(hi - lo)
             rate = (hi - lo) / max(spent, 1e-9)  # items per second of this group
-            size = max(least, math.ceil(rate * MIN_PIECE_SECONDS))
+            wanted = min(math.ceil(rate * shortest), 2 * (hi - lo))
+            size = max(least, wanted)
             lo = hi
 
     def close(self):
@@ -243,7 +251,7 @@ class Pieces:
         return False
 
 
-def pieces(total, *, progress, large, desc, unit="ray"):
+def pieces(total, *, progress, large, desc, unit="ray", min_seconds=None):
     """The :class:`Pieces` of a compiled job: cut and shown only when it is worth it.
 
     Parameters
@@ -256,6 +264,8 @@ def pieces(total, *, progress, large, desc, unit="ray"):
         The job is long enough for a bar (each caller documents its threshold).
     desc, unit : str
         Bar label and item name.
+    min_seconds : float, optional
+        Shortest group, s (see :class:`Pieces`).
 
     Returns
     -------
@@ -263,4 +273,4 @@ def pieces(total, *, progress, large, desc, unit="ray"):
         Shown when ``progress`` and ``large`` and stderr is a terminal (:func:`enabled`).
     """
     show = bool(progress) and bool(large) and enabled()
-    return Pieces(total, show=show, desc=desc, unit=unit)
+    return Pieces(total, show=show, desc=desc, unit=unit, min_seconds=min_seconds)

@@ -102,14 +102,18 @@ def test_shown_pieces_cover_the_items_in_order_and_draw_a_bar(monkeypatch):
 
 
 def test_slow_groups_stay_small_fast_ones_grow(monkeypatch):
-    # after the first tenth, a group is sized to last MIN_PIECE_SECONDS at the rate seen
+    # after the first tenth, a group is sized to last MIN_PIECE_SECONDS at the rate seen,
+    # growing at most twofold
     import time
 
     monkeypatch.setattr(sys, "stderr", _Tty())
     monkeypatch.setattr(_progress, "MIN_PIECE_SECONDS", 0.02)
     with _progress.Pieces(1000, show=True, desc="x") as p:
-        fast = list(p.split(1000))  # instant groups: the rest in one
-    assert len(fast) == 2 and fast[0] == slice(0, 100)
+        fast = list(p.split(1000))  # instant groups: each twice the one before
+    assert fast == [slice(0, 100), slice(100, 300), slice(300, 700), slice(700, 1000)]
+    with _progress.Pieces(1000, show=True, desc="x", min_seconds=0.0) as p:
+        even = list(p.split(1000))  # a serial kernel: equal tenths whatever the rate
+    assert even == [slice(k, k + 100) for k in range(0, 1000, 100)]
     with _progress.Pieces(100, show=True, desc="x") as p:
         slow = []
         for part in p.split(100):

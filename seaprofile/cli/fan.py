@@ -89,7 +89,7 @@ def add_arguments(p):
     p.add_argument("--out", metavar="RAYS_NC", help="write the rays as netCDF")
     p.add_argument("--overwrite", action="store_true", help="replace existing output files")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
-    add_quiet_option(p, "a large fan (1000 rays or more)")
+    add_quiet_option(p, "a large fan")
 
 
 def run(args):
