@@ -37,10 +37,10 @@ __all__ = [
 #: about a tenth of the work (common practice, no source).
 PIECES = 10
 #: Shortest group worth its own compiled call, s. A parallel kernel (the ray fans) starts
-#: and joins its threads at every call; on a loaded machine that was measured at about
-#: 10 ms a call (``benchmarks/bench_progress.py``), so after the first group (a tenth of
-#: the work) the groups are made long enough to take this long each: a job of under
-#: about ``PIECES x MIN_PIECE_SECONDS`` is done in fewer, longer groups.
+#: and joins its threads at every call: about 0.5-1 ms of CPU a call, and more wall time
+#: when other work holds the cores (``benchmarks/bench_progress.py``). So after the first
+#: group (a tenth of the work) the groups are made long enough to take this long each: a
+#: job of under about ``PIECES x MIN_PIECE_SECONDS`` is done in fewer, longer groups.
 MIN_PIECE_SECONDS = 0.25
 #: A bar is drawn only once the job has run this long, s (tqdm's ``delay``): a job that
 #: ends sooner prints nothing.
