@@ -28,10 +28,10 @@ import time
 
 import numpy as np
 from _results import machine, write_result
+from bench_loss import munk, scenario
 
 from seaprofile import _progress
 from seaprofile.propagation import Environment, codes, trace_fan
-from seaprofile.propagation.boundaries import Seabed
 from seaprofile.propagation.loss import transmission_loss
 
 REPEAT = 7
@@ -50,11 +50,6 @@ def _on_a_terminal():
         yield
     finally:
         sys.stderr = real
-
-
-def munk(z):
-    eta = 2.0 * (z - 1300.0) / 1300.0
-    return 1500.0 * (1.0 + 0.00737 * (eta + np.exp(-eta) - 1.0))
 
 
 def _timed(fn, progress):
@@ -86,12 +81,8 @@ def _same(a, b):
 
 
 def main():
-    z = np.linspace(0.0, 5000.0, 101)
-    env = Environment.from_arrays(z, munk(z), 5000.0, seabed=Seabed.named("sand"))
-    ranges = np.linspace(100.0, 100_000.0, 1000)
-    depths = np.linspace(0.0, 5000.0, 500)
-    kw = dict(ranges=ranges, depths=depths, beams=2000, angles=(-20.0, 20.0))
-    launch = np.linspace(-20.0, 20.0, 2000)
+    env, kw, launch = scenario()
+    z = np.linspace(0.0, 5000.0, 101)  # the nodes of bench_loss
 
     def field(progress):
         return transmission_loss(env, 1000.0, 200.0, **kw, progress=progress).to_dataset()

@@ -274,9 +274,8 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces, split=None):
         f"{nray} rays x {room} reflections",
         "trace fewer angles at a time",
     )
-    out = trace_layers(
-        zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges, reflections=room, split=split
-    )
+    fan = (zn, cn, zs, angles_deg, rmax, max_bounces)
+    out = trace_layers(*fan, samp_r=ranges, reflections=room, split=split)
     need = _reflections_needed(out)
     if need > room:  # a few long rays: trace again with room for every reflection
         check_memory(
@@ -285,17 +284,7 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces, split=None):
             f"{nray} rays x {need} reflections",
             "lower max_bounces",
         )
-        out = trace_layers(
-            zn,
-            cn,
-            zs,
-            angles_deg,
-            rmax,
-            max_bounces,
-            samp_r=ranges,
-            reflections=need,
-            split=split,
-        )
+        out = trace_layers(*fan, samp_r=ranges, reflections=need, split=split)
     else:
         for k in ("reflection_range", "grazing_angle", "reflection_boundary"):
             out[k] = out[k][:, :need]

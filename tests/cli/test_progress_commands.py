@@ -13,9 +13,6 @@ import pytest
 from _cli_helpers import DEMO
 
 import seaprofile.cli as cli
-from seaprofile import _progress
-from seaprofile.propagation import codes
-from seaprofile.propagation import loss as loss_module
 
 COMMANDS = {
     "fan": ["fan", str(DEMO / "deep_ocean_ctd.csv"), "--source-depth", "50", "--rays", "40"]
@@ -63,16 +60,8 @@ def test_no_bar_when_stderr_is_a_pipe(name):
     assert run.stdout.lstrip().startswith("{")  # the summary is untouched
 
 
-@pytest.fixture
-def lowered(monkeypatch):
-    monkeypatch.setattr(codes, "PROGRESS_RAYS", 0)
-    monkeypatch.setattr(codes, "PROGRESS_RAYS_INTEGRATED", 0)
-    monkeypatch.setattr(loss_module, "PROGRESS_WORK", 0)
-    monkeypatch.setattr(_progress, "BAR_DELAY", 0.0)
-
-
 @pytest.mark.parametrize("name", sorted(COMMANDS))
-def test_bar_on_a_terminal_and_none_with_quiet(name, lowered, monkeypatch, capsys):
+def test_bar_on_a_terminal_and_none_with_quiet(name, small_jobs_show_progress, monkeypatch, capsys):
     tty = _Tty()
     monkeypatch.setattr(sys, "stderr", tty)  # in the test body: capture resets it between
     assert cli.main([*COMMANDS[name], "--json"]) == 0

@@ -19,7 +19,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from seaprofile import _progress
-from seaprofile.propagation import Environment, codes, trace_fan
+from seaprofile.propagation import Environment, trace_fan
 from seaprofile.propagation import loss as loss_module
 from seaprofile.propagation.boundaries import Seabed
 from seaprofile.propagation.loss import transmission_loss
@@ -142,13 +142,9 @@ def test_loss_groups_give_the_same_bytes(fractions, beams, mode, band, source, c
 
 
 @pytest.fixture
-def low_thresholds(monkeypatch):
-    """Thresholds at 0 so that the small jobs here are cut and drawn at once."""
-    monkeypatch.setattr(codes, "PROGRESS_RAYS", 0)
-    monkeypatch.setattr(codes, "PROGRESS_RAYS_INTEGRATED", 0)
-    monkeypatch.setattr(loss_module, "PROGRESS_WORK", 0)
-    monkeypatch.setattr(_progress, "BAR_DELAY", 0.0)
-    monkeypatch.setattr(_progress, "MIN_PIECE_SECONDS", 0.0)  # keep all PIECES groups
+def low_thresholds(small_jobs_show_progress, monkeypatch):
+    """Thresholds at 0 (tests/conftest.py), and all PIECES groups kept however fast."""
+    monkeypatch.setattr(_progress, "MIN_PIECE_SECONDS", 0.0)
 
 
 def _terminal(monkeypatch):
