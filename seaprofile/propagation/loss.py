@@ -110,7 +110,8 @@ def _beam_sum(rays, grid, min_width, *, progress=False):
     nray = rays[0].shape[0]
     r, z, omegas = grid[5], grid[6], grid[7]
     shape = (omegas.size, z.size, r.size)
-    field = np.zeros(shape, dtype=np.complex128)
+    # the complex field is only summed in the coherent mode (code 0)
+    field = np.zeros(shape if grid[8] == 0 else (0, 0, 0), dtype=np.complex128)
     inten = np.zeros(shape, dtype=np.float64)
     count = np.zeros(shape[1:], dtype=np.int32)
     large = nray * z.size * r.size >= PROGRESS_WORK
