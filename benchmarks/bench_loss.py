@@ -26,13 +26,19 @@ def munk(z):
     return 1500.0 * (1.0 + 0.00737 * (eta + np.exp(-eta) - 1.0))
 
 
-def main():
+def scenario():
+    """The benchmark case: (environment, keywords of transmission_loss, launch angles deg)."""
     z = np.linspace(0.0, 5000.0, 101)
     env = Environment.from_arrays(z, munk(z), 5000.0, seabed=Seabed.named("sand"))
     ranges = np.linspace(100.0, 100_000.0, 1000)
     depths = np.linspace(0.0, 5000.0, 500)
     kw = dict(ranges=ranges, depths=depths, beams=2000, angles=(-20.0, 20.0))
-    launch = np.linspace(-20.0, 20.0, 2000)
+    return env, kw, np.linspace(-20.0, 20.0, 2000)
+
+
+def main():
+    env, kw, launch = scenario()
+    ranges, depths = kw["ranges"], kw["depths"]
     transmission_loss(env, 1000.0, 200.0, **kw)  # compile
     t_field = best_of(lambda: transmission_loss(env, 1000.0, 200.0, **kw))
     t_fan = best_of(lambda: trace_fan(env, 1000.0, launch, 100_000.0))

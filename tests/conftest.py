@@ -103,3 +103,21 @@ class TaskCounter:
 def count_tasks():
     """``with count_tasks() as c: ...`` then ``c.tasks``: laziness checks (no timing)."""
     return TaskCounter
+
+
+# --- progress bars of large compiled jobs ----------------------------------------------
+@pytest.fixture
+def small_jobs_show_progress(monkeypatch):
+    """Every fan and loss field counts as large and its bar draws at once (thresholds 0).
+
+    stderr itself must be faked in the test body: pytest's capture puts its own
+    ``sys.stderr`` back between the setup and call phases.
+    """
+    from seaprofile import _progress
+    from seaprofile.propagation import codes
+    from seaprofile.propagation import loss as loss_module
+
+    monkeypatch.setattr(codes, "PROGRESS_RAYS", 0)
+    monkeypatch.setattr(codes, "PROGRESS_RAYS_INTEGRATED", 0)
+    monkeypatch.setattr(loss_module, "PROGRESS_WORK", 0)
+    monkeypatch.setattr(_progress, "BAR_DELAY", 0.0)

@@ -313,3 +313,18 @@ def add_ray_input_options(p, metavar, help_text):
         "sound speed, m/s (default %(default)s; 0 keeps every bin)",
     )
     add_reading_options(p)
+
+
+def add_quiet_option(p, work="the long computation"):
+    """``--quiet``: no progress bar and no first-run notice on stderr (``fan``, ``loss`` ...).
+
+    ``work`` names what the bar follows in the help text. The command passes
+    ``progress=not args.quiet`` to the library; a bar only ever appears when stderr is a
+    terminal (:mod:`seaprofile._progress`).
+    """
+    p.add_argument(
+        "--quiet",
+        action="store_true",
+        help=f"no progress bar for {work} and no first-run notice on stderr (a bar is "
+        "only ever shown when stderr is a terminal and the work is large)",
+    )

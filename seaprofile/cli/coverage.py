@@ -24,7 +24,7 @@ from ._environment import (
     parse_receiver_depths,
     prepare,
 )
-from ._options import add_ray_input_options
+from ._options import add_quiet_option, add_ray_input_options
 
 NAME = "coverage"
 HELP = "detection ranges by receiver depth from transmission loss and a sonar equation"
@@ -80,6 +80,7 @@ def add_arguments(p):
     p.add_argument("--out", metavar="COVERAGE_NC", help="write the coverage as netCDF")
     p.add_argument("--overwrite", action="store_true", help="replace existing output files")
     p.add_argument("--json", action="store_true", help="print the result as JSON")
+    add_quiet_option(p, "the rays and the beam sum of a large field")
 
 
 def _terms(args):
@@ -127,7 +128,13 @@ def run(args):
     from ..propagation.loss import transmission_loss
 
     loss = transmission_loss(
-        env, source_depth, args.frequency, ranges=ranges, depths=depths, mode=args.mode
+        env,
+        source_depth,
+        args.frequency,
+        ranges=ranges,
+        depths=depths,
+        mode=args.mode,
+        progress=not args.quiet,
     )
     cov = coverage(loss, terms)
     written = []

@@ -25,6 +25,7 @@ from ._common import parse_length, print_json, print_table
 from ._environment import add_bottom_options, prepare
 from ._options import (
     add_angle_options,
+    add_quiet_option,
     add_ray_input_options,
     optional_length,
     parse_angles,
@@ -88,6 +89,7 @@ def add_arguments(p):
     p.add_argument("--out", metavar="RAYS_NC", help="write the rays as netCDF")
     p.add_argument("--overwrite", action="store_true", help="replace existing output files")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
+    add_quiet_option(p, "a large fan")
 
 
 def run(args):
@@ -119,6 +121,7 @@ def run(args):
         max_range,
         range_step=range_step,
         max_bounces=args.max_reflections,
+        progress=not args.quiet,
     )
     fan.attrs["input"] = loaded.description
 

@@ -19,7 +19,7 @@ from .._validate import SeaprofileError
 from ..io import save_figure, write_netcdf
 from ._common import parse_length, print_json, print_table
 from ._environment import add_bottom_options, add_seabed_options, parse_receiver_depths, prepare
-from ._options import add_ray_input_options, optional_length
+from ._options import add_quiet_option, add_ray_input_options, optional_length
 
 NAME = "loss"
 HELP = "transmission loss by range and depth from one source; summary, netCDF and figure"
@@ -101,6 +101,7 @@ def add_arguments(p):
     p.add_argument("--out", metavar="LOSS_NC", help="write the loss field as netCDF")
     p.add_argument("--overwrite", action="store_true", help="replace existing output files")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
+    add_quiet_option(p, "the rays and the beam sum of a large field")
 
 
 def _positive_frequency(value, option):
@@ -172,6 +173,7 @@ def run(args):
         beams=args.beams,
         band=band,
         band_frequencies=args.band_count,
+        progress=not args.quiet,
     )
     loss.attrs["input"] = prep.loaded.description
     loss.attrs["seabed_note"] = prep.seabed_note

@@ -1,7 +1,8 @@
 """Compiled kernels of the transmission-loss field (:mod:`.loss`): geometric-beam summation.
 
-One serial pass over the rays of a RayFan record (event points, no range samples); for
-each segment between two points the ray state is interpolated linearly in range at the
+One serial pass over the rays of a RayFan record (event points, no range samples), in
+one call or in consecutive groups of rays (:func:`_beam_add`, the same sums either way;
+then :func:`_beam_power`); for each segment between two points the ray state is interpolated linearly in range at the
 receiver ranges inside it and one Gaussian geometric beam is added to the receiver depths
 within three beam widths. Equations in :func:`seaprofile.propagation.loss.transmission_loss`.
 """
@@ -34,7 +35,9 @@ def _first_at_or_above(a, x):
 
 
 @njit(cache=True)
-def _beam_sum(
+def _beam_add(
+    first,
+    last,
     rr,
     zz,
     tt,
@@ -55,22 +58,22 @@ def _beam_sum(
     omegas,
     mode,
     min_width,
+    field,
+    inten,
+    beams,
 ):
-    """Sum the beams of every ray onto the (depth, range) grid.
+    """Add the beams of rays ``first .. last - 1`` onto the (depth, range) grid, in place.
 
-    Returns (intensity (nf, nz, nr) float64, beam count (nz, nr) int32). ``mode``: 0
-    coherent, 1 semicoherent, 2 incoherent; ``refl`` is the complex reflection coefficient
-    of each ray's reflections in order; ``alpha_db_m`` the absorption (dB/m) at depths
-    ``alpha_z``.
+    ``field`` (nf, nz, nr) complex128 takes the coherent sum (``mode`` 0), ``inten``
+    (nf, nz, nr) float64 the intensity sums (``mode`` 1 semicoherent, 2 incoherent),
+    ``beams`` (nz, nr) int32 the beam count. Rays are added in increasing order, so
+    consecutive calls over ``0 .. a``, ``a .. b``, ... leave every cell's sum in the same
+    order, hence the same bits, as one call over all rays. ``refl`` is the complex
+    reflection coefficient of each ray's reflections in order; ``alpha_db_m`` the
+    absorption (dB/m) at depths ``alpha_z``. Finish with :func:`_beam_power`.
     """
-    nray = rr.shape[0]
-    nz = depths.size
-    nr = ranges.size
     nf = omegas.size
-    field = np.zeros((nf, nz, nr), dtype=np.complex128)
-    inten = np.zeros((nf, nz, nr), dtype=np.float64)
-    beams = np.zeros((nz, nr), dtype=np.int32)
-    for j in range(nray):
+    for j in range(first, last):
         n = count[j]
         cos0 = math.cos(launch[j])
         # Lloyd-mirror source weighting of the semicoherent mode, per frequency
@@ -155,10 +158,16 @@ def _beam_sum(
             if caustic_flip:
                 caustic_phase += 0.5 * math.pi
             absorb_db += a_mid * ds
-    if mode == 0:
-        for f in range(nf):
-            for kz in range(nz):
-                for kr in range(nr):
-                    v = field[f, kz, kr]
-                    inten[f, kz, kr] = v.real * v.real + v.imag * v.imag
-    return inten, beams
+
+
+@njit(cache=True)
+def _beam_power(field, inten, mode):
+    """Intensity |field|^2 into ``inten`` for the coherent ``mode`` 0 (in place)."""
+    if mode != 0:
+        return
+    nf, nz, nr = field.shape
+    for f in range(nf):
+        for kz in range(nz):
+            for kr in range(nr):
+                v = field[f, kz, kr]
+                inten[f, kz, kr] = v.real * v.real + v.imag * v.imag

@@ -24,6 +24,8 @@ __all__ = [
     "PADDING",
     "PATH_KINDS",
     "POINT_KINDS",
+    "PROGRESS_RAYS",
+    "PROGRESS_RAYS_INTEGRATED",
     "REFLECTION_BOUNDARIES",
     "check_memory",
 ]
@@ -95,6 +97,17 @@ DEFAULT_MAX_BOUNCES = 100
 MAX_STEPS = 20_000_000
 #: Most path points kept per array of a fan without range_step (320 MB of float64).
 MAX_STORED_POINTS = 40_000_000
+#: Fans of at least this many rays show a progress bar when asked (``progress=True`` on a
+#: terminal) and are then traced in groups of rays; smaller fans stay one compiled call.
+#: The exact layered solver traces 2000 rays to 100 km through 100 layers in 0.06-0.16 s
+#: on a shared 2-core machine (``benchmarks/bench_progress.py``), so this is about a
+#: second of work. Below it a bar would barely show, and each extra call of the parallel
+#: kernel costs about 0.5-1 ms of CPU (thread scheduling and dispatch; more wall time
+#: on a loaded machine), which is a few percent of a short fan cut in ten.
+PROGRESS_RAYS = 20_000
+#: The same for the range-dependent integrator (:mod:`.integrate`), which takes 0.4-1 s
+#: for 1000 rays to 100 km (same benchmark): about a second of work or more.
+PROGRESS_RAYS_INTEGRATED = 2000
 #: A ray trapped at a sound-speed minimum node, or against the surface / bottom by a
 #: layer that bends it straight back, so flat that it would never move more than this (m)
 #: away from it, runs along it (the eigenray depth tolerance, 1 micrometre). Without this

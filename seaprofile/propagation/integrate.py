@@ -52,7 +52,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import _progress
+from .._progress import _whole
 from .._validate import SeaprofileError
+from . import codes as _codes
 
 # the compiled stepper; the tableau is re-exported for the tests
 from ._integrate_kernels import _DP_A, _DP_B, _DP_E, _DP_P, _RIDE_STEP, _trace_rays  # noqa: F401
@@ -92,8 +95,13 @@ def _trace_arrays(
     max_points=2_000_000,
     direction_scale=1000.0,
     first_buffer=512,
+    split=None,
 ):
     """Trace rays on plain arrays (no validation); grows the point buffer when needed.
+
+    ``split(n)`` (optional, :meth:`seaprofile._progress.Pieces.split`) gives the groups of
+    rays integrated by one compiled call each; default one call per round. The result
+    does not depend on it.
 
     Returns a dict: range, depth, travel_time, angle, tube_width (q), sound_speed,
     tube_slowness (p) (ray, point) NaN-padded,
@@ -131,22 +139,24 @@ def _trace_arrays(
             np.full((m, room), NO_REFLECTION, dtype=np.int8),
         ]
         stats = np.zeros((m, 7), dtype=np.int64)
-        _trace_rays(
-            *medium,
-            float(source_depth),
-            theta[todo],
-            float(max_range),
-            step,
-            float(tolerance),
-            float(max_step),
-            float(direction_scale),
-            int(max_bounces),
-            int(MAX_STEPS),
-            *out,
-            kinds,
-            *refl,
-            stats,
-        )
+        th = theta[todo]
+        rows = (*out, kinds, *refl, stats)
+        # one compiled call per group of rays (one group unless a bar is shown): each ray
+        # is integrated alone into its own rows, so the groups give the same bytes
+        for part in (split or _whole)(m):
+            _trace_rays(
+                *medium,
+                float(source_depth),
+                th[part],
+                float(max_range),
+                step,
+                float(tolerance),
+                float(max_step),
+                float(direction_scale),
+                int(max_bounces),
+                int(MAX_STEPS),
+                *(a[part] for a in rows),
+            )
         full = (stats[:, 5] == STEP_LIMIT) & (stats[:, 0] >= buffer) & (buffer < max_points)
         nrefl = stats[:, 1] + stats[:, 2]
         again = full | (nrefl > room)
@@ -240,6 +250,7 @@ def trace_fan_integrated(
     max_bounces=None,
     tolerance=1e-6,
     max_step=2000.0,
+    progress=False,
 ):
     """Trace a fan of rays through a range-dependent environment by numerical integration.
 
@@ -269,6 +280,13 @@ def trace_fan_integrated(
         global error grows roughly in proportion; measured values are in the tests.
     max_step : float
         Longest integration step (arc length), m.
+    progress : bool
+        Show a progress bar on stderr for a large fan (at least
+        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS_INTEGRATED` rays), only when
+        stderr is a terminal (:mod:`seaprofile._progress`). The rays are then integrated
+        in a few groups (:class:`seaprofile._progress.Pieces`); each ray is integrated
+        alone, so the result is the same to the bit with or without the bar.
+
     Returns
     -------
     xr.Dataset
@@ -296,16 +314,23 @@ def trace_fan_integrated(
     mstep = float(max_step)
     if not np.isfinite(mstep) or mstep <= 0:
         raise SeaprofileError(f"max_step must be a positive number (m), got {max_step!r}")
-    out = _trace_arrays(
-        *_medium_of(environment),
-        zs,
-        a,
-        rmax,
-        range_step=range_step,
-        tolerance=tol,
-        max_step=mstep,
-        max_bounces=mb,
-    )
+    with _progress.pieces(
+        a.size,
+        progress=progress,
+        large=a.size >= _codes.PROGRESS_RAYS_INTEGRATED,
+        desc="tracing rays",
+    ) as groups:
+        out = _trace_arrays(
+            *_medium_of(environment),
+            zs,
+            a,
+            rmax,
+            range_step=range_step,
+            tolerance=tol,
+            max_step=mstep,
+            max_bounces=mb,
+            split=groups.split,
+        )
     section = environment.section
     ds = rayfan_from_output(
         out,

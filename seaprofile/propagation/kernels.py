@@ -52,6 +52,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .._progress import _whole
 from .._validate import SeaprofileError
 from ._arcs import _fan_kernel
 from .codes import (
@@ -95,6 +96,7 @@ def trace_layers(
     counts=False,
     max_steps=MAX_STEPS,
     reflections=0,
+    split=None,
 ):
     """Run the fan kernel; plain arrays in and out (no validation: callers validate).
 
@@ -118,6 +120,10 @@ def trace_layers(
         Also return reflection/turning/caustic counts at each sample.
     reflections : int
         Reflections kept per ray (range, grazing angle, boundary; 0: none).
+    split : callable, optional
+        ``split(n)`` gives the slices of the rays traced by one compiled call each, in
+        order (:meth:`seaprofile._progress.Pieces.split`, which moves a bar); default one
+        call for every ray. The result does not depend on it.
 
     Returns
     -------
@@ -145,37 +151,25 @@ def trace_layers(
     RF_a = np.full((nray, nrf), np.nan)
     RF_k = np.full((nray, nrf), NO_REFLECTION, dtype=np.int8)
     out_int = np.zeros((nray, 7), dtype=np.int64)
-    _fan_kernel(
-        zn,
-        cn,
-        gn,
-        _layer_times(zn, cn),
-        float(zs),
-        th,
-        float(rmax),
-        int(max_bounces),
-        samp,
-        S_z,
-        S_t,
-        S_a,
-        S_q,
-        S_c,
-        S_p,
-        S_cnt,
-        P_r,
-        P_z,
-        P_t,
-        P_a,
-        P_c,
-        P_q,
-        P_p,
-        P_k,
-        RF_r,
-        RF_a,
-        RF_k,
-        out_int,
-        int(max_steps),
-    )
+    rows = (S_z, S_t, S_a, S_q, S_c, S_p, S_cnt, P_r, P_z, P_t, P_a, P_c, P_q, P_p, P_k)
+    rows += (RF_r, RF_a, RF_k, out_int)
+    tl = _layer_times(zn, cn)
+    # one compiled call per group of rays (one group unless a bar is shown): every ray is
+    # traced alone into its own rows, so the groups give the same bytes as one call
+    for part in (split or _whole)(nray):
+        _fan_kernel(
+            zn,
+            cn,
+            gn,
+            tl,
+            float(zs),
+            th[part],
+            float(rmax),
+            int(max_bounces),
+            samp,
+            *(a[part] for a in rows),
+            int(max_steps),
+        )
     return {
         "sample_depth": S_z,
         "sample_time": S_t,
@@ -226,9 +220,12 @@ def _reflections_needed(out):
     return int(total.max()) if total.size else 0
 
 
-def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
-    """Every event point of every ray (two passes: count, then store)."""
-    first = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=0)
+def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces, split=None):
+    """Every event point of every ray (two passes: count, then store).
+
+    ``split`` as in :func:`trace_layers` (both passes use it).
+    """
+    first = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, max_points=0, split=split)
     mp = int(first["points"].max()) if first["points"].size else 1
     if mp * first["points"].size > MAX_STORED_POINTS:
         raise SeaprofileError(
@@ -245,6 +242,7 @@ def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
         max_bounces,
         max_points=mp,
         reflections=_reflections_needed(first),
+        split=split,
     )
     res = _fan_common(out)
     res.update(
@@ -262,8 +260,11 @@ def fan_paths(zn, cn, zs, angles_deg, rmax, max_bounces):
     return res
 
 
-def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
-    """Each ray sampled at the given ranges (m); NaN after the ray ended."""
+def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces, split=None):
+    """Each ray sampled at the given ranges (m); NaN after the ray ended.
+
+    ``split`` as in :func:`trace_layers`.
+    """
     rmax = float(ranges[-1])
     room = min(int(max_bounces) + 1, FIRST_REFLECTIONS_KEPT)
     nray = np.size(angles_deg)
@@ -273,7 +274,8 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
         f"{nray} rays x {room} reflections",
         "trace fewer angles at a time",
     )
-    out = trace_layers(zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges, reflections=room)
+    fan = (zn, cn, zs, angles_deg, rmax, max_bounces)
+    out = trace_layers(*fan, samp_r=ranges, reflections=room, split=split)
     need = _reflections_needed(out)
     if need > room:  # a few long rays: trace again with room for every reflection
         check_memory(
@@ -282,9 +284,7 @@ def fan_samples(zn, cn, zs, angles_deg, ranges, max_bounces):
             f"{nray} rays x {need} reflections",
             "lower max_bounces",
         )
-        out = trace_layers(
-            zn, cn, zs, angles_deg, rmax, max_bounces, samp_r=ranges, reflections=need
-        )
+        out = trace_layers(*fan, samp_r=ranges, reflections=need, split=split)
     else:
         for k in ("reflection_range", "grazing_angle", "reflection_boundary"):
             out[k] = out[k][:, :need]

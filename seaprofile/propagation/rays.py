@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import integrate, kernels
+from .. import _progress
+from . import codes, integrate, kernels
 from .codes import DEFAULT_MAX_BOUNCES
 from .rayfan import check_fan_args, rayfan_from_output
 
@@ -25,6 +26,7 @@ def trace_fan(
     *,
     range_step=None,
     max_bounces=DEFAULT_MAX_BOUNCES,
+    progress=False,
 ):
     """Trace a fan of rays from one source.
 
@@ -46,6 +48,13 @@ def trace_fan(
         for large fans: memory is rays x samples.
     max_bounces : int
         A ray is stopped ("absorbed") after more surface + bottom reflections than this.
+    progress : bool
+        Show a progress bar on stderr for a large fan (at least
+        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS` rays; range-dependent:
+        :data:`~seaprofile.propagation.codes.PROGRESS_RAYS_INTEGRATED`), only when stderr
+        is a terminal (:mod:`seaprofile._progress`). The rays are then traced in a few
+        groups (:class:`seaprofile._progress.Pieces`), one compiled call each; every ray
+        is traced alone, so the result is the same to the bit with or without the bar.
 
     Returns
     -------
@@ -64,15 +73,21 @@ def trace_fan(
     )
     if environment.is_range_dependent:
         return integrate.trace_fan_integrated(
-            environment, zs, a, rmax, range_step=range_step, max_bounces=mb
+            environment, zs, a, rmax, range_step=range_step, max_bounces=mb, progress=progress
         )
     zn, cn = environment.layers()
-    if range_step is None:
-        out = kernels.fan_paths(zn, cn, zs, a, rmax, mb)
-    else:
-        n = int(np.ceil(rmax / float(range_step) - 1e-9))
-        ranges = np.minimum(np.arange(n + 1) * float(range_step), rmax)
-        out = kernels.fan_samples(zn, cn, zs, a, ranges, mb)
+    large = a.size >= codes.PROGRESS_RAYS
+    # every event point: two passes over the rays (count, then store)
+    passes = 2 if range_step is None else 1
+    with _progress.pieces(
+        passes * a.size, progress=progress, large=large, desc="tracing rays"
+    ) as groups:
+        if range_step is None:
+            out = kernels.fan_paths(zn, cn, zs, a, rmax, mb, split=groups.split)
+        else:
+            n = int(np.ceil(rmax / float(range_step) - 1e-9))
+            ranges = np.minimum(np.arange(n + 1) * float(range_step), rmax)
+            out = kernels.fan_samples(zn, cn, zs, a, ranges, mb, split=groups.split)
     return rayfan_from_output(
         out,
         a,
