@@ -15,6 +15,7 @@ from .. import _cf
 from .._validate import SeaprofileError
 from ..io.errors import ArgumentError
 from ._common import require_cast, vertical
+from ._fastds import usable
 from .flags import pass_on_failed, raise_flags
 
 __all__ = ["despike", "DESPIKE_FLOOR", "DESPIKE_MAX_SPAN"]
@@ -70,6 +71,40 @@ def _running_median(x, half):
                 buf[q] = buf[q + 1]
             m -= 1
     return out
+
+
+@numba.njit(cache=True)
+def _full_windows(v, half, max_span):
+    """True where the centred window v[i-half : i+half+1] lies inside v and spans (largest
+    minus smallest value) at most ``max_span``.
+
+    The window extremes come from running extremes within blocks of the window's length,
+    from the left and from the right (van Herk 1992, Gil & Werman 1993): three passes,
+    whatever the window length.
+    """
+    m = v.size
+    w = 2 * half + 1
+    full = np.zeros(m, np.bool_)
+    if m < w:
+        return full
+    hi_l, lo_l = np.empty(m), np.empty(m)  # from the start of the block to i
+    hi_r, lo_r = np.empty(m), np.empty(m)  # from i to the end of the block
+    for start in range(0, m, w):
+        end = min(start + w, m)
+        hi_l[start] = lo_l[start] = v[start]
+        for i in range(start + 1, end):
+            hi_l[i] = v[i] if v[i] > hi_l[i - 1] else hi_l[i - 1]
+            lo_l[i] = v[i] if v[i] < lo_l[i - 1] else lo_l[i - 1]
+        hi_r[end - 1] = lo_r[end - 1] = v[end - 1]
+        for i in range(end - 2, start - 1, -1):
+            hi_r[i] = v[i] if v[i] > hi_r[i + 1] else hi_r[i + 1]
+            lo_r[i] = v[i] if v[i] < lo_r[i + 1] else lo_r[i + 1]
+    for i in range(half, m - half):
+        a, b = i - half, i + half  # the window's first and last sample
+        hi = hi_r[a] if hi_r[a] > hi_l[b] else hi_l[b]
+        lo = lo_r[a] if lo_r[a] < lo_l[b] else lo_l[b]
+        full[i] = hi - lo <= max_span
+    return full
 
 
 def _positive(name, value, what, whole=False):
@@ -149,14 +184,15 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span
     if variables is None:
         variables = [v for v in DESPIKE_FLOOR if v in cast.data_vars]
     _, vert = vertical(cast)
-    out = cast.copy()
+    variables_ = cast.variables
     counts, where, untested = {}, {}, {}
+    raised = {}  # name of a flag variable -> its new flags
     for var in variables:
         if var not in cast.data_vars:
             raise SeaprofileError(f"variables: {var!r} is not in the cast")
-        flags = cast[f"{var}_qc"].values
+        flags = variables_[f"{var}_qc"].values
         idx, hit, tested = _despike_one(
-            cast[var].values.astype(np.float64),
+            variables_[var].values.astype(np.float64),
             flags,
             vert,
             half,
@@ -169,11 +205,18 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span
         untested[var] = int(idx.size - tested)
         new = np.zeros(flags.size, np.int8)
         new[idx[hit]] = _cf.BAD
-        out.variables[f"{var}_qc"].data = raise_flags(flags, new)
+        raised[f"{var}_qc"] = raise_flags(flags, new)
+
+    def current(v):
+        return raised.get(f"{v}_qc", variables_[f"{v}_qc"].values)
+
     passed = {}
-    for var, f in pass_on_failed(out, lambda v: out[f"{v}_qc"].values).items():
-        passed[var] = int(np.count_nonzero(f != out[f"{var}_qc"].values))
-        out.variables[f"{var}_qc"].data = f
+    for var, f in pass_on_failed(cast, current).items():
+        passed[var] = int(np.count_nonzero(f != current(var)))
+        raised[f"{var}_qc"] = f
+    out = cast.copy()
+    for name, f in raised.items():
+        out.variables[name].data = f  # the copy's own Variables: the input is untouched
     out.attrs = _cf.record_step(
         cast.attrs,
         "despike",
@@ -192,12 +235,8 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span
 
 def _despike_one(x, flags, vert, half, threshold, floor, max_span):
     """Indices of the usable values, which of them are spikes, and how many were tested."""
-    idx = np.flatnonzero(_cf.usable(x, flags) & np.isfinite(vert))
-    m = idx.size
-    full = np.zeros(m, bool)
-    if m >= 2 * half + 1:
-        windows = np.lib.stride_tricks.sliding_window_view(vert[idx], 2 * half + 1)
-        full[half : m - half] = (windows.max(axis=1) - windows.min(axis=1)) <= max_span
+    idx = np.flatnonzero(usable(x, flags) & np.isfinite(vert))
+    full = _full_windows(vert[idx], half, max_span)
     xs = x[idx]
     r = xs - _running_median(xs, half)
     r = np.where(full, r, np.nan)  # biased residuals must not set the scale either

@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
 from seaprofile.casts import process as pr
-from seaprofile.casts.despike import _running_median, despike
+from seaprofile.casts.despike import _full_windows, _running_median, despike
 from seaprofile.casts.model import make_cast
 
 
@@ -114,6 +114,23 @@ def test_running_median_matches_numpy():
             for i in range(x.size)
         ]
         np.testing.assert_allclose(_running_median(x, half), ref, rtol=0, atol=0)
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    st.lists(st.floats(-50.0, 50.0), min_size=0, max_size=60),
+    st.integers(1, 8),
+    st.sampled_from([0.0, 0.5, 3.0, 30.0]),
+)
+def test_full_windows_matches_a_sliding_window(values, half, span):
+    # invariant: the block-extremes kernel gives what numpy's max - min over every full
+    # centred window gives (exact: extremes are values of the input)
+    v = np.array(values, np.float64)
+    ref = np.zeros(v.size, bool)
+    if v.size >= 2 * half + 1:
+        w = np.lib.stride_tricks.sliding_window_view(v, 2 * half + 1)
+        ref[half : v.size - half] = (w.max(axis=1) - w.min(axis=1)) <= span
+    np.testing.assert_array_equal(_full_windows(v, half, span), ref)
 
 
 def test_add_depth_check_value_and_missing_latitude():
