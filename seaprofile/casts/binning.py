@@ -25,6 +25,7 @@ from ._common import (
     require_profile,
     with_variable,
 )
+from ._fastds import usable
 from .flags import worst_flag
 from .gaps import (  # fill_gaps and its settings: public here too
     AUTO_GAP_FLOOR,
@@ -177,11 +178,12 @@ def bin_cast(
             raise SeaprofileError(f"cast has no {v}: run add_depth(cast, latitude=...) first")
     method = depth_method or cast.attrs.get("depth_method", "unesco1983")
     lat = latitude if latitude is not None else cast.attrs.get("depth_latitude", None)
-    no_pressure = axis == "depth" and not np.isfinite(cast["pressure"].values).any()
+    variables_ = cast.variables  # arrays read from here: no DataArray is built
+    no_pressure = axis == "depth" and not np.isfinite(variables_["pressure"].values).any()
     lat = None if no_pressure else cast_latitude(cast, lat)
 
-    x = cast[axis].values.astype(np.float64)
-    xflag = cast[f"{axis}_qc"].values
+    x = variables_[axis].values.astype(np.float64)
+    xflag = variables_[f"{axis}_qc"].values
     placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument, unit)
     levels = placed & _isolated(x, placed, float(sparse_spacing) * step)
     binned = placed & ~levels
@@ -190,10 +192,15 @@ def bin_cast(
 
     variables = [v for v in _BINNED if v in cast.data_vars and v not in (axis, other)]
     rows = {}  # name -> (values, flags) on the bins, then the kept levels
+    left_out = {}
     for var in variables:
-        mean, bflag = _bin_means(cast, var, binned, idx, nb)
-        val, fl = _level_values(cast, var, levels)
-        rows[var] = (np.concatenate([mean, val]), np.concatenate([bflag, fl]))
+        vals = variables_[var].values.astype(np.float64)
+        fl = variables_[f"{var}_qc"].values
+        ok = usable(vals, fl)
+        mean, bflag = _bin_means(vals, fl, binned & ok, idx, nb)
+        val, lfl = _level_values(vals, fl, levels)
+        rows[var] = (np.concatenate([mean, val]), np.concatenate([bflag, lfl]))
+        left_out[var] = int(np.count_nonzero(placed & ~ok))
     # the axis pair: converted from the bin centres, flagged like the axis samples
     axis_flag = _highest_flag(idx, binned, xflag, nb)
     axis_flag[counts == 0] = _cf.ESTIMATED
@@ -211,12 +218,12 @@ def bin_cast(
             pressure = centres
             comment = "pressure-bin centre"
     nl = int(levels.sum())
-    depth = np.concatenate([depth, cast["depth"].values[levels]])
-    pressure = np.concatenate([pressure, cast["pressure"].values[levels]])
+    depth = np.concatenate([depth, variables_["depth"].values[levels]])
+    pressure = np.concatenate([pressure, variables_["pressure"].values[levels]])
     # the pressure column's flags: a kept level has the cast's own pressure_qc (on
     # either axis); a bin has its axis samples' flags (pressure bins: their pressure_qc;
     # depth bins: the depth_qc of the depths the pressure was converted from)
-    pair_flag = np.concatenate([axis_flag, cast["pressure_qc"].values[levels]])
+    pair_flag = np.concatenate([axis_flag, variables_["pressure_qc"].values[levels]])
     if no_pressure:
         pair_flag[:] = _cf.MISSING
     counts = np.concatenate([counts, np.ones(nl, np.int64)])
@@ -226,9 +233,11 @@ def bin_cast(
     dim = ("depth",)
     data = {}
     for var, (val, fl) in rows.items():
-        data[var] = (dim, val[order], _cf.attrs_for(var, ancillary_variables=f"{var}_qc"))
-        data[f"{var}_qc"] = (dim, fl[order].astype(np.int8), _cf.flag_attrs(var))
-    data["pressure"] = (
+        data[var] = xr.Variable(
+            dim, val[order], _cf.attrs_for(var, ancillary_variables=f"{var}_qc")
+        )
+        data[f"{var}_qc"] = xr.Variable(dim, fl[order].astype(np.int8), _cf.flag_attrs(var))
+    data["pressure"] = xr.Variable(
         dim,
         pressure[order],
         _cf.attrs_for(
@@ -237,18 +246,18 @@ def bin_cast(
             comment=comment + ("; the sample's own pressure at a kept level" if nl else ""),
         ),
     )
-    data["pressure_qc"] = (dim, pair_flag[order].astype(np.int8), _cf.flag_attrs("pressure"))
-    data["samples_per_bin"] = (
-        dim,
-        counts[order].astype(np.int32),
-        _cf.attrs_for("samples_per_bin"),
+    data["pressure_qc"] = xr.Variable(
+        dim, pair_flag[order].astype(np.int8), _cf.flag_attrs("pressure")
+    )
+    data["samples_per_bin"] = xr.Variable(
+        dim, counts[order].astype(np.int32), _cf.attrs_for("samples_per_bin")
     )
 
     depth = depth[order]
-    coords = {"depth": ("depth", depth, _cf.attrs_for("depth"))}
+    coords = {"depth": xr.Variable(dim, depth, _cf.attrs_for("depth"))}
     for c in ("latitude", "longitude", "time", "profile_id"):
         if c in cast.coords:
-            coords[c] = cast.coords[c].variable
+            coords[c] = variables_[c]
     attrs = {k: v for k, v in cast.attrs.items() if k not in ("cast_direction",)}
     with_data = counts[order] > 0
     attrs.update(
@@ -257,7 +266,6 @@ def bin_cast(
         depth_method=method,
         cast_max_depth=float(depth[with_data][-1]),
     )
-    left_out = {var: int(np.count_nonzero(placed & ~_usable(cast, var))) for var in variables}
     attrs = _cf.record_step(
         attrs,
         "bin_cast",
@@ -271,11 +279,6 @@ def bin_cast(
         not_placed=int(np.count_nonzero(~placed)),
     )
     return xr.Dataset(data, coords=coords, attrs=attrs)
-
-
-def _usable(cast, var):
-    vals = cast[var].values.astype(np.float64)
-    return _cf.usable(vals, cast[f"{var}_qc"].values)
 
 
 def _isolated(x, placed, distance):
@@ -294,11 +297,10 @@ def _isolated(x, placed, distance):
     return out
 
 
-def _level_values(cast, var, levels):
+def _level_values(vals, flags, levels):
     """Own values and flags of the kept levels (NaN and 9 where not usable)."""
-    vals = cast[var].values.astype(np.float64)[levels]
-    fl = cast[f"{var}_qc"].values[levels].astype(np.int8)
-    ok = _cf.usable(vals, fl)
+    vals, fl = vals[levels], flags[levels].astype(np.int8)
+    ok = usable(vals, fl)
     return np.where(ok, vals, np.nan), np.where(ok, fl, _cf.MISSING).astype(np.int8)
 
 
@@ -330,7 +332,7 @@ def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
     centres)`` covering the shallowest to the deepest occupied bin.
     """
     with np.errstate(invalid="ignore"):
-        placed = _cf.usable(x, flags) & (x >= -0.5 * step)
+        placed = usable(x, flags) & (x >= -0.5 * step)
     if not placed.any():
         raise SeaprofileError(f"cast has no usable {axis} samples to bin")
     lo, hi = float(x[placed].min()), float(x[placed].max())
@@ -351,11 +353,9 @@ def _highest_flag(idx, use, flags, nb):
     return out
 
 
-def _bin_means(cast, var, placed, idx, nb):
-    """Mean of the usable samples of ``var`` in each bin, and the bin flags (9 if none)."""
-    vals = cast[var].values.astype(np.float64)
-    fl = cast[f"{var}_qc"].values
-    use = placed & _cf.usable(vals, fl)
+def _bin_means(vals, fl, use, idx, nb):
+    """Mean of the samples ``vals[use]`` in each bin, and the bin flags (highest of
+    ``fl[use]``; 9 if none)."""
     n = np.bincount(idx[use], minlength=nb)
     total = np.bincount(idx[use], weights=vals[use], minlength=nb)
     with np.errstate(invalid="ignore", divide="ignore"):
