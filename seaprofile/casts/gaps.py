@@ -104,13 +104,14 @@ def fill_gaps(profile, max_gap=5.0):
             ) from None
         if not max_gap >= 0:
             raise ArgumentError("max_gap", f"must be a depth >= 0 m, 'auto' or None, got {max_gap}")
-    z = profile["depth"].values.astype(np.float64)
+    variables = profile.variables  # arrays read from here: no DataArray is built
+    z = variables["depth"].values.astype(np.float64)
     step = profile.attrs.get("bin_size")
     step = float(step) if step else (float(np.median(np.diff(z))) if z.size > 1 else 0.0)
     out = profile.copy()
     filled, widest, done, left = {}, 0.0, set(), set()
     for var in _profile_vars(profile):
-        v = profile[var].values.astype(np.float64)
+        v = variables[var].values.astype(np.float64)
         good = np.isfinite(v)
         iv = np.flatnonzero(good)
         if iv.size < 2:
@@ -118,33 +119,36 @@ def fill_gaps(profile, max_gap=5.0):
             continue
         j = np.flatnonzero(~good)
         j = j[(j > iv[0]) & (j < iv[-1])]
-        pos = np.searchsorted(iv, j)
-        top, bottom = z[iv[pos - 1]], z[iv[pos]]
-        width = bottom - top
-        if auto:
-            zi = z[iv]
-            spacing = np.diff(zi)  # spacing[k]: level k to level k + 1
-            above = np.where(pos >= 2, spacing[np.maximum(pos - 2, 0)], np.nan)
-            below = np.where(pos + 1 < iv.size, spacing[np.minimum(pos, spacing.size - 1)], np.nan)
-            near = np.fmax(above, below)
-            limit = np.where(
-                np.isfinite(near), np.maximum(AUTO_GAP_FLOOR, AUTO_GAP_SPACINGS * near), np.inf
-            )
-            keep = width - step <= limit + 1e-9
-        elif max_gap is not None:
-            keep = width - step <= max_gap + 1e-9 * max(1.0, abs(max_gap))
-        else:
-            keep = np.ones(j.size, bool)
-        widest = max(widest, float(width.max()) if width.size else 0.0)
-        done.update(zip(top[keep].tolist(), bottom[keep].tolist()))
-        left.update(zip(top[~keep].tolist(), bottom[~keep].tolist()))
-        j = j[keep]
-        new = v.copy()
-        new[j] = np.interp(z[j], z[iv], v[iv])
-        flags = profile[f"{var}_qc"].values.copy()
-        flags[j] = _cf.ESTIMATED
-        out.variables[var].data = new  # the copy's own Variables: the input is untouched
-        out.variables[f"{var}_qc"].data = flags.astype(np.int8)
+        if j.size:  # dense casts mostly have none: skip the gap arithmetic
+            pos = np.searchsorted(iv, j)
+            top, bottom = z[iv[pos - 1]], z[iv[pos]]
+            width = bottom - top
+            if auto:
+                zi = z[iv]
+                spacing = np.diff(zi)  # spacing[k]: level k to level k + 1
+                above = np.where(pos >= 2, spacing[np.maximum(pos - 2, 0)], np.nan)
+                below = np.where(
+                    pos + 1 < iv.size, spacing[np.minimum(pos, spacing.size - 1)], np.nan
+                )
+                near = np.fmax(above, below)
+                limit = np.where(
+                    np.isfinite(near), np.maximum(AUTO_GAP_FLOOR, AUTO_GAP_SPACINGS * near), np.inf
+                )
+                keep = width - step <= limit + 1e-9
+            elif max_gap is not None:
+                keep = width - step <= max_gap + 1e-9 * max(1.0, abs(max_gap))
+            else:
+                keep = np.ones(j.size, bool)
+            widest = max(widest, float(width.max()))
+            done.update(zip(top[keep].tolist(), bottom[keep].tolist()))
+            left.update(zip(top[~keep].tolist(), bottom[~keep].tolist()))
+            j = j[keep]
+        flags = variables[f"{var}_qc"].values.astype(np.int8)  # a copy, as v is
+        if j.size:
+            v[j] = np.interp(z[j], z[iv], v[iv])
+            flags[j] = _cf.ESTIMATED
+        out.variables[var].data = v  # the copy's own Variables: the input is untouched
+        out.variables[f"{var}_qc"].data = flags
         filled[var] = int(j.size)
     attrs = dict(largest_gap=widest, filled_gaps=_gap_spans(done), unfilled_gaps=_gap_spans(left))
     out.attrs = _cf.record_step(
