@@ -23,9 +23,8 @@ from ._common import (
     position,
     require_cast,
     require_profile,
-    with_variable,
 )
-from ._fastds import usable
+from ._fastds import usable, with_variables
 from .flags import worst_flag
 from .gaps import (  # fill_gaps and its settings: public here too
     AUTO_GAP_FLOOR,
@@ -388,9 +387,8 @@ def add_sound_speed(profile, equation="chen_millero1977", *, prefer_measured=Tru
         attribute ``equation``.
     """
     require_profile(profile)
-    out = profile.copy()
     if prefer_measured and "measured_sound_speed" in profile.data_vars:
-        out = out.rename(
+        out = profile.copy().rename(
             {"measured_sound_speed": "sound_speed", "measured_sound_speed_qc": "sound_speed_qc"}
         )
         out["sound_speed"].attrs = _cf.attrs_for(
@@ -409,26 +407,34 @@ def add_sound_speed(profile, equation="chen_millero1977", *, prefer_measured=Tru
     for v in ("temperature", "salinity", "pressure"):
         if v not in profile.data_vars:
             raise SeaprofileError(f"profile has no {v}, needed for equation {equation!r}")
+    variables = profile.variables  # arrays read from here: no DataArray is built
     c = _equation_sound_speed(
         profile,
         equation,
-        profile["temperature"].values,
-        profile["salinity"].values,
-        profile["pressure"].values,
-        profile["depth"].values,
+        variables["temperature"].values,
+        variables["salinity"].values,
+        variables["pressure"].values,
+        variables["depth"].values,
     )
     flags = worst_flag(
-        profile["temperature_qc"].values,
-        profile["salinity_qc"].values,
-        profile["pressure_qc"].values,
+        variables["temperature_qc"].values,
+        variables["salinity_qc"].values,
+        variables["pressure_qc"].values,
     )
     flags = np.where(np.isfinite(c), flags, _cf.MISSING).astype(np.int8)
-    out = with_variable(
-        out, "depth", "sound_speed", c, flags, comment=f"computed with equation {equation}"
+    dim = ("depth",)
+    attrs = _cf.record_step(profile.attrs, "add_sound_speed", equation=equation)
+    attrs["equation"] = equation
+    speed_attrs = _cf.attrs_for(
+        "sound_speed",
+        ancillary_variables="sound_speed_qc",
+        comment=f"computed with equation {equation}",
     )
-    out.attrs = _cf.record_step(profile.attrs, "add_sound_speed", equation=equation)
-    out.attrs["equation"] = equation
-    return out
+    new = {
+        "sound_speed": xr.Variable(dim, np.asarray(c, np.float64), speed_attrs),
+        "sound_speed_qc": xr.Variable(dim, flags, _cf.flag_attrs("sound_speed")),
+    }
+    return with_variables(profile, new, attrs)
 
 
 def _equation_sound_speed(ds, equation, t, s, p, z):
