@@ -18,6 +18,7 @@ from ..io.errors import ArgumentError, MemoryLimitError
 from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
+from ._binning_kernels import _bin_totals
 from ._common import (
     cast_latitude,
     position,
@@ -187,7 +188,8 @@ def bin_cast(
     levels = placed & _isolated(x, placed, float(sparse_spacing) * step)
     binned = placed & ~levels
     nb = centres.size
-    counts = np.bincount(idx[binned], minlength=nb)
+    # the axis samples per bin, and their highest flag (for the axis pair)
+    counts, _, axis_flag = _bin_totals(idx, binned, x, xflag.astype(np.int8, copy=False), nb)
 
     variables = [v for v in _BINNED if v in cast.data_vars and v not in (axis, other)]
     rows = {}  # name -> (values, flags) on the bins, then the kept levels
@@ -201,7 +203,6 @@ def bin_cast(
         rows[var] = (np.concatenate([mean, val]), np.concatenate([bflag, lfl]))
         left_out[var] = int(np.count_nonzero(placed & ~ok))
     # the axis pair: converted from the bin centres, flagged like the axis samples
-    axis_flag = _highest_flag(idx, binned, xflag, nb)
     axis_flag[counts == 0] = _cf.ESTIMATED
     with np.errstate(over="ignore", invalid="ignore"):
         if axis == "depth" and no_pressure:  # a speed-against-depth cast, no position
@@ -345,21 +346,12 @@ def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
     return placed, k - kmin, (kmin + np.arange(nb)) * step
 
 
-def _highest_flag(idx, use, flags, nb):
-    """The highest of the flags ``flags[use]`` in each of ``nb`` bins (0 where none)."""
-    out = np.zeros(nb, np.int8)
-    np.maximum.at(out, idx[use], flags[use].astype(np.int8))
-    return out
-
-
 def _bin_means(vals, fl, use, idx, nb):
     """Mean of the samples ``vals[use]`` in each bin, and the bin flags (highest of
     ``fl[use]``; 9 if none)."""
-    n = np.bincount(idx[use], minlength=nb)
-    total = np.bincount(idx[use], weights=vals[use], minlength=nb)
+    n, total, bflag = _bin_totals(idx, use, vals, fl.astype(np.int8, copy=False), nb)
     with np.errstate(invalid="ignore", divide="ignore"):
         mean = np.where(n > 0, total / n, np.nan)
-    bflag = _highest_flag(idx, use, fl, nb)
     bflag[n == 0] = _cf.MISSING
     return mean, bflag
 
