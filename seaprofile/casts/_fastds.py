@@ -1,45 +1,15 @@
-"""Cheap access to the arrays of a Cast or Profile for the per-cast steps.
+"""Building the output Dataset of a per-cast step once.
 
-A Cast has 5000 samples or so: numpy work on it takes microseconds, while building an
-``xarray.DataArray`` on every ``ds[name]`` or testing flags with :func:`numpy.isin` takes
-tens of them. The steps of :mod:`seaprofile.casts.despike`, :mod:`seaprofile.casts.binning`
-and :mod:`seaprofile.casts.gaps` read their arrays with ``ds.variables[name].values`` and test flags with
-:func:`usable`, which gives exactly what :func:`seaprofile._cf.usable` gives.
+A Cast has 5000 samples or so: numpy work on it takes microseconds, while each xarray
+copy, alignment and merge takes a few hundred. :func:`with_variables` gives what
+:meth:`xarray.Dataset.assign` gives -- same variables, order, coordinates, indexes and
+encoding -- through one Dataset construction (used by
+:func:`seaprofile.casts.binning.add_sound_speed`).
 """
 
 from __future__ import annotations
 
-import numpy as np
 import xarray as xr
-
-from .. import _cf
-
-# flag byte -> unusable (3, 4, 9): one table look-up per sample
-_UNUSABLE = np.zeros(256, dtype=bool)
-_UNUSABLE[np.array(_cf.UNUSABLE_FLAGS, dtype=np.int8).view(np.uint8)] = True
-
-
-def usable(values, flags):
-    """Where ``values`` may be used: :func:`seaprofile._cf.usable`, by table look-up.
-
-    Parameters
-    ----------
-    values : numpy.ndarray of float
-        Values of any variable, in its own units.
-    flags : numpy.ndarray of int
-        Their Argo flags (same shape). Flags stored as int8 or uint8 (every Cast and
-        Profile) are looked up in a 256-entry table; any other dtype goes through
-        :func:`seaprofile._cf.usable` itself.
-
-    Returns
-    -------
-    numpy.ndarray of bool
-        True where the value is finite and its flag is not 3, 4 or 9.
-    """
-    flags = np.asarray(flags)
-    if flags.dtype == np.int8 or flags.dtype == np.uint8:
-        return np.isfinite(values) & ~_UNUSABLE[flags.view(np.uint8)]
-    return _cf.usable(values, flags)
 
 
 def with_variables(ds, new, attrs):

@@ -25,7 +25,7 @@ from ._common import (
     require_cast,
     require_profile,
 )
-from ._fastds import usable, with_variables
+from ._fastds import with_variables
 from .flags import worst_flag
 from .gaps import (  # fill_gaps and its settings: public here too
     AUTO_GAP_FLOOR,
@@ -197,7 +197,7 @@ def bin_cast(
     for var in variables:
         vals = variables_[var].values.astype(np.float64)
         fl = variables_[f"{var}_qc"].values
-        ok = usable(vals, fl)
+        ok = _cf.usable(vals, fl)
         mean, bflag = _bin_means(vals, fl, binned & ok, idx, nb)
         val, lfl = _level_values(vals, fl, levels)
         rows[var] = (np.concatenate([mean, val]), np.concatenate([bflag, lfl]))
@@ -300,7 +300,7 @@ def _isolated(x, placed, distance):
 def _level_values(vals, flags, levels):
     """Own values and flags of the kept levels (NaN and 9 where not usable)."""
     vals, fl = vals[levels], flags[levels].astype(np.int8)
-    ok = usable(vals, fl)
+    ok = _cf.usable(vals, fl)
     return np.where(ok, vals, np.nan), np.where(ok, fl, _cf.MISSING).astype(np.int8)
 
 
@@ -332,7 +332,7 @@ def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
     centres)`` covering the shallowest to the deepest occupied bin.
     """
     with np.errstate(invalid="ignore"):
-        placed = usable(x, flags) & (x >= -0.5 * step)
+        placed = _cf.usable(x, flags) & (x >= -0.5 * step)
     if not placed.any():
         raise SeaprofileError(f"cast has no usable {axis} samples to bin")
     lo, hi = float(x[placed].min()), float(x[placed].max())

@@ -15,8 +15,7 @@ from .. import _cf
 from .._validate import SeaprofileError
 from ..io.errors import ArgumentError
 from ._common import require_cast, vertical
-from ._fastds import usable
-from .flags import pass_on_failed, raise_flags
+from .flags import pass_on_failed, raise_where
 
 __all__ = ["despike", "DESPIKE_FLOOR", "DESPIKE_MAX_SPAN"]
 
@@ -70,6 +69,30 @@ def _running_median(x, half):
             for q in range(k, m - 1):
                 buf[q] = buf[q + 1]
             m -= 1
+    return out
+
+
+@numba.njit(cache=True)
+def _median_at(x, half, at):
+    """:func:`_running_median` at the samples ``at`` only: the median of the finite values
+    of x[i-half : i+half+1] for each i in ``at`` (NaN if none), the window sorted afresh."""
+    n = x.size
+    out = np.full(at.size, np.nan)
+    buf = np.empty(2 * half + 1)
+    for q in range(at.size):
+        i = at[q]
+        m = 0
+        for j in range(max(i - half, 0), min(i + half + 1, n)):
+            v = x[j]
+            if np.isfinite(v):
+                k = m
+                while k > 0 and buf[k - 1] > v:
+                    buf[k] = buf[k - 1]
+                    k -= 1
+                buf[k] = v
+                m += 1
+        if m > 0:
+            out[q] = buf[m // 2] if m % 2 == 1 else 0.5 * (buf[m // 2 - 1] + buf[m // 2])
     return out
 
 
@@ -203,9 +226,9 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span
         counts[var] = int(hit.sum())
         where[var] = [float(v) for v in vert[idx[hit]][:20]]
         untested[var] = int(idx.size - tested)
-        new = np.zeros(flags.size, np.int8)
-        new[idx[hit]] = _cf.BAD
-        raised[f"{var}_qc"] = raise_flags(flags, new)
+        spike = np.zeros(flags.size, bool)
+        spike[idx[hit]] = True
+        raised[f"{var}_qc"] = raise_where(flags, spike, _cf.BAD)
 
     def current(v):
         return raised.get(f"{v}_qc", variables_[f"{v}_qc"].values)
@@ -235,12 +258,21 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span
 
 def _despike_one(x, flags, vert, half, threshold, floor, max_span):
     """Indices of the usable values, which of them are spikes, and how many were tested."""
-    idx = np.flatnonzero(usable(x, flags) & np.isfinite(vert))
+    idx = np.flatnonzero(_cf.usable(x, flags) & np.isfinite(vert))
     full = _full_windows(vert[idx], half, max_span)
     xs = x[idx]
     r = xs - _running_median(xs, half)
     r = np.where(full, r, np.nan)  # biased residuals must not set the scale either
-    scale = 1.4826 * _running_median(np.abs(r), half)
+    a = np.abs(r)
     with np.errstate(invalid="ignore"):
-        hit = full & (np.abs(r) > np.maximum(threshold * scale, floor))
+        # |r| <= floor is never a spike, whatever the scale: the scale is needed only at
+        # the other tested samples, usually few (NaN elsewhere gives no spike either)
+        need = np.flatnonzero(full & ~(a <= floor))
+    if need.size > a.size // 8:
+        scale = 1.4826 * _running_median(a, half)
+    else:
+        scale = np.full(a.size, np.nan)
+        scale[need] = 1.4826 * _median_at(a, half, need)
+    with np.errstate(invalid="ignore"):
+        hit = full & (a > np.maximum(threshold * scale, floor))
     return idx, hit, int(full.sum())

@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 from seaprofile import _cf
 from seaprofile._validate import SeaprofileError
 from seaprofile.casts import process as pr
-from seaprofile.casts.despike import _full_windows, _running_median, despike
+from seaprofile.casts.despike import _full_windows, _median_at, _running_median, despike
 from seaprofile.casts.model import make_cast
 
 
@@ -131,6 +131,20 @@ def test_full_windows_matches_a_sliding_window(values, half, span):
         w = np.lib.stride_tricks.sliding_window_view(v, 2 * half + 1)
         ref[half : v.size - half] = (w.max(axis=1) - w.min(axis=1)) <= span
     np.testing.assert_array_equal(_full_windows(v, half, span), ref)
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    st.lists(st.one_of(st.floats(-5.0, 5.0), st.just(np.nan)), min_size=1, max_size=60),
+    st.integers(1, 8),
+    st.data(),
+)
+def test_median_at_is_the_running_median_at_those_samples(values, half, data):
+    # invariant: sorting each window afresh gives the sliding window's median bit for bit
+    x = np.array(values, np.float64)
+    at = np.array(data.draw(st.lists(st.integers(0, x.size - 1), max_size=10)), np.int64)
+    expected = _running_median(x, half)[at]
+    assert _median_at(x, half, at).tobytes() == expected.tobytes()
 
 
 def test_add_depth_check_value_and_missing_latitude():
