@@ -288,12 +288,14 @@ def _isolated(x, placed, distance):
     where = np.flatnonzero(placed)
     if not np.isfinite(distance):
         return out
-    order = where[np.argsort(x[where], kind="stable")]
-    xs = x[order]
+    xs = x[where]
+    if not (xs[1:] >= xs[:-1]).all():  # in order already (a down cast): the sort is a no-op
+        order = np.argsort(xs, kind="stable")
+        where, xs = where[order], xs[order]
     gap = np.diff(xs)
     above = np.concatenate(([np.inf], gap))
     below = np.concatenate((gap, [np.inf]))
-    out[order] = (above > distance) & (below > distance)
+    out[where] = (above > distance) & (below > distance)
     return out
 
 
@@ -335,15 +337,18 @@ def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
         placed = _cf.usable(x, flags) & (x >= -0.5 * step)
     if not placed.any():
         raise SeaprofileError(f"cast has no usable {axis} samples to bin")
-    lo, hi = float(x[placed].min()), float(x[placed].max())
+    xp = x[placed]
+    lo, hi = float(xp.min()), float(xp.max())
     with np.errstate(over="ignore", invalid="ignore"):
         count = np.floor(hi / step + 0.5) - np.floor(lo / step + 0.5) + 1
     check_bin_count(count if np.isfinite(count) else np.inf, step, hi - lo, argument, unit)
+    kp = np.floor(xp / step + 0.5).astype(np.int64)
+    kmin = int(kp.min())
+    nb = int(kp.max()) - kmin + 1
     k = np.zeros(x.size, np.int64)
-    k[placed] = np.floor(x[placed] / step + 0.5).astype(np.int64)
-    kmin = int(k[placed].min())
-    nb = int(k[placed].max()) - kmin + 1
-    return placed, k - kmin, (kmin + np.arange(nb)) * step
+    k[placed] = kp
+    k -= kmin
+    return placed, k, (kmin + np.arange(nb)) * step
 
 
 def _bin_means(vals, fl, use, idx, nb):
