@@ -1,5 +1,5 @@
-"""Compiled loop behind :func:`seaprofile.casts.binning.bin_cast`: per-bin counts, sums
-and highest flags in one pass over the samples.
+"""Compiled loops behind :func:`seaprofile.casts.binning.bin_cast`: per-bin counts, sums,
+means and highest flags in one pass over the samples.
 
 The sums add the samples in their order, as :func:`numpy.bincount` does, so the bin means
 are the same to the last bit.
@@ -29,3 +29,35 @@ def _bin_totals(idx, use, values, flags, nb):
             if flags[i] > highest[k]:
                 highest[k] = flags[i]
     return count, total, highest
+
+
+@numba.njit(cache=True)
+def _bin_means_kernel(idx, binned, placed, ok, values, flags, nb, missing):
+    """Mean of the samples ``binned & ok`` in each of ``nb`` bins (NaN if none), their
+    highest flag (``missing`` if none), and the count of samples ``placed & ~ok``.
+
+    ``idx`` (int64): the bin of each sample; ``values`` (float64, any units) summed in
+    sample order and divided by the count, as ``numpy.bincount`` sums and numpy divides.
+    """
+    count = np.zeros(nb, np.int64)
+    total = np.zeros(nb)
+    highest = np.zeros(nb, np.int8)
+    left_out = 0
+    for i in range(idx.size):
+        if ok[i]:
+            if binned[i]:
+                k = idx[i]
+                count[k] += 1
+                total[k] += values[i]
+                if flags[i] > highest[k]:
+                    highest[k] = flags[i]
+        elif placed[i]:
+            left_out += 1
+    mean = np.empty(nb)
+    for k in range(nb):
+        if count[k] > 0:
+            mean[k] = total[k] / count[k]
+        else:
+            mean[k] = np.nan
+            highest[k] = missing
+    return mean, highest, left_out

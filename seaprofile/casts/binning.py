@@ -18,7 +18,7 @@ from ..io.errors import ArgumentError, MemoryLimitError
 from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
-from ._binning_kernels import _bin_totals
+from ._binning_kernels import _bin_means_kernel, _bin_totals
 from ._common import (
     cast_latitude,
     position,
@@ -186,6 +186,7 @@ def bin_cast(
     xflag = variables_[f"{axis}_qc"].values
     placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument, unit)
     levels = placed & _isolated(x, placed, float(sparse_spacing) * step)
+    nl = int(levels.sum())
     binned = placed & ~levels
     nb = centres.size
     # the axis samples per bin, and their highest flag (for the axis pair)
@@ -198,10 +199,14 @@ def bin_cast(
         vals = variables_[var].values.astype(np.float64)
         fl = variables_[f"{var}_qc"].values
         ok = _cf.usable(vals, fl)
-        mean, bflag = _bin_means(vals, fl, binned & ok, idx, nb)
-        val, lfl = _level_values(vals, fl, levels)
-        rows[var] = (np.concatenate([mean, val]), np.concatenate([bflag, lfl]))
-        left_out[var] = int(np.count_nonzero(placed & ~ok))
+        mean, bflag, left = _bin_means_kernel(
+            idx, binned, placed, ok, vals, fl.astype(np.int8, copy=False), nb, _cf.MISSING
+        )
+        if nl:
+            val, lfl = _level_values(vals, fl, levels)
+            mean, bflag = np.concatenate([mean, val]), np.concatenate([bflag, lfl])
+        rows[var] = (mean, bflag)
+        left_out[var] = int(left)
     # the axis pair: converted from the bin centres, flagged like the axis samples
     axis_flag[counts == 0] = _cf.ESTIMATED
     with np.errstate(over="ignore", invalid="ignore"):
@@ -217,7 +222,6 @@ def bin_cast(
             depth = np.asarray(depth_from_pressure(centres, lat, method), np.float64)
             pressure = centres
             comment = "pressure-bin centre"
-    nl = int(levels.sum())
     depth = np.concatenate([depth, variables_["depth"].values[levels]])
     pressure = np.concatenate([pressure, variables_["pressure"].values[levels]])
     # the pressure column's flags: a kept level has the cast's own pressure_qc (on
@@ -349,16 +353,6 @@ def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
     k[placed] = kp
     k -= kmin
     return placed, k, (kmin + np.arange(nb)) * step
-
-
-def _bin_means(vals, fl, use, idx, nb):
-    """Mean of the samples ``vals[use]`` in each bin, and the bin flags (highest of
-    ``fl[use]``; 9 if none)."""
-    n, total, bflag = _bin_totals(idx, use, vals, fl.astype(np.int8, copy=False), nb)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        mean = np.where(n > 0, total / n, np.nan)
-    bflag[n == 0] = _cf.MISSING
-    return mean, bflag
 
 
 def add_sound_speed(profile, equation="chen_millero1977", *, prefer_measured=True):
