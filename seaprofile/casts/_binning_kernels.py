@@ -1,5 +1,5 @@
-"""Compiled loops behind :func:`seaprofile.casts.binning.bin_cast`: per-bin counts, sums,
-means and highest flags in one pass over the samples.
+"""Compiled loop behind :func:`seaprofile.casts.binning.bin_cast`: per-bin counts, means
+and highest flags in one pass over the samples.
 
 The sums add the samples in their order, as :func:`numpy.bincount` does, so the bin means
 are the same to the last bit.
@@ -12,32 +12,13 @@ import numpy as np
 
 
 @numba.njit(cache=True)
-def _bin_totals(idx, use, values, flags, nb):
-    """Count, sum and highest flag of the samples ``use`` in each of ``nb`` bins.
+def _bin_stats(idx, binned, placed, ok, values, flags, nb, empty_flag):
+    """Per bin, over the samples ``binned & ok``: their count, mean (NaN if none) and
+    highest flag (``empty_flag`` if none); and the count of the samples ``placed & ~ok``.
 
-    ``idx`` (int64, 0..nb-1 where ``use``): the bin of each sample; ``values`` (float64,
-    any units) summed in sample order; ``flags`` (int8): the highest of them and 0 per bin.
-    """
-    count = np.zeros(nb, np.int64)
-    total = np.zeros(nb)
-    highest = np.zeros(nb, np.int8)
-    for i in range(idx.size):
-        if use[i]:
-            k = idx[i]
-            count[k] += 1
-            total[k] += values[i]
-            if flags[i] > highest[k]:
-                highest[k] = flags[i]
-    return count, total, highest
-
-
-@numba.njit(cache=True)
-def _bin_means_kernel(idx, binned, placed, ok, values, flags, nb, missing):
-    """Mean of the samples ``binned & ok`` in each of ``nb`` bins (NaN if none), their
-    highest flag (``missing`` if none), and the count of samples ``placed & ~ok``.
-
-    ``idx`` (int64): the bin of each sample; ``values`` (float64, any units) summed in
-    sample order and divided by the count, as ``numpy.bincount`` sums and numpy divides.
+    ``idx`` (int64, 0..nb-1 where ``binned``): the bin of each sample; ``values``
+    (float64, any units) summed in sample order and divided by the count, as
+    ``numpy.bincount`` sums and numpy divides; ``flags`` int8.
     """
     count = np.zeros(nb, np.int64)
     total = np.zeros(nb)
@@ -59,5 +40,5 @@ def _bin_means_kernel(idx, binned, placed, ok, values, flags, nb, missing):
             mean[k] = total[k] / count[k]
         else:
             mean[k] = np.nan
-            highest[k] = missing
-    return mean, highest, left_out
+            highest[k] = empty_flag
+    return count, mean, highest, left_out

@@ -18,7 +18,7 @@ from ..io.errors import ArgumentError, MemoryLimitError
 from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
-from ._binning_kernels import _bin_means_kernel, _bin_totals
+from ._binning_kernels import _bin_stats
 from ._common import (
     cast_latitude,
     position,
@@ -189,8 +189,10 @@ def bin_cast(
     nl = int(levels.sum())
     binned = placed & ~levels
     nb = centres.size
-    # the axis samples per bin, and their highest flag (for the axis pair)
-    counts, _, axis_flag = _bin_totals(idx, binned, x, xflag.astype(np.int8, copy=False), nb)
+    # the axis samples per bin, and their highest flag for the axis pair (8 if none)
+    counts, _, axis_flag, _ = _bin_stats(
+        idx, binned, placed, placed, x, xflag.astype(np.int8, copy=False), nb, _cf.ESTIMATED
+    )
 
     variables = [v for v in _BINNED if v in cast.data_vars and v not in (axis, other)]
     rows = {}  # name -> (values, flags) on the bins, then the kept levels
@@ -199,7 +201,7 @@ def bin_cast(
         vals = variables_[var].values.astype(np.float64)
         fl = variables_[f"{var}_qc"].values
         ok = _cf.usable(vals, fl)
-        mean, bflag, left = _bin_means_kernel(
+        _, mean, bflag, left = _bin_stats(
             idx, binned, placed, ok, vals, fl.astype(np.int8, copy=False), nb, _cf.MISSING
         )
         if nl:
@@ -208,7 +210,6 @@ def bin_cast(
         rows[var] = (mean, bflag)
         left_out[var] = int(left)
     # the axis pair: converted from the bin centres, flagged like the axis samples
-    axis_flag[counts == 0] = _cf.ESTIMATED
     with np.errstate(over="ignore", invalid="ignore"):
         if axis == "depth" and no_pressure:  # a speed-against-depth cast, no position
             depth = centres

@@ -37,6 +37,22 @@ DESPIKE_MAX_SPAN = 30.0
 
 # --- despiking -------------------------------------------------------------------------
 @numba.njit(cache=True)
+def _insert_sorted(buf, m, v):
+    """Insert ``v`` into the sorted ``buf[:m]``, after the values equal to it."""
+    k = m
+    while k > 0 and buf[k - 1] > v:
+        buf[k] = buf[k - 1]
+        k -= 1
+    buf[k] = v
+
+
+@numba.njit(cache=True)
+def _middle(buf, m):
+    """Median of the sorted ``buf[:m]`` (m > 0)."""
+    return buf[m // 2] if m % 2 == 1 else 0.5 * (buf[m // 2 - 1] + buf[m // 2])
+
+
+@numba.njit(cache=True)
 def _running_median(x, half):
     """Median of the finite values of x[i-half : i+half+1] for every i (NaN if none).
 
@@ -49,17 +65,12 @@ def _running_median(x, half):
     for j in range(-half, n):
         enter = j + half  # the sample entering the window of sample j
         if enter < n and np.isfinite(x[enter]):
-            v = x[enter]
-            k = m
-            while k > 0 and buf[k - 1] > v:
-                buf[k] = buf[k - 1]
-                k -= 1
-            buf[k] = v
+            _insert_sorted(buf, m, x[enter])
             m += 1
         if j < 0:
             continue
         if m > 0:
-            out[j] = buf[m // 2] if m % 2 == 1 else 0.5 * (buf[m // 2 - 1] + buf[m // 2])
+            out[j] = _middle(buf, m)
         leave = j - half  # the sample leaving before the window of sample j + 1
         if leave >= 0 and np.isfinite(x[leave]):
             v = x[leave]
@@ -83,16 +94,11 @@ def _median_at(x, half, at):
         i = at[q]
         m = 0
         for j in range(max(i - half, 0), min(i + half + 1, n)):
-            v = x[j]
-            if np.isfinite(v):
-                k = m
-                while k > 0 and buf[k - 1] > v:
-                    buf[k] = buf[k - 1]
-                    k -= 1
-                buf[k] = v
+            if np.isfinite(x[j]):
+                _insert_sorted(buf, m, x[j])
                 m += 1
         if m > 0:
-            out[q] = buf[m // 2] if m % 2 == 1 else 0.5 * (buf[m // 2 - 1] + buf[m // 2])
+            out[q] = _middle(buf, m)
     return out
 
 
