@@ -42,3 +42,27 @@ def _bin_stats(idx, binned, placed, ok, values, flags, nb, empty_flag):
             mean[k] = np.nan
             highest[k] = empty_flag
     return count, mean, highest, left_out
+
+
+@numba.njit(cache=True)
+def _isolated_in_order(x, placed, distance, out):
+    """Set ``out`` True at the samples ``placed`` whose nearest placed neighbours above and
+    below are both farther than ``distance`` (finite; a missing neighbour is far), when
+    the placed values of ``x`` (finite) are in order; return False, ``out`` untouched,
+    when they are not."""
+    prev = -1
+    for i in range(x.size):
+        if placed[i]:
+            if prev >= 0 and x[i] < x[prev]:
+                return False
+            prev = i
+    before, here = -1, -1  # the last two placed samples seen
+    for i in range(x.size + 1):
+        if i < x.size and not placed[i]:
+            continue
+        if here >= 0:
+            above = x[here] - x[before] if before >= 0 else np.inf
+            below = x[i] - x[here] if i < x.size else np.inf
+            out[here] = above > distance and below > distance
+        before, here = here, i
+    return True

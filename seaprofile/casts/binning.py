@@ -18,7 +18,7 @@ from ..io.errors import ArgumentError, MemoryLimitError
 from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
-from ._binning_kernels import _bin_stats
+from ._binning_kernels import _bin_stats, _isolated_in_order
 from ._common import (
     cast_latitude,
     position,
@@ -290,13 +290,14 @@ def _isolated(x, placed, distance):
     """Placed samples whose nearest placed neighbours above and below are both farther
     than ``distance`` along the axis (a missing neighbour counts as far)."""
     out = np.zeros(x.size, bool)
-    where = np.flatnonzero(placed)
     if not np.isfinite(distance):
         return out
+    if _isolated_in_order(x, placed, distance, out):  # a down cast: one compiled pass
+        return out
+    where = np.flatnonzero(placed)
     xs = x[where]
-    if not (xs[1:] >= xs[:-1]).all():  # in order already (a down cast): the sort is a no-op
-        order = np.argsort(xs, kind="stable")
-        where, xs = where[order], xs[order]
+    order = np.argsort(xs, kind="stable")
+    where, xs = where[order], xs[order]
     gap = np.diff(xs)
     above = np.concatenate(([np.inf], gap))
     below = np.concatenate((gap, [np.inf]))

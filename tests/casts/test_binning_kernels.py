@@ -4,7 +4,7 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from seaprofile.casts._binning_kernels import _bin_stats
+from seaprofile.casts._binning_kernels import _bin_stats, _isolated_in_order
 
 
 @settings(max_examples=200, deadline=None)
@@ -30,3 +30,31 @@ def test_bin_stats_match_bincount_bit_for_bit(nb, n, seed):
     assert m.tobytes() == mean.tobytes()
     assert f.tolist() == np.where(count > 0, highest, 9).tolist()
     assert left == int(np.count_nonzero(placed & ~ok))
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    st.lists(st.floats(0.0, 100.0), min_size=0, max_size=40),
+    st.floats(0.0, 20.0),
+    st.integers(0, 2**32 - 1),
+)
+def test_isolated_in_order_matches_the_sorted_gaps(values, distance, seed):
+    # invariant: in a sorted run the gaps to the previous and next placed value decide,
+    # as numpy.diff of the placed values does (a missing neighbour is infinitely far)
+    rng = np.random.default_rng(seed)
+    x = np.sort(np.array(values, np.float64))
+    placed = rng.random(x.size) < 0.8
+    xs = x[placed]
+    gap = np.diff(xs)
+    expected = np.zeros(x.size, bool)
+    expected[placed] = (np.concatenate(([np.inf], gap)) > distance) & (
+        np.concatenate((gap, [np.inf])) > distance
+    )
+    out = np.zeros(x.size, bool)
+    assert _isolated_in_order(x, placed, distance, out)
+    np.testing.assert_array_equal(out, expected)
+    if xs.size > 1 and xs[0] < xs[-1]:  # out of order: refused, out untouched
+        shuffled = x[::-1].copy()
+        untouched = np.zeros(x.size, bool)
+        assert not _isolated_in_order(shuffled, placed[::-1].copy(), distance, untouched)
+        assert not untouched.any()
