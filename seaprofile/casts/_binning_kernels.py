@@ -66,3 +66,36 @@ def _isolated_in_order(x, placed, distance, out):
             out[here] = above > distance and below > distance
         before, here = here, i
     return True
+
+
+@numba.njit(cache=True)
+def _bin_numbers_kernel(x, placed, step):
+    """``(lo, hi, k, kmin, kmax, fits)`` for the samples ``placed`` of ``x`` (finite): their
+    smallest and largest value and their bin numbers ``floor(x / step + 0.5)`` (``k``,
+    int64, 0 elsewhere; bin step ``step`` in the units of ``x``), computed as numpy
+    computes them. ``fits`` is False when a bin number reaches 2**62 (then ``k`` is not
+    to be used).
+    """
+    k = np.zeros(x.size, np.int64)
+    lo, hi = np.inf, -np.inf
+    kmin, kmax = 0, 0
+    first, fits = True, True
+    for i in range(x.size):
+        if not placed[i]:
+            continue
+        v = x[i]
+        if v < lo:
+            lo = v
+        if v > hi:
+            hi = v
+        f = np.floor(v / step + 0.5)
+        if not abs(f) < 2.0**62:
+            fits = False
+            continue
+        k[i] = int(f)
+        if first or k[i] < kmin:
+            kmin = k[i]
+        if first or k[i] > kmax:
+            kmax = k[i]
+        first = False
+    return lo, hi, k, kmin, kmax, fits

@@ -18,7 +18,7 @@ from ..io.errors import ArgumentError, MemoryLimitError
 from ..io.outputs import BYTES_PER_BIN, MEMORY_LIMIT, format_bytes
 from ..seawater.depth import depth_from_pressure, pressure_from_depth
 from ..seawater.soundspeed import EQUATIONS, sound_speed
-from ._binning_kernels import _bin_stats, _isolated_in_order
+from ._binning_kernels import _bin_numbers_kernel, _bin_stats, _isolated_in_order
 from ._common import (
     cast_latitude,
     position,
@@ -343,16 +343,15 @@ def _bin_numbers(x, flags, step, axis, argument="step", unit="m"):
         placed = _cf.usable(x, flags) & (x >= -0.5 * step)
     if not placed.any():
         raise SeaprofileError(f"cast has no usable {axis} samples to bin")
-    xp = x[placed]
-    lo, hi = float(xp.min()), float(xp.max())
+    lo, hi, k, kmin, kmax, fits = _bin_numbers_kernel(x, placed, float(step))
     with np.errstate(over="ignore", invalid="ignore"):
         count = np.floor(hi / step + 0.5) - np.floor(lo / step + 0.5) + 1
     check_bin_count(count if np.isfinite(count) else np.inf, step, hi - lo, argument, unit)
-    kp = np.floor(xp / step + 0.5).astype(np.int64)
-    kmin = int(kp.min())
-    nb = int(kp.max()) - kmin + 1
-    k = np.zeros(x.size, np.int64)
-    k[placed] = kp
+    if not fits:  # bin numbers beyond 2**62: numpy's own conversion, whatever it gives
+        kp = np.floor(x[placed] / step + 0.5).astype(np.int64)
+        kmin, kmax = int(kp.min()), int(kp.max())
+        k[placed] = kp
+    nb = kmax - kmin + 1
     k -= kmin
     return placed, k, (kmin + np.arange(nb)) * step
 

@@ -4,7 +4,7 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from seaprofile.casts._binning_kernels import _bin_stats, _isolated_in_order
+from seaprofile.casts._binning_kernels import _bin_numbers_kernel, _bin_stats, _isolated_in_order
 
 
 @settings(max_examples=200, deadline=None)
@@ -58,3 +58,25 @@ def test_isolated_in_order_matches_the_sorted_gaps(values, distance, seed):
         untouched = np.zeros(x.size, bool)
         assert not _isolated_in_order(shuffled, placed[::-1].copy(), distance, untouched)
         assert not untouched.any()
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    st.lists(st.floats(-1e3, 1e22), min_size=1, max_size=40),
+    st.sampled_from([0.1, 0.25, 1.0, 5.0, 1e-300]),
+    st.integers(0, 2**32 - 1),
+)
+def test_bin_numbers_kernel_matches_numpy(values, step, seed):
+    # invariant: floor(x / step + 0.5) as numpy computes it, with the extremes of the
+    # placed values; bin numbers too large for int64 are reported, not converted
+    x = np.array(values, np.float64)
+    placed = np.random.default_rng(seed).random(x.size) < 0.8
+    placed[0] = True
+    lo, hi, k, kmin, kmax, fits = _bin_numbers_kernel(x, placed, step)
+    assert (lo, hi) == (x[placed].min(), x[placed].max())
+    with np.errstate(over="ignore"):
+        f = np.floor(x[placed] / step + 0.5)
+    assert fits == bool((np.abs(f) < 2.0**62).all())
+    if fits:
+        assert k[placed].tolist() == f.astype(np.int64).tolist() and not k[~placed].any()
+        assert (kmin, kmax) == (int(f.min()), int(f.max()))
