@@ -108,8 +108,10 @@ def _full_windows(v, half, max_span):
     minus smallest value) at most ``max_span``.
 
     The window extremes come from running extremes within blocks of the window's length,
-    from the left and from the right (van Herk 1992, Gil & Werman 1993): three passes,
-    whatever the window length.
+    from the left and from the right: three passes, whatever the window length (M. van
+    Herk 1992, Pattern Recognit. Lett. 13, 517-521; J. Gil & M. Werman 1993, IEEE Trans.
+    Pattern Anal. Mach. Intell. 15, 504-507; references from memory). Extremes are input
+    values, so the spans are exactly those of a direct maximum minus minimum.
     """
     m = v.size
     w = 2 * half + 1
