@@ -1,15 +1,28 @@
-"""Building the output Dataset of a per-cast step once.
+"""Reading a Cast's arrays and building a step's output Dataset without xarray overhead.
 
-A Cast has 5000 samples or so: numpy work on it takes microseconds, while each xarray
-copy, alignment and merge takes a few hundred. :func:`with_variables` gives what
-:meth:`xarray.Dataset.assign` gives -- same variables, order, coordinates, indexes and
-encoding -- through one Dataset construction (used by
-:func:`seaprofile.casts.binning.add_sound_speed`).
+A Cast has 5000 samples or so: numpy work on it takes microseconds, while building a
+DataArray on every ``ds[name]`` takes about ten and each xarray copy, alignment and merge
+a few hundred. :func:`values` gives what ``ds[name].values`` gives, from the Variable;
+:func:`with_variables` gives what :meth:`xarray.Dataset.assign` gives -- same variables,
+order, coordinates, indexes and encoding -- through one Dataset construction. Used by
+:mod:`seaprofile.casts.despike`, :mod:`seaprofile.casts.binning` and
+:mod:`seaprofile.casts.gaps`.
 """
 
 from __future__ import annotations
 
 import xarray as xr
+
+
+def values(ds, name):
+    """``ds[name].values`` without building a DataArray (numpy array, the variable's units).
+
+    Read from ``ds.variables``; a name that is not a variable (a dimension without a
+    coordinate, a missing name) goes through ``ds[name]``, so that the result, or the
+    KeyError and its message, are xarray's own.
+    """
+    var = ds.variables.get(name)
+    return ds[name].values if var is None else var.values
 
 
 def with_variables(ds, new, attrs):

@@ -25,7 +25,7 @@ from ._common import (
     require_cast,
     require_profile,
 )
-from ._fastds import with_variables
+from ._fastds import values, with_variables
 from .flags import worst_flag
 from .gaps import (  # fill_gaps and its settings: public here too
     AUTO_GAP_FLOOR,
@@ -178,12 +178,11 @@ def bin_cast(
             raise SeaprofileError(f"cast has no {v}: run add_depth(cast, latitude=...) first")
     method = depth_method or cast.attrs.get("depth_method", "unesco1983")
     lat = latitude if latitude is not None else cast.attrs.get("depth_latitude", None)
-    variables_ = cast.variables  # arrays read from here: no DataArray is built
-    no_pressure = axis == "depth" and not np.isfinite(variables_["pressure"].values).any()
+    no_pressure = axis == "depth" and not np.isfinite(values(cast, "pressure")).any()
     lat = None if no_pressure else cast_latitude(cast, lat)
 
-    x = variables_[axis].values.astype(np.float64)
-    xflag = variables_[f"{axis}_qc"].values
+    x = values(cast, axis).astype(np.float64)
+    xflag = values(cast, f"{axis}_qc")
     placed, idx, centres = _bin_numbers(x, xflag, step, axis, argument, unit)
     levels = placed & _isolated(x, placed, float(sparse_spacing) * step)
     nl = int(levels.sum())
@@ -198,8 +197,8 @@ def bin_cast(
     rows = {}  # name -> (values, flags) on the bins, then the kept levels
     left_out = {}
     for var in variables:
-        vals = variables_[var].values.astype(np.float64)
-        fl = variables_[f"{var}_qc"].values
+        vals = values(cast, var).astype(np.float64)
+        fl = values(cast, f"{var}_qc")
         ok = _cf.usable(vals, fl)
         _, mean, bflag, left = _bin_stats(
             idx, binned, placed, ok, vals, fl.astype(np.int8, copy=False), nb, _cf.MISSING
@@ -223,12 +222,12 @@ def bin_cast(
             depth = np.asarray(depth_from_pressure(centres, lat, method), np.float64)
             pressure = centres
             comment = "pressure-bin centre"
-    depth = np.concatenate([depth, variables_["depth"].values[levels]])
-    pressure = np.concatenate([pressure, variables_["pressure"].values[levels]])
+    depth = np.concatenate([depth, values(cast, "depth")[levels]])
+    pressure = np.concatenate([pressure, values(cast, "pressure")[levels]])
     # the pressure column's flags: a kept level has the cast's own pressure_qc (on
     # either axis); a bin has its axis samples' flags (pressure bins: their pressure_qc;
     # depth bins: the depth_qc of the depths the pressure was converted from)
-    pair_flag = np.concatenate([axis_flag, variables_["pressure_qc"].values[levels]])
+    pair_flag = np.concatenate([axis_flag, values(cast, "pressure_qc")[levels]])
     if no_pressure:
         pair_flag[:] = _cf.MISSING
     counts = np.concatenate([counts, np.ones(nl, np.int64)])
@@ -262,7 +261,7 @@ def bin_cast(
     coords = {"depth": xr.Variable(dim, depth, _cf.attrs_for("depth"))}
     for c in ("latitude", "longitude", "time", "profile_id"):
         if c in cast.coords:
-            coords[c] = variables_[c]
+            coords[c] = cast.variables[c]
     attrs = {k: v for k, v in cast.attrs.items() if k not in ("cast_direction",)}
     with_data = counts[order] > 0
     attrs.update(
@@ -399,19 +398,18 @@ def add_sound_speed(profile, equation="chen_millero1977", *, prefer_measured=Tru
     for v in ("temperature", "salinity", "pressure"):
         if v not in profile.data_vars:
             raise SeaprofileError(f"profile has no {v}, needed for equation {equation!r}")
-    variables = profile.variables  # arrays read from here: no DataArray is built
     c = _equation_sound_speed(
         profile,
         equation,
-        variables["temperature"].values,
-        variables["salinity"].values,
-        variables["pressure"].values,
-        variables["depth"].values,
+        values(profile, "temperature"),
+        values(profile, "salinity"),
+        values(profile, "pressure"),
+        values(profile, "depth"),
     )
     flags = worst_flag(
-        variables["temperature_qc"].values,
-        variables["salinity_qc"].values,
-        variables["pressure_qc"].values,
+        values(profile, "temperature_qc"),
+        values(profile, "salinity_qc"),
+        values(profile, "pressure_qc"),
     )
     flags = np.where(np.isfinite(c), flags, _cf.MISSING).astype(np.int8)
     dim = ("depth",)

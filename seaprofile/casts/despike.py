@@ -15,6 +15,7 @@ from .. import _cf
 from .._validate import SeaprofileError
 from ..io.errors import ArgumentError
 from ._common import require_cast, vertical
+from ._fastds import values
 from .flags import pass_on_failed, raise_where
 
 __all__ = ["despike", "DESPIKE_FLOOR", "DESPIKE_MAX_SPAN"]
@@ -215,15 +216,14 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span
     if variables is None:
         variables = [v for v in DESPIKE_FLOOR if v in cast.data_vars]
     _, vert = vertical(cast)
-    variables_ = cast.variables
     counts, where, untested = {}, {}, {}
     raised = {}  # name of a flag variable -> its new flags
     for var in variables:
         if var not in cast.data_vars:
             raise SeaprofileError(f"variables: {var!r} is not in the cast")
-        flags = variables_[f"{var}_qc"].values
+        flags = values(cast, f"{var}_qc")
         idx, hit, tested = _despike_one(
-            variables_[var].values.astype(np.float64),
+            values(cast, var).astype(np.float64),
             flags,
             vert,
             half,
@@ -239,7 +239,7 @@ def despike(cast, variables=None, window=15, threshold=5.0, floor=None, max_span
         raised[f"{var}_qc"] = raise_where(flags, spike, _cf.BAD)
 
     def current(v):
-        return raised.get(f"{v}_qc", variables_[f"{v}_qc"].values)
+        return raised.get(f"{v}_qc", values(cast, f"{v}_qc"))
 
     passed = {}
     for var, f in pass_on_failed(cast, current).items():

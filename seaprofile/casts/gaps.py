@@ -16,6 +16,7 @@ import numpy as np
 from .. import _cf
 from ..io.errors import ArgumentError
 from ._common import require_profile
+from ._fastds import values
 
 __all__ = ["fill_gaps", "LargeGapWarning", "AUTO_GAP_FLOOR", "AUTO_GAP_SPACINGS", "LARGE_GAP"]
 
@@ -104,14 +105,13 @@ def fill_gaps(profile, max_gap=5.0):
             ) from None
         if not max_gap >= 0:
             raise ArgumentError("max_gap", f"must be a depth >= 0 m, 'auto' or None, got {max_gap}")
-    variables = profile.variables  # arrays read from here: no DataArray is built
-    z = variables["depth"].values.astype(np.float64)
+    z = values(profile, "depth").astype(np.float64)
     step = profile.attrs.get("bin_size")
     step = float(step) if step else (float(np.median(np.diff(z))) if z.size > 1 else 0.0)
     out = profile.copy()
     filled, widest, done, left = {}, 0.0, set(), set()
     for var in _profile_vars(profile):
-        v = variables[var].values.astype(np.float64)
+        v = values(profile, var).astype(np.float64)
         good = np.isfinite(v)
         iv = np.flatnonzero(good)
         if iv.size < 2:
@@ -143,7 +143,7 @@ def fill_gaps(profile, max_gap=5.0):
             done.update(zip(top[keep].tolist(), bottom[keep].tolist()))
             left.update(zip(top[~keep].tolist(), bottom[~keep].tolist()))
             j = j[keep]
-        flags = variables[f"{var}_qc"].values.astype(np.int8)  # a copy, as v is
+        flags = values(profile, f"{var}_qc").astype(np.int8)  # a copy, as v is
         if j.size:
             v[j] = np.interp(z[j], z[iv], v[iv])
             flags[j] = _cf.ESTIMATED

@@ -1,9 +1,10 @@
-"""with_variables builds what Dataset.assign builds."""
+"""values() reads what ds[name].values reads; with_variables builds what Dataset.assign builds."""
 
 import numpy as np
+import pytest
 import xarray as xr
 
-from seaprofile.casts._fastds import with_variables
+from seaprofile.casts._fastds import values, with_variables
 
 
 def test_with_variables_is_assign_built_once():
@@ -25,3 +26,14 @@ def test_with_variables_is_assign_built_once():
     assert list(out.coords) == list(ref.coords) and list(out.xindexes) == ["depth"]
     assert out.encoding == ref.encoding
     assert ds["b"].attrs == {"units": "m"} and list(ds.data_vars) == ["a", "b"]  # untouched
+
+
+def test_values_is_getitem_values():
+    ds = xr.Dataset({"a": ("depth", [1.0, 2.0])}, coords={"latitude": 3.0})
+    for name in ("a", "latitude", "depth"):  # depth: a dimension without a coordinate
+        np.testing.assert_array_equal(values(ds, name), ds[name].values)
+    with pytest.raises(KeyError) as ours:
+        values(ds, "a_qc")
+    with pytest.raises(KeyError) as xarrays:
+        ds["a_qc"]
+    assert str(ours.value) == str(xarrays.value)
