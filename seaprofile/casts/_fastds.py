@@ -12,6 +12,7 @@ order, coordinates, indexes and encoding -- through one Dataset construction. Us
 from __future__ import annotations
 
 import xarray as xr
+from xarray.indexes import PandasIndex
 
 
 def values(ds, name):
@@ -25,13 +26,54 @@ def values(ds, name):
     return ds[name].values if var is None else var.values
 
 
+def dataset(data_vars, coords, attrs):
+    """``xr.Dataset(data_vars, coords=coords, attrs=attrs)`` for ``xr.Variable`` objects,
+    without the public constructor's merge and alignment.
+
+    Parameters
+    ----------
+    data_vars, coords : dict of str to xarray.Variable
+        Variables whose sizes agree; a coordinate on the dimension of its own name (a
+        Profile's ``depth``) gets the pandas index the public constructor would give it
+        (xarray's :class:`~xarray.indexes.PandasIndex`).
+    attrs : dict
+        The attributes of the result.
+
+    Returns
+    -------
+    xarray.Dataset
+        The same Dataset as the public constructor's (variables copied shallowly, in the
+        order data variables then coordinates; ``tests/casts/test_fastds.py`` checks they
+        are identical), from xarray's direct constructor; the public one is used where
+        that is missing, a data variable is named like a dimension or sizes disagree.
+    """
+    construct = getattr(xr.Dataset, "_construct_direct", None)
+    sizes = {}
+    for var in (*data_vars.values(), *coords.values()):
+        for dim, size in zip(var.dims, var.shape):
+            if sizes.setdefault(dim, size) != size:
+                construct = None
+    if construct is None or not sizes.keys().isdisjoint(data_vars):
+        return xr.Dataset(data_vars, coords=coords, attrs=attrs)
+    variables = {name: var.copy(deep=False) for name, var in data_vars.items()}
+    indexes = {}
+    for name, var in coords.items():
+        if var.dims == (name,):
+            indexes[name] = PandasIndex.from_variables({name: var}, options={})
+            variables.update(indexes[name].create_variables({name: var}))
+        else:
+            variables[name] = var.copy(deep=False)
+    return construct(variables, set(coords), sizes, attrs=dict(attrs), indexes=indexes)
+
+
 def with_variables(ds, new, attrs):
     """A new Dataset: ``ds`` with the data variables ``new`` added or replaced, built once.
 
     The same Dataset as ``ds.assign(new)`` with ``attrs`` as its attributes -- variables in
     the same order (a replaced variable keeps its place, an added one comes last), the
     same coordinates, indexes and encoding -- for the cost of one Dataset construction
-    instead of the copy, alignment and merge of :meth:`xarray.Dataset.assign`.
+    (:func:`dataset`) instead of the copy, alignment and merge of
+    :meth:`xarray.Dataset.assign`.
 
     Parameters
     ----------
@@ -47,10 +89,10 @@ def with_variables(ds, new, attrs):
     -------
     xarray.Dataset
     """
-    coords = ds.coords
+    coords = {name: ds.variables[name] for name in ds.coords}
     data = {name: var for name, var in ds.variables.items() if name not in coords}
     data.update(new)
-    out = xr.Dataset(data, coords=coords, attrs=attrs)
+    out = dataset(data, coords, attrs)
     out = out[list(ds.variables) + [name for name in new if name not in ds.variables]]
     out.encoding = dict(ds.encoding)
     return out

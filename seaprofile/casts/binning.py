@@ -25,7 +25,7 @@ from ._common import (
     require_cast,
     require_profile,
 )
-from ._fastds import values, with_variables
+from ._fastds import dataset, values, with_variables
 from .flags import worst_flag
 from .gaps import (  # fill_gaps and its settings: public here too
     AUTO_GAP_FLOOR,
@@ -282,7 +282,7 @@ def bin_cast(
         left_out=left_out,
         not_placed=int(np.count_nonzero(~placed)),
     )
-    return xr.Dataset(data, coords=coords, attrs=attrs)
+    return dataset(data, coords, attrs)
 
 
 def _isolated(x, placed, distance):

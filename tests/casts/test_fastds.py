@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 import xarray as xr
 
-from seaprofile.casts._fastds import values, with_variables
+from seaprofile.casts._fastds import dataset, values, with_variables
 
 
 def test_with_variables_is_assign_built_once():
@@ -37,3 +37,62 @@ def test_values_is_getitem_values():
     with pytest.raises(KeyError) as xarrays:
         ds["a_qc"]
     assert str(ours.value) == str(xarrays.value)
+
+
+def _same_dataset(a, b):
+    """Identical, and built alike: order, index, variable types and encodings."""
+    assert a.identical(b)
+    assert list(a.variables) == list(b.variables) and list(a.coords) == list(b.coords)
+    assert dict(a.sizes) == dict(b.sizes) and a.encoding == b.encoding
+    assert list(a.xindexes) == list(b.xindexes)
+    for name in a.xindexes:
+        assert a.xindexes[name].equals(b.xindexes[name])
+        assert type(a.xindexes[name]) is type(b.xindexes[name])
+    for name in a.variables:
+        va, vb = a.variables[name], b.variables[name]
+        assert type(va) is type(vb) and type(va._data) is type(vb._data)
+        assert va.dtype == vb.dtype and va.encoding == vb.encoding
+    assert repr(a) == repr(b)
+
+
+def test_dataset_is_the_public_constructor():
+    z = np.arange(5.0)
+    data = {
+        "t": xr.Variable(("depth",), np.linspace(1, 2, 5), {"units": "degC"}),
+        "t_qc": xr.Variable(("depth",), np.zeros(5, np.int8), {"flag_values": [0, 1]}),
+    }
+    coords = {
+        "depth": xr.Variable(("depth",), z, {"units": "m"}),
+        "latitude": xr.Variable((), 3.0, {"units": "degrees_north"}),
+        "time": xr.Variable((), np.datetime64("NaT", "ns")),
+        "profile_id": xr.Variable((), "cast"),
+    }
+    out = dataset(data, coords, {"x": 1})
+    _same_dataset(out, xr.Dataset(data, coords=coords, attrs={"x": 1}))
+    out["t"].attrs["changed"] = 1  # the inputs' Variables are not shared
+    assert "changed" not in data["t"].attrs and "changed" not in coords["depth"].attrs
+    # sizes that disagree: the public constructor's own error
+    bad = {"t": xr.Variable(("depth",), np.zeros(4))}
+    with pytest.raises(ValueError):
+        dataset(bad, coords, {})
+
+
+def test_bin_cast_and_add_sound_speed_build_what_the_public_constructor_builds(monkeypatch):
+    from seaprofile.casts import _fastds, binning
+    from seaprofile.casts.model import make_cast
+    from seaprofile.casts.process import add_depth
+
+    p = np.linspace(0.0, 300.0, 600)
+    t, s = 20.0 - 0.05 * p, np.full(600, 35.0)
+    cast = add_depth(make_cast(pressure=p, temperature=t, salinity=s, latitude=30.0))
+    fast = binning.add_sound_speed(binning.bin_cast(cast, 2.0))
+
+    def public(data_vars, coords, attrs):
+        return xr.Dataset(data_vars, coords=coords, attrs=attrs)
+
+    monkeypatch.setattr(binning, "dataset", public)
+    monkeypatch.setattr(_fastds, "dataset", public)
+    slow = binning.add_sound_speed(binning.bin_cast(cast, 2.0))
+    for out in (fast, slow):  # time stamps
+        del out.attrs["history"], out.attrs["processing_steps"]
+    _same_dataset(fast, slow)
