@@ -3,10 +3,11 @@
 A Cast has 5000 samples or so: numpy work on it takes microseconds, while building a
 DataArray on every ``ds[name]`` takes about ten and each xarray copy, alignment and merge
 a few hundred. :func:`values` gives what ``ds[name].values`` gives, from the Variable;
-:func:`with_variables` gives what :meth:`xarray.Dataset.assign` gives -- same variables,
-order, coordinates, indexes and encoding -- through one Dataset construction. Used by
-:mod:`seaprofile.casts.despike`, :mod:`seaprofile.casts.binning` and
-:mod:`seaprofile.casts.gaps`.
+:func:`dataset` what the public ``xr.Dataset`` constructor gives, through xarray's direct
+one (the public one as fallback); :func:`with_variables` what
+:meth:`xarray.Dataset.assign` gives -- same variables, order, coordinates, indexes and
+encoding -- through :func:`dataset`. Used by :mod:`seaprofile.casts.despike`,
+:mod:`seaprofile.casts.binning` and :mod:`seaprofile.casts.gaps`.
 """
 
 from __future__ import annotations
