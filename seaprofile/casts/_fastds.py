@@ -46,7 +46,8 @@ def dataset(data_vars, coords, attrs):
         The same Dataset as the public constructor's (variables copied shallowly, in the
         order data variables then coordinates; ``tests/casts/test_fastds.py`` checks they
         are identical), from xarray's direct constructor; the public one is used where
-        that is missing, a data variable is named like a dimension or sizes disagree.
+        that is missing, a data variable is named like a dimension or a coordinate, or
+        sizes disagree (so that its errors are the public constructor's).
     """
     construct = getattr(xr.Dataset, "_construct_direct", None)
     sizes = {}
@@ -54,7 +55,8 @@ def dataset(data_vars, coords, attrs):
         for dim, size in zip(var.dims, var.shape):
             if sizes.setdefault(dim, size) != size:
                 construct = None
-    if construct is None or not sizes.keys().isdisjoint(data_vars):
+    named = sizes.keys() | coords.keys()  # a data variable by such a name needs merging
+    if construct is None or not named.isdisjoint(data_vars):
         return xr.Dataset(data_vars, coords=coords, attrs=attrs)
     variables = {name: var.copy(deep=False) for name, var in data_vars.items()}
     indexes = {}

@@ -75,6 +75,8 @@ def test_dataset_is_the_public_constructor():
     bad = {"t": xr.Variable(("depth",), np.zeros(4))}
     with pytest.raises(ValueError):
         dataset(bad, coords, {})
+    with pytest.raises(ValueError, match="both data_vars and coords"):
+        dataset({"latitude": xr.Variable((), 1.0)}, coords, {})
 
 
 def test_bin_cast_and_add_sound_speed_build_what_the_public_constructor_builds(monkeypatch):
