@@ -11,6 +11,7 @@ import xarray as xr
 
 from .. import _cf
 from .._validate import SeaprofileError
+from ._fastds import dataset as _dataset
 from .columns import checked_time
 
 MEASURED = (
@@ -168,21 +169,6 @@ def _time_variable(t, attrs):
     if t.dtype == np.dtype("datetime64[ns]") and t.ndim == 0:
         return xr.Variable((), t, attrs, fastpath=True)
     return xr.Variable((), t, attrs)
-
-
-def _dataset(data_vars, coords, attrs):
-    """``xr.Dataset(data_vars, coords=coords, attrs=attrs)`` for ``xr.Variable`` objects
-    whose sizes agree and with no dimension coordinate (a Cast's layout).
-
-    Such variables need none of the merging and alignment of the public constructor, so
-    they go to xarray's direct constructor (the same Dataset, checked in
-    ``tests/casts/test_read.py``); the public one is used where that is missing.
-    """
-    construct = getattr(xr.Dataset, "_construct_direct", None)
-    dims = {d for v in (*data_vars.values(), *coords.values()) for d in v.dims}
-    if construct is None or dims & {*data_vars, *coords}:
-        return xr.Dataset(data_vars, coords=coords, attrs=attrs)
-    return construct({**data_vars, **coords}, set(coords), attrs=dict(attrs))
 
 
 def measured_variables(cast):
