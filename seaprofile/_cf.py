@@ -59,7 +59,7 @@ def usable(values, flags):
     return np.isfinite(values) & ~flags_in(flags, UNUSABLE_FLAGS)
 
 
-_FLAG_TABLES = {}
+_FLAG_TABLES: dict[tuple, np.ndarray] = {}
 
 
 def flags_in(flags, which):
