@@ -15,7 +15,8 @@ the same file right after each cast, is the I/O floor: ``numpy.loadtxt`` of the 
 a plain ``netCDF4`` write of the three columns. The same three columns written plainly as
 classic netCDF-3 (``scipy.io.netcdf_file``) are timed beside it (``baseline_netcdf3_write``),
 not part of the floor. The whole batch is also run once more through
-:func:`seaprofile.batch.build_files` as the end-to-end check.
+:func:`seaprofile.batch.build_files` as the end-to-end check (``keep_casts=False``, as
+``seaprofile build`` runs it), serially and on a 2-worker ``dask.distributed`` LocalCluster.
 
 One core: numba/BLAS/OpenMP threads are set to 1 before numpy is imported and everything
 runs in this one process (``--pin-cpu N`` also pins it to CPU N). On a shared machine the
@@ -196,8 +197,8 @@ def _dask_batch(paths, tmp, serial):
         build_files(paths[:4], out_dir=tmp / "dask_warm", format="netcdf", scheduler=address)
         started = time.perf_counter() - start
         begin = time.perf_counter()
-        parallel = build_files(
-            paths, out_dir=tmp / "batch_dask", format="netcdf", scheduler=address
+        parallel = build_files(  # as `seaprofile build` does: no raw casts sent back
+            paths, out_dir=tmp / "batch_dask", format="netcdf", scheduler=address, keep_casts=False
         )
         elapsed = time.perf_counter() - begin
     for r, q in zip(serial, parallel):
@@ -265,7 +266,7 @@ def main(argv=None):
         start = _clock()
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            results = build_files(paths, out_dir=tmp / "batch", format="netcdf")
+            results = build_files(paths, out_dir=tmp / "batch", format="netcdf", keep_casts=False)
         end = _clock()
         batch = (end[0] - start[0], end[1] - start[1])
         failed = sum(not r.ok for r in results)

@@ -56,7 +56,11 @@ class BuildResult:
     path : str
         The input file.
     cast : xarray.Dataset or None
-        The Cast as read.
+        The Cast as read (None when :func:`build_files` was told ``keep_casts=False``).
+    cast_name, instrument : str
+        From the Cast's attributes ("" when the file could not be read).
+    samples : int or None
+        Number of samples in the Cast as read.
     profile : xarray.Dataset or None
         The built Profile.
     diagnostics : dict
@@ -76,6 +80,9 @@ class BuildResult:
 
     path: str
     cast: object = None
+    cast_name: str = ""
+    instrument: str = ""
+    samples: int | None = None
     profile: object = None
     diagnostics: dict = field(default_factory=dict)
     written: list = field(default_factory=list)
@@ -121,15 +128,28 @@ def _build_profile(cast, options):
 
 
 def _build_one_file(
-    path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth, keep=(), used=None
+    path,
+    read_options,
+    build_options,
+    out_dir,
+    fmt,
+    overwrite,
+    bottom_depth,
+    keep=(),
+    keep_casts=True,
+    used=None,
 ):
     """Every cast of one file; never raises (each failure is a result's error)."""
     try:
-        return _build_file(
+        results = _build_file(
             path, read_options, build_options, out_dir, fmt, overwrite, bottom_depth, keep, used
         )
     except Exception as exc:  # noqa: BLE001 - one bad file never stops a batch
         return [BuildResult(str(path)).fail(exc)]
+    if not keep_casts:  # what a dask worker sends back stays small
+        for r in results:
+            r.cast = None
+    return results
 
 
 def _build_file(
@@ -147,7 +167,13 @@ def _build_file(
     except (SeaprofileError, OSError) as exc:
         return [BuildResult(str(path)).fail(exc)]
     for cast in casts:
-        res = BuildResult(str(path), cast=cast)
+        res = BuildResult(
+            str(path),
+            cast=cast,
+            cast_name=str(cast.attrs.get("cast_name", "")),
+            instrument=str(cast.attrs.get("instrument", "")),
+            samples=int(cast.sizes["sample"]),
+        )
         options = dict(build_options)
         bottom = bottom_depth
         try:
@@ -198,7 +224,7 @@ def _write_one(res, path, out_dir, fmt, overwrite, keep, used):
     dask worker: the profile goes to a temporary name beside its output (recorded in
     ``res.staged``) and :func:`_commit_staged` renames it in the main process.
     """
-    name = _safe_name(res.cast.attrs.get("cast_name") or Path(path).stem)
+    name = _safe_name(res.cast_name or Path(path).stem)
     target = Path(out_dir) / f"{name}{FORMATS[fmt][0]}"
     if is_among(target, keep):
         raise SeaprofileError(
@@ -241,7 +267,7 @@ def _commit_staged(results, overwrite):
         for tmp, target in r.staged:
             try:
                 if target in claimed:
-                    raise _clash(target, r.cast.attrs.get("cast_name") or Path(target).stem)
+                    raise _clash(target, r.cast_name or Path(target).stem)
                 if overwrite:
                     os.replace(tmp, target)
                 else:
@@ -285,6 +311,7 @@ def build_files(
     scheduler=None,
     protect=(),
     progress=False,
+    keep_casts=True,
 ):
     """Read, process, quality-control and write every cast in ``paths``.
 
@@ -340,6 +367,10 @@ def build_files(
     progress : bool
         Show a progress bar on stderr (:mod:`seaprofile._progress`: only when stderr is a
         terminal) and the one-time notice when the kernels are compiled on this first run.
+    keep_casts : bool
+        Keep each Cast as read in its result (default). False: ``cast`` is None (its name,
+        instrument and number of samples stay), so that a large batch on dask workers does
+        not send every raw cast back to this process; the Profiles are the same.
 
     Returns
     -------
@@ -395,7 +426,7 @@ def build_files(
         build_options.update(
             replacement_salinity=float(replacement_salinity), replace_salinity=replace_salinity
         )
-    args = (read_options, build_options, out_dir, format, overwrite, extend_to, keep)
+    args = (read_options, build_options, out_dir, format, overwrite, extend_to, keep, keep_casts)
     from . import _progress
 
     quiet = not progress
@@ -403,7 +434,7 @@ def build_files(
     if scheduler is None:
         used = set()
         groups = [
-            _build_one_file(p, *args, used)
+            _build_one_file(p, *args, used=used)
             for p in _progress.bar(paths, desc="building", unit="file", quiet=quiet)
         ]
         return [r for group in groups for r in group]
@@ -469,10 +500,10 @@ def summary_row(result):
     flagged = flags_by_test(p)
     return {
         "file": Path(result.path).name,
-        "cast": result.cast.attrs.get("cast_name", ""),
-        "instrument": result.cast.attrs.get("instrument", ""),
+        "cast": result.cast_name,
+        "instrument": result.instrument,
         "depth_range_m": f"{depth[good].min():.0f}-{depth[good].max():.0f}" if good.any() else "-",
-        "samples": int(result.cast.sizes["sample"]),
+        "samples": result.samples,
         "samples_binned": int(p["samples_per_bin"].sum()) if "samples_per_bin" in p else None,
         "flags": " ".join(f"{k}:{v}" for k, v in flagged.items()) or "none",
         "surface_speed": d.get("surface_sound_speed"),

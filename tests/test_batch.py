@@ -340,3 +340,22 @@ def test_directory_holds_classic_and_netcdf4_casts(tmp_path):
     a, b = (r.profile for r in results)
     for name in a.data_vars:
         np.testing.assert_array_equal(a[name].values, b[name].values)
+
+
+@pytest.mark.parametrize("scheduler", [None, "threads"])
+def test_without_casts_the_profiles_and_summary_are_the_same(tmp_path, scheduler):
+    # keep_casts=False (what `seaprofile build` uses, so dask workers send no raw casts
+    # back): the same profiles, written files and summary rows; only the Cast is left out
+    paths = _good_and_bad()
+    full = build_files(paths, out_dir=tmp_path / "a", scheduler=scheduler)
+    light = build_files(paths, out_dir=tmp_path / "b", scheduler=scheduler, keep_casts=False)
+    assert [r.ok for r in full] == [r.ok for r in light]
+    for f, g in zip(full, light):
+        assert g.cast is None
+        assert summary_row(f) == summary_row(g)
+        assert [Path(w).name for w in f.written] == [Path(w).name for w in g.written]
+        if f.ok:
+            assert f.cast is not None and g.cast_name == f.cast.attrs["cast_name"]
+            assert g.samples == f.cast.sizes["sample"]
+            for name in f.profile.data_vars:
+                np.testing.assert_array_equal(f.profile[name].values, g.profile[name].values)

@@ -125,6 +125,7 @@ def run(args):
         replace_salinity=args.replace_salinity_where,
         protect=[args.reference] if args.reference else (),
         progress=not args.quiet,
+        keep_casts=False,  # the command reports from the profiles: no raw casts kept
         **read,
     )
     failed = [r for r in results if not r.ok]
