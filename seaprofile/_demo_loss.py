@@ -39,11 +39,11 @@ class LossCase:
     detection_threshold: float
 
 
-#: the two loss maps of the demo; beam and grid counts keep the pair near 2 s of compute
 #: Absorption of the demo's loss maps: the casts' salinity reaches 36, outside the 30-35
 #: box of Francois & Garrison (1982), inside that of Ainslie & McColm (1998)
 ABSORPTION = "ainslie_mccolm1998"
 
+#: the two loss maps of the demo; beam and grid counts keep the pair near 2 s of compute
 CASES = (
     LossCase(
         cast="shelf_summer_ctd",

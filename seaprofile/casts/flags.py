@@ -16,6 +16,7 @@ import numba
 import numpy as np
 
 from .. import _cf
+from ..io.errors import ArgumentError
 
 __all__ = ["raise_flags", "raise_where", "worst_flag", "derived_variables", "pass_on_failed"]
 
@@ -41,6 +42,11 @@ def raise_flags(old, new):
     numpy.ndarray of int8
         ``new`` where it is more severe than ``old`` (order 0 < 1 < 2 < 5 < 3 < 4), else
         ``old``; flags 8 (estimated) and 9 (missing) in ``old`` are kept as they are.
+
+    Raises
+    ------
+    seaprofile.io.ArgumentError
+        Naming ``old`` or ``new`` when it holds a value outside 0..9.
     """
     old = np.asarray(old, dtype=np.int8)
     new = np.broadcast_to(np.asarray(new, dtype=np.int8), old.shape)
@@ -66,11 +72,16 @@ def raise_where(old, mask, flag):
     -------
     numpy.ndarray of int8
         Equal to ``raise_flags(old, numpy.where(mask, flag, 0))``.
+
+    Raises
+    ------
+    seaprofile.io.ArgumentError
+        Naming ``old`` or ``flag`` when a value lies outside 0..9.
     """
     old = np.ascontiguousarray(old, dtype=np.int8)
     _check_flag_values(old, "old")
     if not 0 <= int(flag) <= 9:
-        raise ValueError(f"flag must be an Argo flag 0..9, got {flag}")
+        raise ArgumentError("flag", f"must be an Argo flag 0..9, got {flag}")
     return _raise_where_kernel(
         old, np.ascontiguousarray(mask, dtype=np.bool_), np.int8(flag), _RAISE_RANK
     )
@@ -79,7 +90,7 @@ def raise_where(old, mask, flag):
 def _check_flag_values(flags, name):
     """Flags outside 0..9 have no severity: an error naming the argument."""
     if flags.size and (flags.min() < 0 or flags.max() > 9):
-        raise ValueError(f"{name}: Argo flags are 0..9, got values outside that range")
+        raise ArgumentError(name, "Argo flags are 0..9, got values outside that range")
 
 
 @numba.njit(cache=True, nogil=True)

@@ -3,7 +3,7 @@
 Every cast becomes a Profile with its processing steps and QC flags recorded. Options are
 checked once, before any file is read (a bad option: one line, exit status 2). A file that
 cannot be read is reported on stderr and the others are still processed; the exit status
-is 1 when any file failed. Each summary line lists what was assumed for its cast (salinity,
+is 2 when any file failed. Each summary line lists what was assumed for its cast (salinity,
 fall rate, extension below the last sample). An input file is never written over.
 """
 

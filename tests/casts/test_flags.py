@@ -7,6 +7,7 @@ from hypothesis import strategies as st
 
 from seaprofile import _cf
 from seaprofile.casts.flags import raise_flags, raise_where, worst_flag
+from seaprofile.io.errors import ArgumentError
 
 FLAGS = [0, 1, 2, 3, 4, 5, 8, 9]
 # severity used by raise_flags: Argo order 0 < 1 < 2 < 3 < 4, with 5 between 2 and 3
@@ -64,7 +65,7 @@ def test_flags_in_is_isin(flags, which):
 
 
 def test_raise_flags_refuses_values_that_are_not_flags():
-    with pytest.raises(ValueError, match="new"):
+    with pytest.raises(ArgumentError, match="new"):
         raise_flags(np.array([1, 1], np.int8), np.array([1, 12], np.int8))
-    with pytest.raises(ValueError, match="flag"):
+    with pytest.raises(ArgumentError, match="flag"):
         raise_where(np.array([1], np.int8), np.array([True]), 11)

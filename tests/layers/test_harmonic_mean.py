@@ -73,8 +73,9 @@ def test_harmonic_mean_between_extremes(speeds, a, b):
 
 @pytest.mark.parametrize("top, bottom", [(13.99986, 14.0), (3.0, 3.0001), (8.5, 13.9)])
 def test_harmonic_mean_over_a_short_span_inside_one_segment(top, bottom):
-    # closed form inside one linear segment c = c1 + g (z - z1): (z2 - z1) g / ln(c2 / c1)
-    # (exact integral of dz / c); found by hypothesis: a difference of two integrals from
+    # analytic closed form inside one linear segment c = c1 + g (z - z1):
+    # integral dz / c = ln(c2 / c1) / g (elementary calculus), so the harmonic mean is
+    # (z2 - z1) g / ln(c2 / c1); found by hypothesis: a difference of two integrals from
     # the surface lost ~1e-11 of the value over 0.1 mm
     z = np.array([0.0, 7.0, 14.0])
     flat = layers.harmonic_mean_sound_speed(np.full(3, 1450.0), z, top, bottom)
